@@ -1,0 +1,13 @@
+import { chromium } from 'playwright';
+const [file] = process.argv.slice(2);
+const b = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--no-sandbox'] });
+const p = await b.newPage({ viewport: { width: 1280, height: 1400 } });
+await p.goto('file://' + file);
+await p.screenshot({ path: '/tmp/shot-top.png' });
+const el = await p.locator('[id="check-propensity.exploration"]').boundingBox();
+await p.screenshot({ path: '/tmp/shot-explore.png', fullPage: true, clip: { x: 0, y: el.y, width: 1280, height: 1400 } });
+const el2 = await p.locator('[id="drift.reward"]').boundingBox() ?? await p.locator('[id="check-drift.reward"]').boundingBox();
+await p.screenshot({ path: '/tmp/shot-drift.png', fullPage: true, clip: { x: 0, y: el2.y, width: 1280, height: 1400 } });
+const el3 = await p.locator('#targets').boundingBox();
+await p.screenshot({ path: '/tmp/shot-targets.png', fullPage: true, clip: { x: 0, y: el3.y, width: 1280, height: 1200 } });
+await b.close();

@@ -1,0 +1,39 @@
+/**
+ * What the chart builders read. Structurally the report model's Series and TargetSummary subsets, declared
+ * here so the builders depend on the narrowest shape (test/unit/report/charts.test.ts asserts the model's
+ * types fit). Builders return plain ECharts option objects; rendering happens in the UI or app/report.
+ */
+export type ChartKind = 'bars' | 'lines' | 'heatmap' | 'histogram' | 'points';
+
+export interface ChartSeries {
+  readonly name: string;
+  readonly kind: ChartKind;
+  readonly x: readonly (string | number)[];
+  readonly y?: readonly (string | number)[];
+  readonly values: readonly (readonly (number | null)[])[];
+  readonly labels?: readonly string[];
+  readonly unit?: string;
+}
+
+export interface ChartEstimate {
+  readonly value: number | null;
+  readonly ci_low: number | null;
+  readonly ci_high: number | null;
+}
+
+export interface ChartTarget {
+  readonly name: string;
+  readonly ips: ChartEstimate;
+  readonly snips: ChartEstimate;
+  readonly dr: ChartEstimate;
+}
+
+/** A plain ECharts option object (kept loose: the builders never import ECharts' types). */
+export type ChartOption = Record<string, unknown>;
+
+/**
+ * Lines series: a label "<name>:ci_low" / "<name>:ci_high" pair is drawn as the 95% band of line "<name>";
+ * labels "ci_low" / "ci_high" alone are the band of the first line.
+ */
+export const CI_LOW_SUFFIX = ':ci_low';
+export const CI_HIGH_SUFFIX = ':ci_high';

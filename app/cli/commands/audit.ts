@@ -1,0 +1,117 @@
+import { writeFileSync } from 'node:fs';
+import path from 'node:path';
+import type { Report, Verdict } from '../../core/model/report.ts';
+import type { Engine } from '../../engine/types.ts';
+import { fingerprintFiles } from '../../report/fingerprint.ts';
+import { serializeReport } from '../../report/json.ts';
+import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { listFlag, stringFlag } from '../args.ts';
+import { loadSettingsFile, parseRoleFlags, readTargets } from '../audit-options.ts';
+import { EXIT, UsageError } from '../errors.ts';
+import { useColour, type CliIo } from '../io.ts';
+import { ProgressLine, type RowProgress } from '../progress.ts';
+import { describeColumns, ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
+import { formatAuditSummary, painter } from '../summary.ts';
+import { loadAuditCore } from './core.ts';
+
+export const auditSpec: CommandSpec = {
+  name: 'audit',
+  summary: 'Audit a decision log: checks, verdict, estimates; writes the JSON and HTML reports.\nExit status: 0 supported (or with caveats), 1 supported with caveats under --fail-on warn, 2 not supported, 3 usage or input error.',
+  positionals: { name: 'source', min: 1, max: Infinity },
+  flags: {
+    role: { kind: 'list', value: 'NAME=COLUMN', help: 'map a column to a role (decision_id, time, action, propensity, reward, policy_version, target_propensity, propensity_vector, action_set_size, segments)' },
+    segments: { kind: 'string', value: 'COL,COL', help: "segment columns, comma-separated ('none' for no segments)" },
+    target: { kind: 'list', value: 'SPEC', help: 'target policy: uniform, always:<action>, table:<file.csv|file.json>, column:<name>' },
+    settings: { kind: 'string', value: 'FILE', help: 'thresholds from a .json or .yaml file of setting: value pairs' },
+    engine: { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node (CSV/NDJSON only offline)' },
+    json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
+    html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
+    'fail-on': { kind: 'string', value: 'warn|fail', choices: ['warn', 'fail'], help: "exit non-zero on 'fail' (default: exit 2 when not supported) or also on 'warn' (exit 1)" },
+    quiet: { kind: 'boolean', help: 'no progress line and no summary' },
+  },
+};
+
+export function exitCodeFor(verdict: Verdict, failOn: 'warn' | 'fail'): number {
+  if (verdict === 'not-supported') return EXIT.notSupported;
+  if (verdict === 'supported-with-caveats' && failOn === 'warn') return EXIT.caveats;
+  return EXIT.supported;
+}
+
+const STAGE_NAMES: Record<string, string> = { profile: 'profiling columns', cube: 'building the cube', tails: 'reading the weight tail', checks: 'running checks' };
+
+export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<number> {
+  const { flags, positionals } = args;
+  const roles = parseRoleFlags(listFlag(flags, 'role'), stringFlag(flags, 'segments'));
+  const settingsFile = stringFlag(flags, 'settings');
+  const settings = settingsFile ? loadSettingsFile(settingsFile, io.cwd) : undefined;
+  const targets = readTargets(listFlag(flags, 'target'), io.cwd);
+  const jsonOut = stringFlag(flags, 'json');
+  const htmlOut = stringFlag(flags, 'html');
+  const failOn = (stringFlag(flags, 'fail-on') ?? 'fail') as 'warn' | 'fail';
+  const engineChoice = (stringFlag(flags, 'engine') ?? 'native') as EngineChoice;
+  const quiet = flags.quiet === true;
+  const core = await loadAuditCore();
+
+  let engine: Engine | undefined;
+  const progress = new ProgressLine(io.stderr, !quiet && io.stderr.isTTY === true, () => {
+    const e = engine as (Engine & { progress?: () => RowProgress }) | undefined;
+    return e?.progress?.();
+  });
+  try {
+    progress.stage('opening the log');
+    engine = await openEngine(engineChoice);
+    const source = await registerSources(engine, positionals, io.cwd);
+    guardOutputs([jsonOut, htmlOut], source.files, io.cwd);
+    progress.stage('fingerprinting input files');
+    const files = await fingerprintFiles(source.files, io.cwd);
+    const columns = await describeColumns(engine, source.relation);
+    const report: Report = await core.runAudit((sql) => (engine as Engine).query(sql), {
+      relation: source.relation,
+      input: { files, format: source.format },
+      scanSql: source.scanSql,
+      roles,
+      targets,
+      ...(settings ? { settings } : {}),
+      onProgress: (p) => { if (!p.done) progress.stage(STAGE_NAMES[p.stage] ?? p.stage); },
+      engine: engine.kind,
+    });
+    progress.stop();
+    await writeOutputs(report, jsonOut, htmlOut, io);
+    if (!quiet) {
+      const summaryStream = jsonOut === '-' ? io.stderr : io.stdout;
+      summaryStream.write(formatAuditSummary(report, columns, painter(useColour(summaryStream, io.env))));
+      const written = [jsonOut && jsonOut !== '-' ? `JSON report: ${jsonOut}` : '', htmlOut ? `HTML report: ${htmlOut}` : ''].filter(Boolean);
+      if (written.length) summaryStream.write(`${written.join('\n')}\n`);
+    }
+    return exitCodeFor(report.verdict, failOn);
+  } finally {
+    progress.stop();
+    await engine?.close();
+  }
+}
+
+/** Reports are never written over an input file (input files are never modified). */
+function guardOutputs(outputs: readonly (string | undefined)[], inputs: readonly string[], cwd: string): void {
+  const inputSet = new Set(inputs.map((f) => path.resolve(cwd, f)));
+  for (const out of outputs) {
+    if (out && out !== '-' && inputSet.has(path.resolve(cwd, out))) throw new UsageError(`refusing to write a report over the input file ${out}`);
+  }
+}
+
+async function writeOutputs(report: Report, jsonOut: string | undefined, htmlOut: string | undefined, io: CliIo): Promise<void> {
+  if (jsonOut === '-') io.stdout.write(serializeReport(report));
+  else if (jsonOut) writeFile(jsonOut, serializeReport(report), io.cwd);
+  if (htmlOut) {
+    // ECharts loads only when an HTML report is asked for (it dominates start-up time).
+    const { renderHtmlReport } = await import('../../report/html.ts');
+    writeFile(htmlOut, renderHtmlReport(report), io.cwd);
+  }
+}
+
+export function writeFile(file: string, text: string, cwd: string): void {
+  try {
+    writeFileSync(path.resolve(cwd, file), text);
+  } catch (error) {
+    throw new UsageError(`cannot write ${file}: ${(error as NodeJS.ErrnoException).code ?? (error as Error).message}`);
+  }
+}

@@ -1,0 +1,33 @@
+import { readFileSync } from 'node:fs';
+import path from 'node:path';
+import { UsageError } from '../errors.ts';
+
+/** Reads a report JSON file as plain data (signing and verifying work on what the file says). */
+export function readReportFile(file: string, cwd: string): Record<string, unknown> {
+  let text: string;
+  try {
+    text = readFileSync(path.resolve(cwd, file), 'utf8');
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    throw new UsageError(code === 'ENOENT' ? `no such file: ${file}` : `cannot read ${file} (${code ?? 'error'})`);
+  }
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch (error) {
+    throw new UsageError(`${file} is not JSON: ${(error as Error).message}`);
+  }
+  if (value === null || typeof value !== 'object' || Array.isArray(value) || typeof (value as { schema?: unknown }).schema !== 'string' || !String((value as { schema: string }).schema).startsWith('counterweight.report/')) {
+    throw new UsageError(`${file} is not a Counterweight report (no "schema": "counterweight.report/…" key)`);
+  }
+  return value as Record<string, unknown>;
+}
+
+export function readTextFile(file: string, cwd: string, what: string): string {
+  try {
+    return readFileSync(path.resolve(cwd, file), 'utf8');
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    throw new UsageError(code === 'ENOENT' ? `no such ${what}: ${file}` : `cannot read ${what} ${file} (${code ?? 'error'})`);
+  }
+}

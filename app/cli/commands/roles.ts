@@ -1,0 +1,35 @@
+import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { stringFlag } from '../args.ts';
+import type { CliIo } from '../io.ts';
+import { ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
+import { loadAuditCore } from './core.ts';
+
+export const rolesSpec: CommandSpec = {
+  name: 'roles',
+  summary: 'Suggest column roles for a log, with the reason for each (confirm or override them with audit --role).',
+  positionals: { name: 'source', min: 1, max: Infinity },
+  flags: { engine: { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node' } },
+};
+
+export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
+  const core = await loadAuditCore();
+  const engine = await openEngine((stringFlag(args.flags, 'engine') ?? 'native') as EngineChoice);
+  try {
+    const source = await registerSources(engine, args.positionals, io.cwd);
+    const suggestions = await core.suggestRoles((sql) => engine.query(sql), source.relation);
+    if (suggestions.length === 0) {
+      io.stdout.write('No roles could be suggested; map them with audit --role NAME=COLUMN.\n');
+      return 0;
+    }
+    const roleWidth = Math.max(...suggestions.map((s) => s.role.length));
+    const colWidth = Math.max(...suggestions.map((s) => s.column.length));
+    for (const s of suggestions) {
+      const confidence = typeof s.confidence === 'number' ? s.confidence.toFixed(2) : s.confidence;
+      io.stdout.write(`${s.role.padEnd(roleWidth)}  ${s.column.padEnd(colWidth)}  ${confidence}  ${s.reason}\n`);
+    }
+    io.stdout.write(`\nOverride with: counterweight audit ${args.positionals.join(' ')} --role NAME=COLUMN\n`);
+    return 0;
+  } finally {
+    await engine.close();
+  }
+}

@@ -1,0 +1,88 @@
+/** Entry of the `counterweight` command: dispatch, exit codes, and errors as one line (stack with --debug). */
+import { readFileSync } from 'node:fs';
+import { parseArgs, helpText, type CommandSpec, type ParsedArgs } from './args.ts';
+import { EXIT, isInputError, UsageError } from './errors.ts';
+import type { CliIo } from './io.ts';
+import { auditSpec, runAuditCommand } from './commands/audit.ts';
+import { inspectSpec, runInspect } from './commands/inspect.ts';
+import { keygenSpec, runKeygen } from './commands/keygen.ts';
+import { renderSpec, runRender } from './commands/render.ts';
+import { rolesSpec, runRoles } from './commands/roles.ts';
+import { runSchema, schemaSpec } from './commands/schema.ts';
+import { runSign, signSpec } from './commands/sign.ts';
+import { runVerify, verifySpec } from './commands/verify.ts';
+
+interface Command {
+  spec: CommandSpec;
+  run(args: ParsedArgs, io: CliIo): number | Promise<number>;
+}
+
+const COMMANDS: Command[] = [
+  { spec: auditSpec, run: runAuditCommand },
+  { spec: inspectSpec, run: runInspect },
+  { spec: rolesSpec, run: runRoles },
+  { spec: schemaSpec, run: (_a, io) => runSchema(io) },
+  { spec: signSpec, run: runSign },
+  { spec: verifySpec, run: runVerify },
+  { spec: keygenSpec, run: runKeygen },
+  { spec: renderSpec, run: runRender },
+];
+
+function version(): string {
+  const pkg = JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string };
+  return pkg.version;
+}
+
+function topHelp(): string {
+  const width = Math.max(...COMMANDS.map((c) => c.spec.name.length)) + 2;
+  return [
+    'counterweight: audit decision logs of contextual bandits before off-policy evaluation.',
+    '',
+    'Usage: counterweight <command> [arguments] [options]',
+    '',
+    'Commands:',
+    ...COMMANDS.map((c) => `  ${c.spec.name.padEnd(width)}${c.spec.summary.split('\n')[0]}`),
+    '',
+    'Run counterweight <command> --help for its options.',
+    'Exit status: 0 supported, 1 supported with caveats (only with --fail-on warn), 2 not supported or verification failed, 3 usage or input error.',
+    '',
+  ].join('\n');
+}
+
+export async function main(argv: readonly string[], io: CliIo): Promise<number> {
+  const debug = argv.includes('--debug');
+  try {
+    const [name, ...rest] = argv;
+    if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+      io.stdout.write(topHelp());
+      return name === undefined ? EXIT.usage : 0;
+    }
+    if (name === '--version' || name === '-v') {
+      io.stdout.write(`${version()}\n`);
+      return 0;
+    }
+    const command = COMMANDS.find((c) => c.spec.name === name);
+    if (!command) throw new UsageError(`unknown command '${name}' (commands: ${COMMANDS.map((c) => c.spec.name).join(', ')})`);
+    const args = parseArgs(command.spec, rest);
+    if (args.flags.help === true) {
+      io.stdout.write(helpText(command.spec));
+      return 0;
+    }
+    return await command.run(args, io);
+  } catch (error) {
+    if (isInputError(error)) {
+      io.stderr.write(`counterweight: ${error.message}\n`);
+      if (debug && error.stack) io.stderr.write(`${error.stack}\n`);
+    } else {
+      const message = error instanceof Error ? error.message : String(error);
+      io.stderr.write(`counterweight: unexpected error: ${message}\n`);
+      io.stderr.write(debug && error instanceof Error && error.stack ? `${error.stack}\n` : 'Run again with --debug for the stack trace.\n');
+    }
+    return EXIT.usage;
+  }
+}
+
+/** Runs the command for this process and sets its exit code (bin/counterweight.mjs calls this). */
+export async function runProcess(): Promise<void> {
+  process.exitCode = await main(process.argv.slice(2), { stdout: process.stdout, stderr: process.stderr, env: process.env, cwd: process.cwd() });
+}

@@ -1,0 +1,273 @@
+/**
+ * The audit: a small constant number of scans (profile, cube, duplicates, examples, and one tail
+ * query per target), then pure checks over their results (DESIGN.md §4). The only thing it needs
+ * from an engine is `run(sql) -> Table`.
+ */
+import { CHECKS } from './checks/index.ts';
+import { skipped, type AuditContext, type DraftFinding, type TargetTail } from './checks/context.ts';
+import { essSummary } from './checks/weights-ess.ts';
+import { tailSummary } from './checks/weights-tail.ts';
+import { estimatesFor } from './checks/estimate-preview.ts';
+import type { CubeCell } from './cube/types.ts';
+import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
+import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
+import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
+import { cubeSql, parseCube } from './scan/cube.ts';
+import { describeSql, parseDescribe, parseProfile, profileSql, type Profile } from './scan/profile.ts';
+import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
+import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
+import { ident } from './sql/quote.ts';
+import type { Cell, RunQuery, Table } from './table.ts';
+import { analyseTarget, cubeView, type TargetAnalysis } from './targets/analysis.ts';
+import { resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
+import { psisTailLength } from './stats/psis.ts';
+import { verdictOf, readiness } from './verdict.ts';
+import { TOOL_VERSION } from './version.ts';
+
+export type { TargetInput } from './targets/targets.ts';
+export type { RoleSuggestion } from './roles/roles.ts';
+
+export type AuditStage = 'profile' | 'cube' | 'tails' | 'checks';
+
+export interface AuditRequest {
+  /** quoted relation name of the registered source */
+  readonly relation: string;
+  readonly input: { readonly files: readonly InputFile[]; readonly format: string };
+  /** the table-function SQL behind the relation, recorded so a user can re-run every query */
+  readonly scanSql?: string;
+  readonly roles?: RoleOverrides;
+  readonly targets?: readonly TargetInput[];
+  readonly settings?: Readonly<Record<string, number | string | boolean>>;
+  readonly onProgress?: (p: { stage: AuditStage; done?: boolean }) => void;
+  readonly engine: string;
+  /** anything with `aborted` (an AbortSignal); checked between stages */
+  readonly signal?: { readonly aborted: boolean };
+  /** clock for started_at and "future" timestamps; defaults to the current time */
+  readonly now?: () => number;
+}
+
+export class AuditCancelled extends Error {
+  constructor() {
+    super('the audit was cancelled');
+    this.name = 'AuditCancelled';
+  }
+}
+
+export interface AuditResult {
+  readonly report: Report;
+  readonly cells: readonly CubeCell[];
+  readonly profile: Profile;
+}
+
+async function profileSource(run: RunQuery, relation: string, record: (name: string, sql: string, scans: boolean) => string): Promise<Profile> {
+  const columns = parseDescribe(await run(record('describe', describeSql(relation), false)));
+  return parseProfile(await run(record('profile', profileSql(relation, columns), true)), columns);
+}
+
+/** Suggested roles with reasons, from one profile scan. */
+export async function suggestRoles(run: RunQuery, relation: string): Promise<RoleSuggestion[]> {
+  return suggestFromProfile(await profileSource(run, relation, (_n, sql) => sql));
+}
+
+/** JSON carries no bigint, NaN or Infinity: example values are made JSON-safe here, once. */
+export function jsonCell(v: Cell): Cell {
+  if (typeof v === 'bigint') return Number.isSafeInteger(Number(v)) ? Number(v) : v.toString();
+  if (typeof v === 'number' && !Number.isFinite(v)) return String(v);
+  if (Array.isArray(v)) return v.map(jsonCell);
+  if (v !== null && typeof v === 'object') return Object.fromEntries(Object.entries(v).map(([k, x]) => [k, jsonCell(x)]));
+  return v;
+}
+
+export async function runAudit(run: RunQuery, request: AuditRequest): Promise<Report> {
+  return (await runAuditDetailed(run, request)).report;
+}
+
+export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Promise<AuditResult> {
+  const now = request.now ?? Date.now;
+  const started = now();
+  const queries: QueryRecord[] = [];
+  const record = (name: string, sql: string, scans: boolean) => {
+    queries.push({ name, sql, scans_source: scans });
+    return sql;
+  };
+  const guard = () => {
+    if (request.signal?.aborted) throw new AuditCancelled();
+  };
+  const progress = (stage: AuditStage, done = false) => request.onProgress?.({ stage, ...(done ? { done } : {}) });
+  const settings = resolveSettings(request.settings);
+  const { relation } = request;
+  if (request.scanSql) queries.push({ name: 'source', sql: `CREATE VIEW ${relation} AS ${request.scanSql}`, scans_source: false });
+
+  guard();
+  progress('profile');
+  const profile = await profileSource(run, relation, record);
+  progress('profile', true);
+  const roles = resolveRoles(profile, request.roles);
+  const roleProblems = validateRoles(profile, roles);
+  const logColumns = profile.columns.map((c) => c.name);
+  const explicit: TargetPolicy[] = (request.targets ?? []).map((t) => parseTarget(t, { actionColumn: roles.action ?? 'action', logColumns, targetColumn: roles.target_propensity }));
+  const usable = roleProblems.every((p) => p.severity !== 'fail' || (p.role !== 'action' && p.role !== 'propensity' && p.role !== 'reward')) && !!roles.action && !!roles.propensity && !!roles.reward;
+
+  const segmentColumns = [...roles.segments];
+  for (const t of explicit) if (t.kind === 'table') for (const k of t.keyColumns) if (!segmentColumns.includes(k)) segmentColumns.push(k);
+  const effectiveRoles = { ...roles, segments: segmentColumns, target_propensity: roles.target_propensity ?? explicit.find((t) => t.kind === 'column')?.column ?? null };
+  const buckets = chooseBuckets(timeRangeUs(roles, profile), settings['time.bucket'], settings['time.max_buckets']);
+  const cap = settings['segments.cap'];
+  const caps: Record<string, { distinct: number; kept: number }> = {};
+  const capped: number[] = [];
+  segmentColumns.forEach((c, i) => {
+    const p = profile.columns.find((x) => x.name === c);
+    const keyOfTable = explicit.some((t) => t.kind === 'table' && t.keyColumns.includes(c));
+    if (p && p.distinct > cap && !keyOfTable) {
+      capped.push(i);
+      caps[c] = { distinct: Math.round(p.distinct), kept: cap };
+    }
+  });
+
+  let cells: CubeCell[] = [];
+  let duplicates: Duplicates | null = null;
+  const tails = new Map<string, TargetTail>();
+  const rowsExpr = usable ? rowExpressions(effectiveRoles, profile, buckets) : null;
+  let targets: TargetAnalysis[] = [];
+  guard();
+  if (rowsExpr) {
+    progress('cube');
+    cells = parseCube(await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'] }), true)), segmentColumns.length);
+    progress('cube', true);
+  }
+  const view = cubeView(cells, segmentColumns);
+  guard();
+  progress('tails');
+  if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
+  if (rowsExpr) {
+    const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, view.actions);
+    targets = policies.map((p) => analyseTarget(p, view));
+    for (const t of targets) {
+      guard();
+      if (t.n < 2) continue;
+      const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
+      tails.set(t.target.name, { weights: parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit), true))) });
+    }
+  }
+  progress('tails', true);
+  guard();
+  progress('checks');
+  const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
+  const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
+  const drafts = CHECKS.map((check) => {
+    try {
+      return check(ctx);
+    } catch (e) {
+      // a check that cannot run on this log says why instead of taking the audit down
+      const r = skipped(check === CHECKS[0] ? 'schema.roles' : idOf(check), `could not run: ${(e as Error).message}`);
+      return r;
+    }
+  });
+  const checks = await attachExamples(run, record, relation, drafts, settings['examples.per_finding'], settings['examples.max_findings'], orderColumns(effectiveRoles, profile));
+  progress('checks', true);
+  const { verdict, reasons } = verdictOf(checks);
+  const report: Report = {
+    schema: REPORT_SCHEMA_ID,
+    tool: { name: 'counterweight', version: TOOL_VERSION },
+    input: { files: request.input.files, format: request.input.format, rows: profile.rows },
+    roles: rolesReport(effectiveRoles, caps),
+    settings: settingsReport(settings),
+    verdict,
+    reasons,
+    checks,
+    targets: targets.map((t) => targetSummary(t, tails.get(t.target.name)?.weights, cells)),
+    segments: readiness(ctx, checks),
+    queries,
+    cautions: CAUTIONS,
+    run: { engine: request.engine, started_at: new Date(started).toISOString(), seconds: (now() - started) / 1000, source_scans: queries.filter((q) => q.scans_source).length },
+    signoff: null,
+  };
+  return { report, cells, profile };
+}
+
+const CHECK_IDS = ['schema.roles', 'identity.duplicates', 'time.coverage', 'propensity.range', 'propensity.exploration', 'support.floor', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview'] as const;
+function idOf(check: (typeof CHECKS)[number]): (typeof CHECK_IDS)[number] {
+  return CHECK_IDS[CHECKS.indexOf(check)] ?? 'schema.roles';
+}
+
+function orderColumns(roles: { decision_id: string | null; time: string | null }, profile: Profile): string[] {
+  const cols = [roles.decision_id, roles.time].filter((c): c is string => !!c).map((c) => `m.${ident(c)}`);
+  if (cols.length) return cols;
+  return profile.columns.filter((c) => c.kind !== 'other').map((c) => `m.${ident(c.name)}`);
+}
+
+async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, checks: CheckResult[], perFinding: number, maxFindings: number, order: string[]): Promise<CheckResult[]> {
+  const wanted: { check: number; finding: number; where: string }[] = [];
+  checks.forEach((c, ci) => c.findings.forEach((f, fi) => {
+    const w = (f as DraftFinding).where;
+    if (w && perFinding > 0 && f.status !== 'pass' && wanted.length < maxFindings && c.findings.slice(0, fi).filter((x) => (x as DraftFinding).where).length < 5) wanted.push({ check: ci, finding: fi, where: w });
+  }));
+  let table: Table | null = null;
+  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order), true));
+  const byRequest = new Map<number, Record<string, Cell>[]>();
+  if (table) {
+    const fcol = table.columns[0] as readonly Cell[];
+    for (let i = 0; i < table.rowCount; i++) {
+      const k = Number(fcol[i]);
+      const row: Record<string, Cell> = {};
+      for (let j = 1; j < table.names.length; j++) row[table.names[j] as string] = jsonCell((table.columns[j] as readonly Cell[])[i] ?? null);
+      const list = byRequest.get(k) ?? [];
+      list.push(row);
+      byRequest.set(k, list);
+    }
+  }
+  return checks.map((c, ci) => ({
+    ...c,
+    findings: c.findings.map((f, fi): Finding => {
+      const { where, ...rest } = f as DraftFinding;
+      const k = wanted.findIndex((w) => w.check === ci && w.finding === fi);
+      return { ...rest, ...(where ? { sql: `SELECT * FROM ${relation} WHERE ${where}` } : {}), ...(k >= 0 ? { examples: byRequest.get(k) ?? [] } : {}) };
+    }),
+  }));
+}
+
+function rolesReport(r: ReturnType<typeof resolveRoles>, caps: RolesReport['caps']): RolesReport {
+  return {
+    decision_id: r.decision_id,
+    time: r.time,
+    action: r.action,
+    propensity: r.propensity,
+    reward: r.reward,
+    segments: r.segments,
+    policy_version: r.policy_version,
+    target_propensity: r.target_propensity,
+    propensity_vector: r.propensity_vector,
+    action_set_size: r.action_set_size,
+    reasons: r.reasons,
+    caps,
+  };
+}
+
+function settingsReport(s: ReturnType<typeof resolveSettings>): Record<string, SettingValue> {
+  const out: Record<string, SettingValue> = {};
+  for (const [k, spec] of Object.entries(SETTINGS) as [SettingKey, SettingSpec][]) out[k] = { value: s[k], default: spec.default, source: spec.source, description: spec.description };
+  return out;
+}
+
+function targetSummary(t: TargetAnalysis, tail: readonly number[] | undefined, cells: readonly CubeCell[]): TargetSummary {
+  const e = essSummary(t, tail);
+  const k = tailSummary(t, tail);
+  const rewarded = cells.filter((c) => c.action !== '(null)').reduce((s, c) => s + c.nRw, 0);
+  const est = estimatesFor(t, rewarded);
+  return {
+    name: t.target.name,
+    spec: t.target.spec,
+    ess: e.ess,
+    ess_fraction: e.fraction,
+    max_weight: e.maxWeight,
+    top1_weight_share: e.top1Share ?? 0,
+    khat: k.khat,
+    khat_threshold: k.threshold,
+    tail_length: k.tailLength,
+    support_deficit: t.supportDeficit,
+    ips: est.ips,
+    snips: est.snips,
+    dr: est.dr,
+    detectable_difference: est.detectable,
+  };
+}

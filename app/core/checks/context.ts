@@ -1,0 +1,116 @@
+/** What every check receives: the scan results and settings. A check is (context) -> CheckResult. */
+import type { CubeCell } from '../cube/types.ts';
+import type { CheckId, CheckResult, Finding, Metrics, Series, Status } from '../model/report.ts';
+import type { ResolvedRoles, RoleProblem } from '../roles/roles.ts';
+import type { RowExpressions, TimeBuckets } from '../scan/expressions.ts';
+import type { Profile } from '../scan/profile.ts';
+import type { Duplicates } from '../scan/rows.ts';
+import type { SettingKey, Settings } from '../settings.ts';
+import type { CubeView, TargetAnalysis } from '../targets/analysis.ts';
+
+export interface TargetTail {
+  /** largest positive weights, descending */
+  readonly weights: readonly number[];
+}
+
+export interface AuditContext {
+  readonly profile: Profile;
+  readonly roles: ResolvedRoles;
+  readonly roleProblems: readonly RoleProblem[];
+  /** cube cells; empty when required roles are missing */
+  readonly cells: readonly CubeCell[];
+  readonly view: CubeView;
+  readonly segmentColumns: readonly string[];
+  readonly buckets: TimeBuckets | null;
+  readonly settings: Settings;
+  readonly targets: readonly TargetAnalysis[];
+  readonly tails: ReadonlyMap<string, TargetTail>;
+  readonly duplicates: Duplicates | null;
+  /** audit start time, microseconds since the epoch (for "future" timestamps) */
+  readonly nowUs: number;
+  /** row expressions over the source (null when required roles are missing), for example-row predicates */
+  readonly rows: RowExpressions | null;
+  /** targets that decide statuses: the ones given, or uniform when none was given */
+  readonly primaryTargets: readonly TargetAnalysis[];
+}
+
+/** A finding plus the predicate that selects its rows from the source (turned into `sql` and examples). */
+export type DraftFinding = Finding & { readonly where?: string };
+
+export type Check = (ctx: AuditContext) => CheckResult;
+
+export const TITLES: Record<CheckId, string> = {
+  'schema.roles': 'Column roles',
+  'identity.duplicates': 'Duplicate decision ids',
+  'time.coverage': 'Time coverage',
+  'propensity.range': 'Propensity values',
+  'propensity.exploration': 'Exploration by segment',
+  'support.floor': 'Propensity floor',
+  'support.target': 'Support for each target',
+  'balance.weights': 'Weight balance',
+  'weights.ess': 'Effective sample size',
+  'weights.tail': 'Weight tail (PSIS k̂)',
+  'reward.validity': 'Reward values',
+  'drift.reward': 'Reward drift',
+  'drift.policy': 'Logging-policy drift',
+  'estimate.preview': 'Estimate preview',
+};
+
+export function result(
+  id: CheckId,
+  status: Status,
+  summary: string,
+  metrics: Metrics,
+  findings: readonly DraftFinding[],
+  settingsUsed: readonly SettingKey[],
+  series?: readonly Series[],
+): CheckResult {
+  return { id, title: TITLES[id], status, summary, metrics, findings, settings_used: settingsUsed, ...(series && series.length ? { series } : {}) };
+}
+
+export function skipped(id: CheckId, why: string, settingsUsed: readonly SettingKey[] = []): CheckResult {
+  return result(id, 'skipped', `Skipped: ${why}.`, {}, [], settingsUsed);
+}
+
+/** The worst of several statuses (skipped counts as pass). */
+export function worst(...statuses: Status[]): Status {
+  if (statuses.includes('fail')) return 'fail';
+  if (statuses.includes('warn')) return 'warn';
+  return 'pass';
+}
+
+export function segmentRecord(columns: readonly string[], values: readonly string[]): Record<string, string> {
+  const out: Record<string, string> = {};
+  columns.forEach((c, i) => {
+    const v = values[i];
+    if (v !== undefined && v !== '*') out[c] = v;
+  });
+  return out;
+}
+
+export function describeSegment(segment: Record<string, string>): string {
+  const parts = Object.entries(segment).map(([k, v]) => `${k}=${v}`);
+  return parts.length ? parts.join(', ') : 'all rows';
+}
+
+export const pct = (x: number, digits = 1): string => {
+  if (!Number.isFinite(x)) return String(x);
+  const p = 100 * x;
+  if (p !== 0 && Math.abs(p) < 0.1) return `${p.toPrecision(2)}%`;
+  return `${p.toFixed(digits)}%`;
+};
+
+export const fmt = (x: number | null, digits = 3): string => (x === null ? 'n/a' : Number.isInteger(x) ? String(x) : Number(x.toPrecision(digits)).toString());
+
+export function bucketWindow(b: TimeBuckets, from: number, toExclusive: number): { from: string; to: string } {
+  return { from: isoUs(b.originUs + from * b.widthUs), to: isoUs(b.originUs + toExclusive * b.widthUs) };
+}
+
+export function isoUs(us: number): string {
+  return new Date(Math.floor(us / 1000)).toISOString();
+}
+
+/** Finite numbers only: JSON carries no NaN or Infinity. */
+export function finite(x: number | null | undefined): number | null {
+  return x === null || x === undefined || !Number.isFinite(x) ? null : x;
+}

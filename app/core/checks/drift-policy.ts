@@ -1,0 +1,199 @@
+import type { CubeCell } from '../cube/types.ts';
+import type { Series } from '../model/report.ts';
+import { weightBalance } from '../stats/balance.ts';
+import { benjaminiHochberg } from '../stats/bh.ts';
+import { chiSquareHomogeneity } from '../stats/chisq.ts';
+import { populationStabilityIndex } from '../stats/psi.ts';
+import { bucketWindow, describeSegment, fmt, isoUs, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { segmentPredicate } from './predicates.ts';
+import { explorationBySegment } from './propensity-exploration.ts';
+
+const MIN_BUCKET_ROWS = 10;
+const MIN_WINDOW_ROWS = 50;
+/** A shift smaller than this PSI is not reported even when significant (0.1 band: common practice). */
+const PSI_NOTICE = 0.1;
+
+interface Group {
+  segment: Record<string, string>;
+  member: (c: CubeCell) => boolean;
+  counts: number[][]; // bucket × action
+  first: Window;
+  last: Window;
+}
+
+interface Window {
+  /** actions with a propensity below the floor anywhere in the group's log: their rare huge weights make B and its
+   * standard error unreliable in a window that happens to hold none of them (support.floor reports them) */
+  lowFloor: Set<number>;
+  nP: number;
+  s1: number[];
+  s2: number[];
+  counts: number[];
+  versions: Map<string, number>;
+}
+
+export interface VersionSwitch {
+  readonly from: string;
+  readonly to: string;
+  readonly at: string;
+  readonly bucket: number;
+}
+
+/** Dominant policy version per bucket, and where it changes. */
+export function versionSwitches(ctx: AuditContext): VersionSwitch[] {
+  const b = ctx.buckets;
+  if (!b || !ctx.roles.policy_version) return [];
+  const per = Array.from({ length: b.count }, () => new Map<string, number>());
+  for (const c of ctx.cells) if (c.bucket >= 0 && c.bucket < b.count) per[c.bucket]!.set(c.version, (per[c.bucket]!.get(c.version) ?? 0) + c.n);
+  const dominant = per.map((m) => [...m.entries()].sort((x, y) => y[1] - x[1] || x[0].localeCompare(y[0]))[0]?.[0] ?? null);
+  const out: VersionSwitch[] = [];
+  let prev: string | null = null;
+  dominant.forEach((v, i) => {
+    if (v === null) return;
+    if (prev !== null && v !== prev) {
+      const m = per[i]!;
+      const mixed = (m.get(prev) ?? 0) > 0;
+      out.push({ from: prev, to: v, bucket: i, at: isoUs(b.originUs + i * b.widthUs) + (mixed ? ' (during this bucket)' : '') });
+    }
+    prev = v;
+  });
+  return out;
+}
+
+function emptyWindow(k: number): Window {
+  return { lowFloor: new Set(), nP: 0, s1: new Array(k).fill(0), s2: new Array(k).fill(0), counts: new Array(k).fill(0), versions: new Map() };
+}
+
+/** Do logged propensities agree with the action mix in this window? (E[1{A=a}/p] = 1 for every action) */
+function balanced(w: Window, minEffect: number, alpha: number): boolean {
+  if (w.nP < MIN_WINDOW_ROWS) return true;
+  return w.s1.every((s1, a) => {
+    if (s1 === 0 || w.lowFloor.has(a)) return true;
+    const r = weightBalance(w.nP, s1, w.s2[a] as number);
+    return !(r.pValue < alpha && Math.abs(r.balance - 1) > minEffect);
+  });
+}
+
+/** drift.policy: logging-policy drift — action mix over time, PSI first vs last window, version switches. */
+export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
+  if (!ctx.rows || ctx.cells.length === 0) return skipped('drift.policy', 'the propensity, action or reward role is missing');
+  const b = ctx.buckets;
+  if (!b || b.count < 2) return skipped('drift.policy', ctx.roles.time ? 'the log spans a single time bucket' : 'no time column mapped');
+  const actions = ctx.view.actions;
+  const ai = new Map(actions.map((a, i) => [a, i]));
+  const edge = Math.max(1, Math.floor(b.count / 4));
+  const floor = ctx.settings['support.floor.epsilon'];
+  const groups = new Map<string, Group>();
+  const touch = (key: string, segment: Record<string, string>, member: (c: CubeCell) => boolean) => {
+    let g = groups.get(key);
+    if (!g) groups.set(key, (g = { segment, member, counts: Array.from({ length: b.count }, () => new Array(actions.length).fill(0)), first: emptyWindow(actions.length), last: emptyWindow(actions.length) }));
+    return g;
+  };
+  const add = (g: Group, c: CubeCell, a: number) => {
+    const row = g.counts[c.bucket] as number[];
+    row[a] = (row[a] as number) + c.n;
+    if (c.minP !== null && c.minP < floor) {
+      g.first.lowFloor.add(a);
+      g.last.lowFloor.add(a);
+    }
+    const w = c.bucket < edge ? g.first : c.bucket >= b.count - edge ? g.last : null;
+    if (!w) return;
+    w.nP += c.nP;
+    w.s1[a] = (w.s1[a] as number) + c.sumInvP;
+    w.s2[a] = (w.s2[a] as number) + c.sumInvP2;
+    w.counts[a] = (w.counts[a] as number) + c.n;
+    if (c.minP !== null && c.minP < floor) w.lowFloor.add(a);
+    w.versions.set(c.version, (w.versions.get(c.version) ?? 0) + c.n);
+  };
+  // segments without exploration are propensity.exploration's finding; left in, their B = 0 actions would read as drift
+  const unexplored = new Set(explorationBySegment(ctx).filter((e) => !e.explored).map((e) => e.segment.join('\u001f')));
+  const cells = ctx.cells.filter((c) => !unexplored.has(c.segment.join('\u001f')));
+  for (const c of cells) {
+    const a = ai.get(c.action);
+    if (a === undefined || c.bucket < 0 || c.bucket >= b.count) continue;
+    add(touch('*', {}, () => true), c, a);
+    ctx.segmentColumns.forEach((col, j) => {
+      const v = c.segment[j] as string;
+      add(touch(`${col}=${v}`, { [col]: v }, (x) => x.segment[j] === v), c, a);
+    });
+  }
+  const q = ctx.settings['drift.policy.q'];
+  const psiWarn = ctx.settings['drift.policy.psi_warn'];
+  const minEffect = ctx.settings['balance.min_effect'];
+  const alpha = ctx.settings['balance.q'] / Math.max(1, actions.length);
+  const list = [...groups.values()].map((g) => {
+    const rows = g.counts.filter((r) => r.reduce((s, x) => s + x, 0) >= MIN_BUCKET_ROWS);
+    const chi = rows.length >= 2 ? chiSquareHomogeneity(rows) : null;
+    const psi = g.first.counts.some((x) => x > 0) && g.last.counts.some((x) => x > 0) ? populationStabilityIndex(g.first.counts, g.last.counts) : 0;
+    const dom = (w: Window) => [...w.versions.entries()].sort((x, y) => y[1] - x[1])[0]?.[0] ?? '';
+    return { g, p: chi ? chi.pValue : 1, psi, explainedByPropensities: balanced(g.first, minEffect, alpha) && balanced(g.last, minEffect, alpha), versionFrom: dom(g.first), versionTo: dom(g.last) };
+  });
+  const bh = benjaminiHochberg(list.map((x) => x.p), q);
+  const switches = versionSwitches(ctx);
+  // explain away: a group stays unexplained only if it is still unbalanced without the rows of groups already reported
+  const windowOf = (member: (c: CubeCell) => boolean, exclude: readonly Group[]) => {
+    const first = emptyWindow(actions.length);
+    const last = emptyWindow(actions.length);
+    for (const c of cells) {
+      const a = ai.get(c.action);
+      if (a === undefined || c.bucket < 0 || !member(c) || exclude.some((g) => g.member(c))) continue;
+      if (c.minP !== null && c.minP < floor) {
+        first.lowFloor.add(a);
+        last.lowFloor.add(a);
+      }
+      const w = c.bucket < edge ? first : c.bucket >= b.count - edge ? last : null;
+      if (!w) continue;
+      w.nP += c.nP;
+      w.s1[a] = (w.s1[a] as number) + c.sumInvP;
+      w.s2[a] = (w.s2[a] as number) + c.sumInvP2;
+      if (c.minP !== null && c.minP < floor) w.lowFloor.add(a);
+    }
+    return { first, last };
+  };
+  const imbalance = (w: Window) => Math.max(0, ...w.s1.map((s1, a) => (w.nP > 0 && s1 > 0 && !w.lowFloor.has(a) ? Math.abs(s1 / w.nP - 1) : 0)));
+  const reported: Group[] = [];
+  const candidates = list.map((x, i) => ({ x, i })).filter(({ x, i }) => bh.rejected[i] && x.psi >= PSI_NOTICE && !x.explainedByPropensities);
+  candidates.sort((u, v) => Math.max(imbalance(v.x.g.last), imbalance(v.x.g.first)) - Math.max(imbalance(u.x.g.last), imbalance(u.x.g.first)));
+  for (const { x } of candidates) {
+    const w = windowOf(x.g.member, reported);
+    if (balanced(w.first, minEffect, alpha) && balanced(w.last, minEffect, alpha)) x.explainedByPropensities = true;
+    else reported.push(x.g);
+  }
+  const findings: DraftFinding[] = [];
+  list.forEach((x, i) => {
+    if (!bh.rejected[i] || x.psi < PSI_NOTICE) return;
+    const unexplained = !x.explainedByPropensities;
+    const versionChange = ctx.roles.policy_version && x.versionFrom !== x.versionTo;
+    const status = unexplained ? ('warn' as const) : ('pass' as const);
+    const seg = segmentPredicate(ctx.rows!, ctx.segmentColumns, x.g.segment);
+    findings.push({
+      segment: x.g.segment,
+      window: versionChange && switches[0] ? bucketWindow(b, switches[0].bucket, b.count) : bucketWindow(b, 0, b.count),
+      status,
+      metrics: { psi: x.psi, p_adjusted: bh.adjusted[i] as number, propensities_follow_mix: x.explainedByPropensities, version_first: x.versionFrom || null, version_last: x.versionTo || null },
+      message: `action mix in ${describeSegment(x.g.segment)} shifts between the first and last ${edge} bucket(s) (PSI ${fmt(x.psi)}${x.psi > psiWarn ? ', large' : ''}${versionChange ? `; policy ${x.versionFrom} → ${x.versionTo}` : ''}): ${unexplained ? 'the logged propensities did NOT move with the action mix, so they no longer describe the policy that chose the actions' : 'the logged propensities moved with it, so the shift is a logged policy change'}`,
+      ...(seg ? { where: seg } : {}),
+    });
+  });
+  findings.sort((a, c) => (a.status === c.status ? Number(c.metrics.psi) - Number(a.metrics.psi) : a.status === 'warn' ? -1 : 1));
+  const warnCount = findings.filter((f) => f.status === 'warn').length;
+  const status = warnCount ? 'warn' : 'pass';
+  const summary =
+    `${switches.length ? `Policy version switches: ${switches.map((s) => `${s.from} → ${s.to} at ${s.at}`).join('; ')}. ` : ''}` +
+    (warnCount
+      ? `${warnCount} unexplained action-mix shift(s), e.g. ${describeSegment(findings[0]!.segment)}.`
+      : `${findings.length} action-mix shift(s), each matched by the logged propensities.`);
+  const all = groups.get('*')!;
+  const mix: Series = {
+    name: 'action mix over time (all rows)',
+    kind: 'bars',
+    x: all.counts.map((_, i) => isoUs(b.originUs + i * b.widthUs)),
+    values: actions.map((_, a) => all.counts.map((r) => {
+      const n = r.reduce((s, v) => s + v, 0);
+      return n ? (r[a] as number) / n : null;
+    })),
+    labels: [...actions],
+    unit: 'share of rows',
+  };
+  return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'balance.min_effect', 'balance.q', 'support.floor.epsilon'], [mix]);
+}

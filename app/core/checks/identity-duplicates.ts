@@ -1,0 +1,25 @@
+import { literal } from '../sql/quote.ts';
+import { pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+
+/** identity.duplicates: decision ids are unique (exact counts of duplicated ids and rows). */
+export function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
+  const d = ctx.duplicates;
+  if (!ctx.roles.decision_id || !d) return skipped('identity.duplicates', 'no decision_id column mapped');
+  const rows = Math.max(1, ctx.profile.rows);
+  const share = d.extraRows / rows;
+  const failAt = ctx.settings['identity.duplicates.fail_share'];
+  const status = d.ids === 0 ? 'pass' : share > failAt ? 'fail' : 'warn';
+  const findings: DraftFinding[] = [];
+  if (d.ids > 0) {
+    const id = ctx.rows?.decisionId;
+    findings.push({
+      segment: {},
+      status,
+      metrics: { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share, max_copies: d.maxCopies },
+      message: `${d.ids} decision id(s) appear more than once (${d.rowsInDuplicates} rows; ${d.extraRows} extra rows, ${pct(share, 2)} of the log; at most ${d.maxCopies} copies). Examples: ${d.exampleIds.join(', ')}.`,
+      ...(id && d.exampleIds.length ? { where: `${id} IN (${d.exampleIds.map(literal).join(', ')})` } : {}),
+    });
+  }
+  const summary = d.ids === 0 ? `All ${ctx.profile.rows} decision ids are unique.` : `${d.ids} duplicated decision ids: ${d.extraRows} extra rows (${pct(share, 2)} of rows; fail above ${pct(failAt)}).`;
+  return result('identity.duplicates', status, summary, { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share }, findings, ['identity.duplicates.fail_share']);
+}

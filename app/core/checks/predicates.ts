@@ -1,0 +1,35 @@
+/** SQL predicates over the source that select the rows behind a finding. */
+import { literal } from '../sql/quote.ts';
+import { OTHER_LABEL, type RowExpressions, type TimeBuckets } from '../scan/expressions.ts';
+
+export function validPropensity(p: string): string {
+  return `(${p} > 0 AND ${p} <= 1 AND NOT isnan(${p}))`;
+}
+
+export function finiteReward(r: string): string {
+  return `(${r} IS NOT NULL AND isfinite(${r}))`;
+}
+
+/** null when a value is the capped "(other)" bucket, which no simple predicate selects. */
+export function segmentPredicate(rows: RowExpressions, columns: readonly string[], segment: Record<string, string>): string | null {
+  const parts: string[] = [];
+  for (const [c, v] of Object.entries(segment)) {
+    const i = columns.indexOf(c);
+    if (i < 0 || v === OTHER_LABEL) return null;
+    parts.push(`${rows.segments[i]} = ${literal(v)}`);
+  }
+  return parts.length ? parts.join(' AND ') : 'TRUE';
+}
+
+export function windowPredicate(rows: RowExpressions, buckets: TimeBuckets | null, first: number, lastInclusive: number): string | null {
+  if (!buckets || !rows.timeUs) return null;
+  const lo = buckets.originUs + first * buckets.widthUs;
+  const hi = buckets.originUs + (lastInclusive + 1) * buckets.widthUs;
+  return `${rows.timeUs} >= ${lo} AND ${rows.timeUs} < ${hi}`;
+}
+
+export function and(...parts: (string | null | undefined)[]): string | undefined {
+  if (parts.some((p) => p === null)) return undefined;
+  const kept = parts.filter((p): p is string => !!p && p !== 'TRUE');
+  return kept.length ? kept.map((p) => `(${p})`).join(' AND ') : 'TRUE';
+}

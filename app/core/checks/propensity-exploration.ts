@@ -1,0 +1,99 @@
+import { segmentKey } from '../cube/rollup.ts';
+import { describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { coverByPatterns } from './locate.ts';
+import { segmentPredicate } from './predicates.ts';
+
+export interface SegmentExploration {
+  readonly segment: readonly string[];
+  readonly rows: number;
+  readonly topAction: string;
+  readonly topShare: number;
+  readonly allPOne: boolean;
+  readonly explored: boolean;
+}
+
+/** Per full segment: does the logging policy explore there? */
+export function explorationBySegment(ctx: AuditContext): SegmentExploration[] {
+  const topShareAt = ctx.settings['propensity.exploration.top_action_share'];
+  const bySeg = new Map<string, { segment: readonly string[]; rows: number; nP: number; nPOne: number; actions: Map<string, number> }>();
+  for (const c of ctx.view.cells) {
+    const k = segmentKey(c.segment);
+    const g = bySeg.get(k) ?? { segment: c.segment, rows: 0, nP: 0, nPOne: 0, actions: new Map<string, number>() };
+    g.rows += c.totals.n;
+    g.nP += c.totals.nP;
+    g.nPOne += c.totals.nPOne;
+    g.actions.set(c.action, (g.actions.get(c.action) ?? 0) + c.totals.n);
+    bySeg.set(k, g);
+  }
+  return [...bySeg.values()].map((g) => {
+    let topAction = '';
+    let top = -1;
+    for (const [a, n] of [...g.actions.entries()].sort()) if (n > top) [topAction, top] = [a, n];
+    const topShare = top / Math.max(1, g.rows);
+    const allPOne = g.nP > 0 && g.nPOne === g.nP;
+    return { segment: g.segment, rows: g.rows, topAction, topShare, allPOne, explored: !(allPOne || topShare >= topShareAt) };
+  });
+}
+
+/** propensity.exploration: segments where the logging policy did not explore. */
+export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
+  if (!ctx.rows || ctx.cells.length === 0) return skipped('propensity.exploration', 'the propensity, action or reward role is missing');
+  const segs = explorationBySegment(ctx);
+  const rows = Math.max(1, ctx.view.rows);
+  const minShare = ctx.settings['propensity.exploration.min_segment_share'];
+  const patterns = coverByPatterns(segs.map((s) => ({ values: s.segment, flagged: !s.explored, payload: s })));
+  const findings: DraftFinding[] = [];
+  let failing = false;
+  let unexploredRows = 0;
+  for (const p of patterns) {
+    const segment = segmentRecord(ctx.segmentColumns, p.values);
+    const n = p.items.reduce((s, x) => s + x.rows, 0);
+    unexploredRows += n;
+    const share = n / rows;
+    const served = p.items.some((x) => ctx.primaryTargets.some((t) => t.serves(x.segment)));
+    const status = share >= minShare && served ? 'fail' : 'warn';
+    failing ||= status === 'fail';
+    const top = p.items.map((x) => x.topAction);
+    const sameTop = top.every((a) => a === top[0]);
+    const allOne = p.items.every((x) => x.allPOne);
+    const minTop = Math.min(...p.items.map((x) => x.topShare));
+    findings.push({
+      segment,
+      ...(sameTop ? { action: top[0] as string } : {}),
+      status,
+      metrics: { rows: n, share, sub_segments: p.items.length, top_action_share_min: minTop, all_propensities_one: allOne, served_by_target: served },
+      message: `no exploration in ${describeSegment(segment)} (${n} rows, ${pct(share)} of the log): ${allOne ? 'every propensity is 1' : `one action holds at least ${pct(minTop)} of rows`}${sameTop ? `, always ${top[0]}` : ''}${served ? '' : '; no target given serves it'}`,
+      ...(() => {
+        const w = segmentPredicate(ctx.rows!, ctx.segmentColumns, segment);
+        return w ? { where: w } : {};
+      })(),
+    });
+  }
+  const status = failing ? 'fail' : findings.length ? 'warn' : 'pass';
+  const summary = findings.length
+    ? `${findings.length} part(s) of the log have no exploration, ${pct(unexploredRows / rows)} of rows: ${findings.map((f) => describeSegment(f.segment)).slice(0, 3).join('; ')}${findings.length > 3 ? '; …' : ''}.`
+    : `The logging policy explored in all ${segs.length} segments.`;
+  return result(
+    'propensity.exploration',
+    status,
+    summary,
+    { segments: segs.length, unexplored_segments: segs.filter((s) => !s.explored).length, unexplored_share: unexploredRows / rows },
+    findings,
+    ['propensity.exploration.top_action_share', 'propensity.exploration.min_segment_share'],
+    [heatmapRows(ctx)],
+  );
+}
+
+function heatmapRows(ctx: AuditContext) {
+  const segs = [...new Set(ctx.view.cells.map((c) => c.segment.join(' · ')))].sort();
+  const actions = ctx.view.actions;
+  const idx = new Map(ctx.view.cells.map((c) => [`${c.segment.join(' · ')}|${c.action}`, c.totals.n]));
+  return {
+    name: 'rows by segment and action',
+    kind: 'heatmap' as const,
+    x: actions,
+    y: segs,
+    values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? 0)),
+    unit: 'rows',
+  };
+}

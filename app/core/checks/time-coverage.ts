@@ -1,0 +1,46 @@
+import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { runs } from './locate.ts';
+
+/** time.coverage: timestamps parse; span; empty buckets (gaps); timestamps in the future. */
+export function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
+  const { buckets, roles } = ctx;
+  if (!roles.time) return skipped('time.coverage', 'no time column mapped');
+  if (!buckets) return skipped('time.coverage', `time column '${roles.time}' has no parseable timestamps`);
+  const perBucket = new Array<number>(buckets.count).fill(0);
+  let unparsed = 0;
+  for (const c of ctx.cells) {
+    if (c.bucket < 0 || c.bucket >= buckets.count) unparsed += c.n;
+    else perBucket[c.bucket] = (perBucket[c.bucket] ?? 0) + c.n;
+  }
+  const rows = Math.max(1, ctx.profile.rows);
+  const empty = perBucket.map((n, b) => (n === 0 ? b : -1)).filter((b) => b >= 0);
+  const gaps = runs(empty);
+  const endUs = buckets.originUs + buckets.count * buckets.widthUs;
+  const tcol = ctx.profile.columns.find((c) => c.name === roles.time);
+  const factor = roles.timeEncoding === 'epoch_s' ? 1e6 : roles.timeEncoding === 'epoch_ms' ? 1e3 : 1;
+  const maxUs = roles.timeEncoding === 'timestamp' || roles.timeEncoding === 'text' ? tcol?.maxTimeUs ?? null : tcol?.max != null ? tcol.max * factor : null;
+  const minUs = roles.timeEncoding === 'timestamp' || roles.timeEncoding === 'text' ? tcol?.minTimeUs ?? null : tcol?.min != null ? tcol.min * factor : null;
+  const future = maxUs !== null && maxUs > ctx.nowUs;
+  const futureBuckets = perBucket.map((n, b) => (n > 0 && buckets.originUs + b * buckets.widthUs > ctx.nowUs ? n : 0)).reduce((s, n) => s + n, 0);
+  const findings: DraftFinding[] = gaps.map(([a, b]) => ({
+    segment: {},
+    window: bucketWindow(buckets, a, b + 1),
+    status: 'warn' as const,
+    metrics: { empty_buckets: b - a + 1 },
+    message: `no rows from ${isoUs(buckets.originUs + a * buckets.widthUs)} to ${isoUs(buckets.originUs + (b + 1) * buckets.widthUs)} (${b - a + 1} empty ${buckets.label} bucket(s))`,
+  }));
+  if (future) findings.push({ segment: {}, status: 'warn', metrics: { latest: isoUs(maxUs as number), rows_in_future_buckets: futureBuckets }, message: `the latest timestamp ${isoUs(maxUs as number)} is after the audit started` });
+  if (unparsed > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: unparsed, share: unparsed / rows }, message: `${unparsed} rows (${pct(unparsed / rows, 2)}) have a missing or unparseable time` });
+  const status = findings.length ? 'warn' : 'pass';
+  const spanDays = minUs !== null && maxUs !== null ? (maxUs - minUs) / 86_400e6 : null;
+  const summary = `${minUs !== null ? isoUs(minUs) : '?'} to ${maxUs !== null ? isoUs(maxUs) : '?'} (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} ${buckets.label} buckets; ${empty.length} empty bucket(s)${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
+  return result(
+    'time.coverage',
+    status,
+    summary,
+    { start: minUs !== null ? isoUs(minUs) : null, end: maxUs !== null ? isoUs(maxUs) : null, span_days: spanDays, bucket: buckets.label, buckets: buckets.count, empty_buckets: empty.length, rows_without_time: unparsed, future: future, bucket_end: isoUs(endUs) },
+    findings,
+    ['time.bucket', 'time.max_buckets'],
+    [{ name: 'rows per bucket', kind: 'bars', x: perBucket.map((_, b) => isoUs(buckets.originUs + b * buckets.widthUs)), values: [perBucket], labels: ['rows'], unit: 'rows' }],
+  );
+}

@@ -1,0 +1,51 @@
+import type { Status } from '../model/report.ts';
+import { paretoKThreshold, psisKhatFromTail, psisTailLength } from '../stats/psis.ts';
+import { finite, fmt, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
+import type { TargetAnalysis } from '../targets/analysis.ts';
+
+export interface TailSummary {
+  readonly khat: number | null;
+  readonly threshold: number;
+  readonly tailLength: number;
+  readonly note: string | null;
+}
+
+/** PSIS k̂ of one target's weights from its largest weights (Vehtari et al. 2024; tail as loo 2.5.1). */
+export function tailSummary(t: TargetAnalysis, tail: readonly number[] | undefined): TailSummary {
+  const S = t.n;
+  if (S < 2) return { khat: null, threshold: 0.7, tailLength: 0, note: 'fewer than 2 rows with a valid propensity' };
+  const M = psisTailLength(S);
+  const threshold = paretoKThreshold(S);
+  if (!tail || tail.length < M + 1) return { khat: null, threshold, tailLength: M, note: `only ${tail?.length ?? 0} rows have positive weight; PSIS needs ${M + 1}` };
+  const khat = psisKhatFromTail(tail.slice(0, M + 1).map(Math.log), S);
+  return { khat: finite(khat), threshold, tailLength: M, note: Number.isFinite(khat) ? null : 'the tail is too short or constant for a Pareto fit' };
+}
+
+/** weights.tail: Pareto-smoothed importance sampling shape k̂ of each target's weight tail. */
+export function checkTail(ctx: AuditContext): ReturnType<typeof result> {
+  if (!ctx.rows || ctx.cells.length === 0) return skipped('weights.tail', 'the propensity, action or reward role is missing');
+  const warnK = ctx.settings['weights.tail.warn_khat'];
+  const findings: DraftFinding[] = [];
+  const statuses: Status[] = [];
+  const metrics: Record<string, number | null> = {};
+  for (const t of ctx.targets) {
+    const s = tailSummary(t, ctx.tails.get(t.target.name)?.weights);
+    const primary = ctx.primaryTargets.includes(t);
+    const status: Status = s.khat === null ? 'warn' : s.khat > s.threshold ? 'fail' : s.khat > warnK ? 'warn' : 'pass';
+    if (primary) statuses.push(status);
+    metrics[`${t.target.name}.khat`] = s.khat;
+    findings.push({
+      segment: {},
+      target: t.target.name,
+      status: primary ? status : 'pass',
+      metrics: { khat: s.khat, threshold: s.threshold, tail_length: s.tailLength, rows: t.n },
+      message: `${t.target.name}: k̂ = ${s.khat === null ? 'not available' : fmt(s.khat)} from the largest ${s.tailLength} weights (warn above ${warnK}, fail above ${fmt(s.threshold)})${s.note ? `; ${s.note}` : ''}${primary ? '' : ' (reference only)'}`,
+    });
+  }
+  const status = statuses.length ? worst(...statuses) : 'pass';
+  const summary = ctx.primaryTargets.map((t) => {
+    const s = tailSummary(t, ctx.tails.get(t.target.name)?.weights);
+    return `${t.target.name}: k̂ = ${s.khat === null ? 'n/a' : fmt(s.khat)}`;
+  }).join('; ') + ` (warn above ${warnK}, fail above min(1 − 1/log10 n, 0.7)).`;
+  return result('weights.tail', status, summary, metrics, findings, ['weights.tail.warn_khat']);
+}

@@ -1,0 +1,284 @@
+/**
+ * Column roles (DESIGN.md §3): suggestion from names, types and value profiles, explicit overrides,
+ * and validation with specific messages.
+ */
+import type { ColumnProfile, Profile } from '../scan/profile.ts';
+
+export const SINGLE_ROLES = ['decision_id', 'time', 'action', 'propensity', 'reward', 'policy_version', 'target_propensity', 'propensity_vector', 'action_set_size'] as const;
+export type SingleRole = (typeof SINGLE_ROLES)[number];
+export type RoleName = SingleRole | 'segments';
+export const REQUIRED_ROLES: readonly SingleRole[] = ['action', 'propensity', 'reward'];
+
+export interface RoleOverrides {
+  readonly decision_id?: string;
+  readonly time?: string;
+  readonly action?: string;
+  readonly propensity?: string;
+  readonly reward?: string;
+  readonly policy_version?: string;
+  readonly target_propensity?: string;
+  readonly propensity_vector?: string;
+  readonly action_set_size?: string;
+  readonly segments?: readonly string[];
+}
+
+export interface RoleSuggestion {
+  readonly role: RoleName;
+  readonly column: string;
+  readonly reason: string;
+  /** 0..1: how sure the suggestion is (name and values agree: high; values only: medium). */
+  readonly confidence: number;
+}
+
+export type TimeEncoding = 'timestamp' | 'text' | 'epoch_s' | 'epoch_ms' | 'epoch_us';
+
+export interface ResolvedRoles {
+  readonly decision_id: string | null;
+  readonly time: string | null;
+  readonly timeEncoding: TimeEncoding | null;
+  readonly action: string | null;
+  readonly propensity: string | null;
+  readonly reward: string | null;
+  readonly policy_version: string | null;
+  readonly target_propensity: string | null;
+  readonly propensity_vector: string | null;
+  readonly action_set_size: string | null;
+  readonly segments: readonly string[];
+  readonly reasons: Readonly<Record<string, string>>;
+}
+
+export interface RoleProblem {
+  readonly role: RoleName;
+  readonly severity: 'fail' | 'warn';
+  readonly message: string;
+}
+
+const NAME_HINTS: Record<SingleRole, RegExp> = {
+  decision_id: /(^|_)(decision|event|request|impression|row|log)?_?(id|uuid|key)$/i,
+  time: /(^|_)(time|timestamp|ts|date|datetime|logged_at|created_at|at)$|_at$|time/i,
+  action: /(^|_)(action|arm|promotion|promo|item|choice|treatment|variant|offer|slot_item|banner|chosen)s?($|_)/i,
+  propensity: /(^|_)(propensity|propensities|prob|probability|pscore|p_log|logging_p|logging_prob|p)($|_)/i,
+  reward: /(^|_)(reward|click|clicked|ordered|order|conversion|converted|purchase|purchased|outcome|label|y|revenue|value|basket_value)($|_)/i,
+  policy_version: /(^|_)(policy|policy_version|model_version|version)($|_)/i,
+  target_propensity: /(^|_)target_?(propensity|prob|probability)($|_)/i,
+  propensity_vector: /(propensit|prob).*(vector|list|dist)|(vector|list|dist).*(propensit|prob)/i,
+  action_set_size: /(^|_)(action_set_size|n_actions|num_actions|n_arms|num_arms|candidates)($|_)/i,
+};
+
+const EPOCH_S = [1e8, 1e10];
+const EPOCH_MS = [1e11, 1e13];
+const EPOCH_US = [1e14, 1e16];
+
+function inRange(x: number | null, [lo, hi]: number[]): boolean {
+  return x !== null && x >= (lo as number) && x < (hi as number);
+}
+
+export function timeEncodingOf(c: ColumnProfile): TimeEncoding | null {
+  if (c.kind === 'temporal') return 'timestamp';
+  if (c.kind === 'text') return c.nonNull > 0 && c.parsedAsTime >= 0.5 * c.nonNull ? 'text' : null;
+  if (c.kind === 'numeric' && c.nonInteger === 0) {
+    if (inRange(c.min, EPOCH_S) && inRange(c.max, EPOCH_S)) return 'epoch_s';
+    if (inRange(c.min, EPOCH_MS) && inRange(c.max, EPOCH_MS)) return 'epoch_ms';
+    if (inRange(c.min, EPOCH_US) && inRange(c.max, EPOCH_US)) return 'epoch_us';
+  }
+  return null;
+}
+
+const pct = (x: number) => `${(100 * x).toFixed(x < 0.001 && x > 0 ? 3 : 1)}%`;
+
+function isProbabilityLike(c: ColumnProfile): boolean {
+  return (c.kind === 'numeric' || (c.kind === 'text' && c.parsedAsNumber > 0.9 * c.nonNull)) && c.min !== null && c.max !== null && c.min >= 0 && c.max <= 1 && c.nonBinary > 0;
+}
+
+type Candidate = RoleSuggestion;
+
+function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candidate | null {
+  const named = NAME_HINTS[role].test(c.name);
+  switch (role) {
+    case 'propensity': {
+      if (/target/i.test(c.name)) return null;
+      if (!isProbabilityLike(c)) return named && c.kind === 'numeric' ? { role, column: c.name, reason: `named like a propensity but values span [${c.min}, ${c.max}]`, confidence: 0.3 } : null;
+      return named
+        ? { role, column: c.name, reason: `named like a probability; ${c.type} values within [${c.min}, ${c.max}]`, confidence: 0.95 }
+        : { role, column: c.name, reason: `${c.type} values within [${c.min}, ${c.max}], like a probability`, confidence: 0.5 };
+    }
+    case 'target_propensity':
+      return named && isProbabilityLike(c) ? { role, column: c.name, reason: 'named like a target policy probability', confidence: 0.8 } : null;
+    case 'action': {
+      if (c.kind !== 'text' && !(c.kind === 'numeric' && c.nonInteger === 0)) return null;
+      if (c.distinct < 2 || c.distinct > 1000) return null;
+      if (named) return { role, column: c.name, reason: `named like an action; ${Math.round(c.distinct)} distinct values`, confidence: 0.9 };
+      return null;
+    }
+    case 'reward': {
+      if (c.kind !== 'numeric' && c.kind !== 'boolean') return null;
+      if (/prop|prob|id$|size|count|version/i.test(c.name)) return null;
+      const binary = c.kind === 'boolean' || (c.nonBinary === 0 && c.nonNull > 0);
+      if (named && binary) return { role, column: c.name, reason: 'named like a reward; values are 0/1', confidence: 0.95 };
+      if (named) return { role, column: c.name, reason: `named like a reward; numeric values within [${c.min}, ${c.max}]`, confidence: 0.7 };
+      if (binary) return { role, column: c.name, reason: 'values are 0/1', confidence: 0.4 };
+      return null;
+    }
+    case 'decision_id': {
+      const unique = rows > 0 && c.distinct >= 0.9 * rows;
+      if (named && unique) return { role, column: c.name, reason: `named like an identifier; about ${pct(Math.min(1, c.distinct / rows))} of values distinct`, confidence: 0.95 };
+      if (named && c.kind !== 'numeric') return { role, column: c.name, reason: 'named like an identifier', confidence: 0.5 };
+      return null;
+    }
+    case 'time': {
+      const enc = timeEncodingOf(c);
+      if (!enc) return null;
+      if (enc === 'timestamp') return { role, column: c.name, reason: `${c.type} column`, confidence: named ? 0.95 : 0.8 };
+      if (enc === 'text') return named ? { role, column: c.name, reason: `text that parses as timestamps (${pct(c.parsedAsTime / Math.max(1, c.nonNull))})`, confidence: 0.7 } : null;
+      return named ? { role, column: c.name, reason: `integers in the range of Unix ${enc === 'epoch_s' ? 'seconds' : enc === 'epoch_ms' ? 'milliseconds' : 'microseconds'}`, confidence: 0.7 } : null;
+    }
+    case 'policy_version':
+      return named && c.kind !== 'numeric' && c.distinct >= 1 && c.distinct <= 100 ? { role, column: c.name, reason: `named like a policy version; ${Math.round(c.distinct)} distinct values`, confidence: 0.8 } : null;
+    case 'propensity_vector':
+      return named && /\[\]$|^LIST|^[A-Z]+\[\d*\]$/i.test(c.type) ? { role, column: c.name, reason: 'list column named like a probability vector', confidence: 0.8 } : null;
+    case 'action_set_size':
+      return named && c.kind === 'numeric' && c.nonInteger === 0 ? { role, column: c.name, reason: 'integer column named like an action-set size', confidence: 0.7 } : null;
+  }
+}
+
+/** Suggested roles, best candidate per role, each column used at most once; then segment columns. */
+export function suggestRoles(profile: Profile): RoleSuggestion[] {
+  const taken = new Set<string>();
+  const out: RoleSuggestion[] = [];
+  const order: SingleRole[] = ['propensity', 'target_propensity', 'time', 'decision_id', 'action', 'reward', 'policy_version', 'propensity_vector', 'action_set_size'];
+  for (const role of order) {
+    const cands = profile.columns
+      .filter((c) => !taken.has(c.name))
+      .map((c) => candidatesFor(role, c, profile.rows))
+      .filter((c): c is Candidate => c !== null)
+      .sort((a, b) => b.confidence - a.confidence);
+    const best = cands[0];
+    if (best) {
+      out.push(best);
+      taken.add(best.column);
+    }
+  }
+  if (!out.some((s) => s.role === 'action')) {
+    const fallback = profile.columns
+      .filter((c) => !taken.has(c.name) && c.kind === 'text' && c.distinct >= 2 && c.distinct <= 100)
+      .sort((a, b) => a.distinct - b.distinct)
+      .pop();
+    if (fallback) {
+      out.push({ role: 'action', column: fallback.name, reason: `text column with ${Math.round(fallback.distinct)} distinct values (no column is named like an action)`, confidence: 0.3 });
+      taken.add(fallback.name);
+    }
+  }
+  for (const c of profile.columns) {
+    if (taken.has(c.name)) continue;
+    const categorical = c.kind === 'text' || c.kind === 'boolean' || (c.kind === 'numeric' && c.nonInteger === 0 && c.distinct <= 50);
+    if (categorical && c.distinct >= 2 && c.distinct <= 1000 && c.distinct < 0.5 * Math.max(1, profile.rows)) {
+      out.push({ role: 'segments', column: c.name, reason: `categorical ${c.type} with about ${Math.round(c.distinct)} distinct values`, confidence: c.distinct <= 50 ? 0.7 : 0.4 });
+    }
+  }
+  return out;
+}
+
+export class RoleError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'RoleError';
+  }
+}
+
+/** Overrides always win; otherwise the suggestion. Unknown columns in overrides are errors. */
+export function resolveRoles(profile: Profile, overrides: RoleOverrides = {}): ResolvedRoles {
+  const names = new Set(profile.columns.map((c) => c.name));
+  const check = (role: string, col: string) => {
+    if (!names.has(col)) throw new RoleError(`role ${role}: column "${col}" does not exist; columns are ${profile.columns.map((c) => `"${c.name}"`).join(', ')}`);
+  };
+  const suggestions = suggestRoles(profile);
+  const reasons: Record<string, string> = {};
+  const single: Record<string, string | null> = {};
+  const overridden = new Set<string>();
+  for (const role of SINGLE_ROLES) {
+    const o = overrides[role];
+    if (o !== undefined && o !== '') {
+      check(role, o);
+      single[role] = o;
+      reasons[role] = 'override';
+      overridden.add(o);
+    }
+  }
+  for (const role of SINGLE_ROLES) {
+    if (single[role] !== undefined) continue;
+    const s = suggestions.find((x) => x.role === role && !overridden.has(x.column));
+    single[role] = s ? s.column : null;
+    if (s) reasons[role] = s.reason;
+  }
+  let segments: string[];
+  if (overrides.segments) {
+    overrides.segments.forEach((c) => check('segments', c));
+    segments = [...overrides.segments];
+    reasons.segments = 'override';
+  } else {
+    const used = new Set(Object.values(single).filter((x): x is string => x !== null));
+    segments = suggestions.filter((s) => s.role === 'segments' && !used.has(s.column)).map((s) => s.column);
+    reasons.segments = segments.length ? 'categorical columns not used by another role' : 'no categorical columns found';
+  }
+  const timeCol = single.time ?? null;
+  const timeProfile = timeCol ? profile.columns.find((c) => c.name === timeCol) : undefined;
+  return {
+    decision_id: single.decision_id ?? null,
+    time: timeCol,
+    timeEncoding: timeProfile ? timeEncodingOf(timeProfile) : null,
+    action: single.action ?? null,
+    propensity: single.propensity ?? null,
+    reward: single.reward ?? null,
+    policy_version: single.policy_version ?? null,
+    target_propensity: single.target_propensity ?? null,
+    propensity_vector: single.propensity_vector ?? null,
+    action_set_size: single.action_set_size ?? null,
+    segments,
+    reasons,
+  };
+}
+
+/** Specific messages about the mapping; 'fail' problems stop the audit's dependent checks. */
+export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProblem[] {
+  const problems: RoleProblem[] = [];
+  const byName = new Map(profile.columns.map((c) => [c.name, c]));
+  for (const role of REQUIRED_ROLES) {
+    if (!roles[role]) problems.push({ role, severity: 'fail', message: `no ${role} column: map one with --role ${role}=COLUMN` });
+  }
+  const share = (x: number) => pct(x);
+  const p = roles.propensity ? byName.get(roles.propensity) : undefined;
+  if (p) {
+    if (p.kind === 'text') {
+      const bad = p.nonNull - p.parsedAsNumber;
+      problems.push({
+        role: 'propensity',
+        severity: bad > 0.5 * Math.max(1, p.nonNull) ? 'fail' : 'warn',
+        message: `propensity column '${p.name}' is ${p.type}; ${share(bad / Math.max(1, p.nonNull))} of values do not parse as numbers`,
+      });
+    } else if (p.kind !== 'numeric') {
+      problems.push({ role: 'propensity', severity: 'fail', message: `propensity column '${p.name}' is ${p.type}, not numeric` });
+    }
+  }
+  const r = roles.reward ? byName.get(roles.reward) : undefined;
+  if (r) {
+    if (r.kind === 'text') {
+      const bad = r.nonNull - r.parsedAsNumber;
+      problems.push({ role: 'reward', severity: bad > 0.5 * Math.max(1, r.nonNull) ? 'fail' : 'warn', message: `reward column '${r.name}' is ${r.type}; ${share(bad / Math.max(1, r.nonNull))} of values do not parse as numbers` });
+    } else if (r.kind !== 'numeric' && r.kind !== 'boolean') {
+      problems.push({ role: 'reward', severity: 'fail', message: `reward column '${r.name}' is ${r.type}, not numeric` });
+    }
+  }
+  const a = roles.action ? byName.get(roles.action) : undefined;
+  if (a && a.kind === 'other') problems.push({ role: 'action', severity: 'fail', message: `action column '${a.name}' is ${a.type}; an action must be a scalar value` });
+  if (a && a.distinct < 2) problems.push({ role: 'action', severity: 'warn', message: `action column '${a.name}' has about ${Math.round(a.distinct)} distinct value(s); a log needs at least two actions to evaluate another policy` });
+  const t = roles.time ? byName.get(roles.time) : undefined;
+  if (t && !roles.timeEncoding) problems.push({ role: 'time', severity: 'warn', message: `time column '${t.name}' (${t.type}) is neither a timestamp nor parseable text nor Unix epoch integers; time checks are skipped` });
+  for (const s of roles.segments) {
+    const c = byName.get(s);
+    if (c && c.kind === 'other') problems.push({ role: 'segments', severity: 'fail', message: `segment column '${s}' is ${c.type}; segments must be scalar values` });
+  }
+  const used = [roles.action, roles.propensity, roles.reward, roles.decision_id, roles.time].filter((x): x is string => !!x);
+  for (const s of roles.segments) if (used.includes(s)) problems.push({ role: 'segments', severity: 'fail', message: `column '${s}' is used both as a segment and as another role` });
+  if (roles.action && roles.action === roles.propensity) problems.push({ role: 'action', severity: 'fail', message: 'action and propensity are mapped to the same column' });
+  return problems;
+}

@@ -1,0 +1,118 @@
+/**
+ * Row-level SQL expressions for the mapped roles, shared by the cube, tail and example queries so
+ * that every query reads the log the same way.
+ */
+import type { ResolvedRoles } from '../roles/roles.ts';
+import { ident, literal } from '../sql/quote.ts';
+import type { ColumnProfile, Profile } from './profile.ts';
+
+export const NULL_LABEL = '(null)';
+export const OTHER_LABEL = '(other)';
+
+export interface TimeBuckets {
+  /** Bucket origin, microseconds since the Unix epoch (UTC-aligned to the width). */
+  readonly originUs: number;
+  readonly widthUs: number;
+  readonly count: number;
+  readonly label: string;
+}
+
+const HOUR_US = 3_600_000_000;
+const NAMED_WIDTHS: readonly [string, number][] = [
+  ['1h', HOUR_US],
+  ['6h', 6 * HOUR_US],
+  ['1d', 24 * HOUR_US],
+  ['7d', 7 * 24 * HOUR_US],
+  ['30d', 30 * 24 * HOUR_US],
+];
+
+export function timeUsExpr(roles: ResolvedRoles, profile: Profile): string | null {
+  if (!roles.time || !roles.timeEncoding) return null;
+  const col = ident(roles.time);
+  const type = profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() ?? '';
+  switch (roles.timeEncoding) {
+    case 'timestamp':
+      return /TIME ZONE|TIMESTAMPTZ/.test(type) ? `epoch_us(${col})` : `epoch_us(CAST(${col} AS TIMESTAMP))`;
+    case 'text':
+      return `epoch_us(TRY_CAST(${col} AS TIMESTAMP))`;
+    case 'epoch_s':
+      return `(CAST(${col} AS BIGINT) * 1000000)`;
+    case 'epoch_ms':
+      return `(CAST(${col} AS BIGINT) * 1000)`;
+    case 'epoch_us':
+      return `CAST(${col} AS BIGINT)`;
+  }
+}
+
+/** Range of the time role in microseconds, from the profile. */
+export function timeRangeUs(roles: ResolvedRoles, profile: Profile): [number, number] | null {
+  const c: ColumnProfile | undefined = profile.columns.find((x) => x.name === roles.time);
+  if (!c || !roles.timeEncoding) return null;
+  const factor = roles.timeEncoding === 'epoch_s' ? 1e6 : roles.timeEncoding === 'epoch_ms' ? 1e3 : 1;
+  if (roles.timeEncoding === 'timestamp' || roles.timeEncoding === 'text') {
+    return c.minTimeUs === null || c.maxTimeUs === null ? null : [c.minTimeUs, c.maxTimeUs];
+  }
+  return c.min === null || c.max === null ? null : [c.min * factor, c.max * factor];
+}
+
+export class BucketSettingError extends Error {}
+
+/** Smallest named width giving at most maxBuckets buckets, or the width the setting names. */
+export function chooseBuckets(range: [number, number] | null, setting: string | number, maxBuckets: number): TimeBuckets | null {
+  if (!range) return null;
+  const [lo, hi] = range;
+  let width: number | undefined;
+  let label: string;
+  if (setting === 'auto') {
+    const found = NAMED_WIDTHS.find(([, w]) => Math.floor(hi / w) - Math.floor(lo / w) + 1 <= maxBuckets);
+    [label, width] = found ?? ['custom', Math.ceil((hi - lo + 1) / maxBuckets)];
+  } else {
+    const named = NAMED_WIDTHS.find(([n]) => n === setting);
+    const seconds = typeof setting === 'number' ? setting : Number(setting);
+    if (named) [label, width] = named;
+    else if (Number.isFinite(seconds) && seconds > 0) [label, width] = [`${seconds}s`, Math.round(seconds * 1e6)];
+    else throw new BucketSettingError(`time.bucket must be 'auto', 1h, 6h, 1d, 7d, 30d or a number of seconds, got ${JSON.stringify(setting)}`);
+  }
+  const originUs = Math.floor(lo / width) * width;
+  const count = Math.floor((hi - originUs) / width) + 1;
+  return { originUs, widthUs: width, count, label };
+}
+
+export interface RowExpressions {
+  /** segment value expressions (uncapped text), in segment order */
+  readonly segments: readonly string[];
+  readonly action: string;
+  readonly propensity: string;
+  readonly reward: string;
+  readonly bucket: string;
+  readonly timeUs: string | null;
+  readonly version: string | null;
+  readonly targetPropensity: string | null;
+  readonly decisionId: string | null;
+}
+
+export function textValue(col: string): string {
+  return `coalesce(CAST(${ident(col)} AS VARCHAR), ${literal(NULL_LABEL)})`;
+}
+
+export function rowExpressions(roles: ResolvedRoles, profile: Profile, buckets: TimeBuckets | null): RowExpressions {
+  if (!roles.action || !roles.propensity || !roles.reward) throw new Error('action, propensity and reward roles are required to build row expressions');
+  const timeUs = timeUsExpr(roles, profile);
+  const rewardType = profile.columns.find((c) => c.name === roles.reward)?.kind;
+  const reward = rewardType === 'boolean' ? `CAST(CAST(${ident(roles.reward)} AS INTEGER) AS DOUBLE)` : `TRY_CAST(${ident(roles.reward)} AS DOUBLE)`;
+  return {
+    segments: roles.segments.map(textValue),
+    action: textValue(roles.action),
+    propensity: `TRY_CAST(${ident(roles.propensity)} AS DOUBLE)`,
+    reward,
+    timeUs,
+    bucket: buckets && timeUs ? `coalesce(CAST(floor((${timeUs} - ${buckets.originUs}) / ${buckets.widthUs}) AS INTEGER), -1)` : '0',
+    version: roles.policy_version ? textValue(roles.policy_version) : null,
+    targetPropensity: roles.target_propensity ? `TRY_CAST(${ident(roles.target_propensity)} AS DOUBLE)` : null,
+    decisionId: roles.decision_id ? `CAST(${ident(roles.decision_id)} AS VARCHAR)` : null,
+  };
+}
+
+/** Valid propensity: 0 < p <= 1 and not NaN (DuckDB orders NaN above every number). */
+export const VALID_P = '(p > 0 AND p <= 1 AND NOT isnan(p))';
+export const VALID_R = '(r IS NOT NULL AND isfinite(r))';

@@ -1,0 +1,70 @@
+/**
+ * Every threshold of the audit, with its default and where the default comes from (DESIGN.md §5).
+ * The report prints each one with its value, default and source.
+ */
+export interface SettingSpec {
+  readonly default: number | string;
+  readonly source: string;
+  readonly description: string;
+  readonly min?: number;
+  readonly max?: number;
+}
+
+export const SETTINGS = {
+  'identity.duplicates.fail_share': { default: 0.01, source: 'common practice', description: 'fail when duplicated rows exceed this share of rows (warn on any)', min: 0, max: 1 },
+  'time.bucket': { default: 'auto', source: 'common practice', description: "time bucket width: 'auto', or one of 1h, 6h, 1d, 7d, or a number of seconds" },
+  'time.max_buckets': { default: 60, source: 'common practice', description: "largest number of time buckets 'auto' may choose", min: 2, max: 1000 },
+  'propensity.range.fail_share': { default: 0.001, source: 'common practice', description: 'fail when invalid propensities (null, NaN, <= 0, > 1) exceed this share of rows (warn on any)', min: 0, max: 1 },
+  'propensity.exploration.top_action_share': { default: 0.99, source: 'common practice', description: 'a segment is unexplored when one action holds at least this share of its rows, or every propensity is 1', min: 0, max: 1 },
+  'propensity.exploration.min_segment_share': { default: 0.01, source: 'common practice', description: 'fail for an unexplored segment holding at least this share of rows', min: 0, max: 1 },
+  'support.floor.epsilon': { default: 0.01, source: 'common practice; clipping thresholds of this order are usual', description: 'propensity floor ε', min: 0, max: 1 },
+  'support.floor.max_share': { default: 0.01, source: 'common practice', description: 'warn when the share of rows with propensity below ε exceeds this', min: 0, max: 1 },
+  'support.target.warn': { default: 0.01, source: 'Sachdeva, Su & Joachims 2020 (deficient support); threshold common practice', description: "warn when this share of a target's probability mass falls on (segment, action) cells the log never covers", min: 0, max: 1 },
+  'support.target.fail': { default: 0.05, source: 'Sachdeva, Su & Joachims 2020 (deficient support); threshold common practice', description: 'fail above this unsupported mass', min: 0, max: 1 },
+  'balance.q': { default: 0.01, source: 'Benjamini & Hochberg 1995 (false discovery rate level)', description: 'false discovery rate for the weight-balance tests', min: 0, max: 1 },
+  'balance.min_effect': { default: 0.1, source: 'common practice', description: 'fail only when |B − 1| also exceeds this', min: 0 },
+  'weights.ess.warn_fraction': { default: 0.1, source: 'common practice', description: 'warn when ESS / n is below this', min: 0, max: 1 },
+  'weights.ess.fail_min': { default: 100, source: 'common practice', description: 'fail when the Kish effective sample size is below this', min: 0 },
+  'weights.tail.warn_khat': { default: 0.5, source: 'Vehtari, Simpson, Gelman, Yao & Gabry 2024', description: 'warn when the Pareto shape k̂ exceeds this; fail above min(1 − 1/log10 n, 0.7)' },
+  'reward.validity.warn_null': { default: 0.05, source: 'common practice', description: 'warn when the share of rows without a reward exceeds this', min: 0, max: 1 },
+  'reward.validity.fail_null': { default: 0.2, source: 'common practice', description: 'fail above this share; a time bucket above it is flagged as missing feedback', min: 0, max: 1 },
+  'drift.reward.q': { default: 0.05, source: 'Benjamini & Hochberg 1995 (false discovery rate level)', description: 'false discovery rate for the reward-drift tests', min: 0, max: 1 },
+  'drift.reward.min_relative_change': { default: 0.1, source: 'common practice', description: 'warn only when the best change point moves the mean reward by at least this fraction', min: 0 },
+  'drift.policy.q': { default: 0.05, source: 'Benjamini & Hochberg 1995 (false discovery rate level)', description: 'false discovery rate for the action-mix tests', min: 0, max: 1 },
+  'drift.policy.psi_warn': { default: 0.25, source: 'common practice (0.1 / 0.25 bands)', description: 'population stability index of the action mix, first vs last window, above which a shift is large', min: 0 },
+  'estimate.preview.max_relative_halfwidth': { default: 0.5, source: 'common practice', description: "warn when a 95% CI half-width exceeds this fraction of the logging policy's own value", min: 0 },
+  'segments.cap': { default: 50, source: 'common practice', description: 'segment columns keep their most frequent values up to this many; the rest become "(other)"', min: 1, max: 10000 },
+  'examples.per_finding': { default: 3, source: 'common practice', description: 'example rows attached to a finding', min: 0, max: 50 },
+  'examples.max_findings': { default: 40, source: 'common practice', description: 'findings that get example rows, per audit', min: 0, max: 1000 },
+} as const satisfies Record<string, SettingSpec>;
+
+export type SettingKey = keyof typeof SETTINGS;
+export type Settings = { readonly [K in SettingKey]: (typeof SETTINGS)[K]['default'] extends number ? number : string | number };
+
+export class SettingsError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'SettingsError';
+  }
+}
+
+/** Defaults overlaid with the caller's values; unknown keys and out-of-range values are errors. */
+export function resolveSettings(overrides: Readonly<Record<string, number | string | boolean>> = {}): Settings {
+  const out: Record<string, number | string> = {};
+  for (const [key, spec] of Object.entries(SETTINGS) as [SettingKey, SettingSpec][]) out[key] = spec.default;
+  for (const [key, raw] of Object.entries(overrides)) {
+    const spec = (SETTINGS as Record<string, SettingSpec>)[key];
+    if (!spec) throw new SettingsError(`unknown setting "${key}"; known settings: ${Object.keys(SETTINGS).join(', ')}`);
+    if (typeof spec.default === 'number') {
+      const value = typeof raw === 'string' && raw.trim() !== '' ? Number(raw) : raw;
+      if (typeof value !== 'number' || !Number.isFinite(value)) throw new SettingsError(`setting "${key}" must be a number, got ${JSON.stringify(raw)}`);
+      if (spec.min !== undefined && value < spec.min) throw new SettingsError(`setting "${key}" must be at least ${spec.min}, got ${value}`);
+      if (spec.max !== undefined && value > spec.max) throw new SettingsError(`setting "${key}" must be at most ${spec.max}, got ${value}`);
+      out[key] = value;
+    } else {
+      if (typeof raw === 'boolean') throw new SettingsError(`setting "${key}" must be a string or number, got ${raw}`);
+      out[key] = raw;
+    }
+  }
+  return out as unknown as Settings;
+}

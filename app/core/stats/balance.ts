@@ -1,0 +1,34 @@
+import { twoSidedNormalP } from './distributions.ts';
+import { requireCount, requireNonNegative } from './validate.ts';
+
+export interface WeightBalance {
+  /** B = (1/n) Σ_i 1[a_i = a]/p_i over all n rows of the group; E[B] = 1 when propensities are right. */
+  readonly balance: number;
+  /** Standard error of B: sample standard deviation of X_i = 1[a_i = a]/p_i (divisor n - 1) over sqrt(n). */
+  readonly se: number;
+  /** (B - 1)/SE; ±Infinity when SE = 0 and B ≠ 1 (every row gives the same X_i ≠ 1), 0 when B = 1 and SE = 0. */
+  readonly z: number;
+  readonly pValue: number;
+}
+
+/**
+ * Weight-balance test of E[1{A=a}/p(A|x)] = 1 (the identity behind IPS, Horvitz & Thompson 1952): the mean of
+ * X_i = 1[a_i = a]/p_i with the standard error of a sample mean (common practice). Inputs: n rows in the
+ * group, and Σ 1/p, Σ 1/p² over the rows whose logged action is a.
+ */
+export function weightBalance(n: number, sumInvP: number, sumInvP2: number): WeightBalance {
+  requireCount('rows in group', n);
+  requireNonNegative('sum of 1/p', sumInvP);
+  requireNonNegative('sum of 1/p²', sumInvP2);
+  if (n < 2) throw new RangeError(`weight balance needs at least 2 rows in the group, got ${n}`);
+  const balance = sumInvP / n;
+  // Σ (X_i - B)² = Σ X_i² - n B², since the rows with another action contribute X_i = 0.
+  const sumSqDev = Math.max(0, sumInvP2 - n * balance * balance);
+  const se = Math.sqrt(sumSqDev / (n - 1) / n);
+  if (se === 0) {
+    if (balance === 1) return { balance, se, z: 0, pValue: 1 };
+    return { balance, se, z: balance > 1 ? Infinity : -Infinity, pValue: 0 };
+  }
+  const z = (balance - 1) / se;
+  return { balance, se, z, pValue: twoSidedNormalP(z) };
+}

@@ -1,0 +1,231 @@
+import normalQuantile from '@stdlib/stats-base-dists-normal-quantile';
+import type { EstimatorCell } from '../cube/types.ts';
+
+/**
+ * Off-policy value estimates computed from cube sums alone (DESIGN.md §4, §5 `estimate.preview`).
+ * A row in cell (s, a) with logged propensity p has weight w = q/p, so within a cell
+ *   Σw = q·ΣinvP, Σw² = q²·ΣinvP², Σwr = q·ΣrInvP, Σw²r = q²·ΣrInvP², Σ(wr)² = q²·Σr²InvP².
+ */
+export interface Estimate {
+  readonly value: number;
+  readonly se: number;
+  /** Bounds of the two-sided 95% normal interval value ± z₀.₉₇₅·se. */
+  readonly ciLow: number;
+  readonly ciHigh: number;
+}
+
+/** Target probability of `action` in the segment `segmentKey` (the same key the cells carry). */
+export type TargetProbability = (segmentKey: string, action: string) => number;
+
+const Z_975 = normalQuantile(0.975, 0, 1);
+
+/** 80% power at two-sided α = 0.05: z₀.₉₇₅ + z₀.₈ ≈ 1.96 + 0.84 (common practice). */
+const MDD_MULTIPLIER = 2.8;
+
+/** Tolerance for a target's probabilities in one segment summing to 1 (float noise of user tables). */
+const SUM_TO_ONE_TOLERANCE = 1e-6;
+
+function withInterval(value: number, se: number): Estimate {
+  return { value, se, ciLow: value - Z_975 * se, ciHigh: value + Z_975 * se };
+}
+
+/** SE of the mean of n values from Σx and Σx² (sample sd with n − 1, over √n); round-off below 0 is clamped. */
+function seOfMean(n: number, sum: number, sumSq: number): number {
+  const variance = Math.max(0, (sumSq - (sum * sum) / n) / (n - 1));
+  return Math.sqrt(variance / n);
+}
+
+function describe(cell: EstimatorCell, index: number): string {
+  return `cell ${index} (segment ${JSON.stringify(cell.segmentKey)}, action ${JSON.stringify(cell.action)})`;
+}
+
+function checkCells(fn: string, cells: readonly EstimatorCell[]): number {
+  let rows = 0;
+  cells.forEach((cell, index) => {
+    if (!(cell.q >= 0 && cell.q <= 1)) {
+      throw new RangeError(`${fn}: ${describe(cell, index)}: q must be a probability in [0, 1], got ${cell.q}`);
+    }
+    if (!Number.isInteger(cell.n) || cell.n < 0) {
+      throw new RangeError(`${fn}: ${describe(cell, index)}: n must be a non-negative integer, got ${cell.n}`);
+    }
+    const sums = [cell.sumInvP, cell.sumInvP2, cell.sumR, cell.sumR2, cell.sumRInvP, cell.sumRInvP2, cell.sumR2InvP2];
+    if (!sums.every(Number.isFinite)) {
+      throw new RangeError(`${fn}: ${describe(cell, index)}: every sum must be a finite number`);
+    }
+    // Each row has 1/p ≥ 1, so ΣinvP ≥ n; a smaller sum means the cell was not built from valid propensities.
+    if (cell.sumInvP < cell.n * (1 - 1e-12) || cell.sumInvP2 < 0 || cell.sumR2 < 0 || cell.sumR2InvP2 < 0) {
+      throw new RangeError(`${fn}: ${describe(cell, index)}: sums are inconsistent with propensities in (0, 1]`);
+    }
+    rows += cell.n;
+  });
+  return rows;
+}
+
+function checkRowCount(fn: string, n: number): void {
+  if (!(n >= 2)) throw new RangeError(`${fn}: needs at least 2 rewarded rows to estimate a standard error, got ${n}`);
+}
+
+/**
+ * Inverse propensity scoring: V̂ = (1/n)·Σ wᵢrᵢ over the n rewarded rows, SE = sample sd of wᵢrᵢ / √n.
+ * `nTotal` counts every rewarded row of the log, so cells the target gives q = 0 may be left out.
+ * Source: Horvitz & Thompson (1952), JASA 47(260), estimator of a population total.
+ */
+export function ips(cells: readonly EstimatorCell[], nTotal: number): Estimate {
+  const rows = checkCells('ips', cells);
+  if (!Number.isInteger(nTotal)) throw new RangeError(`ips: nTotal must be an integer, got ${nTotal}`);
+  checkRowCount('ips', nTotal);
+  if (nTotal < rows) throw new RangeError(`ips: nTotal (${nTotal}) is smaller than the cells' row count (${rows})`);
+  let sumWR = 0;
+  let sumWR2 = 0;
+  for (const c of cells) {
+    sumWR += c.q * c.sumRInvP;
+    sumWR2 += c.q * c.q * c.sumR2InvP2;
+  }
+  return withInterval(sumWR / nTotal, seOfMean(nTotal, sumWR, sumWR2));
+}
+
+/**
+ * Self-normalized IPS: V̂ = Σwr / Σw. Delta-method variance of the ratio,
+ * (1/n)·mean(w²(r − V̂)²)/mean(w)² = Σw²(r − V̂)² / (Σw)², where
+ * Σw²(r − V̂)² = Σw²r² − 2V̂·Σw²r + V̂²·Σw² (so n cancels and q = 0 cells may be left out).
+ * Source: Swaminathan & Joachims (2015), NeurIPS, "The self-normalized estimator for counterfactual
+ * learning"; ratio-estimator variance as in Hesterberg (1995), Technometrics 37(2).
+ */
+export function snips(cells: readonly EstimatorCell[]): Estimate {
+  const rows = checkCells('snips', cells);
+  checkRowCount('snips', rows);
+  let sumW = 0;
+  let sumWR = 0;
+  for (const c of cells) {
+    sumW += c.q * c.sumInvP;
+    sumWR += c.q * c.sumRInvP;
+  }
+  if (!(sumW > 0)) {
+    throw new RangeError('snips: the target puts no probability on any logged (segment, action), so Σw = 0');
+  }
+  const value = sumWR / sumW;
+  let sumSquaredResidual = 0;
+  for (const c of cells) {
+    sumSquaredResidual += c.q * c.q * (c.sumR2InvP2 - 2 * value * c.sumRInvP2 + value * value * c.sumInvP2);
+  }
+  return withInterval(value, Math.sqrt(Math.max(0, sumSquaredResidual) / (sumW * sumW)));
+}
+
+interface RewardSums {
+  n: number;
+  sumR: number;
+}
+
+function addTo(map: Map<string, RewardSums>, key: string, n: number, sumR: number): void {
+  const sums = map.get(key);
+  if (sums === undefined) map.set(key, { n, sumR });
+  else {
+    sums.n += n;
+    sums.sumR += sumR;
+  }
+}
+
+const meanOf = (sums: RewardSums | undefined): number | undefined =>
+  sums !== undefined && sums.n > 0 ? sums.sumR / sums.n : undefined;
+
+/**
+ * Doubly robust estimate with a segment × action mean-reward model:
+ *   DRᵢ = D(sᵢ) + wᵢ(rᵢ − r̂(sᵢ, aᵢ)),  D(s) = Σₐ π(a|s)·r̂(s, a).
+ * r̂(s, a) is the mean reward of the logged rows in (s, a); for a pair the log never has, the action's
+ * mean over all segments, and for an action the log never has, the mean reward of the whole log.
+ * The model is fitted on the same rows (no cross-fitting), and the SE treats it as fixed.
+ *
+ * Per cell c = (s, a) with target q, model r̂ = r̂(s, a), D = D(s) and n_c rows, the row sums expand to
+ *   Σ DRᵢ  = n_c·D + q·(ΣrInvP − r̂·ΣinvP)
+ *   Σ DRᵢ² = n_c·D² + 2·D·q·(ΣrInvP − r̂·ΣinvP) + q²·(Σr²InvP² − 2·r̂·ΣrInvP² + r̂²·ΣinvP²)
+ * using Σw(r − r̂) = q(ΣrInvP − r̂ΣinvP) and Σw²(r − r̂)² = q²(Σr²InvP² − 2r̂ΣrInvP² + r̂²ΣinvP²).
+ * V̂ = mean of DRᵢ over all rows in the cells; SE = sample sd of DRᵢ / √n.
+ * Every rewarded row contributes D(sᵢ), so the cells must cover the whole log, q = 0 cells included,
+ * and `target` must give probabilities over all `actions` that sum to 1 in every segment.
+ * Source: Dudík, Langford & Li (2011), ICML, "Doubly robust policy evaluation and learning", eq. (2).
+ */
+export function doublyRobust(
+  cells: readonly EstimatorCell[],
+  target: TargetProbability,
+  actions: readonly string[],
+): Estimate {
+  const rows = checkCells('doublyRobust', cells);
+  checkRowCount('doublyRobust', rows);
+  if (actions.length === 0) throw new RangeError('doublyRobust: the action set is empty');
+  const actionSet = new Set(actions);
+  if (actionSet.size !== actions.length) throw new RangeError('doublyRobust: the action set has duplicates');
+
+  const byCell = new Map<string, RewardSums>();
+  const byAction = new Map<string, RewardSums>();
+  const cellKey = (segmentKey: string, action: string): string => JSON.stringify([segmentKey, action]);
+  let sumRAll = 0;
+  cells.forEach((c, index) => {
+    if (!actionSet.has(c.action)) {
+      throw new RangeError(`doublyRobust: ${describe(c, index)}: action is not in the action set`);
+    }
+    const q = target(c.segmentKey, c.action);
+    if (!(Math.abs(q - c.q) <= 1e-9)) {
+      throw new RangeError(`doublyRobust: ${describe(c, index)}: cell q = ${c.q} but the target gives ${q}`);
+    }
+    addTo(byCell, cellKey(c.segmentKey, c.action), c.n, c.sumR);
+    addTo(byAction, c.action, c.n, c.sumR);
+    sumRAll += c.sumR;
+  });
+  const overallMean = sumRAll / rows;
+  const model = (segmentKey: string, action: string): number =>
+    meanOf(byCell.get(cellKey(segmentKey, action))) ?? meanOf(byAction.get(action)) ?? overallMean;
+
+  const directValue = new Map<string, number>();
+  for (const segmentKey of new Set(cells.map((c) => c.segmentKey))) {
+    let d = 0;
+    let mass = 0;
+    for (const action of actions) {
+      const pi = target(segmentKey, action);
+      if (!(pi >= 0 && pi <= 1)) {
+        throw new RangeError(
+          `doublyRobust: target gives ${pi} for segment ${JSON.stringify(segmentKey)}, action ${JSON.stringify(action)}`,
+        );
+      }
+      d += pi * model(segmentKey, action);
+      mass += pi;
+    }
+    if (!(Math.abs(mass - 1) <= SUM_TO_ONE_TOLERANCE)) {
+      throw new RangeError(`doublyRobust: target probabilities sum to ${mass} in segment ${JSON.stringify(segmentKey)}`);
+    }
+    directValue.set(segmentKey, d);
+  }
+
+  let sumDR = 0;
+  let sumDR2 = 0;
+  for (const c of cells) {
+    const d = directValue.get(c.segmentKey) ?? 0;
+    const rHat = model(c.segmentKey, c.action);
+    const correction = c.q * (c.sumRInvP - rHat * c.sumInvP);
+    const correctionSq = c.q * c.q * (c.sumR2InvP2 - 2 * rHat * c.sumRInvP2 + rHat * rHat * c.sumInvP2);
+    sumDR += c.n * d + correction;
+    sumDR2 += c.n * d * d + 2 * d * correction + correctionSq;
+  }
+  return withInterval(sumDR / rows, seOfMean(rows, sumDR, sumDR2));
+}
+
+/**
+ * The logging policy's own value: mean logged reward, SE = sample sd / √n, normal 95% interval.
+ * Source: the central limit theorem for a sample mean (common practice).
+ */
+export function onPolicyValue(n: number, sumR: number, sumR2: number): Estimate {
+  if (!Number.isInteger(n)) throw new RangeError(`onPolicyValue: n must be an integer, got ${n}`);
+  checkRowCount('onPolicyValue', n);
+  if (!Number.isFinite(sumR) || !Number.isFinite(sumR2) || sumR2 < 0) {
+    throw new RangeError('onPolicyValue: Σr and Σr² must be finite, Σr² non-negative');
+  }
+  return withInterval(sumR / n, seOfMean(n, sumR, sumR2));
+}
+
+/**
+ * Smallest true difference from a fixed value that a two-sided 5% test on an estimate with this SE
+ * detects with 80% power: (z₀.₉₇₅ + z₀.₈)·SE ≈ 2.8·SE. Source: common practice (normal power formula).
+ */
+export function minimumDetectableDifference(se: number): number {
+  if (!(se >= 0) || !Number.isFinite(se)) throw new RangeError(`minimumDetectableDifference: se must be finite and ≥ 0, got ${se}`);
+  return MDD_MULTIPLIER * se;
+}

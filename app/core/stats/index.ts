@@ -1,0 +1,22 @@
+// Pure statistics of the audit core; each takes plain numbers and cites its source beside its definition.
+export { normalCdf, normalSf, normalQuantile, twoSidedNormalP, chiSquareSf, fSf } from './distributions.ts';
+export { kishEss, kishEssOf } from './ess.ts';
+export { gpdFit, psis, psisKhatFromTail, psisTailLength, paretoKThreshold } from './psis.ts';
+export type { GpdFit, GpdFitOptions, PsisResult } from './psis.ts';
+export { benjaminiHochberg } from './bh.ts';
+export type { BhResult } from './bh.ts';
+export { chiSquareHomogeneity } from './chisq.ts';
+export type { ChiSquareResult } from './chisq.ts';
+export { oneWayAnova } from './anova.ts';
+export type { AnovaResult } from './anova.ts';
+export { twoProportionZTest } from './ztest.ts';
+export type { TwoProportionZ } from './ztest.ts';
+export { populationStabilityIndex, PSI_DEFAULT_FLOOR } from './psi.ts';
+export { weightBalance } from './balance.ts';
+export type { WeightBalance } from './balance.ts';
+export { bestChangePoint } from './changepoint.ts';
+export type { ChangePoint } from './changepoint.ts';
+export { centeredSumOfSquares } from './moments.ts';
+export type { GroupMoments } from './moments.ts';
+export { cmhGeneralAssociation } from './cmh.ts';
+export type { BinaryStratum, CmhResult } from './cmh.ts';

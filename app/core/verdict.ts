@@ -1,0 +1,70 @@
+/** The verdict (DESIGN.md §5) and the per-segment readiness table. */
+import type { CheckId, CheckResult, Reason, SegmentReadiness, Verdict } from './model/report.ts';
+import { describeSegment, segmentRecord, type AuditContext } from './checks/context.ts';
+import { explorationBySegment } from './checks/propensity-exploration.ts';
+import { kishEss } from './stats/ess.ts';
+
+/** A fail in any of these makes the log unable to support the estimate. */
+export const BLOCKING: readonly CheckId[] = ['schema.roles', 'propensity.range', 'propensity.exploration', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity'];
+
+export function verdictOf(checks: readonly CheckResult[]): { verdict: Verdict; reasons: Reason[] } {
+  const reasons: Reason[] = [];
+  let blocked = false;
+  let caveats = false;
+  for (const c of checks) {
+    if (c.status === 'fail') {
+      const blocking = BLOCKING.includes(c.id);
+      blocked ||= blocking;
+      caveats ||= !blocking;
+      reasons.push({ check: c.id, status: 'fail', message: `${c.title}: ${c.summary}` });
+    } else if (c.status === 'warn') {
+      caveats = true;
+      reasons.push({ check: c.id, status: 'warn', message: `${c.title}: ${c.summary}` });
+    }
+  }
+  reasons.sort((a, b) => (a.status === b.status ? 0 : a.status === 'fail' ? -1 : 1));
+  return { verdict: blocked ? 'not-supported' : caveats ? 'supported-with-caveats' : 'supported', reasons };
+}
+
+function matches(finding: Record<string, string>, columns: readonly string[], values: readonly string[]): boolean {
+  return Object.entries(finding).every(([k, v]) => values[columns.indexOf(k)] === v);
+}
+
+export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): SegmentReadiness[] {
+  if (ctx.cells.length === 0) return [];
+  const eps = ctx.settings['support.floor.epsilon'];
+  const explored = new Map(explorationBySegment(ctx).map((e) => [e.segment.join('\u001f'), e]));
+  const drift = checks.filter((c) => c.id === 'drift.reward' || c.id === 'drift.policy' || c.id === 'balance.weights');
+  const rows = Math.max(1, ctx.view.rows);
+  return ctx.view.segments.map((s) => {
+    const e = explored.get(s.segment.join('\u001f'));
+    const ess: Record<string, number> = {};
+    for (const t of ctx.primaryTargets) {
+      const seg = t.bySegment.find((x) => x.segment.join('\u001f') === s.segment.join('\u001f'));
+      ess[t.target.name] = seg && seg.sumW2 > 0 ? kishEss(seg.sumW, seg.sumW2) : 0;
+    }
+    const flags: string[] = [];
+    for (const c of drift) {
+      for (const f of c.findings) {
+        if (f.status === 'pass' || !matches(f.segment, ctx.segmentColumns, s.segment)) continue;
+        const label = `${c.id}${f.action ? ` (${f.action})` : ''}${Object.keys(f.segment).length ? ` in ${describeSegment(f.segment)}` : ''}`;
+        if (!flags.includes(label)) flags.push(label);
+      }
+    }
+    const unexplored = e ? !e.explored : false;
+    const served = ctx.primaryTargets.some((t) => t.serves(s.segment));
+    const lowFloor = s.totals.minP !== null && s.totals.minP < eps;
+    const status = unexplored && served ? 'fail' : unexplored || lowFloor || flags.length ? 'warn' : 'pass';
+    return {
+      segment: segmentRecord(ctx.segmentColumns, s.segment),
+      rows: s.totals.n,
+      share: s.totals.n / rows,
+      explored: !unexplored,
+      top_action_share: e?.topShare ?? 0,
+      min_propensity: s.totals.minP,
+      ess,
+      drift_flags: flags.slice(0, 8),
+      status,
+    };
+  });
+}

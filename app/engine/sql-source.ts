@@ -1,0 +1,123 @@
+/**
+ * Pure builders for the SQL that exposes a log as a relation: the table-function scan
+ * (read_parquet / read_csv / read_json) and the view over it. No engine, no file system: callers say
+ * which paths are folders. Every string literal goes through quoteLiteral, every name through quoteIdentifier.
+ */
+import type { CsvOptions, SourceFormat } from './types.ts';
+import { EngineError } from './types.ts';
+
+/** SQL string literal: single quotes doubled (SQL-92 §5.3 <character string literal>). */
+export function quoteLiteral(text: string): string {
+  return `'${text.replaceAll("'", "''")}'`;
+}
+
+/** SQL delimited identifier: double quotes doubled (SQL-92 §5.2 <delimited identifier>). */
+export function quoteIdentifier(name: string): string {
+  return `"${name.replaceAll('"', '""')}"`;
+}
+
+const EXTENSION_FORMATS: readonly (readonly [string, SourceFormat])[] = [
+  ['.parquet', 'parquet'], ['.pq', 'parquet'],
+  ['.csv', 'csv'], ['.tsv', 'csv'], ['.csv.gz', 'csv'], ['.tsv.gz', 'csv'], ['.csv.zst', 'csv'],
+  ['.ndjson', 'ndjson'], ['.jsonl', 'ndjson'], ['.ndjson.gz', 'ndjson'], ['.jsonl.gz', 'ndjson'],
+];
+
+/** Part files looked for under a folder, per format. */
+const FOLDER_PATTERN: Record<SourceFormat, string> = { parquet: '**/*.parquet', csv: '**/*.csv', ndjson: '**/*.ndjson' };
+
+export function formatFromName(name: string): SourceFormat | undefined {
+  const lower = name.toLowerCase();
+  return EXTENSION_FORMATS.find(([ext]) => lower.endsWith(ext))?.[1];
+}
+
+function isTabSeparated(name: string): boolean {
+  const lower = name.toLowerCase();
+  return lower.endsWith('.tsv') || lower.endsWith('.tsv.gz');
+}
+
+export interface ScanRequest {
+  /** Files, globs or folders exactly as the engine will open them. */
+  paths: readonly string[];
+  /** Which of `paths` are folders of part files. */
+  folders?: readonly string[];
+  format?: SourceFormat;
+  csv?: CsvOptions;
+  /** Defaults to true when a folder is given (key=value directories), false otherwise. */
+  hivePartitioning?: boolean;
+}
+
+export interface Scan {
+  format: SourceFormat;
+  /** What the table function is given: files and globs, folders already turned into globs. */
+  patterns: string[];
+  sql: string;
+}
+
+function joinFolder(folder: string, pattern: string): string {
+  return `${folder.replace(/[/\\]+$/, '')}/${pattern}`;
+}
+
+export function resolveFormat(request: ScanRequest): SourceFormat {
+  if (request.paths.length === 0) throw new EngineError('io', 'No file was given for the log.');
+  if (request.format) return request.format;
+  const folders = new Set(request.folders ?? []);
+  const named = request.paths.filter((p) => !folders.has(p));
+  if (named.length === 0) return 'parquet';
+  const formats = new Set(named.map((p) => {
+    const f = formatFromName(p);
+    if (!f) throw new EngineError('unsupported-format', `Cannot tell the format of "${p}" from its name. Use a .parquet, .csv, .tsv, .csv.gz, .ndjson or .jsonl file, or choose the format.`);
+    return f;
+  }));
+  if (formats.size > 1) throw new EngineError('unsupported-format', `The files mix formats (${[...formats].join(', ')}); one log must be in a single format.`);
+  return [...formats][0] as SourceFormat;
+}
+
+export function buildScan(request: ScanRequest): Scan {
+  const format = resolveFormat(request);
+  const folders = new Set(request.folders ?? []);
+  const patterns = request.paths.map((p) => (folders.has(p) ? joinFolder(p, FOLDER_PATTERN[format]) : p));
+  const list = `[${patterns.map(quoteLiteral).join(', ')}]`;
+  let sql: string;
+  if (format === 'parquet') {
+    const hive = request.hivePartitioning ?? folders.size > 0;
+    sql = `read_parquet(${list}, hive_partitioning=${hive})`;
+  } else if (format === 'csv') {
+    const options = ['auto_detect=true'];
+    const delimiter = request.csv?.delimiter ?? (patterns.every(isTabSeparated) ? '\t' : undefined);
+    if (delimiter !== undefined) options.push(`delim=${quoteLiteral(delimiter)}`);
+    if (request.csv?.header !== undefined) options.push(`header=${request.csv.header}`);
+    sql = `read_csv(${list}, ${options.join(', ')})`;
+  } else {
+    sql = `read_json(${list}, format='newline_delimited')`;
+  }
+  return { format, patterns, sql };
+}
+
+export function relationName(sequence: number): string {
+  return quoteIdentifier(`src_${sequence}`);
+}
+
+export function createViewSql(relation: string, scanSql: string): string {
+  return `CREATE OR REPLACE VIEW ${relation} AS SELECT * FROM ${scanSql}`;
+}
+
+/** Expands the scan's patterns to the files behind them, in DuckDB's glob order. */
+export function globSql(patterns: readonly string[]): string {
+  return patterns.map((p) => `SELECT file FROM glob(${quoteLiteral(p)})`).join(' UNION ALL ');
+}
+
+/** Whether a query reads one of the registered relations (counted as a scan of the log). */
+export function readsRelation(sql: string, relations: Iterable<string>): boolean {
+  // DESCRIBE reads the schema (and, for CSV, the sniffer's sample), not the rows: it is not a scan.
+  if (/^\s*DESCRIBE\b/i.test(sql)) return false;
+  for (const relation of relations) {
+    const bare = relation.replace(/^"|"$/g, '').replaceAll('""', '"');
+    const pattern = new RegExp(`(^|[^A-Za-z0-9_])("${escapeRegExp(bare)}"|${escapeRegExp(bare)})(?![A-Za-z0-9_])`, 'i');
+    if (pattern.test(sql)) return true;
+  }
+  return false;
+}
+
+function escapeRegExp(text: string): string {
+  return text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+}

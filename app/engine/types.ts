@@ -1,0 +1,47 @@
+import type { Table } from '../core/table.ts';
+
+export type SourceFormat = 'parquet' | 'csv' | 'ndjson';
+
+/** Where a log lives. Paths are Node-side (native, host, wasm-node); `file` is a browser File handle. */
+export type SourceSpec =
+  | { kind: 'path'; paths: string[]; format?: SourceFormat; csv?: CsvOptions; hivePartitioning?: boolean }
+  | { kind: 'file'; files: File[]; format?: SourceFormat; csv?: CsvOptions };
+
+export interface CsvOptions {
+  delimiter?: string;
+  header?: boolean;
+}
+
+export interface RegisteredSource {
+  /** A quoted relation name usable in FROM, e.g. "src_1" (a view over read_parquet/read_csv). */
+  readonly relation: string;
+  readonly format: SourceFormat;
+  /** The files behind it after glob/folder expansion (as the engine sees them). */
+  readonly files: readonly string[];
+  /** The table function SQL the view wraps, for the report. */
+  readonly scanSql: string;
+}
+
+export interface QueryOptions {
+  signal?: AbortSignal;
+}
+
+export interface Engine {
+  readonly kind: 'native' | 'wasm-node' | 'wasm-browser' | 'host';
+  register(source: SourceSpec): Promise<RegisteredSource>;
+  query(sql: string, options?: QueryOptions): Promise<Table>;
+  /** Interrupts the running query, if any; the pending query rejects with EngineError code 'cancelled'. */
+  cancel(): Promise<void>;
+  /** How many queries so far read a registered source (scans of the log), for the scan budget test. */
+  readonly sourceScans: number;
+  close(): Promise<void>;
+}
+
+export type EngineErrorCode = 'cancelled' | 'sql' | 'io' | 'unsupported-format' | 'extension-unavailable' | 'out-of-memory' | 'closed' | 'internal';
+
+export class EngineError extends Error {
+  constructor(readonly code: EngineErrorCode, message: string) {
+    super(message);
+    this.name = 'EngineError';
+  }
+}

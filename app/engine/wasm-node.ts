@@ -1,0 +1,74 @@
+/**
+ * DuckDB-Wasm's Node blocking build, for tests and for checking that the Wasm path answers like native.
+ * Files are read in place: each is registered with registerFileURL(path, path, NODE_FS), and the Node
+ * runtime then opens it with fs.openSync and serves DuckDB's reads with fs.readSync into Wasm memory,
+ * range by range; nothing is copied whole into JS memory.
+ */
+import { createRequire } from 'node:module';
+import type * as DuckDBBlocking from '@duckdb/duckdb-wasm/blocking';
+import { toEngineError } from './errors.ts';
+import { foldersAmong } from './node-paths.ts';
+import { buildScan, globSql } from './sql-source.ts';
+import { EngineError } from './types.ts';
+import type { Engine, RegisteredSource, SourceSpec } from './types.ts';
+import { createWasmCore } from './wasm-core.ts';
+import type { WasmEngineOptions } from './wasm-core.ts';
+
+const require = createRequire(import.meta.url);
+
+export type WasmNodeEngineOptions = WasmEngineOptions;
+
+export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}): Promise<Engine & { readonly kind: 'wasm-node' }> {
+  const duckdb = require('@duckdb/duckdb-wasm/dist/duckdb-node-blocking.cjs') as typeof DuckDBBlocking;
+  const bundles = {
+    mvp: { mainModule: require.resolve('@duckdb/duckdb-wasm/dist/duckdb-mvp.wasm'), mainWorker: require.resolve('@duckdb/duckdb-wasm/dist/duckdb-node-mvp.worker.cjs') },
+    eh: { mainModule: require.resolve('@duckdb/duckdb-wasm/dist/duckdb-eh.wasm'), mainWorker: require.resolve('@duckdb/duckdb-wasm/dist/duckdb-node-eh.worker.cjs') },
+  };
+  let db: DuckDBBlocking.DuckDBBindings;
+  let conn: DuckDBBlocking.DuckDBConnection;
+  try {
+    db = await duckdb.createDuckDB(bundles, new duckdb.VoidLogger(), duckdb.NODE_RUNTIME);
+    await db.instantiate(() => undefined);
+    db.open({ query: { castBigIntToDouble: false, castDecimalToDouble: false, castTimestampToDate: false, castDurationToTime64: false } });
+    conn = db.connect();
+  } catch (error) {
+    throw toEngineError(error);
+  }
+  const id = conn.useUnsafe((_bindings, connectionId) => connectionId);
+
+  const core = createWasmCore({
+    kind: 'wasm-node',
+    api: {
+      start: async (sql) => db.startPendingQuery(id, sql, false),
+      poll: async () => db.pollPendingQuery(id),
+      fetch: async () => db.fetchQueryResults(id),
+      cancel: async () => { db.cancelPendingQuery(id); },
+    },
+    yieldTurn: () => new Promise((resolve) => setImmediate(resolve)),
+    close: async () => {
+      conn.close();
+      db.reset();
+    },
+  });
+  await core.run('SET autoload_known_extensions = false');
+  await core.run('SET autoinstall_known_extensions = false');
+
+  const registeredFiles = new Set<string>();
+
+  async function register(source: SourceSpec): Promise<RegisteredSource> {
+    core.ensureOpen();
+    if (source.kind !== 'path') throw new EngineError('unsupported-format', 'This engine reads files by path; use the browser engine for a picked or dropped file.');
+    const scan = buildScan({ paths: source.paths, folders: foldersAmong(source.paths), format: source.format, csv: source.csv, hivePartitioning: source.hivePartitioning });
+    await core.ensureFormat(scan.format, options);
+    const listed = await core.run(globSql(scan.patterns));
+    const files = (listed.columns[0] ?? []).map(String);
+    for (const file of files) {
+      if (registeredFiles.has(file)) continue;
+      db.registerFileURL(file, file, duckdb.DuckDBDataProtocol.NODE_FS, false);
+      registeredFiles.add(file);
+    }
+    return core.createView(scan, files, source.paths);
+  }
+
+  return { ...core.engine, kind: 'wasm-node', register, get sourceScans() { return core.engine.sourceScans; } };
+}

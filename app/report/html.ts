@@ -1,0 +1,230 @@
+/**
+ * The self-contained HTML report: one file, no network (CSP forbids scripts and every fetch), inline CSS,
+ * charts as inline SVG rendered server-side. Every value that came from a log or a report passes through
+ * the `html` template tag, which escapes it with escapeHtml.
+ */
+import type { CheckResult, Estimate, Finding, Metrics, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
+import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
+import type { ChartOption } from '../charts/types.ts';
+import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
+import { html, trustedSvg, type SafeHtml } from './html-template.ts';
+import { REPORT_CSS } from './html-style.ts';
+import { renderSvg } from './svg.ts';
+
+export const REPORT_CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'";
+
+const CHART_WIDTH = 960;
+const MAX_FINDINGS = 200;
+const MAX_SEGMENTS = 500;
+
+export interface HtmlOptions {
+  /** Chart renderer (default: ECharts SSR to SVG); tests may pass a stub. */
+  renderChart?: (option: ChartOption, width: number, height: number) => string;
+}
+
+const VERDICT_TEXT: Record<Verdict, { text: string; icon: string }> = {
+  supported: { text: 'Supported', icon: '✓' },
+  'supported-with-caveats': { text: 'Supported with caveats', icon: '!' },
+  'not-supported': { text: 'Not supported', icon: '✕' },
+};
+
+export function renderHtmlReport(report: Report, options: HtmlOptions = {}): string {
+  const chart = makeChart(options.renderChart ?? renderSvg);
+  const title = `Counterweight audit: ${report.input.files.map((f) => f.path).join(', ') || 'log'}`;
+  const body = html`
+<header>
+  <h1>Counterweight audit report</h1>
+  <p class="meta">${report.input.files.map((f) => f.path).join(', ')} · ${report.input.format} · ${fmtNumber(report.input.rows)} rows</p>
+  <p class="meta">Generated ${report.run.started_at} by ${report.tool.name} ${report.tool.version} (${report.run.engine} engine, ${fmtNumber(report.run.seconds)} s, ${fmtNumber(report.run.source_scans)} scans of the log) · report schema ${report.schema}</p>
+</header>
+${verdictSection(report)}
+${cautionsBlock(report.cautions)}
+${tocBlock(report)}
+${overviewSection(report.checks)}
+${targetsSection(report.targets, report, chart)}
+${segmentsSection(report.segments)}
+<h2 id="checks">Checks</h2>
+${report.checks.map((c) => checkSection(c, chart))}
+${settingsSection(report)}
+${rolesSection(report)}
+${inputSection(report)}
+${queriesSection(report)}
+${signoffSection(report)}
+<h2 id="cautions-end">Cautions</h2>
+${cautionsBlock(report.cautions)}
+`;
+  return `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="${REPORT_CSP}">
+<meta name="referrer" content="no-referrer">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>${html`${title}`.value}</title>
+<style>${REPORT_CSS}</style>
+</head>
+<body>
+${body.value}
+</body>
+</html>
+`;
+}
+
+type ChartFn = (option: ChartOption, height: number, caption: string) => SafeHtml;
+
+function makeChart(renderChart: NonNullable<HtmlOptions['renderChart']>): ChartFn {
+  return (option, height, caption) => {
+    let svg: SafeHtml | null;
+    try {
+      svg = trustedSvg(renderChart(option, CHART_WIDTH, height));
+    } catch (error) {
+      return html`<p class="muted">Chart “${caption}” could not be drawn: ${(error as Error).message}</p>`;
+    }
+    if (svg === null) return html`<p class="muted">Chart “${caption}” omitted: its SVG contained active content.</p>`;
+    return html`<figure class="chart" aria-label="${caption}">${svg}</figure>`;
+  };
+}
+
+function statusBadge(status: Status): SafeHtml {
+  const label = STATUS_LABELS[status];
+  return html`<span class="status status-${status}"><span aria-hidden="true">${label.icon}</span> ${label.text}</span>`;
+}
+
+function verdictSection(report: Report): SafeHtml {
+  const v = VERDICT_TEXT[report.verdict];
+  return html`
+<section class="verdict verdict-${report.verdict}" id="verdict">
+  <p class="label"><span aria-hidden="true">${v.icon}</span> Verdict: ${v.text}</p>
+  ${report.reasons.length === 0
+    ? html`<p>No check raised a warning or a failure.</p>`
+    : html`<ul>${report.reasons.map((r) => html`<li>${statusBadge(r.status)} <a href="#check-${r.check}"><code>${r.check}</code></a>: ${r.message}</li>`)}</ul>`}
+</section>`;
+}
+
+function cautionsBlock(cautions: readonly string[]): SafeHtml {
+  return html`<aside class="cautions"><strong>Before relying on this report</strong><ul>${cautions.map((c) => html`<li>${c}</li>`)}</ul></aside>`;
+}
+
+function tocBlock(report: Report): SafeHtml {
+  return html`<nav class="toc"><ol>
+<li><a href="#overview">Checks at a glance</a></li><li><a href="#targets">Targets and estimates</a></li>
+<li><a href="#segments">Segment readiness</a></li><li><a href="#checks">Checks in detail</a></li>
+<li><a href="#settings">Settings</a></li><li><a href="#roles">Column roles</a></li>
+<li><a href="#input">Input fingerprint</a></li><li><a href="#queries">Queries</a></li>
+<li><a href="#signoff">Sign-off</a>${report.signoff ? '' : ' (not signed)'}</li></ol></nav>`;
+}
+
+function overviewSection(checks: readonly CheckResult[]): SafeHtml {
+  return html`<h2 id="overview">Checks at a glance</h2>
+<table><thead><tr><th>Check</th><th>Status</th><th>Summary</th></tr></thead><tbody>
+${checks.map((c) => html`<tr><td><a href="#check-${c.id}">${c.title}</a><br><code class="small">${c.id}</code></td><td>${statusBadge(c.status)}</td><td>${c.summary}</td></tr>`)}
+</tbody></table>`;
+}
+
+function estimateCells(e: Estimate): SafeHtml {
+  return html`<td class="num">${fmtNumber(e.value)}</td><td class="num">${fmtInterval(e.ci_low, e.ci_high)}</td>`;
+}
+
+function targetsSection(targets: readonly TargetSummary[], report: Report, chart: ChartFn): SafeHtml {
+  if (targets.length === 0) return html`<h2 id="targets">Targets and estimates</h2><p class="muted">No target policy was evaluated.</p>`;
+  const onPolicy = report.checks.find((c) => c.id === 'estimate.preview')?.metrics.on_policy_value;
+  return html`<h2 id="targets">Targets and estimates</h2>
+<table><thead><tr><th>Target</th><th>ESS</th><th>ESS / n</th><th>Max weight</th><th>Top 1% weight share</th><th>k̂ (threshold)</th><th>Support deficit</th></tr></thead><tbody>
+${targets.map((t) => html`<tr><td>${t.name}<br><code class="small">${t.spec}</code></td><td class="num">${fmtNumber(t.ess)}</td><td class="num">${fmtShare(t.ess_fraction)}</td><td class="num">${fmtNumber(t.max_weight)}</td><td class="num">${fmtShare(t.top1_weight_share)}</td><td class="num">${fmtNumber(t.khat)} (${fmtNumber(t.khat_threshold)}; tail ${fmtNumber(t.tail_length)})</td><td class="num">${fmtShare(t.support_deficit)}</td></tr>`)}
+</tbody></table>
+<table><thead><tr><th rowspan="2">Target</th><th colspan="2">IPS</th><th colspan="2">SNIPS</th><th colspan="2">Doubly robust</th><th rowspan="2">Detectable difference (80% power)</th></tr>
+<tr><th>value</th><th>95% CI</th><th>value</th><th>95% CI</th><th>value</th><th>95% CI</th></tr></thead><tbody>
+${targets.map((t) => html`<tr><td>${t.name}</td>${estimateCells(t.ips)}${estimateCells(t.snips)}${estimateCells(t.dr)}<td class="num">${fmtNumber(t.detectable_difference)}</td></tr>`)}
+</tbody></table>
+${chart(estimatesOption(targets, typeof onPolicy === 'number' ? onPolicy : null), 320, 'Estimated value by target')}`;
+}
+
+function segmentsSection(segments: readonly SegmentReadiness[]): SafeHtml {
+  if (segments.length === 0) return html`<h2 id="segments">Segment readiness</h2><p class="muted">No segment columns were mapped.</p>`;
+  const essKeys = [...new Set(segments.flatMap((s) => Object.keys(s.ess)))];
+  const shown = segments.slice(0, MAX_SEGMENTS);
+  return html`<h2 id="segments">Segment readiness</h2>
+<table><thead><tr><th>Segment</th><th>Status</th><th>Rows</th><th>Share</th><th>Explored</th><th>Top action share</th><th>Min propensity</th>${essKeys.map((k) => html`<th>ESS ${k}</th>`)}<th>Drift</th></tr></thead><tbody>
+${shown.map((s) => html`<tr><td>${fmtSegment(s.segment)}</td><td>${statusBadge(s.status)}</td><td class="num">${fmtNumber(s.rows)}</td><td class="num">${fmtShare(s.share)}</td><td>${s.explored ? 'yes' : 'NO'}</td><td class="num">${fmtShare(s.top_action_share)}</td><td class="num">${fmtNumber(s.min_propensity)}</td>${essKeys.map((k) => html`<td class="num">${fmtNumber(s.ess[k])}</td>`)}<td>${s.drift_flags.join(', ') || '—'}</td></tr>`)}
+</tbody></table>
+${segments.length > shown.length ? html`<p class="muted">${segments.length - shown.length} more segments are in the JSON report.</p>` : ''}`;
+}
+
+function metricsTable(metrics: Metrics): SafeHtml {
+  const entries = Object.entries(metrics);
+  if (entries.length === 0) return html``;
+  return html`<table class="kv"><tbody>${entries.map(([k, v]) => html`<tr><td>${k}</td><td>${fmtCell(v)}</td></tr>`)}</tbody></table>`;
+}
+
+function inlineMetrics(metrics: Metrics): string {
+  return Object.entries(metrics).map(([k, v]) => `${k}=${fmtCell(v)}`).join('; ');
+}
+
+function findingRow(f: Finding): SafeHtml {
+  const examples = f.examples && f.examples.length > 0 ? f.examples : null;
+  const columns = examples ? [...new Set(examples.flatMap((r) => Object.keys(r)))] : [];
+  return html`<tr><td>${statusBadge(f.status)}</td><td>${fmtSegment(f.segment)}</td><td>${f.action ?? '—'}</td><td>${f.window ? `${f.window.from} – ${f.window.to}` : '—'}</td><td>${f.target ?? '—'}</td>
+<td>${f.message}${inlineMetrics(f.metrics) ? html`<br><span class="muted small">${inlineMetrics(f.metrics)}</span>` : ''}
+${examples ? html`<table class="small"><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${fmtCell(r[c])}</td>`)}</tr>`)}</tbody></table>` : ''}
+${f.sql ? html`<pre>${f.sql}</pre>` : ''}</td></tr>`;
+}
+
+function checkSection(check: CheckResult, chart: ChartFn): SafeHtml {
+  const findings = check.findings.slice(0, MAX_FINDINGS);
+  return html`<section class="check" id="check-${check.id}">
+<h3>${check.title} <code class="small">${check.id}</code> ${statusBadge(check.status)}</h3>
+<p>${check.summary}</p>
+${metricsTable(check.metrics)}
+${findings.length > 0 ? html`<table><thead><tr><th>Status</th><th>Segment</th><th>Action</th><th>Window</th><th>Target</th><th>Finding</th></tr></thead><tbody>${findings.map(findingRow)}</tbody></table>` : html`<p class="muted">No findings.</p>`}
+${check.findings.length > findings.length ? html`<p class="muted">${check.findings.length - findings.length} more findings are in the JSON report.</p>` : ''}
+${(check.series ?? []).map((s) => { const option = chartForSeries(s); return option ? chart(option, chartHeight(s), s.name) : html``; })}
+${check.settings_used.length ? html`<p class="muted small">Settings used: ${check.settings_used.map((k) => html`<a href="#setting-${k}"><code>${k}</code></a> `)}</p>` : ''}
+</section>`;
+}
+
+function settingsSection(report: Report): SafeHtml {
+  return html`<h2 id="settings">Settings</h2>
+<table><thead><tr><th>Setting</th><th>Value</th><th>Default</th><th>Source</th><th>Meaning</th></tr></thead><tbody>
+${Object.entries(report.settings).map(([k, s]) => html`<tr id="setting-${k}"><td><code>${k}</code></td><td class="${s.value === s.default ? '' : 'changed'}">${fmtCell(s.value)}${s.value === s.default ? '' : ' (changed)'}</td><td>${fmtCell(s.default)}</td><td>${s.source}</td><td>${s.description}</td></tr>`)}
+</tbody></table>`;
+}
+
+function rolesSection(report: Report): SafeHtml {
+  const r = report.roles;
+  const rows: [string, string | null][] = [
+    ['decision_id', r.decision_id], ['time', r.time], ['action', r.action], ['propensity', r.propensity], ['reward', r.reward],
+    ['segments', r.segments.length ? r.segments.join(', ') : null], ['policy_version', r.policy_version],
+    ['target_propensity', r.target_propensity], ['propensity_vector', r.propensity_vector], ['action_set_size', r.action_set_size],
+  ];
+  const caps = Object.entries(r.caps);
+  return html`<h2 id="roles">Column roles</h2>
+<table><thead><tr><th>Role</th><th>Column</th><th>Why</th></tr></thead><tbody>
+${rows.map(([role, col]) => html`<tr><td>${role}</td><td>${col ?? '—'}</td><td>${r.reasons[role] ?? ''}</td></tr>`)}
+</tbody></table>
+${caps.length ? html`<p>Segment columns capped to their most frequent values (the rest grouped as “(other)”): ${caps.map(([c, v]) => html`<code>${c}</code> kept ${fmtNumber(v.kept)} of ${fmtNumber(v.distinct)} values; `)}</p>` : ''}`;
+}
+
+function inputSection(report: Report): SafeHtml {
+  return html`<h2 id="input">Input fingerprint</h2>
+<p>${report.input.format} · ${fmtNumber(report.input.rows)} rows</p>
+<table><thead><tr><th>File</th><th>Bytes</th><th>SHA-256</th><th>Modified</th></tr></thead><tbody>
+${report.input.files.map((f) => html`<tr><td>${f.path}</td><td class="num">${fmtNumber(f.bytes)}</td><td><code class="small">${f.sha256}</code></td><td>${f.modified ?? '—'}</td></tr>`)}
+</tbody></table>`;
+}
+
+function queriesSection(report: Report): SafeHtml {
+  return html`<h2 id="queries">Queries</h2>
+<p class="muted">Every query the audit ran, in order; “scans the log” marks the ones that read the source.</p>
+${report.queries.map((q) => html`<h3>${q.name}${q.scans_source ? ' · scans the log' : ''}</h3><pre>${q.sql}</pre>`)}`;
+}
+
+function signoffSection(report: Report): SafeHtml {
+  const s = report.signoff;
+  if (!s) return html`<h2 id="signoff">Sign-off</h2><p>Not signed. A reviewer signs with <code>counterweight sign</code>; the sign-off is the reviewer's judgement, not the tool's.</p>`;
+  return html`<h2 id="signoff">Sign-off</h2>
+<table class="kv"><tbody>
+<tr><td>reviewer</td><td>${s.reviewer}</td></tr><tr><td>decision</td><td>${s.decision}</td></tr><tr><td>note</td><td>${s.note || '—'}</td></tr>
+<tr><td>signed at</td><td>${s.signed_at}</td></tr><tr><td>digest (SHA-256)</td><td><code class="small">${s.digest}</code></td></tr>
+<tr><td>signature</td><td>${s.signature ? html`${s.signature.algorithm}, public key <code class="small">${s.signature.public_key}</code>` : 'none (digest only)'}</td></tr>
+</tbody></table>`;
+}

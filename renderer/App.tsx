@@ -1,0 +1,109 @@
+import { useCallback, useEffect, useState } from 'react';
+import type { CheckId, Report } from '../app/core/model/report.ts';
+import { useEngine } from './engine/EngineProvider.tsx';
+import { sourceOf } from './engine/status.ts';
+import { Nav, type View } from './components/Nav.tsx';
+import { OpenScreen } from './screens/OpenScreen.tsx';
+import { RolesScreen } from './screens/RolesScreen.tsx';
+import { TargetsScreen } from './screens/TargetsScreen.tsx';
+import { RunScreen } from './screens/RunScreen.tsx';
+import { OverviewScreen } from './screens/OverviewScreen.tsx';
+import { CheckScreen } from './screens/CheckScreen.tsx';
+import { SegmentMap } from './panels/SegmentMap.tsx';
+import { WeightsPanel } from './panels/WeightsPanel.tsx';
+import { DriftPanel } from './panels/DriftPanel.tsx';
+import { EstimatesPanel } from './panels/EstimatesPanel.tsx';
+import { SignoffPanel } from './panels/SignoffPanel.tsx';
+import { draftFromSuggestions } from './state/from-suggestions.ts';
+import { EMPTY_DRAFT, type AuditDraft } from './state/draft.ts';
+import { forgetRecent, loadRecent, rememberAudit, type RecentAudit } from './state/recent.ts';
+
+export function App() {
+  const engine = useEngine();
+  const { status } = engine;
+  const [view, setView] = useState<View>({ screen: 'open' });
+  const [draft, setDraft] = useState<AuditDraft>(EMPTY_DRAFT);
+  const [report, setReport] = useState<Report | null>(null);
+  const [recent, setRecent] = useState<RecentAudit[]>(() => loadRecent());
+  const source = sourceOf(status);
+
+  useEffect(() => {
+    if (status.kind === 'ready' && view.screen === 'open') {
+      setDraft(draftFromSuggestions(status.source.suggestions));
+      setView({ screen: 'roles' });
+    } else if (status.kind === 'running') {
+      setView({ screen: 'run' });
+    } else if (status.kind === 'done') {
+      setReport(status.report);
+      if (status.source) setRecent(rememberAudit(status.source.label, status.report));
+      setView({ screen: 'overview' });
+    } else if (status.kind === 'ready' && view.screen === 'run') {
+      setView({ screen: 'targets' });
+    }
+    // Screens follow engine transitions only; a view change alone must not re-run this.
+  }, [status]);
+
+  const openCheck = useCallback((id: CheckId) => setView({ screen: 'check', id }), []);
+  const go = useCallback((next: View) => {
+    if (next.screen === 'open') engine.reset();
+    setView(next);
+  }, [engine]);
+
+  const main = (() => {
+    switch (view.screen) {
+      case 'open':
+        return <OpenScreen recent={recent} onShowReport={engine.showReport} onForgetRecent={() => { forgetRecent(); setRecent([]); }} />;
+      case 'roles':
+        return source ? <RolesScreen source={source} draft={draft} onChange={setDraft} onNext={() => setView({ screen: 'targets' })} /> : null;
+      case 'targets':
+        return source ? <TargetsScreen source={source} draft={draft} onChange={setDraft} onRun={() => engine.run(draft)} /> : null;
+      case 'run':
+        return <RunScreen onBack={() => setView({ screen: 'targets' })} />;
+      default:
+        break;
+    }
+    if (!report) return null;
+    switch (view.screen) {
+      case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} />;
+      case 'check': {
+        const check = report.checks.find((c) => c.id === view.id);
+        return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} /> : null;
+      }
+      case 'segments': return <SegmentMap report={report} />;
+      case 'weights': return <WeightsPanel report={report} onOpenCheck={openCheck} />;
+      case 'drift': return <DriftPanel report={report} onOpenCheck={openCheck} />;
+      case 'estimates': return <EstimatesPanel report={report} onOpenCheck={openCheck} />;
+      case 'signoff': return <SignoffPanel report={report} onSigned={setReport} />;
+    }
+  })();
+
+  return (
+    <div className="app">
+      <header className="app-header">
+        <a className="skip-link" href="#main">Skip to content</a>
+        <span className="brand"><Logo /> Counterweight</span>
+        <span className="tagline">decision-log audit before off-policy evaluation</span>
+        <span className="engine-mode">{engine.traits.description}</span>
+      </header>
+      <Nav view={view} onGo={go} hasSource={source !== null} hasReport={report !== null} running={status.kind === 'running'} checks={report?.checks ?? []} />
+      <main id="main" tabIndex={-1}>
+        {status.kind === 'failed' && view.screen !== 'run' && (
+          <div className="problems" role="alert"><strong>That did not work.</strong> {status.message}</div>
+        )}
+        {main}
+      </main>
+    </div>
+  );
+}
+
+function Logo() {
+  return (
+    <svg width="26" height="26" viewBox="0 0 26 26" aria-hidden="true" focusable="false">
+      <line x1="13" y1="3" x2="13" y2="23" stroke="currentColor" strokeWidth="2" />
+      <line x1="3" y1="9" x2="23" y2="7" stroke="currentColor" strokeWidth="2" />
+      <circle cx="5" cy="15" r="3.5" fill="#E69F00" />
+      <rect x="17" y="10" width="6" height="6" fill="#0072B2" />
+      <line x1="8" y1="23" x2="18" y2="23" stroke="currentColor" strokeWidth="2" />
+    </svg>
+  );
+}

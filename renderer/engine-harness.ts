@@ -1,0 +1,49 @@
+/**
+ * Test page for the browser engine: exposes window.cwEngineHarness so Playwright can register a picked
+ * file and run SQL. Results use the engine host's wire encoding so they cross page.evaluate unchanged.
+ */
+import ehWasm from '@duckdb/duckdb-wasm/dist/duckdb-eh.wasm?url';
+import ehWorker from '@duckdb/duckdb-wasm/dist/duckdb-browser-eh.worker.js?url';
+import { encodeTable } from '../app/engine/host/protocol.ts';
+import type { WireTable } from '../app/engine/host/protocol.ts';
+import { EngineError } from '../app/engine/types.ts';
+import type { RegisteredSource } from '../app/engine/types.ts';
+import { createWasmBrowserEngine } from '../app/engine/wasm-browser.ts';
+
+export type HarnessAnswer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
+
+export interface EngineHarness {
+  registerFile(file: File | File[]): Promise<HarnessAnswer<RegisteredSource>>;
+  query(sql: string): Promise<HarnessAnswer<WireTable>>;
+  sourceScans(): number;
+}
+
+declare global {
+  interface Window {
+    cwEngineHarness?: EngineHarness;
+  }
+}
+
+async function answer<T>(work: () => Promise<T>): Promise<HarnessAnswer<T>> {
+  const started = performance.now();
+  try {
+    const value = await work();
+    return { ok: true, value, ms: performance.now() - started };
+  } catch (error) {
+    const e = error instanceof EngineError ? error : new EngineError('internal', String(error));
+    return { ok: false, code: e.code, message: e.message, ms: performance.now() - started };
+  }
+}
+
+const status = document.getElementById('status') as HTMLElement;
+try {
+  const engine = await createWasmBrowserEngine({ bundles: { mainModule: ehWasm, mainWorker: ehWorker } });
+  window.cwEngineHarness = {
+    registerFile: (file) => answer(() => engine.register({ kind: 'file', files: Array.isArray(file) ? file : [file] })),
+    query: (sql) => answer(async () => encodeTable(await engine.query(sql))),
+    sourceScans: () => engine.sourceScans,
+  };
+  status.textContent = 'ready';
+} catch (error) {
+  status.textContent = `failed: ${String(error)}`;
+}

@@ -1,0 +1,53 @@
+import type { AuditBackend, LogInput } from './backend.ts';
+import { createEngineBackend } from './engine-backend.ts';
+import { detectMode, traitsOf, type PageMode } from './mode.ts';
+
+declare global {
+  interface Window {
+    readonly counterweight?: import('../../app/main/ipc-contract.ts').CounterweightApi;
+  }
+}
+
+export const DEMO_LOG_URL = '/sample-data/maple-row-demo.csv';
+/** Relative to the host's working directory (the checkout the local server was started from). */
+export const DEMO_LOG_HOST_PATH = 'sample-data/maple-row-demo.csv';
+
+export function pageMode(): PageMode {
+  return detectMode(window.location.search, window.counterweight?.kind === 'desktop');
+}
+
+/** Starts the engine this page was opened for. */
+export async function createBackend(mode: PageMode): Promise<AuditBackend> {
+  const { readsParquet } = traitsOf(mode);
+  switch (mode.kind) {
+    case 'web': {
+      const { createWasmBrowserEngine } = await import('../../app/engine/wasm-browser.ts');
+      return createEngineBackend(await createWasmBrowserEngine(), { readsParquet });
+    }
+    case 'hosted': {
+      const { connectHostEngine } = await import('./ws-transport.ts');
+      return createEngineBackend(await connectHostEngine(mode.host, mode.token), { readsParquet });
+    }
+    case 'desktop': {
+      const { desktopHostEngine } = await import('./desktop-transport.ts');
+      return createEngineBackend(await desktopHostEngine(), { readsParquet });
+    }
+  }
+}
+
+export async function demoInput(mode: PageMode): Promise<LogInput> {
+  switch (mode.kind) {
+    case 'web': {
+      const response = await fetch(DEMO_LOG_URL);
+      if (!response.ok) throw new Error(`The demo log is not available: ${DEMO_LOG_URL} answered ${response.status} ${response.statusText}.`);
+      return { kind: 'files', files: [new File([await response.blob()], 'maple-row-demo.csv', { type: 'text/csv' })] };
+    }
+    case 'hosted':
+      return { kind: 'paths', paths: [DEMO_LOG_HOST_PATH] };
+    case 'desktop': {
+      const launch = await window.counterweight?.launchLog();
+      if (launch?.source !== 'demo') throw new Error('This window was started with a log of its own; start Counterweight without a log to get the demo.');
+      return { kind: 'paths', paths: launch.paths };
+    }
+  }
+}

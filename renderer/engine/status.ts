@@ -1,0 +1,76 @@
+import type { Report, InputFile } from '../../app/core/model/report.ts';
+import type { SourceFormat } from '../../app/engine/types.ts';
+import type { RoleSuggestion } from '../../app/core/roles/roles.ts';
+import type { Profile } from '../../app/core/scan/profile.ts';
+
+export type Stage = 'profile' | 'cube' | 'tails' | 'checks';
+export const STAGES: readonly Stage[] = ['profile', 'cube', 'tails', 'checks'];
+
+/** A log registered with the engine, described enough to map its roles. */
+export interface OpenedSource {
+  readonly label: string;
+  readonly relation: string;
+  /** The table-function SQL behind the relation, recorded in the report. */
+  readonly scanSql: string;
+  readonly format: SourceFormat;
+  readonly files: readonly InputFile[];
+  /** The core's one-scan profile: rows, types, approximate distinct values per column. */
+  readonly profile: Profile;
+  readonly suggestions: readonly RoleSuggestion[];
+}
+
+/** The engine's lifecycle as one immutable value (STYLE.md §8). */
+export type EngineStatus =
+  | { readonly kind: 'idle' }
+  | { readonly kind: 'loading'; readonly message: string }
+  | { readonly kind: 'ready'; readonly source: OpenedSource }
+  | { readonly kind: 'running'; readonly source: OpenedSource; readonly stage: Stage; readonly finished: readonly Stage[] }
+  | { readonly kind: 'failed'; readonly message: string; readonly source: OpenedSource | null }
+  | { readonly kind: 'done'; readonly report: Report; readonly source: OpenedSource | null };
+
+export type StatusEvent =
+  | { readonly type: 'reset' }
+  | { readonly type: 'loading'; readonly message: string }
+  | { readonly type: 'opened'; readonly source: OpenedSource }
+  | { readonly type: 'started' }
+  | { readonly type: 'progress'; readonly stage: Stage; readonly done?: boolean }
+  | { readonly type: 'finished'; readonly report: Report }
+  | { readonly type: 'failed'; readonly message: string }
+  | { readonly type: 'cancelled' }
+  | { readonly type: 'show-report'; readonly report: Report };
+
+export const IDLE: EngineStatus = { kind: 'idle' };
+
+export function sourceOf(status: EngineStatus): OpenedSource | null {
+  return 'source' in status ? status.source : null;
+}
+
+export function nextStatus(status: EngineStatus, event: StatusEvent): EngineStatus {
+  switch (event.type) {
+    case 'reset':
+      return IDLE;
+    case 'loading':
+      return { kind: 'loading', message: event.message };
+    case 'opened':
+      return { kind: 'ready', source: event.source };
+    case 'started': {
+      const source = sourceOf(status);
+      return source ? { kind: 'running', source, stage: 'profile', finished: [] } : status;
+    }
+    case 'progress': {
+      if (status.kind !== 'running') return status;
+      const finished = event.done && !status.finished.includes(event.stage) ? [...status.finished, event.stage] : status.finished;
+      return { ...status, stage: event.stage, finished };
+    }
+    case 'finished':
+      return { kind: 'done', report: event.report, source: sourceOf(status) };
+    case 'failed':
+      return { kind: 'failed', message: event.message, source: sourceOf(status) };
+    case 'cancelled': {
+      const source = sourceOf(status);
+      return source ? { kind: 'ready', source } : IDLE;
+    }
+    case 'show-report':
+      return { kind: 'done', report: event.report, source: null };
+  }
+}

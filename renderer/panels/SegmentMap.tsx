@@ -1,0 +1,98 @@
+import { useCallback, useMemo, useState } from 'react';
+import type { Report } from '../../app/core/model/report.ts';
+import { chartForSeries, heightForSeries } from '../charts.ts';
+import { EChart } from '../components/EChart.tsx';
+import { FindingList } from '../components/FindingList.tsx';
+import { SqlBlock } from '../components/SqlBlock.tsx';
+import { formatValue } from '../format.ts';
+import { cellSql, findingsForCell, segmentForLabel, segmentHeatmaps } from './segment-cells.ts';
+import { ReadinessTable } from './ReadinessTable.tsx';
+
+interface Cell { readonly row: number; readonly col: number }
+
+export function SegmentMap({ report }: { report: Report }) {
+  const maps = useMemo(() => segmentHeatmaps(report), [report]);
+  const [which, setWhich] = useState(0);
+  const [cell, setCell] = useState<Cell | null>(null);
+  const [asTable, setAsTable] = useState(false);
+  const current = maps[which];
+  const option = useMemo(() => (current ? chartForSeries(current.series) : null), [current]);
+  const onChartClick = useCallback((data: unknown) => {
+    if (Array.isArray(data) && typeof data[0] === 'number' && typeof data[1] === 'number') setCell({ col: data[0], row: data[1] });
+  }, []);
+
+  if (!current) {
+    return (
+      <section className="screen" aria-labelledby="segments-title">
+        <h1 id="segments-title">Segment map</h1>
+        <p className="muted">This report has no segment × action map (no segment columns were mapped, or the checks that draw it were skipped).</p>
+        <ReadinessTable report={report} />
+      </section>
+    );
+  }
+  const { series } = current;
+  const ys = series.y ?? [];
+  const rowLabel = cell ? String(ys[cell.row] ?? '') : '';
+  const action = cell ? String(series.x[cell.col] ?? '') : '';
+  const segment = cell ? segmentForLabel(report, rowLabel) : null;
+  const findings = cell ? findingsForCell(report, segment, rowLabel, action) : [];
+  const sql = cell ? cellSql(report, segment, action) : null;
+
+  return (
+    <section className="screen" aria-labelledby="segments-title">
+      <h1 id="segments-title">Segment map</h1>
+      <p className="lead">Segments down the side, actions across. Choose a cell to see what the checks found there and the SQL that selects its rows.</p>
+      <div className="toolbar" role="group" aria-label="Map to show">
+        {maps.map((m, i) => (
+          <button key={`${m.check}-${m.series.name}`} type="button" className={`button small${i === which ? ' selected' : ''}`} aria-pressed={i === which} onClick={() => { setWhich(i); setCell(null); }}>
+            {m.series.name}
+          </button>
+        ))}
+        <button type="button" className="button small link" onClick={() => setAsTable(!asTable)}>{asTable ? 'Show as chart' : 'Show as table (keyboard)'}</button>
+      </div>
+
+      <div className="map-layout">
+        <div className="map">
+          {option && !asTable ? (
+            <EChart option={option} label={`${series.name}: segments by actions`} height={heightForSeries(series)} onCellClick={onChartClick} />
+          ) : (
+            <div className="table-scroll">
+              <table className="heat-table">
+                <caption>{series.name}{series.unit ? ` (${series.unit})` : ''}</caption>
+                <thead><tr><th scope="col">Segment</th>{series.x.map((x) => <th key={String(x)} scope="col">{x}</th>)}</tr></thead>
+                <tbody>
+                  {series.values.map((row, i) => (
+                    <tr key={i}>
+                      <th scope="row">{ys[i]}</th>
+                      {row.map((v, j) => (
+                        <td key={j}>
+                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${formatValue(v)}`}>
+                            {formatValue(v)}
+                          </button>
+                        </td>
+                      ))}
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+            </div>
+          )}
+        </div>
+        <aside className="cell-detail card" aria-live="polite" aria-label="Selected cell">
+          {cell ? (
+            <>
+              <h2>{rowLabel} · {action}</h2>
+              <p>{series.name}: <strong>{formatValue(series.values[cell.row]?.[cell.col])}</strong>{series.unit ? ` ${series.unit}` : ''}</p>
+              {sql && <SqlBlock sql={sql} label="SQL that selects this cell's rows (name your log “log”)" />}
+              <h3>Findings here ({findings.length})</h3>
+              {findings.length === 0 ? <p className="muted">No check reported a finding for this cell.</p> : (
+                findings.map((f, i) => <div key={i}><p className="muted"><code>{f.check}</code> {f.title}</p><FindingList findings={[f.finding]} /></div>)
+              )}
+            </>
+          ) : <p className="muted">No cell chosen yet.</p>}
+        </aside>
+      </div>
+      <ReadinessTable report={report} />
+    </section>
+  );
+}

@@ -1,0 +1,42 @@
+import type { CheckId, Report } from '../../app/core/model/report.ts';
+import { formatShare, formatValue } from '../format.ts';
+import { CheckSection } from './CheckSection.tsx';
+
+export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
+  return (
+    <section className="screen" aria-labelledby="weights-title">
+      <h1 id="weights-title">Weights and support</h1>
+      <p className="lead">
+        How much of the log each target policy can use. An importance weight is the target's probability of the
+        logged action divided by the logging propensity; a few huge weights mean few rows really count.
+      </p>
+      <div className="table-scroll">
+        <table className="targets-table">
+          <caption>Target policies</caption>
+          <thead>
+            <tr>
+              <th scope="col">Target</th><th scope="col">Effective sample size</th><th scope="col">ESS / rows</th><th scope="col">Largest weight</th>
+              <th scope="col">Weight held by top 1% of rows</th><th scope="col">Pareto k̂ (limit)</th><th scope="col">Mass on unlogged cells</th>
+            </tr>
+          </thead>
+          <tbody>
+            {report.targets.map((t) => (
+              <tr key={t.name}>
+                <th scope="row">{t.name}<div className="muted"><code>{t.spec}</code></div></th>
+                <td>{formatValue(t.ess)}</td>
+                <td>{formatShare(t.ess_fraction)}</td>
+                <td>{formatValue(t.max_weight)}</td>
+                <td>{formatShare(t.top1_weight_share)}</td>
+                <td>{formatValue(t.khat)} ({formatValue(t.khat_threshold)})</td>
+                <td>{formatShare(t.support_deficit)}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </div>
+      {(['weights.ess', 'weights.tail', 'support.target', 'support.floor', 'balance.weights'] as const).map((id) => (
+        <CheckSection key={id} report={report} id={id} onOpenCheck={onOpenCheck} />
+      ))}
+    </section>
+  );
+}

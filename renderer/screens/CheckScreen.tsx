@@ -1,0 +1,24 @@
+import type { CheckResult } from '../../app/core/model/report.ts';
+import { FindingList } from '../components/FindingList.tsx';
+import { MetricsTable } from '../components/MetricsTable.tsx';
+import { SeriesView } from '../components/SeriesView.tsx';
+import { StatusBadge } from '../components/StatusBadge.tsx';
+
+export function CheckScreen({ check, onBack }: { check: CheckResult; onBack: () => void }) {
+  return (
+    <section aria-labelledby="check-title" className="screen">
+      <button type="button" className="button link" onClick={onBack}>← Overview</button>
+      <h1 id="check-title">{check.title} <StatusBadge status={check.status} /></h1>
+      <p className="lead"><code>{check.id}</code> — {check.summary}</p>
+      <div className="detail-grid">
+        <MetricsTable metrics={check.metrics} caption="Numbers behind the status" />
+        {check.settings_used.length > 0 && (
+          <div className="card"><h2>Settings used</h2><ul className="plain">{check.settings_used.map((s) => <li key={s}><code>{s}</code></li>)}</ul></div>
+        )}
+      </div>
+      {(check.series ?? []).map((s) => <SeriesView key={s.name} series={s} />)}
+      <h2>Findings ({check.findings.length})</h2>
+      <FindingList findings={check.findings} />
+    </section>
+  );
+}

@@ -1,0 +1,82 @@
+/** What the user has chosen for the next audit: roles, target policies, settings overrides. */
+import { REQUIRED_ROLES, resolveRoles, SINGLE_ROLES, validateRoles, type SingleRole } from '../../app/core/roles/roles.ts';
+import type { Profile } from '../../app/core/scan/profile.ts';
+
+export { REQUIRED_ROLES, SINGLE_ROLES, type SingleRole };
+
+export const ROLE_LABELS: Record<SingleRole, { label: string; help: string }> = {
+  decision_id: { label: 'Decision id', help: 'One value per logged decision; used to find retried writes.' },
+  time: { label: 'Time', help: 'When the decision was made; used for coverage and drift over time.' },
+  action: { label: 'Action', help: 'What the logging policy chose.' },
+  propensity: { label: 'Propensity', help: 'Probability with which the logging policy chose the logged action.' },
+  reward: { label: 'Reward', help: 'The outcome observed after the decision.' },
+  policy_version: { label: 'Policy version', help: 'Which version of the logging policy was live.' },
+  target_propensity: { label: 'Target propensity', help: 'A candidate policy\'s probability of the logged action, if you computed it.' },
+  propensity_vector: { label: 'Propensity vector', help: 'The full logging distribution as a list column.' },
+  action_set_size: { label: 'Action set size', help: 'How many actions were eligible for this decision.' },
+};
+
+export interface TargetDraft {
+  readonly spec: string;
+  readonly tableText?: string;
+  /** For a table target: the file name the text came from. */
+  readonly fileName?: string;
+}
+
+export interface AuditDraft {
+  readonly roles: Partial<Record<SingleRole, string>>;
+  readonly segments: readonly string[];
+  readonly targets: readonly TargetDraft[];
+  readonly settings: Readonly<Record<string, number | string | boolean>>;
+}
+
+export const EMPTY_DRAFT: AuditDraft = { roles: {}, segments: [], targets: [], settings: {} };
+
+export function missingRequiredRoles(draft: AuditDraft): SingleRole[] {
+  return REQUIRED_ROLES.filter((r) => !draft.roles[r]);
+}
+
+export interface DraftProblem {
+  readonly severity: 'fail' | 'warn';
+  readonly message: string;
+}
+
+/** Problems with a mapping: ours in plain words for missing or reused columns, then the core's type checks. */
+export function roleProblems(draft: AuditDraft, profile: Profile): DraftProblem[] {
+  const own = basicRoleProblems(draft).map((message) => ({ severity: 'fail' as const, message }));
+  if (own.length > 0) return own;
+  try {
+    const resolved = resolveRoles(profile, { ...draft.roles, segments: draft.segments });
+    return validateRoles(profile, resolved).map((p) => ({ severity: p.severity, message: p.message }));
+  } catch (error) {
+    return [{ severity: 'fail', message: error instanceof Error ? error.message : String(error) }];
+  }
+}
+
+function basicRoleProblems(draft: AuditDraft): string[] {
+  const problems = missingRequiredRoles(draft).map((r) => `Choose a column for ${ROLE_LABELS[r].label.toLowerCase()}: the audit cannot run without it.`);
+  const used = new Map<string, string[]>();
+  for (const role of SINGLE_ROLES) {
+    const col = draft.roles[role];
+    if (col) used.set(col, [...(used.get(col) ?? []), ROLE_LABELS[role].label.toLowerCase()]);
+  }
+  for (const [col, roles] of used) if (roles.length > 1) problems.push(`Column "${col}" is used for ${roles.join(' and ')}; each column can play one role.`);
+  for (const seg of draft.segments) {
+    const role = [...used.entries()].find(([c]) => c === seg)?.[1];
+    if (role) problems.push(`Column "${seg}" is both a segment and the ${role.join(', ')} column.`);
+  }
+  return problems;
+}
+
+export function targetProblems(targets: readonly TargetDraft[]): string[] {
+  const problems: string[] = [];
+  const seen = new Set<string>();
+  for (const t of targets) {
+    if (seen.has(t.spec)) problems.push(`The target ${t.spec} is listed twice.`);
+    seen.add(t.spec);
+    if (t.spec === 'always:') problems.push('An "always" target needs an action.');
+    if (t.spec.startsWith('table:') && !t.tableText) problems.push(`The table target ${t.spec} has no file contents.`);
+    if (t.spec === 'column:') problems.push('A column target needs a column.');
+  }
+  return problems;
+}

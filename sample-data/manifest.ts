@@ -1,0 +1,141 @@
+/** The manifest written beside each sample log: how it was made and every defect planted in it. */
+import type { LogKind, LogTally } from './log.ts';
+import { DEMO_PLAN, LOG_COLUMNS } from './log.ts';
+import { DEMO_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8 } from './policy.ts';
+import { DAYS, DEVICES, END_MS, PROMOTIONS, REGIONS, START_MS, TENURES, V8_FROM_MS } from './scenario.ts';
+
+export interface PlantedDefect {
+  /** The check (DESIGN.md §5) that should detect it. */
+  kind: string;
+  /** Other checks expected to notice it too. */
+  also_detected_by: string[];
+  segment: Record<string, string>;
+  action?: string;
+  window?: { from: string; to: string };
+  magnitude: Record<string, number | Record<string, number>>;
+  rows_affected: number;
+  description: string;
+}
+
+export interface SampleManifest {
+  schema: 'counterweight.sample-manifest/1';
+  scenario: 'Maple Row Market';
+  log: LogKind;
+  generator: { seed: number; decisions: number; rows: number; prng: string; probability_units: number };
+  columns: { name: string; type: string }[];
+  time: { start: string; end: string; days: number; day_numbering: string };
+  policy_versions: { version: string; from: string; to: string; softmax_scale: number; epsilon: number }[];
+  policy_switch_at: string;
+  defects: PlantedDefect[];
+}
+
+const iso = (ms: number): string => new Date(ms).toISOString();
+/** Six significant digits keeps the manifest readable; the tests compare against the data with tolerances. */
+const round6 = (x: number): number => Number(x.toPrecision(6));
+
+export function buildManifest(kind: LogKind, seed: number, tally: LogTally): SampleManifest {
+  return {
+    schema: 'counterweight.sample-manifest/1',
+    scenario: 'Maple Row Market',
+    log: kind,
+    generator: {
+      seed, decisions: tally.decisions, rows: tally.rows,
+      prng: 'xoshiro128** 1.1 seeded through mulberry32', probability_units: PROBABILITY_UNITS,
+    },
+    columns: LOG_COLUMNS.map((c) => ({ ...c })),
+    time: {
+      start: iso(START_MS), end: iso(END_MS), days: DAYS,
+      day_numbering: 'day d (1-based) covers [start + (d-1)*24h, start + d*24h); windows are half-open [from, to)',
+    },
+    policy_versions: [
+      { version: V7.version, from: iso(START_MS), to: iso(V8_FROM_MS), softmax_scale: V7.scale, epsilon: V7.epsilon },
+      { version: V8.version, from: iso(V8_FROM_MS), to: iso(END_MS), softmax_scale: V8.scale, epsilon: V8.epsilon },
+    ],
+    policy_switch_at: iso(V8_FROM_MS),
+    defects: kind === 'demo' ? demoDefects(tally) : [],
+  };
+}
+
+function demoDefects(t: LogTally): PlantedDefect[] {
+  const share = (rows: number): number => round6(rows / t.rows);
+  const greedy = DEMO_POLICY_DEFECTS.greedy!;
+  const floor = DEMO_POLICY_DEFECTS.floor!;
+  const p = DEMO_PLAN;
+  const rateBefore = t.driftBefore.ordered / t.driftBefore.rows;
+  const rateAfter = t.driftAfter.ordered / t.driftAfter.rows;
+  const balance = Object.fromEntries(PROMOTIONS.map((name, a) => [name, round6(t.staleInverseSums[a]! / t.staleRows)]));
+  return [
+    {
+      kind: 'propensity.exploration', also_detected_by: ['support.target'],
+      segment: { region: REGIONS[greedy.region]!, device: DEVICES[greedy.device]! },
+      action: PROMOTIONS[greedy.action]!,
+      magnitude: { propensity: 1, share_of_rows: share(t.greedyRows) },
+      rows_affected: t.greedyRows,
+      description: 'The policy is greedy in old-town on web for the whole log (both versions, every tenure and hour): '
+        + 'it always shows free-delivery and logs propensity 1, so no other promotion is ever observed there.',
+    },
+    {
+      kind: 'propensity.range', also_detected_by: [],
+      segment: { device: DEVICES[p.rangeDevice]! },
+      window: { from: iso(p.rangeFromMs), to: iso(p.rangeToMs) },
+      magnitude: {
+        null_rows: t.rangeNullRows, zero_rows: t.rangeZeroRows, null_share_within: round6(t.rangeNullRows / t.rangeRows),
+        share_of_rows: share(t.rangeRows),
+      },
+      rows_affected: t.rangeRows,
+      description: 'On days 9-10 every android row lost its propensity: about 70% are logged NULL and the rest 0. '
+        + 'Actions and rewards on those rows were drawn normally.',
+    },
+    {
+      kind: 'balance.weights', also_detected_by: ['drift.policy'],
+      segment: { region: REGIONS[p.staleRegion]! },
+      window: { from: iso(V8_FROM_MS), to: iso(END_MS) },
+      magnitude: { share_of_rows: share(t.staleRows), balance_by_action: balance },
+      rows_affected: t.staleRows,
+      description: 'In riverside after the v8 rollout, actions are drawn from v8 and policy_version says v8, but the logged '
+        + 'propensity is v7\'s probability of the drawn action (same segment and hour). balance_by_action is '
+        + '(1/n) * sum 1{A=a}/p over these rows; it would be 1 for every promotion if the propensities were right.',
+    },
+    {
+      kind: 'drift.reward', also_detected_by: [],
+      segment: { tenure: TENURES[p.driftTenure]! },
+      window: { from: iso(p.driftFromMs), to: iso(END_MS) },
+      magnitude: { factor: p.driftFactor, ordered_rate_before: round6(rateBefore), ordered_rate_after: round6(rateAfter) },
+      rows_affected: t.driftRows,
+      description: 'From day 21, P(ordered) is halved for lapsed customers under every promotion (the policy is unchanged). '
+        + 'Rates are over rows with an observed reward; rows_affected counts lapsed rows from day 21 whose reward is not missing.',
+    },
+    {
+      kind: 'identity.duplicates', also_detected_by: [],
+      segment: {},
+      magnitude: {
+        duplicated_ids: t.duplicateRows, extra_rows: t.duplicateRows,
+        share_of_ids: round6(t.duplicateRows / t.decisions), share_of_rows: share(t.duplicateRows),
+      },
+      rows_affected: t.duplicateRows,
+      description: 'Retried writes: round(0.3% of decisions) decisions, chosen uniformly, were written twice. The second row '
+        + 'is an exact copy of the first (same decision_id, logged_at and every other column) and follows it directly in '
+        + 'file order. rows_affected counts the extra copies.',
+    },
+    {
+      kind: 'reward.validity', also_detected_by: ['drift.reward'],
+      segment: {},
+      window: { from: iso(p.missingRewardFromMs), to: iso(END_MS) },
+      magnitude: { hours: 36, share_of_rows: share(t.missingRewardRows) },
+      rows_affected: t.missingRewardRows,
+      description: 'Feedback for the last 36 hours has not arrived: ordered and basket_value are NULL on every row from '
+        + 'the window start.',
+    },
+    {
+      kind: 'support.floor', also_detected_by: ['weights.tail'],
+      segment: { tenure: TENURES[floor.tenure]! },
+      action: PROMOTIONS[floor.action]!,
+      magnitude: { propensity: floor.probability, floor: 0.01, share_of_rows: share(t.floorRows), share_of_cell_under_floor: 1 },
+      rows_affected: t.floorRows,
+      description: 'Both policy versions give household exactly 0.002 among new customers (the other promotions share the '
+        + 'remaining 0.998 in softmax proportion) and log it correctly; old-town on web is excluded because the policy is '
+        + 'greedy there. rows_affected counts logged rows with tenure=new, promotion=household and propensity 0.002 '
+        + '(rows of android on days 9-10 carry NULL/0 instead).',
+    },
+  ];
+}

@@ -1,0 +1,92 @@
+/**
+ * The audit on the demo and clean logs. Outside reference: the generator's manifest of planted
+ * defects (sample-data/maple-row-demo.manifest.json), which the generator derives from its own
+ * seeded draws, not from the audit; and the JSON Schema of the report contract.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Report } from '../../app/core/model/report.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
+import type { Engine } from '../../app/engine/types.ts';
+import { validateReport } from '../../app/report/json.ts';
+import { auditFile, SAMPLE, v9Target } from './audit-helpers.ts';
+import { matchingFindings, readManifest } from './manifest.ts';
+
+let engine: Engine;
+let demo: Report;
+let demoDefault: Report;
+let clean: Report;
+let demoScans = 0;
+
+beforeAll(async () => {
+  engine = await createNativeEngine();
+  const before = engine.sourceScans;
+  demo = await auditFile(engine, `${SAMPLE}maple-row-demo.parquet`, { targets: [v9Target()] });
+  demoScans = engine.sourceScans - before;
+  demoDefault = await auditFile(engine, `${SAMPLE}maple-row-demo.parquet`);
+  clean = await auditFile(engine, `${SAMPLE}maple-row-clean.parquet`, { targets: [v9Target()] });
+});
+afterAll(async () => engine?.close());
+
+describe('demo log', () => {
+  const manifest = readManifest(`${SAMPLE}maple-row-demo.manifest.json`);
+
+  it('is not supported', () => {
+    expect(demo.verdict).toBe('not-supported');
+    expect(demoDefault.verdict).toBe('not-supported');
+  });
+
+  it.each(manifest.defects.map((d) => [d.kind, d] as const))('reports the planted %s defect where it was planted', (_kind, defect) => {
+    const found = matchingFindings(demo, defect);
+    expect(found, `${defect.kind} at ${JSON.stringify(defect.segment)} ${defect.action ?? ''} ${JSON.stringify(defect.window ?? {})}: ${defect.description}`).not.toHaveLength(0);
+  });
+
+  it('counts planted duplicates and invalid propensities exactly', () => {
+    const dup = manifest.defects.find((d) => d.kind === 'identity.duplicates')!;
+    const range = manifest.defects.find((d) => d.kind === 'propensity.range')!;
+    expect(demo.checks.find((c) => c.id === 'identity.duplicates')!.metrics.extra_rows).toBe(dup.magnitude.extra_rows);
+    expect(demo.checks.find((c) => c.id === 'propensity.range')!.metrics.invalid_rows).toBe(range.rows_affected);
+  });
+
+  it('attaches example rows and re-runnable SQL to findings', async () => {
+    const f = demo.checks.find((c) => c.id === 'propensity.range')!.findings[0]!;
+    expect(f.examples?.length).toBeGreaterThan(0);
+    expect(f.examples!.every((r) => r.device === 'android' && (r.propensity === null || r.propensity === 0))).toBe(true);
+    const rows = await engine.query(`SELECT count(*)::DOUBLE AS n FROM (${f.sql})`);
+    expect(rows.columns[0]![0]).toBe(f.metrics.invalid_rows);
+  });
+
+  it('scans the source at most 4 times plus once per target', () => {
+    expect(demo.run.source_scans).toBe(demoScans);
+    expect(demoScans).toBeLessThanOrEqual(4 + demo.targets.length);
+  });
+
+  it('reports uniform and every always:<action> target when none is given', () => {
+    expect(demoDefault.targets.map((t) => t.name)).toEqual(['uniform', ...['bakery', 'free-delivery', 'household', 'no-banner', 'pantry-restock', 'produce-box', 'recipe-kit'].map((a) => `always:${a}`)]);
+  });
+});
+
+describe('clean log', () => {
+  it('is supported with no failing or warning check', () => {
+    expect(clean.checks.filter((c) => c.status === 'fail' || c.status === 'warn').map((c) => `${c.id}: ${c.summary}`)).toEqual([]);
+    expect(clean.verdict).toBe('supported');
+  });
+
+  it('the doubly robust, SNIPS and IPS intervals of the v9 target overlap', () => {
+    const t = clean.targets[0]!;
+    expect(t.ips.ci_low!).toBeLessThan(t.snips.ci_high!);
+    expect(t.dr.ci_low!).toBeLessThan(t.snips.ci_high!);
+    expect(t.snips.ci_low!).toBeLessThan(t.dr.ci_high!);
+  });
+});
+
+describe('report contract', () => {
+  it.each([['demo', () => demo], ['demo, default targets', () => demoDefault], ['clean', () => clean]] as const)('the %s report validates against the JSON Schema', (_n, get) => {
+    const v = validateReport(get());
+    expect(v.errors).toEqual([]);
+    expect(v.ok).toBe(true);
+  });
+
+  it('keeps the SQL of every query it ran', () => {
+    expect(demo.queries.map((q) => q.name)).toEqual(expect.arrayContaining(['describe', 'profile', 'cube', 'duplicates', 'examples']));
+  });
+});

@@ -1,0 +1,118 @@
+import { describe, expect, it } from 'vitest';
+import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../renderer/engine/status.ts';
+import { chooseFormat } from '../../renderer/engine/source-files.ts';
+import { detectMode } from '../../renderer/engine/mode.ts';
+import { targetProblems } from '../../renderer/state/draft.ts';
+import { loadRecent, rememberAudit } from '../../renderer/state/recent.ts';
+import type { Report } from '../../app/core/model/report.ts';
+
+const source = { label: 'log.csv', relation: '"src_1"', scanSql: '', format: 'csv', files: [], profile: { rows: 3, columns: [] }, suggestions: [] } as OpenedSource;
+
+describe('engine status value', () => {
+  it('walks open -> run -> progress -> done and keeps the source', () => {
+    let s: EngineStatus = nextStatus(IDLE, { type: 'opened', source });
+    s = nextStatus(s, { type: 'started' });
+    expect(s).toMatchObject({ kind: 'running', stage: 'profile', finished: [] });
+    s = nextStatus(s, { type: 'progress', stage: 'profile', done: true });
+    s = nextStatus(s, { type: 'progress', stage: 'cube' });
+    expect(s).toMatchObject({ kind: 'running', stage: 'cube', finished: ['profile'] });
+    const report = { verdict: 'supported' } as Report;
+    s = nextStatus(s, { type: 'finished', report });
+    expect(s).toEqual({ kind: 'done', report, source });
+  });
+
+  it('returns to ready with the same source when a run is cancelled', () => {
+    const running = nextStatus(nextStatus(IDLE, { type: 'opened', source }), { type: 'started' });
+    expect(nextStatus(running, { type: 'cancelled' })).toEqual({ kind: 'ready', source });
+  });
+
+  it('does not start a run without an opened source', () => {
+    expect(nextStatus(IDLE, { type: 'started' })).toBe(IDLE);
+  });
+
+  it('ignores progress that arrives after the run ended', () => {
+    const ready = nextStatus(IDLE, { type: 'opened', source });
+    expect(nextStatus(ready, { type: 'progress', stage: 'tails' })).toBe(ready);
+  });
+});
+
+describe('choosing a log format from file names', () => {
+  it.each([
+    [['a.csv', 'b.CSV'], { format: 'csv' }],
+    [['part-0.tsv'], { format: 'csv', csv: { delimiter: '\t', header: true } }],
+    [['x.ndjson', 'y.jsonl'], { format: 'ndjson' }],
+    [['log.parquet'], { format: 'parquet' }],
+  ])('%j', (names, expected) => {
+    expect(chooseFormat(names)).toMatchObject(expected);
+  });
+
+  it.each([
+    [[], /at least one/],
+    [['notes.txt'], /cannot tell the format of notes\.txt/],
+    [['a.csv', 'b.parquet'], /share one format; b\.parquet/],
+    [['a.csv', 'b.tsv'], /share one format; b\.tsv/],
+  ])('refuses %j with a reason', (names, message) => {
+    const result = chooseFormat(names);
+    expect('error' in result && result.error).toMatch(message);
+  });
+});
+
+describe('page mode', () => {
+  it.each([
+    ['', false, 'web'],
+    ['?host=ws://127.0.0.1:5178/engine&token=abc', false, 'hosted'],
+    ['?host=http://evil&token=abc', false, 'web'],
+    ['?host=ws://127.0.0.1:5178/engine', false, 'web'],
+    ['?host=ws://127.0.0.1:5178/engine&token=abc', true, 'desktop'],
+  ])('%s (bridge %s) is %s', (search, bridge, kind) => {
+    expect(detectMode(search, bridge).kind).toBe(kind);
+  });
+});
+
+describe('target list problems', () => {
+  it('names duplicates, an empty always target and a table without contents', () => {
+    const problems = targetProblems([{ spec: 'uniform' }, { spec: 'uniform' }, { spec: 'always:' }, { spec: 'table:v9.csv' }]);
+    expect(problems).toEqual([
+      'The target uniform is listed twice.',
+      'An "always" target needs an action.',
+      'The table target table:v9.csv has no file contents.',
+    ]);
+  });
+});
+
+class MemoryStorage {
+  private items = new Map<string, string>();
+  constructor(private readonly quota = Infinity) {}
+  get length() { return this.items.size; }
+  clear() { this.items.clear(); }
+  getItem(k: string) { return this.items.get(k) ?? null; }
+  key(i: number) { return [...this.items.keys()][i] ?? null; }
+  removeItem(k: string) { this.items.delete(k); }
+  setItem(k: string, v: string) { if (v.length > this.quota) throw new Error('QuotaExceededError'); this.items.set(k, v); }
+}
+
+describe('recent audits', () => {
+  const report = (at: string, big = 0) => ({ verdict: 'not-supported', run: { started_at: at }, input: { rows: 10 }, pad: 'x'.repeat(big) }) as unknown as Report;
+
+  it('lists newest first without duplicates', () => {
+    const storage = new MemoryStorage() as unknown as Storage;
+    rememberAudit('a.csv', report('2026-01-01T00:00:00Z'), storage);
+    rememberAudit('b.csv', report('2026-01-02T00:00:00Z'), storage);
+    rememberAudit('a.csv', report('2026-01-01T00:00:00Z'), storage);
+    expect(loadRecent(storage).map((r) => r.label)).toEqual(['a.csv', 'b.csv']);
+  });
+
+  it('drops stored reports of older entries instead of failing when the quota is reached', () => {
+    const storage = new MemoryStorage(30_000) as unknown as Storage;
+    rememberAudit('a.csv', report('2026-01-01T00:00:00Z', 20_000), storage);
+    const list = rememberAudit('b.csv', report('2026-01-02T00:00:00Z', 20_000), storage);
+    expect(list.map((r) => [r.label, r.report !== undefined])).toEqual([['b.csv', true], ['a.csv', false]]);
+    expect(loadRecent(storage)).toHaveLength(2);
+  });
+
+  it('survives a corrupted entry', () => {
+    const storage = new MemoryStorage() as unknown as Storage;
+    storage.setItem('counterweight.recent-audits', '{not json');
+    expect(loadRecent(storage)).toEqual([]);
+  });
+});

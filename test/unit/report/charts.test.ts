@@ -1,0 +1,90 @@
+import { readdirSync, readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import type { Series, TargetSummary } from '../../../app/core/model/report.ts';
+import { chartForSeries, estimatesOption, heatmapOption, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
+import type { ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
+import { renderSvg } from '../../../app/report/svg.ts';
+
+// Compile-time: the report model's values fit what the builders read.
+const _seriesFits = (s: Series): ChartSeries => s;
+const _targetFits = (t: TargetSummary): ChartTarget => t;
+
+type Obj = Record<string, unknown>;
+const seriesOf = (o: Obj) => o.series as Obj[];
+
+describe('chart option builders', () => {
+  it('use the Okabe–Ito colours (Okabe & Ito 2008: #E69F00 orange, #56B4E9 sky blue, #009E73 bluish green, #0072B2 blue, #D55E00 vermillion, #CC79A7 reddish purple, #F0E442 yellow)', () => {
+    expect(new Set(SERIES_COLOURS)).toEqual(new Set(['#000000', '#E69F00', '#56B4E9', '#009E73', '#F0E442', '#0072B2', '#D55E00', '#CC79A7']));
+    expect(Object.values(OKABE_ITO)).toHaveLength(8);
+    expect(STATUS_COLOURS.fail).toBe('#D55E00');
+    for (const status of ['pass', 'warn', 'fail', 'skipped'] as const) expect(STATUS_LABELS[status].text).toMatch(/^[A-Z]+$/);
+  });
+
+  it('draw a CI band as a stacked transparent base plus the band height', () => {
+    const o = linesOption({ name: 'rate', kind: 'lines', x: ['a', 'b'], values: [[0.5, 0.6], [0.4, 0.45], [0.7, 0.8]], labels: ['rate', 'rate:ci_low', 'rate:ci_high'] });
+    const s = seriesOf(o);
+    expect(s.map((x) => x.name)).toEqual(['rate 95% CI low', 'rate 95% CI', 'rate']);
+    expect(s[0]?.data).toEqual([0.4, 0.45]);
+    expect((s[1]?.data as number[]).map((v) => +v.toFixed(10))).toEqual([0.3, 0.35]);
+    expect(s[0]?.stack).toBe(s[1]?.stack);
+  });
+
+  it('lay a heatmap out as [x index, y index, value] with nulls kept blank', () => {
+    const o = heatmapOption({ name: 'min p', kind: 'heatmap', x: ['a1', 'a2'], y: ['s1', 's2'], values: [[0.1, null], [0.2, 0.3]] });
+    expect(seriesOf(o)[0]?.data).toEqual([[0, 0, 0.1], [1, 0, null], [0, 1, 0.2], [1, 1, 0.3]]);
+    expect((o.visualMap as Obj).min).toBe(0.1);
+  });
+
+  it('label histogram bins by their edges and never pass NaN through', () => {
+    const o = histogramOption({ name: 'log10 w', kind: 'histogram', x: [-1, 0, 1], values: [[3, Number.NaN, 5]] });
+    expect((o.xAxis as Obj).data).toEqual(['-1 – 0', '0 – 1', '≥ 1']);
+    expect(seriesOf(o)[0]?.data).toEqual([3, null, 5]);
+  });
+
+  it('return null for an empty series', () => {
+    expect(chartForSeries({ name: 'e', kind: 'bars', x: [], values: [] })).toBeNull();
+  });
+
+  it('put intervals and points into the estimates chart', () => {
+    const t = { name: 'v9', ips: { value: 0.1, ci_low: 0.05, ci_high: 0.15 }, snips: { value: 0.1, ci_low: null, ci_high: null }, dr: { value: null, ci_low: null, ci_high: null } };
+    const s = seriesOf(estimatesOption([t], 0.09));
+    expect((s.find((x) => x.name === 'IPS 95% CI')?.data as number[])[0]).toBeCloseTo(0.1, 12);
+    expect(s.find((x) => x.name === 'SNIPS 95% CI')?.data).toEqual([null]);
+  });
+
+  it('render to SVG server-side for every kind', () => {
+    const kinds: ChartSeries[] = [
+      { name: 'b', kind: 'bars', x: ['a', 'b'], values: [[1, 2]] },
+      { name: 'l', kind: 'lines', x: ['a', 'b'], values: [[1, 2]] },
+      { name: 'h', kind: 'heatmap', x: ['a', 'b'], y: ['s'], values: [[1, 2]] },
+      { name: 'g', kind: 'histogram', x: [0, 1], values: [[1, 2]] },
+      { name: 'p', kind: 'points', x: ['a', 'b'], values: [[1, 2]] },
+    ];
+    for (const s of kinds) {
+      const svg = renderSvg(chartForSeries(s) as Obj, 400, 300);
+      expect(svg.startsWith('<svg')).toBe(true);
+      expect(svg).toContain(`>${s.name}<`);
+    }
+  });
+
+  it('never import ECharts or platform modules in app/charts (the layer is pure)', () => {
+    for (const file of readdirSync('app/charts')) {
+      const text = readFileSync(`app/charts/${file}`, 'utf8');
+      expect(text, file).not.toMatch(/from\s+['"](echarts|node:|fs|path)/);
+    }
+  });
+});
+
+describe('chart conventions of the core', () => {
+  it('bands a single line with rows labelled plainly ci_low / ci_high', () => {
+    const o = linesOption({ name: 'reward', kind: 'lines', x: ['a', 'b'], values: [[0.5, 0.6], [0.4, 0.5], [0.6, 0.7]], labels: ['mean', 'ci_low', 'ci_high'] });
+    expect(seriesOf(o).map((x) => x.name)).toEqual(['mean 95% CI low', 'mean 95% CI', 'mean']);
+  });
+
+  it('stacks more than three bar rows (an action mix) and groups fewer', () => {
+    const mix = chartForSeries({ name: 'mix', kind: 'bars', x: ['d1', 'd2'], values: [[0.25, 0.25], [0.25, 0.25], [0.25, 0.25], [0.25, 0.25]], labels: ['a', 'b', 'c', 'd'] }) as Obj;
+    expect(seriesOf(mix).every((s) => s.stack === 'all')).toBe(true);
+    const two = chartForSeries({ name: 'two', kind: 'bars', x: ['d1'], values: [[1], [2]] }) as Obj;
+    expect(seriesOf(two).some((s) => 'stack' in s)).toBe(false);
+  });
+});

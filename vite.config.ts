@@ -1,0 +1,27 @@
+import { fileURLToPath } from 'node:url';
+import react from '@vitejs/plugin-react';
+import { defineConfig } from 'vite';
+import { sampleDataPlugin } from './renderer/dev/sample-data-plugin.ts';
+
+const page = (name: string): string => fileURLToPath(new URL(`./renderer/${name}`, import.meta.url));
+
+export default defineConfig({
+  root: 'renderer',
+  plugins: [react(), sampleDataPlugin(fileURLToPath(new URL('./sample-data', import.meta.url)))],
+  server: {
+    host: '127.0.0.1',
+    port: 5179,
+    strictPort: true,
+    // The renderer imports app/ and node_modules/ from the repository root.
+    fs: { allow: ['..'] },
+  },
+  // DuckDB-Wasm ships its own worker and .wasm files; pre-bundling would break their asset URLs.
+  optimizeDeps: { exclude: ['@duckdb/duckdb-wasm'] },
+  build: {
+    outDir: '../dist/renderer',
+    emptyOutDir: true,
+    rollupOptions: {
+      input: { index: page('index.html'), 'engine-harness': page('engine-harness.html') },
+    },
+  },
+});
