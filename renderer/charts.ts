@@ -8,11 +8,33 @@ export function chartForSeries(series: Series): EChartsCoreOption | null {
   return option === null ? null : withoutTitle(option);
 }
 
-/** The page names each chart in its caption; the option's own title would say it twice. */
-function withoutTitle(option: Record<string, unknown>): EChartsCoreOption {
-  const title = typeof option.title === 'object' && option.title !== null ? option.title : {};
-  const grid = typeof option.grid === 'object' && option.grid !== null ? option.grid : {};
-  return { ...option, title: { ...title, show: false }, grid: { ...grid, top: 32 } } as EChartsCoreOption;
+type Obj = Record<string, unknown>;
+const isObj = (v: unknown): v is Obj => typeof v === 'object' && v !== null && !Array.isArray(v);
+const ISO_TIME = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}/;
+
+/** "2026-03-02T00:00:00.000Z" -> "03-02", or "03-02 06:00" when the bucket does not start at midnight (UTC). */
+export function shortTime(label: string): string {
+  if (!ISO_TIME.test(label)) return label;
+  const day = label.slice(5, 10);
+  const time = label.slice(11, 16);
+  return time === '00:00' ? day : `${day} ${time}`;
+}
+
+function shortenTimeAxis(axis: unknown): unknown {
+  if (!isObj(axis) || !Array.isArray(axis.data) || !axis.data.every((d) => typeof d === 'string' && ISO_TIME.test(d))) return axis;
+  const label = isObj(axis.axisLabel) ? axis.axisLabel : {};
+  return { ...axis, axisLabel: { ...label, rotate: 0, hideOverlap: true, interval: 'auto', formatter: shortTime } };
+}
+
+/**
+ * Page-only presentation: the caption above each chart already names it and its unit, so the option's own
+ * title and y-axis name would say it twice (and overlap); time buckets are labelled by day, not full ISO text.
+ */
+function withoutTitle(option: Obj): EChartsCoreOption {
+  const title = isObj(option.title) ? option.title : {};
+  const grid = isObj(option.grid) ? option.grid : {};
+  const yAxis = isObj(option.yAxis) ? { ...option.yAxis, name: '' } : option.yAxis;
+  return { ...option, title: { ...title, show: false }, grid: { ...grid, top: 24 }, xAxis: shortenTimeAxis(option.xAxis), yAxis } as EChartsCoreOption;
 }
 
 export function heightForSeries(series: Series): number {

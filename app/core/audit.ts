@@ -146,7 +146,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       guard();
       if (t.n < 2) continue;
       const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-      tails.set(t.target.name, { weights: parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit), true))) });
+      tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit), true))));
     }
   }
   progress('tails', true);

@@ -11,7 +11,10 @@ export const APP_HOST = 'app';
 export const APP_ORIGIN = `${APP_SCHEME}://${APP_HOST}`;
 export const APP_ENTRY_URL = `${APP_ORIGIN}/index.html`;
 
-/** Must run before the app's `ready` event. */
+/**
+ * Must run before the app's `ready` event. `corsEnabled` stays off: the renderer loads only its own
+ * origin, and the privilege would let other origins read the app's files.
+ */
 export function registerAppScheme(protocol: Pick<Protocol, 'registerSchemesAsPrivileged'>): void {
   protocol.registerSchemesAsPrivileged([
     { scheme: APP_SCHEME, privileges: { standard: true, secure: true, supportFetchAPI: true, stream: true } },

@@ -44,6 +44,10 @@ export function parseLaunchArgs(args: readonly string[], options: { cwd: string;
   return { paths: [path.resolve(options.demoLog)], source: 'demo' };
 }
 
+export class PathNotGrantedError extends Error {
+  override readonly name = 'PathNotGrantedError';
+}
+
 /** The paths the renderer may have read: ones the user picked, passed at launch, or opened before. */
 export class PathGrants {
   readonly #granted = new Set<string>();
@@ -59,7 +63,7 @@ export class PathGrants {
   /** Throws when any path was not granted, naming the first one. */
   assertGranted(paths: readonly string[]): void {
     const refused = paths.find((p) => !this.has(p));
-    if (refused !== undefined) throw new Error(`The app may only read files you opened; "${refused}" was not opened.`);
+    if (refused !== undefined) throw new PathNotGrantedError(`The app may only read files you opened; "${refused}" was not opened.`);
   }
 }
 

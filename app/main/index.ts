@@ -1,20 +1,16 @@
 // Start-up of the Electron main process: the one place the modules are wired together.
 import { app, BrowserWindow, dialog, ipcMain, protocol, session, utilityProcess } from 'electron';
-import type { HostReply, HostRequest } from '../engine/host/protocol.ts';
+import type { HostReply } from '../engine/host/protocol.ts';
 import { APP_ENTRY_URL, APP_ORIGIN, registerAppScheme, serveAppScheme } from './app-protocol.ts';
-import { startEngineHost } from './engine-host.ts';
+import { startEngineRelay } from './engine-relay.ts';
 import { type DialogApi, parseLaunchArgs, PathGrants, recentStore, userArgs } from './file-access.ts';
 import { createHandlers } from './handlers.ts';
-import { parseHostReply } from './host-messages.ts';
 import { registerIpc, sendEvent } from './ipc.ts';
 import { desktopPaths } from './paths.ts';
-import { applyCsp, contentSecurityPolicy, denyPermissions, guardWebContents, isAllowedNavigation, originOf } from './security.ts';
+import { applyCsp, contentSecurityPolicy, denyPermissions, guardWebContents, isAllowedNavigation } from './security.ts';
 import { createMainWindow } from './window.ts';
 
 const paths = desktopPaths(__dirname);
-// A vite dev server for the renderer, in an unpackaged checkout only.
-const devUrl = app.isPackaged ? undefined : process.env.COUNTERWEIGHT_RENDERER_URL;
-const appOrigin = (devUrl && originOf(devUrl)) || APP_ORIGIN;
 const launch = parseLaunchArgs(userArgs(process.argv, app.isPackaged), { cwd: process.cwd(), demoLog: paths.demoLog });
 const grants = new PathGrants();
 grants.grant(launch.paths);
@@ -22,9 +18,9 @@ grants.grant(launch.paths);
 app.setName('Counterweight');
 app.enableSandbox();
 registerAppScheme(protocol);
-if (!app.requestSingleInstanceLock()) app.quit();
 
-app.on('web-contents-created', (_event, contents) => guardWebContents(contents, appOrigin));
+const primary = app.requestSingleInstanceLock();
+app.on('web-contents-created', (_event, contents) => guardWebContents(contents, APP_ORIGIN));
 
 async function start(): Promise<void> {
   const policy = contentSecurityPolicy();
@@ -41,17 +37,17 @@ async function start(): Promise<void> {
     showOpenDialog: (options) => dialog.showOpenDialog(window, options),
     showSaveDialog: (options) => dialog.showSaveDialog(window, options),
   };
-  const engine = startEngineHost<HostRequest, HostReply>({
+  const replyToRenderer = (reply: HostReply): void => sendEvent(contents, 'engine:message', reply);
+  const engine = startEngineRelay({
     fork: (modulePath, args, options) => utilityProcess.fork(modulePath, args, options),
     entryPath: paths.engineHostEntry,
-    parseReply: parseHostReply,
-    onReply: (reply) => sendEvent(contents, 'engine:message', reply),
+    onReply: replyToRenderer,
     onStatus: (status) => sendEvent(contents, 'engine:status-changed', status),
     onInvalid: (error) => console.error('Dropped a malformed engine host message:', error),
   });
-  registerIpc(ipcMain, createHandlers({ launch, grants, recent, dialog: dialogs, engine, contents }), (event) => {
+  registerIpc(ipcMain, createHandlers({ launch, grants, recent, dialog: dialogs, engine, contents, replyToRenderer }), (event) => {
     const frame = event.senderFrame;
-    return event.sender === contents && frame !== null && isAllowedNavigation(frame.url, appOrigin);
+    return event.sender === contents && frame !== null && isAllowedNavigation(frame.url, APP_ORIGIN);
   });
 
   app.on('second-instance', () => {
@@ -62,10 +58,14 @@ async function start(): Promise<void> {
     engine.stop();
     app.quit();
   });
-  await window.loadURL(devUrl ?? APP_ENTRY_URL);
+  await window.loadURL(APP_ENTRY_URL);
 }
 
-app.whenReady().then(start).catch((error: unknown) => {
-  console.error(error);
-  app.exit(1);
-});
+if (!primary) {
+  app.quit();
+} else {
+  app.whenReady().then(start).catch((error: unknown) => {
+    console.error(error);
+    app.exit(1);
+  });
+}

@@ -75,6 +75,10 @@ export const INVOKE_CHANNELS = [
   'engine:status',
 ] as const satisfies readonly InvokeChannel[];
 
+type UnlistedChannel = Exclude<InvokeChannel, (typeof INVOKE_CHANNELS)[number]>;
+/** Does not compile while a channel of InvokeChannels is missing from INVOKE_CHANNELS. */
+export const INVOKE_CHANNELS_COMPLETE: [UnlistedChannel] extends [never] ? true : UnlistedChannel = true;
+
 export const EVENT_CHANNELS = ['engine:message', 'engine:status-changed'] as const satisfies readonly EventChannel[];
 
 /** What the preload exposes as `window.counterweight`. */

@@ -31,6 +31,12 @@ td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: now
 .kv td:first-child { width: 28%; font-family: ui-monospace, monospace; font-size: 12px; }
 .changed { font-weight: 700; }
 .small { font-size: 11.5px; }
+.scroll { overflow-x: auto; max-width: 100%; }
+table.findings { table-layout: fixed; }
+table.findings col.c-status { width: 92px; } table.findings col.c-segment { width: 12%; } table.findings col.c-action { width: 10%; }
+table.findings col.c-window { width: 12%; } table.findings col.c-target { width: 7%; }
+table.findings td { overflow-wrap: break-word; }
+.scroll th, .scroll td { white-space: nowrap; }
 nav.toc ol { columns: 2; margin: 4px 0; }
 @media print {
   body { max-width: none; padding: 0; font-size: 10pt; }
@@ -39,6 +45,7 @@ nav.toc ol { columns: 2; margin: 4px 0; }
   .verdict, .cautions, .chart, tr { break-inside: avoid; page-break-inside: avoid; }
   th, .status, .verdict, .cautions { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
   pre { white-space: pre-wrap; }
+  .scroll { overflow: visible; }
   a { color: inherit; text-decoration: none; }
 }
 `;

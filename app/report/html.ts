@@ -165,7 +165,7 @@ function findingRow(f: Finding): SafeHtml {
   const columns = examples ? [...new Set(examples.flatMap((r) => Object.keys(r)))] : [];
   return html`<tr><td>${statusBadge(f.status)}</td><td>${fmtSegment(f.segment)}</td><td>${f.action ?? '—'}</td><td>${f.window ? `${f.window.from} – ${f.window.to}` : '—'}</td><td>${f.target ?? '—'}</td>
 <td>${f.message}${inlineMetrics(f.metrics) ? html`<br><span class="muted small">${inlineMetrics(f.metrics)}</span>` : ''}
-${examples ? html`<table class="small"><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${fmtCell(r[c])}</td>`)}</tr>`)}</tbody></table>` : ''}
+${examples ? html`<div class="scroll"><table class="small"><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${fmtCell(r[c])}</td>`)}</tr>`)}</tbody></table></div>` : ''}
 ${f.sql ? html`<pre>${f.sql}</pre>` : ''}</td></tr>`;
 }
 
@@ -175,7 +175,7 @@ function checkSection(check: CheckResult, chart: ChartFn): SafeHtml {
 <h3>${check.title} <code class="small">${check.id}</code> ${statusBadge(check.status)}</h3>
 <p>${check.summary}</p>
 ${metricsTable(check.metrics)}
-${findings.length > 0 ? html`<table><thead><tr><th>Status</th><th>Segment</th><th>Action</th><th>Window</th><th>Target</th><th>Finding</th></tr></thead><tbody>${findings.map(findingRow)}</tbody></table>` : html`<p class="muted">No findings.</p>`}
+${findings.length > 0 ? html`<table class="findings"><colgroup><col class="c-status"><col class="c-segment"><col class="c-action"><col class="c-window"><col class="c-target"><col></colgroup><thead><tr><th>Status</th><th>Segment</th><th>Action</th><th>Window</th><th>Target</th><th>Finding</th></tr></thead><tbody>${findings.map(findingRow)}</tbody></table>` : html`<p class="muted">No findings.</p>`}
 ${check.findings.length > findings.length ? html`<p class="muted">${check.findings.length - findings.length} more findings are in the JSON report.</p>` : ''}
 ${(check.series ?? []).map((s) => { const option = chartForSeries(s); return option ? chart(option, chartHeight(s), s.name) : html``; })}
 ${check.settings_used.length ? html`<p class="muted small">Settings used: ${check.settings_used.map((k) => html`<a href="#setting-${k}"><code>${k}</code></a> `)}</p>` : ''}

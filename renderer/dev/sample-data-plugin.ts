@@ -1,6 +1,7 @@
 import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import path from 'node:path';
+import type { ServerResponse } from 'node:http';
 import type { Plugin } from 'vite';
 
 const SERVED = /^[a-z0-9][a-z0-9.-]*\.(csv|json|ndjson|parquet)$/i;
@@ -11,7 +12,7 @@ const TYPES: Record<string, string> = { '.csv': 'text/csv; charset=utf-8', '.jso
  * log" can fetch them; they are not copied into the renderer build (the desktop app opens them by path).
  */
 export function sampleDataPlugin(folder: string): Plugin {
-  const serve = (server: { middlewares: { use: (fn: (req: { url?: string }, res: import('node:http').ServerResponse, next: () => void) => void) => void } }) => {
+  const serve = (server: { middlewares: { use: (fn: (req: { url?: string }, res: ServerResponse, next: () => void) => void) => void } }) => {
     server.middlewares.use((req, res, next) => {
       const match = /^\/sample-data\/([^?#]+)/.exec(req.url ?? '');
       const name = match?.[1] ? decodeURIComponent(match[1]) : null;

@@ -1,10 +1,11 @@
+import type { CounterweightApi } from '../../app/main/ipc-contract.ts';
 import type { AuditBackend, LogInput } from './backend.ts';
 import { createEngineBackend } from './engine-backend.ts';
 import { detectMode, traitsOf, type PageMode } from './mode.ts';
 
 declare global {
   interface Window {
-    readonly counterweight?: import('../../app/main/ipc-contract.ts').CounterweightApi;
+    readonly counterweight?: CounterweightApi;
   }
 }
 

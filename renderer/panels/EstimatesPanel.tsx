@@ -31,7 +31,18 @@ export function EstimatesPanel({ report, onOpenCheck }: { report: Report; onOpen
         What this log would say about each target, with 95% intervals — a preview of what it can support, not a
         result to launch on. {onPolicy !== null && <>The logging policy's own average reward is <strong>{formatValue(onPolicy)}</strong>.</>}
       </p>
-      {report.targets.length > 0 && <EChart option={option} label="Estimated value by target with 95% intervals" height={320} />}
+      {report.verdict === 'not-supported' && (
+        <p className="warnings" role="note">
+          The audit found that this log does <strong>not</strong> support off-policy estimates (see the overview). The numbers below show what the
+          log would say, not a value to rely on.
+        </p>
+      )}
+      {report.targets.length > 0 && (
+        <figure className="series">
+          <figcaption><span>Estimated value by target, with 95% intervals</span></figcaption>
+          <EChart option={option} label="Estimated value by target with 95% intervals" height={320} />
+        </figure>
+      )}
       <div className="table-scroll">
         <table className="estimates-table">
           <caption>Estimates by target (95% intervals)</caption>

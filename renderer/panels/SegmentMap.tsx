@@ -1,5 +1,6 @@
 import { useCallback, useMemo, useState } from 'react';
 import type { Report } from '../../app/core/model/report.ts';
+import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
@@ -9,6 +10,19 @@ import { cellSql, findingsForCell, segmentForLabel, segmentHeatmaps } from './se
 import { ReadinessTable } from './ReadinessTable.tsx';
 
 interface Cell { readonly row: number; readonly col: number }
+
+function valueRange(values: readonly (readonly (number | null)[])[]): [number, number] {
+  const finite = values.flat().filter((v): v is number => v !== null && Number.isFinite(v));
+  return finite.length === 0 ? [0, 1] : [Math.min(...finite), Math.max(...finite)];
+}
+
+/** The table twin of the chart: the same white-to-blue ramp, with the value printed in every cell. */
+function cellStyle(v: number | null, [lo, hi]: [number, number]): { background: string; color: string } | undefined {
+  if (v === null || !Number.isFinite(v)) return undefined;
+  const t = hi > lo ? (v - lo) / (hi - lo) : 0;
+  const colour = SEQUENTIAL_RAMP[Math.min(SEQUENTIAL_RAMP.length - 1, Math.floor(t * SEQUENTIAL_RAMP.length))] as string;
+  return { background: colour, color: t > 0.6 ? '#ffffff' : '#1b1f24' };
+}
 
 export function SegmentMap({ report }: { report: Report }) {
   const maps = useMemo(() => segmentHeatmaps(report), [report]);
@@ -31,6 +45,7 @@ export function SegmentMap({ report }: { report: Report }) {
     );
   }
   const { series } = current;
+  const range = valueRange(series.values);
   const ys = series.y ?? [];
   const rowLabel = cell ? String(ys[cell.row] ?? '') : '';
   const action = cell ? String(series.x[cell.col] ?? '') : '';
@@ -66,7 +81,7 @@ export function SegmentMap({ report }: { report: Report }) {
                       <th scope="row">{ys[i]}</th>
                       {row.map((v, j) => (
                         <td key={j}>
-                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${formatValue(v)}`}>
+                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${formatValue(v)}`}>
                             {formatValue(v)}
                           </button>
                         </td>
@@ -89,7 +104,7 @@ export function SegmentMap({ report }: { report: Report }) {
                 findings.map((f, i) => <div key={i}><p className="muted"><code>{f.check}</code> {f.title}</p><FindingList findings={[f.finding]} /></div>)
               )}
             </>
-          ) : <p className="muted">No cell chosen yet.</p>}
+          ) : <p className="muted">Click a cell of the map — or, from the keyboard, switch to the table view and press a cell — to see what the checks found there and the SQL that selects its rows.</p>}
         </aside>
       </div>
       <ReadinessTable report={report} />

@@ -48,7 +48,7 @@ export function SignoffPanel({ report, onSigned }: { report: Report; onSigned: (
         {error && <p className="problems" role="alert">{error}</p>}
         <div className="actions">
           <button type="submit" className="button primary">Record the sign-off</button>
-          <button type="button" className="button" onClick={() => downloadText(reportJson(report), fileName(report))}>Export report JSON</button>
+          <button type="button" className="button" onClick={() => downloadText(reportJson(report), fileName(report))}>{report.signoff ? 'Export signed report JSON' : 'Export report JSON'}</button>
         </div>
       </form>
       {report.signoff && (
@@ -56,7 +56,7 @@ export function SignoffPanel({ report, onSigned }: { report: Report; onSigned: (
           <h2>Signed</h2>
           <p>{report.signoff.reviewer} — <strong>{report.signoff.decision}</strong> at {report.signoff.signed_at}</p>
           <p className="muted">Report digest (SHA-256 of the canonical report without the sign-off): <code className="digest">{report.signoff.digest}</code></p>
-          <p className="muted">Not cryptographically signed in the browser; the headless command can add an Ed25519 signature.</p>
+          <p className="muted">Recorded, not cryptographically signed: to add an Ed25519 signature, export the JSON and run <code>counterweight sign</code> with <code>--key</code>.</p>
         </div>
       )}
       <Cautions cautions={report.cautions} />

@@ -13,6 +13,11 @@ function titleOf(report: Report, id: CheckId): string {
   return report.checks.find((c) => c.id === id)?.title ?? id;
 }
 
+/** Reasons start with their check's title, which the link beside them already shows. */
+function withoutTitle(message: string, title: string): string {
+  return message.startsWith(`${title}: `) ? message.slice(title.length + 2) : message;
+}
+
 export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
   const counts = { fail: 0, warn: 0, pass: 0, skipped: 0 };
   for (const c of report.checks) counts[c.status]++;
@@ -35,7 +40,7 @@ export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpen
                 <li key={i}>
                   <span><StatusBadge status={r.status} /></span>
                   <button type="button" className="button link" onClick={() => onOpenCheck(r.check)}>{titleOf(report, r.check)}</button>
-                  <span>{r.message}</span>
+                  <span>{withoutTitle(r.message, titleOf(report, r.check))}</span>
                 </li>
               ))}
             </ul>

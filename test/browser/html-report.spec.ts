@@ -3,7 +3,7 @@
  * no network request, runs no script, and renders; a hostile report (markup in log values) runs nothing.
  */
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -14,10 +14,10 @@ import { fixtureReport } from '../unit/report/fixture-report.ts';
 
 const ROOT = path.resolve('.');
 // Reports go to a private folder: test-results/ is Playwright's output folder and is emptied by other runs.
-const OUT = mkdtempSync(path.join(tmpdir(), 'cw-html-report-'));
+let OUT = '';
 const SCREENSHOT = path.join(ROOT, 'test-results', 'html-report.png');
-const DEMO_HTML = path.join(OUT, 'maple-row-demo.html');
-const HOSTILE_HTML = path.join(OUT, 'hostile.html');
+let DEMO_HTML = '';
+let HOSTILE_HTML = '';
 const PAYLOAD = '<script>window.__cwInjected = 1</script><img src=x onerror="window.__cwInjected = 2">';
 
 function cli(args: string[]): void {
@@ -27,6 +27,9 @@ function cli(args: string[]): void {
 }
 
 test.beforeAll(() => {
+  OUT = mkdtempSync(path.join(tmpdir(), 'cw-html-report-'));
+  DEMO_HTML = path.join(OUT, 'maple-row-demo.html');
+  HOSTILE_HTML = path.join(OUT, 'hostile.html');
   cli(['audit', 'sample-data/maple-row-demo.parquet', '--html', DEMO_HTML, '--quiet']);
   const base = fixtureReport({ hostile: true });
   const hostile = {
@@ -38,6 +41,8 @@ test.beforeAll(() => {
   writeFileSync(json, serializeReport(hostile));
   cli(['render', json, '--html', HOSTILE_HTML]);
 });
+
+test.afterAll(() => { if (OUT) rmSync(OUT, { recursive: true, force: true }); });
 
 /** Fails on any request that is not the file itself or inline data; blocks it too. */
 async function guardNetwork(page: Page): Promise<string[]> {

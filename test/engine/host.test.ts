@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { spawnHostChild } from '../../app/engine/host/client.ts';
+import { spawnHostChild } from '../../app/engine/host/spawn.ts';
 import { decodeTable } from '../../app/engine/host/protocol.ts';
 import type { HostReply } from '../../app/engine/host/protocol.ts';
 import { serveEngine } from '../../app/engine/host/server.ts';

@@ -11,6 +11,9 @@ import type { CubeView, TargetAnalysis } from '../targets/analysis.ts';
 export interface TargetTail {
   /** largest positive weights, descending */
   readonly weights: readonly number[];
+  /** histogram of log10 w over all rows with positive weight */
+  readonly log10Bins: readonly number[];
+  readonly counts: readonly number[];
 }
 
 export interface AuditContext {

@@ -1,4 +1,4 @@
-import type { Status } from '../model/report.ts';
+import type { Series, Status } from '../model/report.ts';
 import { kishEss } from '../stats/ess.ts';
 import { describeSegment, fmt, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
@@ -59,7 +59,21 @@ export function checkEss(ctx: AuditContext): ReturnType<typeof result> {
     return `${t.target.name}: ESS ${Math.round(s.ess)} (${pct(s.fraction)} of rows)`;
   }).join('; ') + ` (warn below ${pct(warnFrac)} of rows, fail below ${failMin}).`;
   const refs = ctx.targets;
-  return result('weights.ess', status, summary, metrics, findings, ['weights.ess.warn_fraction', 'weights.ess.fail_min'], [
+  const series: Series[] = [
     { name: 'ESS share by target', kind: 'bars', x: refs.map((t) => t.target.name), values: [refs.map((t) => essSummary(t, ctx.tails.get(t.target.name)?.weights).fraction)], labels: ['ESS / n'], unit: 'share of rows' },
-  ]);
+  ];
+  for (const t of ctx.primaryTargets) {
+    const tail = ctx.tails.get(t.target.name);
+    if (tail && tail.counts.length) series.push({ name: `log10 weight: ${t.target.name}`, kind: 'histogram', x: [...tail.log10Bins], values: [[...tail.counts]], labels: ['rows'], unit: 'log10 w' });
+    const segs = t.bySegment.filter((s) => s.n > 0);
+    series.push({
+      name: `ESS by segment: ${t.target.name}`,
+      kind: 'bars',
+      x: segs.map((s) => s.segment.join(' · ')),
+      values: [segs.map((s) => (s.sumW2 > 0 ? kishEss(s.sumW, s.sumW2) : 0)), segs.map((s) => s.n)],
+      labels: ['ESS', 'rows'],
+      unit: 'rows',
+    });
+  }
+  return result('weights.ess', status, summary, metrics, findings, ['weights.ess.warn_fraction', 'weights.ess.fail_min'], series);
 }

@@ -78,4 +78,7 @@ export interface EstimatorCell {
   readonly sumRInvP: number;
   readonly sumRInvP2: number;
   readonly sumR2InvP2: number;
+  /** The sums already carry a per-row target probability (a target_propensity column): the "InvP"
+   * sums are Σq/p, Σq²/p², Σqr/p, Σq²r/p², Σq²r²/p², and q is 1. */
+  readonly preweighted?: boolean;
 }

@@ -62,18 +62,47 @@ function qExpression(target: TargetPolicy, rows: RowExpressions, segmentColumns:
   }
 }
 
+/** Width of a log10(weight) histogram bin. */
+export const LOG10_BIN = 0.1;
+
+/**
+ * One scan per target: its largest positive weights (descending, for PSIS and the top-1% share)
+ * and a histogram of log10 w in bins of LOG10_BIN (kind 0 rows: weights; kind 1 rows: bin, count).
+ */
 export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): string {
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   return [
-    `SELECT w FROM (`,
+    `WITH w AS MATERIALIZED (`,
     `  SELECT (${expr}) / p AS w FROM (SELECT *, ${rows.propensity} AS p FROM ${relation}) AS src ${join}`,
     `  WHERE ${VALID_P}`,
-    `) WHERE w > 0 AND isfinite(w) ORDER BY w DESC LIMIT ${integer(limit)}`,
+    `), pos AS (SELECT w FROM w WHERE w > 0 AND isfinite(w)),`,
+    `top AS (SELECT 0 AS kind, w AS x, CAST(1 AS DOUBLE) AS n FROM pos ORDER BY w DESC LIMIT ${integer(limit)}),`,
+    `hist AS (SELECT 1 AS kind, floor(log10(w) / ${LOG10_BIN}) * ${LOG10_BIN} AS x, count(*)::DOUBLE AS n FROM pos GROUP BY 2)`,
+    `SELECT * FROM top UNION ALL SELECT * FROM hist`,
+    `ORDER BY kind, x DESC`,
   ].join('\n');
 }
 
-export function parseTail(t: Table): number[] {
-  return (t.columns[0] as readonly unknown[]).map((v) => Number(v));
+export interface TailResult {
+  /** largest positive weights, descending */
+  readonly weights: number[];
+  /** histogram of log10 w: lower bin edges ascending, and counts */
+  readonly log10Bins: number[];
+  readonly counts: number[];
+}
+
+export function parseTail(t: Table): TailResult {
+  const kind = t.columns[0] as readonly unknown[];
+  const x = t.columns[1] as readonly unknown[];
+  const n = t.columns[2] as readonly unknown[];
+  const weights: number[] = [];
+  const bins: [number, number][] = [];
+  for (let i = 0; i < t.rowCount; i++) {
+    if (Number(kind[i]) === 0) weights.push(Number(x[i]));
+    else bins.push([Math.round(Number(x[i]) / LOG10_BIN) * LOG10_BIN, Number(n[i])]);
+  }
+  bins.sort((a, b) => a[0] - b[0]);
+  return { weights, log10Bins: bins.map((b) => Number(b[0].toFixed(6))), counts: bins.map((b) => b[1]) };
 }
 
 export interface ExampleRequest {

@@ -53,7 +53,7 @@ function checkCells(fn: string, cells: readonly EstimatorCell[]): number {
       throw new RangeError(`${fn}: ${describe(cell, index)}: every sum must be a finite number`);
     }
     // Each row has 1/p ≥ 1, so ΣinvP ≥ n; a smaller sum means the cell was not built from valid propensities.
-    if (cell.sumInvP < cell.n * (1 - 1e-12) || cell.sumInvP2 < 0 || cell.sumR2 < 0 || cell.sumR2InvP2 < 0) {
+    if ((!cell.preweighted && cell.sumInvP < cell.n * (1 - 1e-12)) || cell.sumInvP2 < 0 || cell.sumR2 < 0 || cell.sumR2InvP2 < 0) {
       throw new RangeError(`${fn}: ${describe(cell, index)}: sums are inconsistent with propensities in (0, 1]`);
     }
     rows += cell.n;

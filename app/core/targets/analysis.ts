@@ -158,7 +158,7 @@ export function analyseTarget(target: TargetPolicy, view: CubeView): TargetAnaly
         sw2 += t.target.sumW2;
         mass = 1;
         if (t.nRw > 0) {
-          estimatorCells.push({ segmentKey: key, action: a, q: 1, n: t.nRw, sumInvP: t.target.sumWRw, sumInvP2: t.target.sumW2Rw, sumR: t.sumR, sumR2: t.sumR2, sumRInvP: t.target.sumWR, sumRInvP2: t.target.sumW2R, sumR2InvP2: t.target.sumW2R2 });
+          estimatorCells.push({ preweighted: true, segmentKey: key, action: a, q: 1, n: t.nRw, sumInvP: t.target.sumWRw, sumInvP2: t.target.sumW2Rw, sumR: t.sumR, sumR2: t.sumR2, sumRInvP: t.target.sumWR, sumRInvP2: t.target.sumW2R, sumR2InvP2: t.target.sumW2R2 });
         }
       }
       if (t) rewardedRows += t.nRw;

@@ -1,6 +1,4 @@
-/** Engine on the client side of the host protocol, plus a launcher for the host as a Node child process. */
-import { fork } from 'node:child_process';
-import { fileURLToPath } from 'node:url';
+/** Engine on the client side of the host protocol (no Node imports: the browser uses it too). */
 import type { Table } from '../../core/table.ts';
 import { EngineError } from '../types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from '../types.ts';
@@ -101,28 +99,4 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
       await options.onClosed?.();
     },
   };
-}
-
-const CHILD_MAIN = fileURLToPath(new URL('./child-main.ts', import.meta.url));
-
-/** Starts the engine host as a Node child process and returns an Engine talking to it. */
-export function spawnHostChild(options: { env?: NodeJS.ProcessEnv } = {}): HostEngine {
-  const child = fork(CHILD_MAIN, [], { execArgv: ['--import', 'tsx'], stdio: ['ignore', 'inherit', 'inherit', 'ipc'], env: options.env ?? process.env });
-  const exited = new Promise<void>((resolve) => child.once('exit', () => resolve()));
-  const transport: Transport = {
-    send: (message) => { if (child.connected) child.send(message); },
-    onMessage: (listener) => { child.on('message', listener); },
-    onClose: (listener) => {
-      child.once('exit', (code, signal) => listener(signal ? `signal ${signal}` : `exit code ${code}`));
-      child.once('error', (error) => listener(error.message));
-    },
-  };
-  return createHostEngine(transport, {
-    onClosed: async () => {
-      const timer = setTimeout(() => child.kill('SIGKILL'), 3000);
-      if (child.connected) child.disconnect();
-      await exited;
-      clearTimeout(timer);
-    },
-  });
 }

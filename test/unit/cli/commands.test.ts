@@ -3,12 +3,12 @@
  * and messages. The report here is the writers' test fixture (not an audit output), pointed at a real file.
  */
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { sha256File } from '../../../app/report/fingerprint.ts';
-import { serializeReport } from '../../../app/report/json.ts';
+import { REPORT_SCHEMA_PATH, serializeReport, validateReport } from '../../../app/report/json.ts';
 import { fixtureReport } from '../report/fixture-report.ts';
 
 const BIN = path.resolve('bin/counterweight.mjs');
@@ -67,6 +67,7 @@ describe('counterweight (spawned)', () => {
     expect(signed.code).toBe(0);
     const report = JSON.parse(readFileSync(path.join(dir, 'signed.json'), 'utf8'));
     expect(report.signoff).toMatchObject({ reviewer: 'A. Lindqvist', decision: 'approve-with-conditions', note: 'north-harbor only', signature: { algorithm: 'ed25519' } });
+    if (existsSync(REPORT_SCHEMA_PATH)) expect(validateReport(report).errors).toEqual([]);
 
     const ok = cli(['verify', 'signed.json', '--public-key', 'reviewer.pub'], dir);
     expect(ok.stdout).toContain('Verified.');

@@ -3,8 +3,13 @@
  * writers (JSON, HTML, signing) independently of the audit core. Its numbers are arbitrary but consistent;
  * `hostile` puts markup and SQL into every field that comes from a log.
  */
-import type { Report } from '../../../app/core/model/report.ts';
+import type { CheckId, Report } from '../../../app/core/model/report.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID } from '../../../app/core/model/report.ts';
+
+const OTHER_CHECKS: CheckId[] = [
+  'schema.roles', 'identity.duplicates', 'time.coverage', 'propensity.range', 'support.floor', 'support.target',
+  'balance.weights', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview',
+];
 
 export const SCRIPT = '<script>alert(1)</script>';
 export const SQL_BREAK = '"; DROP TABLE x; --';
@@ -57,7 +62,7 @@ export function fixtureReport(options: { hostile?: boolean } = {}): Report {
         ],
         settings_used: ['weights.ess.warn_fraction'],
       },
-      { id: 'drift.policy', title: 'Policy drift', status: 'skipped', summary: 'no time column', metrics: {}, findings: [], settings_used: [] },
+      ...OTHER_CHECKS.map((id) => ({ id, title: id, status: 'skipped' as const, summary: 'not run in this fixture', metrics: {}, findings: [], settings_used: [] })),
     ],
     targets: [{
       name: 'uniform', spec: 'uniform', ess: 42, ess_fraction: 0.042, max_weight: 7, top1_weight_share: 0.05, khat: 0.31, khat_threshold: 0.7,

@@ -52,7 +52,8 @@ describe('hosted web server', () => {
   beforeAll(async () => {
     root = await mkdtemp(path.join(os.tmpdir(), 'cw-web-'));
     await writeFile(path.join(root, 'index.html'), '<!doctype html><title>Counterweight</title>');
-    server = await createHostedServer({ port: 0, token, staticRoot: root });
+    await writeFile(path.join(root, 'maple-row-tiny.csv'), 'decision_id,promotion\nd1,bakery\n');
+    server = await createHostedServer({ port: 0, token, staticRoot: root, demoFolder: root });
   });
 
   afterAll(async () => {
@@ -136,6 +137,15 @@ describe('hosted web server', () => {
     expect(csp).toContain(`connect-src 'self' ${server.socketUrl}`);
     expect(csp).toContain("script-src 'self' 'wasm-unsafe-eval'");
     expect(page.headers['referrer-policy']).toBe('no-referrer');
+  });
+
+  it('serves demo logs by plain file name at /sample-data/, and nothing else from that folder', async () => {
+    const demo = await get(server.port, '/sample-data/maple-row-tiny.csv');
+    expect(demo.status).toBe(200);
+    expect(demo.headers['content-type']).toBe('text/csv; charset=utf-8');
+    expect(demo.body).toBe('decision_id,promotion\nd1,bakery\n');
+    expect((await get(server.port, '/sample-data/..%2fpackage.json')).status).toBe(404);
+    expect((await get(server.port, '/sample-data/.hidden.csv')).status).toBe(404);
   });
 
   it('refuses other Host headers (DNS rebinding) and paths outside the build', async () => {

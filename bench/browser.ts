@@ -1,0 +1,99 @@
+/**
+ * Web mode in Debian Chromium: the renderer's engine harness page (DuckDB-Wasm in a Web Worker,
+ * the log read lazily from a picked File) answers the audit's queries; the audit's pure part runs in
+ * this process, and its cost is negligible next to the scans.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { access } from 'node:fs/promises';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { runAudit, type TargetInput } from '../app/core/audit.ts';
+import type { Table } from '../app/core/table.ts';
+import { decodeTable, type WireTable } from '../app/engine/host/protocol.ts';
+import type { MeasureResult, MeasureSpec } from './measure.ts';
+
+const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const CHROMIUM = '/usr/bin/chromium';
+const PORT = 5191;
+const PAGE = `http://127.0.0.1:${PORT}/engine-harness.html`;
+
+type Answer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
+
+/** Why web mode cannot be measured here, or null when it can. */
+export async function browserUnavailable(): Promise<string | null> {
+  try {
+    await access(CHROMIUM);
+  } catch {
+    return `no Chromium at ${CHROMIUM}`;
+  }
+  try {
+    await access(join(ROOT, 'renderer', 'engine-harness.html'));
+    await access(join(ROOT, 'renderer', 'engine-harness.ts'));
+  } catch {
+    return 'the renderer has no engine harness page (renderer/engine-harness.html)';
+  }
+  return null;
+}
+
+async function startVite(): Promise<ChildProcess> {
+  const vite = spawn(process.execPath, [join(ROOT, 'node_modules', 'vite', 'bin', 'vite.js'), '--host', '127.0.0.1', '--port', String(PORT), '--strictPort'], { cwd: ROOT, stdio: 'ignore' });
+  const deadline = Date.now() + 60_000;
+  while (Date.now() < deadline) {
+    const ok = await fetch(PAGE).then((r) => r.ok, () => false);
+    if (ok) return vite;
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  vite.kill();
+  throw new Error('the Vite dev server did not serve the engine harness within 60 s');
+}
+
+export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]): Promise<MeasureResult> {
+  const { chromium } = await import('@playwright/test');
+  const vite = await startVite();
+  const browser = await chromium.launch({ executablePath: CHROMIUM, args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'] });
+  try {
+    const page = await browser.newPage();
+    const cdp = await page.context().newCDPSession(page);
+    await cdp.send('Performance.enable');
+    let peakHeap = 0;
+    const sample = async () => {
+      const { metrics } = await cdp.send('Performance.getMetrics');
+      peakHeap = Math.max(peakHeap, metrics.find((m) => m.name === 'JSHeapUsedSize')?.value ?? 0);
+    };
+    const sampler = setInterval(() => { sample().catch(() => undefined); }, 200);
+    try {
+      await page.goto(PAGE);
+      await page.waitForFunction(() => document.getElementById('status')?.textContent !== 'starting', undefined, { timeout: 120_000 });
+      const status = await page.textContent('#status');
+      if (status !== 'ready') throw new Error(`the engine harness did not start: ${status}`);
+      await page.setInputFiles('#file', spec.file);
+      const registered = await page.evaluate(() => {
+        const input = document.getElementById('file') as HTMLInputElement;
+        return window.cwEngineHarness!.registerFile(input.files![0]!);
+      }) as Answer<{ relation: string; format: string }>;
+      if (!registered.ok) throw new Error(`${registered.code}: ${registered.message}`);
+      const run = async (sql: string): Promise<Table> => {
+        const answer = await page.evaluate((text) => window.cwEngineHarness!.query(text), sql) as Answer<WireTable>;
+        if (!answer.ok) throw new Error(`${answer.code}: ${answer.message}`);
+        return decodeTable(answer.value);
+      };
+      const audit = () => runAudit(run, { relation: registered.value.relation, input: { files: [], format: registered.value.format }, engine: 'wasm-browser', targets });
+      if (spec.warmup) await audit();
+      const seconds: number[] = [];
+      let last;
+      for (let i = 0; i < spec.runs; i++) {
+        const t0 = performance.now();
+        last = await audit();
+        seconds.push((performance.now() - t0) / 1000);
+      }
+      await sample();
+      const t = last?.targets[0];
+      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.input.rows ?? NaN, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
+    } finally {
+      clearInterval(sampler);
+    }
+  } finally {
+    await browser.close();
+    vite.kill();
+  }
+}

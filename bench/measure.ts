@@ -1,0 +1,142 @@
+/**
+ * One measurement in its own process, so its peak RSS is its own (the parent runs this under
+ * /usr/bin/time -v). Prints one line "@@result <json>" with the wall time of each timed run.
+ *
+ *   node --import tsx bench/measure.ts '<json MeasureSpec>'
+ */
+import { readFileSync } from 'node:fs';
+import { readdir, readFile } from 'node:fs/promises';
+import { runAudit } from '../app/core/audit.ts';
+import type { Report } from '../app/core/model/report.ts';
+import type { RunQuery } from '../app/core/table.ts';
+import { spawnHostChild } from '../app/engine/host/spawn.ts';
+import { createNativeEngine } from '../app/engine/native.ts';
+import type { Engine } from '../app/engine/types.ts';
+import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
+import { baselineAudit } from './baseline.ts';
+
+export type EngineName = 'native' | 'host' | 'wasm' | 'browser' | 'baseline';
+export type Kind = 'floor' | 'cube' | 'audit';
+
+export interface MeasureSpec {
+  engine: EngineName;
+  kind: Kind;
+  /** the log: Parquet or CSV (or the Arrow IPC copy for the baseline) */
+  file: string;
+  policy: string;
+  runs: number;
+  warmup: boolean;
+}
+
+export interface MeasureResult {
+  seconds: number[];
+  /** a few numbers of the answer, to see that engines agree */
+  answer: Record<string, number | string>;
+  /** sampled in this process (and in the engine host's process, read from /proc) */
+  peakRssMb: number;
+  peakHeapMb: number;
+  hostPeakRssMb?: number;
+  browserPeakHeapMb?: number;
+}
+
+export const FLOOR_SQL = (relation: string) => `SELECT sum(propensity), sum(ordered), count(*) FROM ${relation}`;
+
+async function childPids(): Promise<number[]> {
+  const tasks = await readdir(`/proc/${process.pid}/task`);
+  const pids: number[] = [];
+  for (const t of tasks) {
+    const text = await readFile(`/proc/${process.pid}/task/${t}/children`, 'utf8').catch(() => '');
+    pids.push(...text.trim().split(/\s+/).filter(Boolean).map(Number));
+  }
+  return pids;
+}
+
+/** VmHWM: the process's peak resident set, from the kernel. */
+async function peakRssOf(pid: number): Promise<number> {
+  const status = await readFile(`/proc/${pid}/status`, 'utf8').catch(() => '');
+  const kb = /VmHWM:\s+(\d+)/.exec(status)?.[1];
+  return kb ? Number(kb) / 1024 : 0;
+}
+
+function auditAnswer(report: Report): Record<string, number | string> {
+  const t = report.targets[0];
+  return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, scans: report.run.source_scans };
+}
+
+async function openEngine(name: EngineName): Promise<Engine> {
+  switch (name) {
+    case 'native': return createNativeEngine();
+    case 'host': {
+      const host = spawnHostChild();
+      await host.ping();
+      return host;
+    }
+    case 'wasm': return createWasmNodeEngine();
+    default: throw new Error(`no in-process engine ${name}`);
+  }
+}
+
+/** Runs `once` (after an untimed warm-up when asked) and returns the timed runs' wall seconds. */
+async function timed<T>(spec: MeasureSpec, once: () => Promise<T>): Promise<{ seconds: number[]; last: T }> {
+  let last = spec.warmup ? await once() : undefined;
+  const seconds: number[] = [];
+  for (let i = 0; i < spec.runs; i++) {
+    const t0 = performance.now();
+    last = await once();
+    seconds.push((performance.now() - t0) / 1000);
+  }
+  return { seconds, last: last as T };
+}
+
+export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
+  let peakHeap = 0;
+  const sampler = setInterval(() => { peakHeap = Math.max(peakHeap, process.memoryUsage().heapUsed); }, 50);
+  const policyText = readFileSync(spec.policy, 'utf8');
+  const targets = [{ spec: `table:${spec.policy}`, tableText: policyText }];
+  try {
+    if (spec.engine === 'baseline') {
+      const { seconds, last } = await timed(spec, () => baselineAudit(spec.file, policyText));
+      return { seconds, answer: { rows: last.rows, ess: last.ess, max_weight: last.maxWeight, cells: last.cells, duplicate_ids: last.duplicateIds }, peakRssMb: await peakRssOf(process.pid), peakHeapMb: peakHeap / 2 ** 20 };
+    }
+    if (spec.engine === 'browser') {
+      const { measureInBrowser } = await import('./browser.ts');
+      return await measureInBrowser(spec, targets);
+    }
+    const engine = await openEngine(spec.engine);
+    try {
+      const source = await engine.register({ kind: 'path', paths: [spec.file] });
+      const run: RunQuery = (sql) => engine.query(sql);
+      const audit = () => runAudit(run, { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets });
+      let result: { seconds: number[]; answer: Record<string, number | string> };
+      if (spec.kind === 'audit') {
+        const { seconds, last } = await timed(spec, audit);
+        result = { seconds, answer: auditAnswer(last) };
+      } else if (spec.kind === 'cube') {
+        // The audit's own cube statement, taken from the report of an untimed audit.
+        const cubeSql = (await audit()).queries.find((q) => q.name === 'cube')?.sql;
+        if (!cubeSql) throw new Error('the audit ran no cube query');
+        const { seconds, last } = await timed({ ...spec, warmup: false }, () => engine.query(cubeSql));
+        result = { seconds, answer: { cells: last.rowCount } };
+      } else {
+        const { seconds, last } = await timed(spec, () => engine.query(FLOOR_SQL(source.relation)));
+        result = { seconds, answer: { rows: Number(last.columns[2]?.[0] ?? NaN) } };
+      }
+      const hosts = spec.engine === 'host' ? await Promise.all((await childPids()).map(peakRssOf)) : [];
+      return { ...result, peakRssMb: await peakRssOf(process.pid), peakHeapMb: peakHeap / 2 ** 20, ...(hosts.length ? { hostPeakRssMb: Math.max(...hosts) } : {}) };
+    } finally {
+      await engine.close();
+    }
+  } finally {
+    clearInterval(sampler);
+  }
+}
+
+if (process.argv[2]) {
+  measure(JSON.parse(process.argv[2]) as MeasureSpec).then(
+    (result) => { process.stdout.write(`@@result ${JSON.stringify(result)}\n`); },
+    (error: unknown) => {
+      process.stdout.write(`@@error ${JSON.stringify(error instanceof Error ? error.message : String(error))}\n`);
+      process.exitCode = 1;
+    },
+  );
+}

@@ -1,0 +1,274 @@
+/**
+ * The Counterweight benchmark: generates (once, cached in bench/cache/) Maple Row Market logs of 1M,
+ * 10M and 100M decisions, then measures, each in its own child process under /usr/bin/time -v:
+ * the physical floor (a bare scan of the role columns), the cube query alone and the full audit,
+ * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
+ *
+ *   npm run bench -- [--sizes 1m,10m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
+ *                    [--smoke] [--out FILE]
+ */
+import { execFile, spawn } from 'node:child_process';
+import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { cpus, totalmem } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { parseArgs, promisify } from 'node:util';
+import { exists, writeArrowCopy } from './arrow-cache.ts';
+import type { EngineName, Kind, MeasureResult, MeasureSpec } from './measure.ts';
+
+const BENCH = dirname(fileURLToPath(import.meta.url));
+const ROOT = resolve(BENCH, '..');
+const CACHE = join(BENCH, 'cache');
+const POLICY = join(ROOT, 'sample-data', 'maple-row-v9-policy.csv');
+const SIZES: Record<string, number> = { '1m': 1_000_000, '10m': 10_000_000, '100m': 100_000_000 };
+/** CSV, Wasm and the Arrow baseline stop at 10M rows: a 100M-row CSV is ~8 GB, and Wasm has a 4 GB heap. */
+const CSV_MAX = 10_000_000;
+const ENGINES: readonly EngineName[] = ['native', 'host', 'wasm', 'browser', 'baseline'];
+
+export interface Row {
+  size: string;
+  rows: number;
+  engine: EngineName;
+  format: 'parquet' | 'csv' | 'arrow';
+  kind: Kind;
+  runs: number[];
+  seconds: number;
+  rowsPerSecond: number;
+  /** /usr/bin/time -v "Maximum resident set size" of the measuring process (the host's own shown apart) */
+  peakRssMb: number;
+  hostPeakRssMb?: number;
+  peakHeapMb: number;
+  browserPeakHeapMb?: number;
+  answer: Record<string, number | string>;
+  error?: string;
+  skipped?: string;
+}
+
+export interface Options {
+  sizes: string[];
+  engines: EngineName[];
+  runs: number;
+  warmup: boolean;
+  smoke: boolean;
+  out: string;
+  log: (line: string) => void;
+}
+
+export function parseOptions(argv: readonly string[]): Options {
+  const { values } = parseArgs({
+    args: [...argv],
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' } },
+    strict: true,
+  });
+  const smoke = values.smoke ?? false;
+  const sizes = (values.sizes ?? (smoke ? '1m' : '1m,10m,100m')).split(',').map((s) => s.trim().toLowerCase());
+  for (const s of sizes) if (!(s in SIZES)) throw new Error(`--sizes takes 1m, 10m, 100m, got "${s}"`);
+  const engines = (values.engines ?? (smoke ? 'native,host,wasm,baseline' : ENGINES.join(','))).split(',').map((e) => e.trim()) as EngineName[];
+  for (const e of engines) if (!ENGINES.includes(e)) throw new Error(`--engines takes ${ENGINES.join(', ')}, got "${e}"`);
+  const runs = Number(values.runs ?? (smoke ? 1 : 3));
+  if (!Number.isInteger(runs) || runs < 1) throw new Error(`--runs must be a whole number of at least 1, got "${values.runs}"`);
+  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+}
+
+const dirOf = (size: string) => join(CACHE, `rows-${size}`);
+export const logPath = (size: string, ext: 'parquet' | 'csv' | 'arrow') => join(dirOf(size), `maple-row-demo.${ext}`);
+
+async function freeGb(path: string): Promise<number> {
+  const { stdout } = await promisify(execFile)('df', ['-Pk', path]);
+  const fields = stdout.trim().split('\n').pop()!.split(/\s+/);
+  return Number(fields[3]) / 2 ** 20;
+}
+
+/** The generator writes the CSV first and converts it; a 100M-row log needs ~8 GB of room meanwhile. */
+async function ensureLog(size: string, formats: ('parquet' | 'csv')[], log: Options['log']): Promise<void> {
+  const missing: ('parquet' | 'csv')[] = [];
+  for (const f of formats) if (!(await exists(logPath(size, f)))) missing.push(f);
+  if (missing.length === 0) return;
+  const rows = SIZES[size]!;
+  const need = (rows * 85) / 1e9 + 1;
+  await mkdir(CACHE, { recursive: true });
+  const free = await freeGb(CACHE);
+  if (free < need) throw new Error(`generating ${size} rows needs about ${need.toFixed(0)} GB free under ${CACHE}; ${free.toFixed(1)} GB are`);
+  log(`generating the ${size}-row log (${missing.join(', ')}) in ${dirOf(size)} ...`);
+  const t0 = performance.now();
+  await runChild(['--import', 'tsx', join(ROOT, 'sample-data', 'generate.ts'), '--rows', String(rows), '--out', dirOf(size), '--formats', missing.join(','), '--demo-only'], false);
+  log(`  generated in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+}
+
+async function ensureArrow(size: string, log: Options['log']): Promise<void> {
+  if (await exists(logPath(size, 'arrow'))) return;
+  await ensureLog(size, ['parquet'], log);
+  log(`writing the Arrow IPC copy of the ${size}-row log for the baseline ...`);
+  const t0 = performance.now();
+  await writeArrowCopy(logPath(size, 'parquet'), logPath(size, 'arrow'));
+  log(`  written in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+}
+
+function runChild(args: string[], timedRss: boolean): Promise<{ stdout: string; stderr: string; code: number | null }> {
+  return new Promise((done, fail) => {
+    const command = timedRss ? '/usr/bin/time' : process.execPath;
+    const child = spawn(command, timedRss ? ['-v', process.execPath, ...args] : args, { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.on('data', (d: Buffer) => { stdout += d.toString(); });
+    child.stderr.on('data', (d: Buffer) => { stderr += d.toString(); });
+    child.once('error', fail);
+    child.once('close', (code) => {
+      if (!timedRss && code !== 0) fail(new Error(`${args.join(' ')} failed (${code}): ${stderr.trim().slice(-2000)}`));
+      else done({ stdout, stderr, code });
+    });
+  });
+}
+
+const median = (xs: readonly number[]) => {
+  const s = [...xs].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2;
+};
+
+async function measureInChild(spec: MeasureSpec): Promise<MeasureResult & { timeRssMb: number }> {
+  const { stdout, stderr } = await runChild(['--import', 'tsx', join(BENCH, 'measure.ts'), JSON.stringify(spec)], true);
+  const line = stdout.split('\n').find((l) => l.startsWith('@@'));
+  if (!line) throw new Error(`the measurement printed no result: ${stderr.trim().slice(-1500)}`);
+  if (line.startsWith('@@error ')) throw new Error(JSON.parse(line.slice(8)) as string);
+  const kb = /Maximum resident set size \(kbytes\): (\d+)/.exec(stderr)?.[1];
+  return { ...(JSON.parse(line.slice(9)) as MeasureResult), timeRssMb: kb ? Number(kb) / 1024 : NaN };
+}
+
+interface Plan { size: string; engine: EngineName; format: Row['format']; kind: Kind }
+
+export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke'>): Plan[] {
+  const out: Plan[] = [];
+  const kinds: Kind[] = ['floor', 'cube', 'audit'];
+  for (const size of options.sizes) {
+    const small = SIZES[size]! <= CSV_MAX;
+    for (const engine of options.engines) {
+      if (engine === 'native') for (const format of small ? ['parquet', 'csv'] as const : ['parquet'] as const) for (const kind of kinds) out.push({ size, engine, format, kind });
+      if (engine === 'host') for (const kind of kinds) out.push({ size, engine, format: 'parquet', kind });
+      if (engine === 'wasm' && small) for (const kind of kinds) out.push({ size, engine, format: 'csv', kind });
+      if (engine === 'browser' && size === '10m') out.push({ size, engine, format: 'csv', kind: 'audit' });
+      if (engine === 'baseline' && small) out.push({ size, engine, format: 'arrow', kind: 'audit' });
+    }
+  }
+  return out;
+}
+
+async function machine(): Promise<Record<string, string | number>> {
+  const cpuinfo = await readFile('/proc/cpuinfo', 'utf8').catch(() => '');
+  return {
+    nproc: cpus().length,
+    memory_gb: Math.round((totalmem() / 2 ** 30) * 10) / 10,
+    cpu_model: /model name\s*:\s*(.+)/.exec(cpuinfo)?.[1]?.trim() ?? cpus()[0]?.model ?? 'unknown',
+    node: process.version,
+    load_average_at_start: (await readFile('/proc/loadavg', 'utf8').catch(() => '')).split(' ').slice(0, 3).join(' '),
+  };
+}
+
+const key = (r: Pick<Row, 'size' | 'engine' | 'format' | 'kind'>) => `${r.size}/${r.engine}/${r.format}/${r.kind}`;
+
+export function ratios(rows: readonly Row[]): Record<string, number> {
+  const find = (size: string, engine: string, format: string, kind: string) => rows.find((r) => r.size === size && r.engine === engine && r.format === format && r.kind === kind && !r.error && !r.skipped);
+  const out: Record<string, number> = {};
+  for (const a of rows.filter((r) => r.kind === 'audit' && !r.error && !r.skipped)) {
+    const cube = find(a.size, a.engine, a.format, 'cube');
+    const floor = find(a.size, a.engine, a.format, 'floor');
+    if (cube) out[`${key(a)} audit/cube`] = a.seconds / cube.seconds;
+    if (floor) out[`${key(a)} audit/floor`] = a.seconds / floor.seconds;
+    const native = find(a.size, 'native', a.format, 'audit');
+    if (a.engine !== 'native' && native) out[`${key(a)} ${a.engine}/native`] = a.seconds / native.seconds;
+  }
+  return out;
+}
+
+/** Least-squares line through (rows, seconds) of the native Parquet audit: seconds per million rows. */
+export function slope(rows: readonly Row[]): { secondsPerMillionRows: number; interceptSeconds: number; points: number } | null {
+  const pts = rows.filter((r) => r.engine === 'native' && r.format === 'parquet' && r.kind === 'audit' && !r.error && !r.skipped).map((r) => [r.rows / 1e6, r.seconds] as const);
+  if (pts.length < 2) return null;
+  const mx = pts.reduce((s, p) => s + p[0], 0) / pts.length;
+  const my = pts.reduce((s, p) => s + p[1], 0) / pts.length;
+  const sxy = pts.reduce((s, p) => s + (p[0] - mx) * (p[1] - my), 0);
+  const sxx = pts.reduce((s, p) => s + (p[0] - mx) ** 2, 0);
+  const b = sxy / sxx;
+  return { secondsPerMillionRows: b, interceptSeconds: my - b * mx, points: pts.length };
+}
+
+function table(rows: readonly Row[], extra: Record<string, number>): string {
+  const head = ['rows', 'engine', 'format', 'measure', 'median s', 'rows/s', 'peak RSS MB', 'host RSS MB', 'heap MB', 'runs', 'note'];
+  const lines = rows.map((r) => {
+    const ratio = r.kind === 'audit' ? [extra[`${key(r)} audit/cube`], extra[`${key(r)} audit/floor`]].map((x) => (x === undefined ? '-' : x.toFixed(1))).join(' / ') : '';
+    return [r.size, r.engine, r.format, r.kind, r.error || r.skipped ? '-' : r.seconds.toFixed(3), r.error || r.skipped ? '-' : `${(r.rowsPerSecond / 1e6).toFixed(1)}M`,
+      Number.isFinite(r.peakRssMb) ? r.peakRssMb.toFixed(0) : '-', r.hostPeakRssMb?.toFixed(0) ?? '', (r.browserPeakHeapMb ?? r.peakHeapMb).toFixed(0), r.runs.map((s) => s.toFixed(2)).join(' '),
+      r.error ? `error: ${r.error.slice(0, 80)}` : r.skipped ? `skipped: ${r.skipped}` : r.kind === 'audit' ? `audit/cube / audit/floor ${ratio}` : ''];
+  });
+  const widths = head.map((h, j) => Math.max(h.length, ...lines.map((l) => String(l[j]).length)));
+  const fmt = (l: readonly string[]) => l.map((c, j) => (j >= 4 && j <= 9 ? c.padStart(widths[j]!) : c.padEnd(widths[j]!))).join('  ');
+  return [fmt(head), widths.map((w) => '-'.repeat(w)).join('  '), ...lines.map(fmt)].join('\n');
+}
+
+export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Record<string, number>; file: string }> {
+  const { log } = options;
+  const steps = plan(options);
+  const previous: Row[] = options.smoke ? [] : await readFile(options.out, 'utf8').then((t) => (JSON.parse(t) as { results: Row[] }).results, () => []);
+  const fresh: Row[] = [];
+  for (const step of steps) {
+    const rows = SIZES[step.size]!;
+    const base: Omit<Row, 'runs' | 'seconds' | 'rowsPerSecond' | 'peakRssMb' | 'peakHeapMb' | 'answer'> = { size: step.size, rows, engine: step.engine, format: step.format, kind: step.kind };
+    let row: Row;
+    try {
+      if (step.format === 'arrow') await ensureArrow(step.size, log);
+      else await ensureLog(step.size, [step.format], log);
+      if (step.engine === 'browser') {
+        const { browserUnavailable } = await import('./browser.ts');
+        const why = await browserUnavailable();
+        if (why) {
+          row = { ...base, runs: [], seconds: NaN, rowsPerSecond: NaN, peakRssMb: NaN, peakHeapMb: NaN, answer: {}, skipped: why };
+          log(`${key(step)}: skipped (${why})`);
+          fresh.push(row);
+          continue;
+        }
+      }
+      const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup };
+      const m = await measureInChild(spec);
+      const seconds = median(m.seconds);
+      row = { ...base, runs: m.seconds, seconds, rowsPerSecond: rows / seconds, peakRssMb: m.timeRssMb, peakHeapMb: m.peakHeapMb, answer: m.answer,
+        ...(m.hostPeakRssMb !== undefined ? { hostPeakRssMb: m.hostPeakRssMb } : {}), ...(m.browserPeakHeapMb !== undefined ? { browserPeakHeapMb: m.browserPeakHeapMb } : {}) };
+      log(`${key(step)}: ${seconds.toFixed(3)} s (runs ${m.seconds.map((s) => s.toFixed(3)).join(', ')}), peak RSS ${m.timeRssMb.toFixed(0)} MB${m.hostPeakRssMb ? `, host ${m.hostPeakRssMb.toFixed(0)} MB` : ''} ${JSON.stringify(m.answer)}`);
+    } catch (error) {
+      row = { ...base, runs: [], seconds: NaN, rowsPerSecond: NaN, peakRssMb: NaN, peakHeapMb: NaN, answer: {}, error: (error as Error).message };
+      log(`${key(step)}: error ${(error as Error).message}`);
+    }
+    fresh.push(row);
+  }
+  const merged = [...previous.filter((p) => !fresh.some((f) => key(f) === key(p))), ...fresh];
+  const order = (r: Row) => [SIZES[r.size]!, ENGINES.indexOf(r.engine), r.format, ['floor', 'cube', 'audit'].indexOf(r.kind)] as const;
+  merged.sort((a, b) => {
+    const x = order(a), y = order(b);
+    return x[0] - y[0] || x[1] - y[1] || x[2].localeCompare(y[2]) || x[3] - y[3];
+  });
+  const extra = ratios(merged);
+  const fit = slope(merged);
+  log(`\n${table(merged, extra)}\n`);
+  for (const [k, v] of Object.entries(extra)) if (/wasm|host|browser|baseline/.test(k) && !/audit\/(cube|floor)/.test(k)) log(`${k}: ${v.toFixed(2)}`);
+  if (fit) log(`native Parquet audit: ${fit.secondsPerMillionRows.toFixed(3)} s per million rows + ${fit.interceptSeconds.toFixed(2)} s (least squares over ${fit.points} sizes)`);
+  const output = { schema: 'counterweight.bench/1', generated_at: new Date().toISOString(), machine: await machine(), options: { runs: options.runs, warmup: options.warmup, smoke: options.smoke }, results: merged, ratios: extra, linear_fit: fit };
+  await mkdir(dirname(options.out), { recursive: true });
+  await writeFile(`${options.out}.partial`, `${JSON.stringify(output, null, 2)}\n`);
+  await rename(`${options.out}.partial`, options.out);
+  log(`wrote ${options.out}`);
+  return { rows: merged, ratios: extra, file: options.out };
+}
+
+if (process.argv[1] && resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
+  let options: Options;
+  try {
+    options = parseOptions(process.argv.slice(2));
+  } catch (error) {
+    process.stderr.write(`bench: ${(error as Error).message}\n`);
+    process.exit(2);
+  }
+  bench(options).catch(async (error: unknown) => {
+    process.stderr.write(`bench: ${error instanceof Error ? error.message : String(error)}\n`);
+    await rm(`${options.out}.partial`, { force: true });
+    process.exitCode = 1;
+  });
+}
