@@ -88,7 +88,7 @@ export function App() {
       <Nav view={view} onGo={go} hasSource={source !== null} hasReport={report !== null} running={status.kind === 'running'} checks={report?.checks ?? []} />
       <main id="main" tabIndex={-1}>
         {status.kind === 'failed' && view.screen !== 'run' && (
-          <div className="problems" role="alert"><strong>That did not work.</strong> {status.message}</div>
+          <div className="problems" role="alert"><strong>{status.source ? 'The audit could not finish.' : 'This log could not be opened.'}</strong> {status.message}</div>
         )}
         {main}
       </main>

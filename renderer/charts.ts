@@ -1,6 +1,7 @@
 import type { EChartsCoreOption } from 'echarts';
 import { chartForSeries as buildSeries, chartHeight, estimatesOption } from '../app/charts/index.ts';
 import type { Series, TargetSummary } from '../app/core/model/report.ts';
+import { formatValue } from './format.ts';
 
 /** The app/charts option for a series, or null when it holds nothing to draw (its table is shown). */
 export function chartForSeries(series: Series): EChartsCoreOption | null {
@@ -20,21 +21,39 @@ export function shortTime(label: string): string {
   return time === '00:00' ? day : `${day} ${time}`;
 }
 
-function shortenTimeAxis(axis: unknown): unknown {
-  if (!isObj(axis) || !Array.isArray(axis.data) || !axis.data.every((d) => typeof d === 'string' && ISO_TIME.test(d))) return axis;
+function readableAxis(axis: unknown): unknown {
+  if (!isObj(axis) || !Array.isArray(axis.data)) return axis;
   const label = isObj(axis.axisLabel) ? axis.axisLabel : {};
-  return { ...axis, axisLabel: { ...label, rotate: 0, hideOverlap: true, interval: 'auto', formatter: shortTime } };
+  if (axis.data.every((d) => typeof d === 'string' && ISO_TIME.test(d))) {
+    return { ...axis, axisLabel: { ...label, rotate: 0, hideOverlap: true, interval: 'auto', formatter: shortTime } };
+  }
+  // Dozens of segment names cannot all be printed under a bar chart; the table view lists them.
+  return axis.data.length > 24 ? { ...axis, axisLabel: { ...label, interval: 'auto', hideOverlap: true } } : axis;
+}
+
+function valueOf(p: { value?: unknown }): unknown {
+  return Array.isArray(p.value) ? p.value[p.value.length - 1] : p.value;
+}
+
+/** Bar labels print the value as the page's tables do, not as a 17-digit float. */
+function readableLabels(series: unknown): unknown {
+  if (!Array.isArray(series)) return series;
+  return series.map((s: unknown) => {
+    if (!isObj(s) || s.type !== 'bar' || !isObj(s.label) || s.label.show !== true) return s;
+    return { ...s, label: { ...s.label, formatter: (p: { value?: unknown }) => { const v = valueOf(p); return typeof v === 'number' ? formatValue(v) : ''; } } };
+  });
 }
 
 /**
  * Page-only presentation: the caption above each chart already names it and its unit, so the option's own
- * title and y-axis name would say it twice (and overlap); time buckets are labelled by day, not full ISO text.
+ * title and y-axis name would say it twice (and overlap); time buckets are labelled by day, not full ISO text;
+ * numbers on bars are shortened as elsewhere on the page.
  */
 function withoutTitle(option: Obj): EChartsCoreOption {
   const title = isObj(option.title) ? option.title : {};
   const grid = isObj(option.grid) ? option.grid : {};
   const yAxis = isObj(option.yAxis) ? { ...option.yAxis, name: '' } : option.yAxis;
-  return { ...option, title: { ...title, show: false }, grid: { ...grid, top: 24 }, xAxis: shortenTimeAxis(option.xAxis), yAxis } as EChartsCoreOption;
+  return { ...option, title: { ...title, show: false }, grid: { ...grid, top: 24 }, xAxis: readableAxis(option.xAxis), yAxis, series: readableLabels(option.series) } as EChartsCoreOption;
 }
 
 export function heightForSeries(series: Series): number {

@@ -9,7 +9,7 @@ export function formatValue(value: Cell | undefined): string {
     const abs = Math.abs(value);
     if (abs !== 0 && (abs < 0.001 || abs >= 1e9)) return value.toExponential(3);
     // Counts and sums keep every integer digit; only the fraction is shortened.
-    return abs >= 1000 ? value.toLocaleString('en', { maximumFractionDigits: 1 }) : value.toLocaleString('en', { maximumSignificantDigits: 4 });
+    return abs >= 1000 ? value.toLocaleString('en', { maximumFractionDigits: 0 }) : value.toLocaleString('en', { maximumSignificantDigits: 4 });
   }
   if (typeof value === 'bigint') return value.toLocaleString('en');
   if (typeof value === 'boolean') return value ? 'yes' : 'no';

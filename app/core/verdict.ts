@@ -46,7 +46,7 @@ export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): Se
     const flags: string[] = [];
     for (const c of drift) {
       for (const f of c.findings) {
-        if (f.status === 'pass' || !matches(f.segment, ctx.segmentColumns, s.segment)) continue;
+        if (f.status === 'pass' || Object.keys(f.segment).length === 0 || !matches(f.segment, ctx.segmentColumns, s.segment)) continue;
         const label = `${c.id}${f.action ? ` (${f.action})` : ''}${Object.keys(f.segment).length ? ` in ${describeSegment(f.segment)}` : ''}`;
         if (!flags.includes(label)) flags.push(label);
       }

@@ -54,7 +54,7 @@ export function OpenScreen({ recent, onShowReport, onForgetRecent }: Props) {
                 <li key={r.id}>
                   <VerdictBadge verdict={r.verdict} compact />
                   <span className="recent-label">{r.label}</span>
-                  <span className="muted">{r.rows.toLocaleString('en')} rows · {new Date(r.at).toLocaleString('en-GB')}</span>
+                  <span className="muted">{r.rows.toLocaleString('en')} rows · {new Date(r.at).toLocaleString('en-GB', { dateStyle: 'medium', timeStyle: 'short' })}</span>
                   {r.report ? (
                     <button type="button" className="button small" onClick={() => onShowReport(r.report as Report)}>View report</button>
                   ) : (

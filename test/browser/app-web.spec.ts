@@ -1,6 +1,7 @@
 /** The app in standalone web mode (DuckDB-Wasm in a worker) on the Maple Row Market demo log, screen by screen. */
 import { readFileSync } from 'node:fs';
 import { expect, test, type Page } from '@playwright/test';
+import { validateReport } from '../../app/report/json.ts';
 import { reportDigest } from '../../app/report/signoff.ts';
 
 const DEMO_CSV = 'sample-data/maple-row-demo.csv';
@@ -108,6 +109,7 @@ test('the demo button opens the demo log, suggests its roles, and the audit find
     checks: { id: string; status: string; findings: unknown[] }[];
   };
   expect(exported.schema).toBe('counterweight.report/1');
+  expect(validateReport(exported).errors).toEqual([]);
   expect(exported.verdict).toBe('not-supported');
   expect(exported.signoff).toMatchObject({ reviewer: 'R. Okafor', decision: 'reject' });
   const WORD = { pass: 'Pass', warn: 'Warning', fail: 'Fail', skipped: 'Skipped' } as Record<string, string>;

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../renderer/engine/status.ts';
 import { chooseFormat } from '../../renderer/engine/source-files.ts';
+import { shortTime } from '../../renderer/charts.ts';
 import { detectMode } from '../../renderer/engine/mode.ts';
 import { targetProblems } from '../../renderer/state/draft.ts';
 import { loadRecent, rememberAudit } from '../../renderer/state/recent.ts';
@@ -114,5 +115,15 @@ describe('recent audits', () => {
     const storage = new MemoryStorage() as unknown as Storage;
     storage.setItem('counterweight.recent-audits', '{not json');
     expect(loadRecent(storage)).toEqual([]);
+  });
+});
+
+describe('time bucket labels on page charts', () => {
+  it.each([
+    ['2026-03-02T00:00:00.000Z', '03-02'],
+    ['2026-03-02T06:00:00.000Z', '03-02 06:00'],
+    ['bakery', 'bakery'],
+  ])('%s -> %s', (label, expected) => {
+    expect(shortTime(label)).toBe(expected);
   });
 });

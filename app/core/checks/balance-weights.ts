@@ -79,8 +79,13 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   ];
   const q = ctx.settings['balance.q'];
   const minEffect = ctx.settings['balance.min_effect'];
-  const bh = benjaminiHochberg(tests.map((t) => t.p), q);
-  const significant = tests.map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean })).filter((x) => x.rejected && Math.abs(x.t.balance - 1) > minEffect);
+  // Where an action's propensity drops below the floor somewhere in a group's segment, its few huge
+  // weights dominate B and are often absent from a given bucket, so B and its SE are unreliable there;
+  // support.floor reports those cells. Tests of an action never logged in the group stay.
+  const low = lowFloorIndex(cells, cols, floor);
+  const tested = tests.filter((t) => Number.isNaN(t.z) || !low.has(`${JSON.stringify(t.segment)}|${t.action}`));
+  const bh = benjaminiHochberg(tested.map((t) => t.p), q);
+  const significant = tested.map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean })).filter((x) => x.rejected && Math.abs(x.t.balance - 1) > minEffect);
   const flagged = explainAway(significant, cells, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), floor);
   const versionWindows = versionSpans(ctx);
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj }) => {
@@ -107,13 +112,13 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const status = flagged.length ? 'fail' : 'pass';
   const overall = tests.filter((t) => t.scope === 'action');
   const summary = flagged.length
-    ? `${significant.length} of ${tests.length} balance tests fail (BH q = ${q}, |B − 1| > ${minEffect}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.`
-    : `All ${tests.length} balance tests hold (BH q = ${q}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.`;
+    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, |B − 1| > ${minEffect}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.`
+    : `All ${tested.length} balance tests hold (BH q = ${q}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.`;
   return result(
     'balance.weights',
     status,
     summary,
-    { tests: tests.length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length },
+    { tests: tested.length, skipped_below_floor: tests.length - tested.length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length },
     findings,
     ['balance.q', 'balance.min_effect'],
     [
@@ -146,6 +151,18 @@ function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readon
     if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) kept.push(x);
   }
   return kept;
+}
+
+/** Keys `${JSON.stringify(segment)}|action` of (segment pattern, action) pairs with a propensity below the floor. */
+function lowFloorIndex(cells: readonly CubeCell[], cols: readonly string[], floor: number): Set<string> {
+  const out = new Set<string>();
+  for (const c of cells) {
+    if (c.minP === null || c.minP >= floor) continue;
+    out.add(`${JSON.stringify({})}|${c.action}`);
+    cols.forEach((col, j) => out.add(`${JSON.stringify({ [col]: c.segment[j] })}|${c.action}`));
+    out.add(`${JSON.stringify(segmentRecord(cols, c.segment))}|${c.action}`);
+  }
+  return out;
 }
 
 function balanceHeatmap(tests: readonly Test[], cols: readonly string[], actions: readonly string[]) {
