@@ -23,7 +23,7 @@ export default defineConfig({
     },
   ],
   webServer: {
-    command: `npx vite --host 127.0.0.1 --port ${PORT} --strictPort`,
+    command: `CW_NO_HMR=1 npx vite --host 127.0.0.1 --port ${PORT} --strictPort`,
     url: `http://127.0.0.1:${PORT}/engine-harness.html`,
     reuseExistingServer: !process.env.CI,
     timeout: 60_000,

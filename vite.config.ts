@@ -14,6 +14,8 @@ export default defineConfig({
     strictPort: true,
     // The renderer imports app/ and node_modules/ from the repository root.
     fs: { allow: ['..'] },
+    // Browser tests set CW_NO_HMR: a file saved during a run must not reload the page under test.
+    ...(process.env.CW_NO_HMR ? { hmr: false, watch: null } : {}),
   },
   // DuckDB-Wasm ships its own worker and .wasm files; pre-bundling would break their asset URLs.
   optimizeDeps: { exclude: ['@duckdb/duckdb-wasm'] },

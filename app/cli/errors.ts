@@ -1,5 +1,19 @@
 /** Exit codes of the command (documented in `counterweight --help`). */
-export const EXIT = { supported: 0, caveats: 1, notSupported: 2, verifyFailed: 2, usage: 3 } as const;
+export const EXIT = { supported: 0, caveats: 1, notSupported: 2, verifyFailed: 2, usage: 3, interrupted: 130 } as const;
+
+/** The command was interrupted (Ctrl-C or SIGTERM) and stopped without writing a report. */
+export class InterruptedError extends Error {
+  constructor() {
+    super('interrupted: the audit was stopped before it finished; no report was written.');
+    this.name = 'InterruptedError';
+  }
+}
+
+/** A cancellation seen from the engine or the core after the command's signal was aborted. */
+export function isCancellation(error: unknown): boolean {
+  if (!(error instanceof Error)) return false;
+  return error.name === 'InterruptedError' || error.name === 'AuditCancelled' || (error.name === 'EngineError' && (error as Error & { code?: string }).code === 'cancelled');
+}
 
 /** A usage or input problem: printed as one line, exit code 3, no stack trace. */
 export class UsageError extends Error {

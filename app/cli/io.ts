@@ -9,6 +9,8 @@ export interface CliIo {
   readonly stderr: OutStream;
   readonly env: Readonly<Record<string, string | undefined>>;
   readonly cwd: string;
+  /** Aborted when the user interrupts the command (Ctrl-C); long commands stop at the next chance. */
+  readonly signal?: AbortSignal;
 }
 
 /** Colour on a terminal only, and never when NO_COLOR is set to a non-empty value (no-color.org). */

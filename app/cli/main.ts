@@ -1,7 +1,7 @@
 /** Entry of the `counterweight` command: dispatch, exit codes, and errors as one line (stack with --debug). */
 import { readFileSync } from 'node:fs';
 import { parseArgs, helpText, type CommandSpec, type ParsedArgs } from './args.ts';
-import { EXIT, isInputError, UsageError } from './errors.ts';
+import { EXIT, InterruptedError, isCancellation, isInputError, UsageError } from './errors.ts';
 import type { CliIo } from './io.ts';
 import { auditSpec, runAuditCommand } from './commands/audit.ts';
 import { inspectSpec, runInspect } from './commands/inspect.ts';
@@ -44,7 +44,7 @@ function topHelp(): string {
     ...COMMANDS.map((c) => `  ${c.spec.name.padEnd(width)}${c.spec.summary.split('\n')[0]}`),
     '',
     'Run counterweight <command> --help for its options.',
-    'Exit status: 0 supported, 1 supported with caveats (only with --fail-on warn), 2 not supported or verification failed, 3 usage or input error.',
+    'Exit status: 0 supported, 1 supported with caveats (only with --fail-on warn), 2 not supported or verification failed, 3 usage or input error, 130 interrupted.',
     '',
   ].join('\n');
 }
@@ -70,6 +70,10 @@ export async function main(argv: readonly string[], io: CliIo): Promise<number> 
     }
     return await command.run(args, io);
   } catch (error) {
+    if (io.signal?.aborted && isCancellation(error)) {
+      io.stderr.write(`counterweight: ${new InterruptedError().message}\n`);
+      return EXIT.interrupted;
+    }
     if (isInputError(error)) {
       io.stderr.write(`counterweight: ${error.message}\n`);
       if (debug && error.stack) io.stderr.write(`${error.stack}\n`);
@@ -84,5 +88,20 @@ export async function main(argv: readonly string[], io: CliIo): Promise<number> 
 
 /** Runs the command for this process and sets its exit code (bin/counterweight.mjs calls this). */
 export async function runProcess(): Promise<void> {
-  process.exitCode = await main(process.argv.slice(2), { stdout: process.stdout, stderr: process.stderr, env: process.env, cwd: process.cwd() });
+  const controller = new AbortController();
+  let interrupts = 0;
+  // The first Ctrl-C cancels the running query and lets the command clean up; a second one quits at once.
+  const interrupt = (): void => {
+    interrupts++;
+    if (interrupts > 1) process.exit(EXIT.interrupted);
+    controller.abort();
+  };
+  process.on('SIGINT', interrupt);
+  process.on('SIGTERM', interrupt);
+  try {
+    process.exitCode = await main(process.argv.slice(2), { stdout: process.stdout, stderr: process.stderr, env: process.env, cwd: process.cwd(), signal: controller.signal });
+  } finally {
+    process.off('SIGINT', interrupt);
+    process.off('SIGTERM', interrupt);
+  }
 }

@@ -140,7 +140,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   progress('tails');
   if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
   if (rowsExpr) {
-    const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, view.actions);
+    const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
     targets = policies.map((p) => analyseTarget(p, view));
     for (const t of targets) {
       guard();
@@ -183,6 +183,17 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     signoff: null,
   };
   return { report, cells, profile };
+}
+
+/**
+ * Actions that get an implicit always:<action> target: all of them, or the `cap` most logged when
+ * there are more (each target costs one tail scan; a catalogue of 10^4 items must not cost 10^4 scans).
+ */
+function implicitActions(cells: readonly CubeCell[], actions: readonly string[], cap: number): readonly string[] {
+  if (actions.length <= cap) return actions;
+  const rows = new Map<string, number>();
+  for (const c of cells) rows.set(c.action, (rows.get(c.action) ?? 0) + c.n);
+  return [...actions].sort((a, b) => (rows.get(b) ?? 0) - (rows.get(a) ?? 0) || (a < b ? -1 : a > b ? 1 : 0)).slice(0, cap).sort();
 }
 
 const CHECK_IDS = ['schema.roles', 'identity.duplicates', 'time.coverage', 'propensity.range', 'propensity.exploration', 'support.floor', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview'] as const;

@@ -39,12 +39,48 @@ export interface ErrorContext {
   files?: readonly string[];
 }
 
+/**
+ * DuckDB's reader errors carry a list of possible fixes and the reader's whole option dump; the user gets
+ * what is wrong, where (file, line), and one thing to do. Returns null for errors that are not about reading.
+ */
+function readerProblem(raw: string): { file?: string; message: string } | null {
+  const file = /^\s*file = (.+)$/m.exec(raw)?.[1]?.trim() ?? /(?:sniffing|read) file "([^"]+)"/.exec(raw)?.[1];
+  const at = file ? { file } : {};
+  const line = /CSV Error on Line: (\d+)/.exec(raw)?.[1];
+  if (/Invalid unicode|not utf-8 encoded/i.test(raw)) {
+    return { ...at, message: `it is not UTF-8 text (invalid byte sequence${line ? ` near line ${line}` : ''}). Save it as UTF-8, e.g. iconv -f latin1 -t utf-8 old.csv > new.csv, and audit the copy.` };
+  }
+  if (/It was not possible to automatically detect the CSV parsing dialect/.test(raw)) {
+    return { ...at, message: 'it does not read as CSV: no delimiter splits its lines into the same number of fields. Check that it is a CSV or TSV text file.' };
+  }
+  if (line) {
+    const reason = raw.split('\n').map((l) => l.trim()).find((l) => l && !/^(Invalid Input Error|CSV Error|Original Line|Possible|file =)/.test(l) && !/^[a-z_]+ = /.test(l));
+    return { ...at, message: `line ${line}: ${reason ?? 'the row cannot be parsed'}` };
+  }
+  const mismatch = /schema mismatch in glob: (.*?)(\n|$)/.exec(raw);
+  if (mismatch) {
+    return { message: `the files do not share one schema: ${mismatch[1]} Audit files with the same columns together.` };
+  }
+  if (/No magic bytes found at end of file|too small to be a Parquet file/.test(raw)) {
+    const named = /file '([^']+)'/.exec(raw)?.[1];
+    return { ...(named ? { file: named } : at), message: 'it is not a complete Parquet file (the Parquet footer is missing): it may be cut short, or be another format under a .parquet name.' };
+  }
+  return null;
+}
+
 export function toEngineError(error: unknown, context: ErrorContext = {}): EngineError {
   if (error instanceof EngineError) return error;
   const raw = normalise(error instanceof Error ? error.message : String(error));
   const kind = KIND_CODES.find(([re]) => re.test(raw));
   let code: EngineErrorCode = kind?.[1] ?? 'internal';
   if (/is not in the catalog, but it exists in the \w+ extension/.test(raw)) code = 'extension-unavailable';
+  if (code === 'io' || code === 'sql') {
+    const problem = readerProblem(raw);
+    if (problem) {
+      const file = problem.file ?? (context.files?.length === 1 ? context.files[0] : undefined);
+      return new EngineError('io', `Cannot read ${file ? `"${file}"` : 'the log'}: ${problem.message}`);
+    }
+  }
   const detail = plainDuckDBMessage(raw);
   // "Invalid Input" about one of the source's own files (e.g. not really Parquet) is a problem with the file.
   if (code === 'sql' && /^Invalid Input Error/i.test(raw) && (context.files ?? []).some((f) => raw.includes(f))) code = 'io';

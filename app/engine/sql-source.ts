@@ -8,7 +8,9 @@ import { EngineError } from './types.ts';
 
 /** SQL string literal: single quotes doubled (SQL-92 §5.3 <character string literal>). */
 export function quoteLiteral(text: string): string {
-  return `'${text.replaceAll("'", "''")}'`;
+  const quoted = `'${text.replaceAll("'", "''")}'`;
+  // A NUL would end DuckDB's parse of the statement there.
+  return text.includes('\0') ? `(${quoted.split('\0').join("' || chr(0) || '")})` : quoted;
 }
 
 /** SQL delimited identifier: double quotes doubled (SQL-92 §5.2 <delimited identifier>). */

@@ -47,7 +47,12 @@ export function roleProblems(draft: AuditDraft, profile: Profile): DraftProblem[
   if (own.length > 0) return own;
   try {
     const resolved = resolveRoles(profile, { ...draft.roles, segments: draft.segments });
-    return validateRoles(profile, resolved).map((p) => ({ severity: p.severity, message: p.message }));
+    // The core fills an unmapped role from its suggestion, so "none" cannot switch a suggested role off.
+    const refilled = SINGLE_ROLES.filter((r) => !draft.roles[r] && resolved[r]).map((r) => ({
+      severity: 'warn' as const,
+      message: `${ROLE_LABELS[r].label} is set to none, but the audit will still use the suggested column "${resolved[r]}".`,
+    }));
+    return [...refilled, ...validateRoles(profile, resolved).map((p) => ({ severity: p.severity, message: p.message }))];
   } catch (error) {
     return [{ severity: 'fail', message: error instanceof Error ? error.message : String(error) }];
   }

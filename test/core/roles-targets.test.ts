@@ -98,3 +98,13 @@ describe('settings', () => {
     expect(resolveSettings({ 'support.floor.epsilon': '0.05' })['support.floor.epsilon']).toBe(0.05);
   });
 });
+
+describe('role overrides of none', () => {
+  it('null turns a suggested role off', async () => {
+    const p = await profileOf(`SELECT 'v7' AS policy_version, 0.5 AS propensity, 'x' AS action, 1 AS reward FROM range(3)`);
+    expect(resolveRoles(p).policy_version).toBe('policy_version');
+    const r = resolveRoles(p, { policy_version: null });
+    expect(r.policy_version).toBeNull();
+    expect(r.reasons.policy_version).toBe('override: none');
+  });
+});

@@ -3,7 +3,8 @@ import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../re
 import { chooseFormat } from '../../renderer/engine/source-files.ts';
 import { shortTime } from '../../renderer/charts.ts';
 import { detectMode } from '../../renderer/engine/mode.ts';
-import { targetProblems } from '../../renderer/state/draft.ts';
+import { EMPTY_DRAFT, roleProblems, targetProblems } from '../../renderer/state/draft.ts';
+import type { ColumnProfile, Profile } from '../../app/core/scan/profile.ts';
 import { loadRecent, rememberAudit } from '../../renderer/state/recent.ts';
 import type { Report } from '../../app/core/model/report.ts';
 
@@ -125,5 +126,40 @@ describe('time bucket labels on page charts', () => {
     ['bakery', 'bakery'],
   ])('%s -> %s', (label, expected) => {
     expect(shortTime(label)).toBe(expected);
+  });
+});
+
+describe('role mapping problems', () => {
+  const col = (name: string, type: string, kind: ColumnProfile['kind'], extra: Partial<ColumnProfile> = {}): ColumnProfile => ({
+    name, type, kind, nonNull: 100, distinct: 5, min: null, max: null, nan: 0, infinite: 0, nonBinary: 0, nonInteger: 0,
+    parsedAsNumber: 0, parsedAsTime: 0, minTimeUs: null, maxTimeUs: null, ...extra,
+  });
+  const profile: Profile = {
+    rows: 100,
+    columns: [
+      col('promotion', 'VARCHAR', 'text'),
+      col('propensity', 'DOUBLE', 'numeric', { min: 0.1, max: 0.9, nonBinary: 100, nonInteger: 100, distinct: 40 }),
+      col('ordered', 'INTEGER', 'numeric', { min: 0, max: 1, distinct: 2 }),
+      col('policy_version', 'VARCHAR', 'text', { distinct: 2 }),
+    ],
+  };
+  const roles = { action: 'promotion', propensity: 'propensity', reward: 'ordered' };
+
+  it('asks for each missing required role in words', () => {
+    const problems = roleProblems({ ...EMPTY_DRAFT, roles: { action: 'promotion' } }, profile);
+    expect(problems.map((p) => p.message)).toEqual([
+      'Choose a column for propensity: the audit cannot run without it.',
+      'Choose a column for reward: the audit cannot run without it.',
+    ]);
+  });
+
+  it('refuses one column in two roles', () => {
+    const problems = roleProblems({ ...EMPTY_DRAFT, roles: { ...roles, policy_version: 'promotion' } }, profile);
+    expect(problems.map((p) => p.message)).toContain('Column "promotion" is used for action and policy version; each column can play one role.');
+  });
+
+  it('warns when "none" cannot switch off a role the core will still fill from its suggestion', () => {
+    const problems = roleProblems({ ...EMPTY_DRAFT, roles }, profile);
+    expect(problems).toContainEqual({ severity: 'warn', message: 'Policy version is set to none, but the audit will still use the suggested column "policy_version".' });
   });
 });

@@ -1,4 +1,4 @@
-import { writeFileSync } from 'node:fs';
+import { renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Report, Verdict } from '../../core/model/report.ts';
 import type { Engine } from '../../engine/types.ts';
@@ -7,7 +7,7 @@ import { serializeReport } from '../../report/json.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { listFlag, stringFlag } from '../args.ts';
 import { loadSettingsFile, parseRoleFlags, readTargets } from '../audit-options.ts';
-import { EXIT, UsageError } from '../errors.ts';
+import { EXIT, InterruptedError, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
 import { ProgressLine, type RowProgress } from '../progress.ts';
 import { describeColumns, ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
@@ -57,15 +57,21 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     const e = engine as (Engine & { progress?: () => RowProgress }) | undefined;
     return e?.progress?.();
   });
+  const { signal } = io;
+  const stopIfInterrupted = (): void => {
+    if (signal?.aborted) throw new InterruptedError();
+  };
   try {
     progress.stage('opening the log');
     engine = await openEngine(engineChoice);
+    stopIfInterrupted();
     const source = await registerSources(engine, positionals, io.cwd);
     guardOutputs([jsonOut, htmlOut], source.files, io.cwd);
     progress.stage('fingerprinting input files');
     const files = await fingerprintFiles(source.files, io.cwd);
+    stopIfInterrupted();
     const columns = await describeColumns(engine, source.relation);
-    const report: Report = await core.runAudit((sql) => (engine as Engine).query(sql), {
+    const report: Report = await core.runAudit((sql) => (engine as Engine).query(sql, { signal }), {
       relation: source.relation,
       input: { files, format: source.format },
       scanSql: source.scanSql,
@@ -74,8 +80,10 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       ...(settings ? { settings } : {}),
       onProgress: (p) => { if (!p.done) progress.stage(STAGE_NAMES[p.stage] ?? p.stage); },
       engine: engine.kind,
+      ...(signal ? { signal } : {}),
     });
     progress.stop();
+    stopIfInterrupted();
     await writeOutputs(report, jsonOut, htmlOut, io);
     if (!quiet) {
       const summaryStream = jsonOut === '-' ? io.stderr : io.stdout;
@@ -108,10 +116,21 @@ async function writeOutputs(report: Report, jsonOut: string | undefined, htmlOut
   }
 }
 
+/** Written beside the target and renamed over it, so an interrupted write never leaves a partial report. */
 export function writeFile(file: string, text: string, cwd: string): void {
+  const target = path.resolve(cwd, file);
+  const partial = `${target}.${process.pid}.partial`;
   try {
-    writeFileSync(path.resolve(cwd, file), text);
+    // A device or pipe (/dev/stdout, a FIFO) is written in place; renaming over it would replace it.
+    const existing = statSync(target, { throwIfNoEntry: false });
+    if (existing && !existing.isFile()) {
+      writeFileSync(target, text);
+      return;
+    }
+    writeFileSync(partial, text);
+    renameSync(partial, target);
   } catch (error) {
+    rmSync(partial, { force: true });
     throw new UsageError(`cannot write ${file}: ${(error as NodeJS.ErrnoException).code ?? (error as Error).message}`);
   }
 }

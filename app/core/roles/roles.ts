@@ -9,16 +9,17 @@ export type SingleRole = (typeof SINGLE_ROLES)[number];
 export type RoleName = SingleRole | 'segments';
 export const REQUIRED_ROLES: readonly SingleRole[] = ['action', 'propensity', 'reward'];
 
+/** A column name maps a role; null says "this log has no such column" (no suggestion is used). */
 export interface RoleOverrides {
-  readonly decision_id?: string;
-  readonly time?: string;
-  readonly action?: string;
-  readonly propensity?: string;
-  readonly reward?: string;
-  readonly policy_version?: string;
-  readonly target_propensity?: string;
-  readonly propensity_vector?: string;
-  readonly action_set_size?: string;
+  readonly decision_id?: string | null;
+  readonly time?: string | null;
+  readonly action?: string | null;
+  readonly propensity?: string | null;
+  readonly reward?: string | null;
+  readonly policy_version?: string | null;
+  readonly target_propensity?: string | null;
+  readonly propensity_vector?: string | null;
+  readonly action_set_size?: string | null;
   readonly segments?: readonly string[];
 }
 
@@ -197,7 +198,10 @@ export function resolveRoles(profile: Profile, overrides: RoleOverrides = {}): R
   const overridden = new Set<string>();
   for (const role of SINGLE_ROLES) {
     const o = overrides[role];
-    if (o !== undefined && o !== '') {
+    if (o === null) {
+      single[role] = null;
+      reasons[role] = 'override: none';
+    } else if (o !== undefined && o !== '') {
       check(role, o);
       single[role] = o;
       reasons[role] = 'override';

@@ -61,19 +61,43 @@ export function parseDescribe(table: Table): ColumnInfo[] {
   return names.map((n, i) => ({ name: String(n), type: String(types[i]) }));
 }
 
+/*
+ * A failed TRY_CAST from text costs DuckDB about a microsecond a row (it builds an error message), so
+ * text that cannot parse is screened out first by its first character: a cheap necessary condition,
+ * checked against DuckDB's own casts in test/bench/profile-guards.test.ts. After the leading ASCII
+ * whitespace DuckDB skips, a TIMESTAMP starts with a digit or '-', or is infinity/epoch (any case,
+ * 'inf' included); a DOUBLE starts with a digit, '+', '-' or '.', or is inf/infinity/nan (any case).
+ */
+const LEADING_SPACE = '9, 10, 11, 12, 13, 32';
+
+export function mayParseAsTime(col: string): string {
+  return `(ascii(${col}) BETWEEN 48 AND 57 OR ascii(${col}) IN (${LEADING_SPACE}, 45) OR (ascii(${col}) IN (69, 73, 101, 105) AND (${col} ILIKE 'inf%' OR ${col} ILIKE 'epoch%')))`;
+}
+
+export function mayParseAsNumber(col: string): string {
+  return `(ascii(${col}) BETWEEN 48 AND 57 OR ascii(${col}) IN (${LEADING_SPACE}, 43, 45, 46) OR (ascii(${col}) IN (73, 78, 105, 110) AND (${col} ILIKE 'inf%' OR ${col} ILIKE 'nan%')))`;
+}
+
 function timeUs(expr: string, kind: ColumnKind): string {
   return kind === 'temporal' ? `epoch_us(CAST(${expr} AS TIMESTAMP))` : `epoch_us(TRY_CAST(${expr} AS TIMESTAMP))`;
 }
 
+/** Per-row values the aggregates share, computed once in an inner projection (aliases cannot clash with a log's names). */
+const derived = (j: number, what: 'd' | 't') => ident(`cw:${what}${j}`);
+
 export function profileSql(relation: string, columns: readonly ColumnInfo[]): string {
   const parts: string[] = ['count(*)::DOUBLE AS "rows"'];
+  const inner: string[] = [];
   columns.forEach((c, j) => {
     const col = ident(c.name);
     const kind = columnKind(c.type);
+    inner.push(col);
     parts.push(`count(${col})::DOUBLE AS "c${j}_nn"`);
     if (kind !== 'other') parts.push(`approx_count_distinct(${col})::DOUBLE AS "c${j}_nd"`);
+    const d = derived(j, 'd');
+    const t = derived(j, 't');
     if (kind === 'numeric') {
-      const d = `CAST(${col} AS DOUBLE)`;
+      inner.push(`CAST(${col} AS DOUBLE) AS ${d}`);
       parts.push(
         `min(${d}) FILTER (WHERE NOT isnan(${d})) AS "c${j}_min"`,
         `max(${d}) FILTER (WHERE NOT isnan(${d})) AS "c${j}_max"`,
@@ -83,21 +107,24 @@ export function profileSql(relation: string, columns: readonly ColumnInfo[]): st
         `count(*) FILTER (WHERE isfinite(${d}) AND ${d} <> floor(${d}))::DOUBLE AS "c${j}_ni"`,
       );
     } else if (kind === 'text') {
+      inner.push(`CASE WHEN ${mayParseAsNumber(col)} THEN TRY_CAST(${col} AS DOUBLE) END AS ${d}`, `CASE WHEN ${mayParseAsTime(col)} THEN TRY_CAST(${col} AS TIMESTAMP) END AS ${t}`);
       parts.push(
-        `count(TRY_CAST(${col} AS DOUBLE))::DOUBLE AS "c${j}_pn"`,
-        `count(TRY_CAST(${col} AS TIMESTAMP))::DOUBLE AS "c${j}_pt"`,
-        `min(${timeUs(col, kind)})::DOUBLE AS "c${j}_tmin"`,
-        `max(${timeUs(col, kind)})::DOUBLE AS "c${j}_tmax"`,
-        `min(TRY_CAST(${col} AS DOUBLE)) FILTER (WHERE NOT isnan(TRY_CAST(${col} AS DOUBLE))) AS "c${j}_min"`,
-        `max(TRY_CAST(${col} AS DOUBLE)) FILTER (WHERE NOT isnan(TRY_CAST(${col} AS DOUBLE))) AS "c${j}_max"`,
+        `count(${d})::DOUBLE AS "c${j}_pn"`,
+        `count(${t})::DOUBLE AS "c${j}_pt"`,
+        `min(epoch_us(${t}))::DOUBLE AS "c${j}_tmin"`,
+        `max(epoch_us(${t}))::DOUBLE AS "c${j}_tmax"`,
+        `min(${d}) FILTER (WHERE NOT isnan(${d})) AS "c${j}_min"`,
+        `max(${d}) FILTER (WHERE NOT isnan(${d})) AS "c${j}_max"`,
       );
     } else if (kind === 'temporal') {
-      parts.push(`min(${timeUs(col, kind)})::DOUBLE AS "c${j}_tmin"`, `max(${timeUs(col, kind)})::DOUBLE AS "c${j}_tmax"`);
+      inner.push(`${timeUs(col, kind)} AS ${t}`);
+      parts.push(`min(${t})::DOUBLE AS "c${j}_tmin"`, `max(${t})::DOUBLE AS "c${j}_tmax"`);
     } else if (kind === 'boolean') {
       parts.push(`min(CAST(${col} AS INTEGER))::DOUBLE AS "c${j}_min"`, `max(CAST(${col} AS INTEGER))::DOUBLE AS "c${j}_max"`);
     }
   });
-  return `SELECT\n  ${parts.join(',\n  ')}\nFROM ${relation}`;
+  const from = inner.length ? `(SELECT ${inner.join(', ')} FROM ${relation}) AS ${ident('cw:rows')}` : relation;
+  return `SELECT\n  ${parts.join(',\n  ')}\nFROM ${from}`;
 }
 
 function num(table: Table, name: string): number | null {

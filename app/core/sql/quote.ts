@@ -4,8 +4,10 @@ export function ident(name: string): string {
   return `"${name.replaceAll('"', '""')}"`;
 }
 
+/** A NUL inside a literal would end DuckDB's parse of the statement there, so NULs become chr(0). */
 export function literal(value: string): string {
-  return `'${value.replaceAll("'", "''")}'`;
+  const quoted = `'${value.replaceAll("'", "''")}'`;
+  return value.includes('\0') ? `(${quoted.split('\0').join("' || chr(0) || '")})` : quoted;
 }
 
 /** A finite number as a DOUBLE literal; non-finite input is a programming error. */
