@@ -14,6 +14,7 @@ import { WeightsPanel } from './panels/WeightsPanel.tsx';
 import { DriftPanel } from './panels/DriftPanel.tsx';
 import { EstimatesPanel } from './panels/EstimatesPanel.tsx';
 import { SignoffPanel } from './panels/SignoffPanel.tsx';
+import { TargetEditor } from './screens/TargetEditor.tsx';
 import { draftFromSuggestions } from './state/from-suggestions.ts';
 import { EMPTY_DRAFT, type AuditDraft } from './state/draft.ts';
 import { forgetRecent, loadRecent, rememberAudit, type RecentAudit } from './state/recent.ts';
@@ -73,6 +74,14 @@ export function App() {
       case 'weights': return <WeightsPanel report={report} onOpenCheck={openCheck} />;
       case 'drift': return <DriftPanel report={report} onOpenCheck={openCheck} />;
       case 'estimates': return <EstimatesPanel report={report} onOpenCheck={openCheck} />;
+      case 'edit':
+        return (
+          <TargetEditor
+            report={report}
+            workspace={status.kind === 'done' ? status.workspace : undefined}
+            onUseTable={(t) => { setDraft((d) => ({ ...d, targets: [...d.targets.filter((x) => x.spec !== t.spec), t] })); setView({ screen: 'targets' }); }}
+          />
+        );
       case 'signoff': return <SignoffPanel report={report} onSigned={setReport} />;
     }
   })();

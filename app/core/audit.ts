@@ -12,7 +12,7 @@ import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
-import { cubeSql, parseCube } from './scan/cube.ts';
+import { BY_PROPENSITY_MAX_DISTINCT, cubeSql, parseCube } from './scan/cube.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql, type Profile } from './scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
@@ -50,6 +50,19 @@ export class AuditCancelled extends Error {
   constructor() {
     super('the audit was cancelled');
     this.name = 'AuditCancelled';
+  }
+}
+
+/** The log holds no rows: there is nothing to audit (an empty file, or a CSV with only its header). */
+export class EmptyLogError extends Error {
+  constructor(files: readonly InputFile[], profile: Profile) {
+    const empty = files.length > 0 && files.every((f) => f.bytes === 0);
+    const names = profile.columns.map((c) => c.name);
+    const headerOnly = names.length > 0 && !(names.length === 1 && names[0] === 'column0');
+    super(empty
+      ? `the log is empty (${files.map((f) => f.path).join(', ')}: 0 bytes); there is nothing to audit.`
+      : `the log has no rows${headerOnly ? ` (only a header: ${names.map((n) => JSON.stringify(n)).join(', ')})` : ''}; there is nothing to audit. Check that the export finished.`);
+    this.name = 'EmptyLogError';
   }
 }
 
@@ -101,6 +114,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   guard();
   progress('profile');
   const profile = await profileSource(run, relation, record);
+  if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
   progress('profile', true);
   const roles = resolveRoles(profile, request.roles);
   const roleProblems = validateRoles(profile, roles);
@@ -128,11 +142,13 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   let duplicates: Duplicates | null = null;
   const tails = new Map<string, TargetTail>();
   const rowsExpr = usable ? rowExpressions(effectiveRoles, profile, buckets) : null;
+  const propensityProfile = profile.columns.find((c) => c.name === roles.propensity);
+  const byPropensity = !!propensityProfile && propensityProfile.distinct <= BY_PROPENSITY_MAX_DISTINCT;
   let targets: TargetAnalysis[] = [];
   guard();
   if (rowsExpr) {
     progress('cube');
-    cells = parseCube(await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'] }), true)), segmentColumns.length);
+    cells = parseCube(await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity }), true)), segmentColumns.length);
     progress('cube', true);
   }
   const view = cubeView(cells, segmentColumns);
@@ -146,7 +162,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       guard();
       if (t.n < 2) continue;
       const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-      tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit), true))));
+      tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
     }
   }
   progress('tails', true);
@@ -202,9 +218,9 @@ function idOf(check: (typeof CHECKS)[number]): (typeof CHECK_IDS)[number] {
 }
 
 function orderColumns(roles: { decision_id: string | null; time: string | null }, profile: Profile): string[] {
-  const cols = [roles.decision_id, roles.time].filter((c): c is string => !!c).map((c) => `m.${ident(c)}`);
+  const cols = [roles.decision_id, roles.time].filter((c): c is string => !!c).map((c) => ident(c));
   if (cols.length) return cols;
-  return profile.columns.filter((c) => c.kind !== 'other').map((c) => `m.${ident(c.name)}`);
+  return profile.columns.filter((c) => c.kind !== 'other').map((c) => ident(c.name));
 }
 
 async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, checks: CheckResult[], perFinding: number, maxFindings: number, order: string[]): Promise<CheckResult[]> {

@@ -82,9 +82,12 @@ export function toEngineError(error: unknown, context: ErrorContext = {}): Engin
     }
   }
   const detail = plainDuckDBMessage(raw);
+  if (/^Permission Error/i.test(raw)) return new EngineError('io', `Refused: ${detail}. This engine reads only the logs that were opened with it.`);
   // "Invalid Input" about one of the source's own files (e.g. not really Parquet) is a problem with the file.
   if (code === 'sql' && /^Invalid Input Error/i.test(raw) && (context.files ?? []).some((f) => raw.includes(f))) code = 'io';
   if (code === 'cancelled') return new EngineError('cancelled', 'The query was cancelled.');
+  // DuckDB's advice after the first line (temp_directory, persistent storage) is about its own set-up, not the user's.
+  if (code === 'out-of-memory') return new EngineError('out-of-memory', `Out of memory: ${detail.split('\n')[0]}`);
   if (code === 'io') {
     const files = context.files ?? [];
     const named = files.find((f) => raw.includes(f));

@@ -1,10 +1,13 @@
+import path from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import type { DuckDBConnection } from '@duckdb/node-api';
 import type { Table } from '../core/table.ts';
 import { tableFromDuckDBResult } from './convert/duckdb-values.ts';
+import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts';
 import { toEngineError } from './errors.ts';
+import { withFileKind } from './file-kind.ts';
 import { foldersAmong } from './node-paths.ts';
-import { buildScan, createViewSql, globSql, readsRelation, relationName } from './sql-source.ts';
+import { buildScan, createViewSql, globSql, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from './types.ts';
 
@@ -13,6 +16,15 @@ export interface NativeEngineOptions {
   threads?: number;
   /** DuckDB's `memory_limit`, e.g. "4GB"; DuckDB's default (80% of RAM) when absent. */
   memoryLimit?: string;
+  /**
+   * Queries may read the registered sources and nothing else: no other file (read_csv('/any/file')),
+   * no COPY ... TO, ATTACH or extension install, and no setting can be changed back (DuckDB's
+   * enable_external_access = false with allowed_paths / allowed_directories, then lock_configuration).
+   * DuckDB cannot widen the allow-list once access is off, so each register() reopens the in-memory
+   * database with the grown list and recreates the views (they hold no data). For the engine host,
+   * whose query messages come from another process.
+   */
+  restrictFileAccess?: boolean;
 }
 
 export interface QueryProgress {
@@ -36,13 +48,30 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
   };
   if (options.threads !== undefined) config.threads = String(options.threads);
   if (options.memoryLimit !== undefined) config.memory_limit = options.memoryLimit;
+  const restricted = options.restrictFileAccess === true;
+  const allowed = { paths: new Set<string>(), directories: new Set<string>() };
+  const views = new Map<string, string>();
+
+  async function open(): Promise<{ instance: DuckDBInstance; connection: DuckDBConnection }> {
+    const db = await DuckDBInstance.create(':memory:', config);
+    const conn = await db.connect();
+    try {
+      // Progress is tracked for the host's progress events; printing it to the terminal stays off.
+      await conn.run('SET enable_progress_bar = true; SET enable_progress_bar_print = false; SET progress_bar_time = 100');
+      if (restricted) await conn.run(lockDownSql(allowed.paths, allowed.directories));
+      for (const [relation, scanSql] of views) await conn.run(createViewSql(relation, scanSql));
+    } catch (error) {
+      conn.closeSync();
+      db.closeSync();
+      throw error;
+    }
+    return { instance: db, connection: conn };
+  }
+
   let instance: DuckDBInstance;
   let connection: DuckDBConnection;
   try {
-    instance = await DuckDBInstance.create(':memory:', config);
-    connection = await instance.connect();
-    // Progress is tracked for the host's progress events; printing it to the terminal stays off.
-    await connection.run('SET enable_progress_bar = true; SET enable_progress_bar_print = false; SET progress_bar_time = 100');
+    ({ instance, connection } = await open());
   } catch (error) {
     throw toEngineError(error);
   }
@@ -74,13 +103,27 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       ensureOpen();
       const relation = relationName(++sequence);
       try {
+        if (restricted) {
+          const grant = accessFor(scan.patterns, folders);
+          grant.paths.forEach((p) => allowed.paths.add(p));
+          grant.directories.forEach((d) => allowed.directories.add(d));
+          const next = await open();
+          connection.closeSync();
+          instance.closeSync();
+          ({ instance, connection } = next);
+        }
         await connection.run(createViewSql(relation, scan.sql));
         const listed = await connection.run(globSql(scan.patterns));
         const files = (await listed.getRows()).map((row) => String(row[0]));
+        if (scan.format === 'csv') {
+          const shape = collapsedHeader(await tableFromDuckDBResult(await connection.run(`DESCRIBE SELECT * FROM ${relation}`)));
+          if (shape) throw raggedRowsError(files.length === 1 ? files[0] : undefined, shape, await tableFromDuckDBResult(await connection.run(raggedLinesSql(relation, shape))));
+        }
         relations.add(relation);
+        views.set(relation, scan.sql);
         return { relation, format: scan.format, files, scanSql: scan.sql };
       } catch (error) {
-        throw toEngineError(error, { files: source.paths });
+        throw withFileKind(toEngineError(error, { files: source.paths }), source.paths, scan.format);
       }
     });
   }
@@ -127,4 +170,33 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       instance.closeSync();
     },
   };
+}
+
+/** What a restricted engine must be allowed to read for a scan: each named file, and the folder of a glob or folder. */
+export function accessFor(patterns: readonly string[], folders: readonly string[]): { paths: string[]; directories: string[] } {
+  const paths: string[] = [];
+  const directories: string[] = [];
+  const folderSet = new Set(folders.map((f) => path.resolve(f)));
+  for (const pattern of patterns) {
+    const wild = pattern.search(/[*?[{]/);
+    if (wild < 0) {
+      paths.push(path.resolve(pattern));
+      continue;
+    }
+    const dir = path.resolve(pattern.slice(0, wild).replace(/[^/\\]*$/, '') || '.');
+    directories.push(dir.endsWith(path.sep) ? dir : `${dir}${path.sep}`);
+  }
+  for (const f of folderSet) if (!directories.some((d) => `${f}${path.sep}`.startsWith(d))) directories.push(`${f}${path.sep}`);
+  return { paths, directories };
+}
+
+/** Settings that confine DuckDB to the allowed files; order matters (allow-lists cannot change once access is off). */
+export function lockDownSql(paths: Iterable<string>, directories: Iterable<string>): string {
+  const list = (xs: Iterable<string>) => `[${[...xs].map(quoteLiteral).join(', ')}]`;
+  return [
+    `SET allowed_paths = ${list(paths)}`,
+    `SET allowed_directories = ${list(directories)}`,
+    'SET enable_external_access = false',
+    'SET lock_configuration = true',
+  ].join('; ');
 }

@@ -6,6 +6,7 @@
  */
 import type { Table } from '../core/table.ts';
 import { tableFromIpcChunks } from './convert/arrow.ts';
+import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts';
 import { toEngineError } from './errors.ts';
 import { createViewSql, quoteIdentifier, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
 import type { Scan } from './sql-source.ts';
@@ -42,6 +43,21 @@ export function extensionUnavailableMessage(label: string): string {
   return `This log is ${label}, which the in-browser engine (DuckDB-Wasm) cannot read without DuckDB's extension for it, ` +
     'and downloading extensions is switched off. Open the log in the Counterweight desktop app, or audit it with the native ' +
     'engine through the headless command (counterweight audit <log>). CSV and TSV logs work here.';
+}
+
+export function wasmOutOfMemoryMessage(detail: string): string {
+  return `The in-browser engine (DuckDB-Wasm) ran out of memory (${detail.replace(/^Out of memory: /, '')}). It has a few GB at most; ` +
+    'open the log in the Counterweight desktop app, or audit it with the headless command (counterweight audit <log>), which use native DuckDB without that limit.';
+}
+
+/** Errors of the Wasm module itself when its heap cannot grow (V8 and browsers word them differently). */
+const WASM_HEAP_EXHAUSTED = /Maximum memory size exceeded|WebAssembly\.Memory\.grow|Out of memory|Cannot enlarge memory|memory access out of bounds/i;
+
+function asWasmError(error: unknown, files: readonly string[] | undefined): EngineError {
+  const raw = error instanceof Error ? error.message : String(error);
+  const e = toEngineError(error, { files });
+  if (e.code === 'out-of-memory' || (e.code === 'internal' && WASM_HEAP_EXHAUSTED.test(raw))) return new EngineError('out-of-memory', wasmOutOfMemoryMessage(e.message.split('\n')[0] ?? ''));
+  return e;
 }
 
 export interface WasmCoreParts {
@@ -117,7 +133,7 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
       try {
         return await execute(sql, token);
       } catch (error) {
-        throw toEngineError(error, { files: errorFiles });
+        throw asWasmError(error, errorFiles);
       } finally {
         current = null;
         signal?.removeEventListener('abort', onAbort);
@@ -182,6 +198,10 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
   async function createView(scan: Scan, files: readonly string[], errorFiles: readonly string[]): Promise<RegisteredSource> {
     const relation = relationName(++sequence);
     await runCounted(createViewSql(relation, scan.sql), {}, false, errorFiles);
+    if (scan.format === 'csv') {
+      const shape = collapsedHeader(await runCounted(`DESCRIBE SELECT * FROM ${relation}`, {}, false, errorFiles));
+      if (shape) throw raggedRowsError(files.length === 1 ? files[0] : undefined, shape, await runCounted(raggedLinesSql(relation, shape), {}, false, errorFiles));
+    }
     relations.add(relation);
     return { relation, format: scan.format, files, scanSql: scan.sql };
   }

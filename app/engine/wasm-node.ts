@@ -7,6 +7,7 @@
 import { createRequire } from 'node:module';
 import type * as DuckDBBlocking from '@duckdb/duckdb-wasm/blocking';
 import { toEngineError } from './errors.ts';
+import { withFileKind } from './file-kind.ts';
 import { foldersAmong } from './node-paths.ts';
 import { buildScan, globSql } from './sql-source.ts';
 import { EngineError } from './types.ts';
@@ -67,7 +68,11 @@ export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}):
       db.registerFileURL(file, file, duckdb.DuckDBDataProtocol.NODE_FS, false);
       registeredFiles.add(file);
     }
-    return core.createView(scan, files, source.paths);
+    try {
+      return await core.createView(scan, files, source.paths);
+    } catch (error) {
+      throw error instanceof EngineError ? withFileKind(error, source.paths, scan.format) : error;
+    }
   }
 
   return { ...core.engine, kind: 'wasm-node', register, get sourceScans() { return core.engine.sourceScans; } };

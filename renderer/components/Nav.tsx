@@ -2,7 +2,7 @@ import type { CheckId, CheckResult } from '../../app/core/model/report.ts';
 import { STATUS_STYLE } from '../palette.ts';
 
 export type View =
-  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'signoff' }
+  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' }
   | { readonly screen: 'check'; readonly id: CheckId };
 
 interface Props {
@@ -27,6 +27,7 @@ const RESULTS = [
   { screen: 'weights', label: 'Weights & support' },
   { screen: 'drift', label: 'Drift' },
   { screen: 'estimates', label: 'Estimates' },
+  { screen: 'edit', label: 'Edit a target' },
   { screen: 'signoff', label: 'Sign-off' },
 ] as const;
 

@@ -35,7 +35,7 @@ interface Props {
 }
 
 function describeInput(input: LogInput): string {
-  return input.kind === 'files' ? input.files.map((f) => f.name).join(', ') : input.paths.join(', ');
+  return input.kind === 'paths' ? input.paths.join(', ') : input.files.map((f) => f.name).join(', ');
 }
 
 /** Owns the engine's lifecycle; the tree below sees only its status value (STYLE.md §8). */
@@ -84,8 +84,8 @@ export function EngineProvider({ mode, createBackend, demoInput, children }: Pro
     void (async () => {
       try {
         const b = await backend();
-        const report = await b.run(source, draft, (p) => { if (!controller.signal.aborted) dispatch({ type: 'progress', ...p }); }, controller.signal);
-        if (!controller.signal.aborted) dispatch({ type: 'finished', report });
+        const { report, workspace } = await b.run(source, draft, (p) => { if (!controller.signal.aborted) dispatch({ type: 'progress', ...p }); }, controller.signal);
+        if (!controller.signal.aborted) dispatch({ type: 'finished', report, workspace });
       } catch (error) {
         dispatch(controller.signal.aborted ? { type: 'cancelled' } : { type: 'failed', message: errorMessage(error) });
       }

@@ -1,23 +1,32 @@
 import type { Report } from '../../app/core/model/report.ts';
 import type { AuditDraft } from '../state/draft.ts';
-import type { OpenedSource, Stage } from './status.ts';
+import type { AuditWorkspace, OpenedSource, Stage } from './status.ts';
 
 export interface Progress {
   readonly stage: Stage;
   readonly done?: boolean;
 }
 
-/** A log as this page can name it: browser File handles (web) or paths the engine host can read. */
+/**
+ * A log as this page can name it: browser File handles (web), paths the engine host can read, or picked
+ * files a local host finds by name in its folders (hosted mode; a page never learns a File's path).
+ */
 export type LogInput =
   | { readonly kind: 'files'; readonly files: readonly File[] }
-  | { readonly kind: 'paths'; readonly paths: readonly string[] };
+  | { readonly kind: 'paths'; readonly paths: readonly string[] }
+  | { readonly kind: 'named'; readonly files: readonly File[] };
+
+export interface AuditOutcome {
+  readonly report: Report;
+  readonly workspace: AuditWorkspace;
+}
 
 /** Where audits run for this page: the browser engine, the desktop host, or a host over WebSocket. */
 export interface AuditBackend {
   /** Engine kind recorded in report.run. */
   readonly engineKind: string;
   open(input: LogInput): Promise<OpenedSource>;
-  run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<Report>;
+  run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<AuditOutcome>;
   close(): Promise<void>;
 }
 

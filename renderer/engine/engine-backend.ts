@@ -1,11 +1,11 @@
-import { runAudit, type AuditRequest } from '../../app/core/audit.ts';
-import type { Report, InputFile } from '../../app/core/model/report.ts';
+import { runAuditDetailed, type AuditRequest } from '../../app/core/audit.ts';
+import type { InputFile } from '../../app/core/model/report.ts';
 import { suggestRoles } from '../../app/core/roles/roles.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql, type Profile } from '../../app/core/scan/profile.ts';
 import type { RunQuery } from '../../app/core/table.ts';
 import { EngineError, type Engine } from '../../app/engine/types.ts';
 import type { AuditDraft } from '../state/draft.ts';
-import type { AuditBackend, LogInput, Progress } from './backend.ts';
+import type { AuditBackend, AuditOutcome, LogInput, Progress } from './backend.ts';
 import { describeFiles } from './digest.ts';
 import { fingerprintPaths } from './host-fingerprint.ts';
 import { chooseFormat, PARQUET_IN_BROWSER } from './source-files.ts';
@@ -34,6 +34,18 @@ export function auditRequest(source: OpenedSource, draft: AuditDraft, engine: st
   };
 }
 
+/** A host that found a picked file by name must have found that file, not another of the same name. */
+export function sizeMismatch(picked: readonly File[], found: readonly InputFile[]): string | null {
+  for (const file of picked) {
+    const match = found.find((f) => (f.path.split(/[\\/]/).pop() ?? f.path) === file.name);
+    if (!match) return `The local engine did not report opening ${file.name}.`;
+    if (match.bytes !== file.size) {
+      return `The local engine found a different ${file.name} (${match.path}, ${match.bytes.toLocaleString('en')} bytes; the picked file has ${file.size.toLocaleString('en')}). Type the picked file's full path instead.`;
+    }
+  }
+  return null;
+}
+
 export function sourceLabel(names: readonly string[]): string {
   return names.length === 1 ? (names[0] ?? '') : `${names[0]} and ${names.length - 1} more`;
 }
@@ -46,7 +58,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
     engineKind: engine.kind,
 
     async open(input: LogInput): Promise<OpenedSource> {
-      const names = input.kind === 'files' ? input.files.map((f) => f.name) : [...input.paths];
+      const names = input.kind === 'paths' ? [...input.paths] : input.files.map((f) => f.name);
       const choice = chooseFormat(names);
       if ('error' in choice) throw new Error(choice.error);
       if (choice.format === 'parquet' && !options.readsParquet) throw new EngineError('unsupported-format', PARQUET_IN_BROWSER);
@@ -55,24 +67,31 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       digests?.catch(() => undefined);
       const registered = input.kind === 'files'
         ? await engine.register({ kind: 'file', files: [...input.files], format: choice.format, ...csv })
-        : await engine.register({ kind: 'path', paths: [...input.paths], format: choice.format, ...csv });
+        : await engine.register({ kind: 'path', paths: names, format: choice.format, ...csv });
+      const fingerprints = digests ? null : await fingerprintPaths(run, registered.files);
+      if (input.kind === 'named' && fingerprints) {
+        const problem = sizeMismatch(input.files, fingerprints);
+        if (problem) throw new Error(problem);
+      }
       const profile = await profileOf(run, registered.relation);
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
         scanSql: registered.scanSql,
         format: registered.format,
-        files: digests ? await digests : await fingerprintPaths(run, registered.files),
+        files: digests ? await digests : (fingerprints ?? []),
         profile,
         suggestions: suggestRoles(profile),
       };
     },
 
-    async run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<Report> {
+    async run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<AuditOutcome> {
       const onAbort = () => { void engine.cancel(); };
       signal.addEventListener('abort', onAbort, { once: true });
       try {
-        return await runAudit(run, { ...auditRequest(source, draft, engine.kind), onProgress, signal });
+        const request = auditRequest(source, draft, engine.kind);
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, onProgress, signal });
+        return { report, workspace: { cells, profile, targets: request.targets ?? [] } };
       } finally {
         signal.removeEventListener('abort', onAbort);
       }

@@ -2,6 +2,8 @@ import type { Report, InputFile } from '../../app/core/model/report.ts';
 import type { SourceFormat } from '../../app/engine/types.ts';
 import type { RoleSuggestion } from '../../app/core/roles/roles.ts';
 import type { Profile } from '../../app/core/scan/profile.ts';
+import type { CubeCell } from '../../app/core/cube/types.ts';
+import type { TargetInput } from '../../app/core/targets/targets.ts';
 
 export type Stage = 'profile' | 'cube' | 'tails' | 'checks';
 export const STAGES: readonly Stage[] = ['profile', 'cube', 'tails', 'checks'];
@@ -19,6 +21,16 @@ export interface OpenedSource {
   readonly suggestions: readonly RoleSuggestion[];
 }
 
+/**
+ * What a finished audit leaves for interactive work without a rescan: the cube it scanned, the profile
+ * it resolved roles from, and the targets it ran with.
+ */
+export interface AuditWorkspace {
+  readonly cells: readonly CubeCell[];
+  readonly profile: Profile;
+  readonly targets: readonly TargetInput[];
+}
+
 /** The engine's lifecycle as one immutable value (STYLE.md §8). */
 export type EngineStatus =
   | { readonly kind: 'idle' }
@@ -26,7 +38,7 @@ export type EngineStatus =
   | { readonly kind: 'ready'; readonly source: OpenedSource }
   | { readonly kind: 'running'; readonly source: OpenedSource; readonly stage: Stage; readonly finished: readonly Stage[] }
   | { readonly kind: 'failed'; readonly message: string; readonly source: OpenedSource | null }
-  | { readonly kind: 'done'; readonly report: Report; readonly source: OpenedSource | null };
+  | { readonly kind: 'done'; readonly report: Report; readonly source: OpenedSource | null; readonly workspace?: AuditWorkspace };
 
 export type StatusEvent =
   | { readonly type: 'reset' }
@@ -34,7 +46,7 @@ export type StatusEvent =
   | { readonly type: 'opened'; readonly source: OpenedSource }
   | { readonly type: 'started' }
   | { readonly type: 'progress'; readonly stage: Stage; readonly done?: boolean }
-  | { readonly type: 'finished'; readonly report: Report }
+  | { readonly type: 'finished'; readonly report: Report; readonly workspace?: AuditWorkspace }
   | { readonly type: 'failed'; readonly message: string }
   | { readonly type: 'cancelled' }
   | { readonly type: 'show-report'; readonly report: Report };
@@ -63,7 +75,7 @@ export function nextStatus(status: EngineStatus, event: StatusEvent): EngineStat
       return { ...status, stage: event.stage, finished };
     }
     case 'finished':
-      return { kind: 'done', report: event.report, source: sourceOf(status) };
+      return { kind: 'done', report: event.report, source: sourceOf(status), ...(event.workspace ? { workspace: event.workspace } : {}) };
     case 'failed':
       return { kind: 'failed', message: event.message, source: sourceOf(status) };
     case 'cancelled': {

@@ -4,6 +4,8 @@ import { DesktopPicker, FilePicker, PathForm } from './log-pickers.tsx';
 import type { RecentAudit } from '../state/recent.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 
+const HOSTED_PICK_HINT = 'Parquet, CSV, TSV or NDJSON. The local engine opens a picked or dropped file by its name from the folders it was started with (see the terminal; --logs adds one) and checks its size; for any other file, type its path below.';
+
 interface Props {
   readonly recent: readonly RecentAudit[];
   readonly onShowReport: (report: Report) => void;
@@ -28,7 +30,10 @@ export function OpenScreen({ recent, onShowReport, onForgetRecent }: Props) {
         ) : mode.kind === 'desktop' ? (
           <DesktopPicker busy={busy} onPaths={(paths) => open({ kind: 'paths', paths })} />
         ) : (
-          <PathForm busy={busy} onPaths={(paths) => open({ kind: 'paths', paths })} />
+          <div className="open-stack">
+            <FilePicker busy={busy} onFiles={(files) => open({ kind: 'named', files })} hint={HOSTED_PICK_HINT} />
+            <PathForm busy={busy} onPaths={(paths) => open({ kind: 'paths', paths })} />
+          </div>
         )}
 
         <div className="card">

@@ -2,7 +2,9 @@ import { useRef, useState, type DragEvent } from 'react';
 import { ACCEPTED_EXTENSIONS } from '../engine/source-files.ts';
 
 /** Web mode: a hidden file input behind a button, and a drop zone; the files are read lazily by the engine. */
-export function FilePicker({ busy, onFiles }: { busy: boolean; onFiles: (files: File[]) => void }) {
+const WEB_HINT = 'CSV or TSV with a header row; several parts of one log are read together as one table. Parquet logs open in the desktop app.';
+
+export function FilePicker({ busy, onFiles, hint = WEB_HINT }: { busy: boolean; onFiles: (files: File[]) => void; hint?: string }) {
   const input = useRef<HTMLInputElement>(null);
   const [dragging, setDragging] = useState(false);
   const onDrop = (event: DragEvent) => {
@@ -14,12 +16,13 @@ export function FilePicker({ busy, onFiles }: { busy: boolean; onFiles: (files: 
   return (
     <div
       className={`dropzone${dragging ? ' dropzone-active' : ''}`}
+      data-testid="log-drop-zone"
       onDragOver={(e) => { e.preventDefault(); setDragging(true); }}
       onDragLeave={() => setDragging(false)}
       onDrop={onDrop}
     >
       <p className="dropzone-title">Drop log files here</p>
-      <p className="muted">CSV or TSV with a header row; several parts of one log are read together as one table. Parquet logs open in the desktop app.</p>
+      <p className="muted">{hint}</p>
       <input
         ref={input}
         id="log-files"
@@ -56,9 +59,9 @@ export function PathForm({ busy, onPaths }: { busy: boolean; onPaths: (paths: st
   const [text, setText] = useState('');
   const paths = text.split('\n').map((p) => p.trim()).filter((p) => p !== '');
   return (
-    <form className="dropzone" onSubmit={(e) => { e.preventDefault(); if (paths.length > 0) onPaths(paths); }}>
-      <label className="dropzone-title" htmlFor="log-paths">Paths of the log files</label>
-      <p className="muted">One per line, as the local engine sees them (absolute, or relative to where it was started). Parquet, CSV, TSV or NDJSON.</p>
+    <form className="dropzone path-form" onSubmit={(e) => { e.preventDefault(); if (paths.length > 0) onPaths(paths); }}>
+      <label className="dropzone-title" htmlFor="log-paths">Or type the paths of the log files</label>
+      <p className="muted">One per line, as the local engine sees them (absolute, or relative to where it was started).</p>
       <textarea id="log-paths" rows={3} cols={60} value={text} onChange={(e) => setText(e.target.value)} placeholder="/data/decisions/part-0.parquet" />
       <button type="submit" className="button primary" disabled={busy || paths.length === 0}>Open</button>
     </form>

@@ -5,6 +5,8 @@ export interface WebArgs {
   hosted: boolean;
   /** Rebuild dist/renderer before serving. */
   build: boolean;
+  /** Folders where hosted mode finds a picked or dropped file by its name (given only when passed). */
+  logs?: string[];
 }
 
 export const DEFAULT_PORT = 5178;
@@ -12,7 +14,9 @@ export const DEFAULT_PORT = 5178;
 export const WEB_USAGE = `Usage: npm run web -- [--port N] [--host] [--no-build]
   --port N     listen on 127.0.0.1:N (default ${DEFAULT_PORT}; 0 picks a free port)
   --host       also run the native engine (reads Parquet) behind a token-protected WebSocket
-  --no-build   serve the existing dist/renderer without rebuilding it`;
+  --no-build   serve the existing dist/renderer without rebuilding it
+  --logs DIR   with --host: a folder where a picked or dropped log is found by its name (repeatable;
+               default: the folder the server was started in, and its sample-data folder)`;
 
 export class UsageError extends Error {
   override readonly name = 'UsageError';
@@ -30,6 +34,12 @@ export function parseWebArgs(argv: readonly string[]): WebArgs {
       case '--no-build':
         args.build = false;
         break;
+      case '--logs': {
+        const value = inline ?? argv[++i];
+        if (value === undefined || value === '' || value.startsWith('--')) throw new UsageError(`--logs needs a folder, got ${value === undefined ? 'nothing' : JSON.stringify(value)}.`);
+        args.logs = [...(args.logs ?? []), value];
+        break;
+      }
       case '--port': {
         const value = inline ?? argv[++i];
         if (value === undefined || !/^\d+$/.test(value) || Number(value) > 65535) {

@@ -7,6 +7,7 @@ import { serveEngine } from '../../app/engine/host/server.ts';
 import type { Transport } from '../../app/engine/host/transport.ts';
 import { contentSecurityPolicy } from '../../app/main/security.ts';
 import { checkUpgrade, ENGINE_PATH, hostedUrl, LOOPBACK, loopbackHosts } from './access.ts';
+import { withLogFolders } from './log-folders.ts';
 import { pageHeaders, serveStatic } from './static-files.ts';
 
 /** One engine per socket; the session ends when the socket closes. */
@@ -25,6 +26,8 @@ export interface HostedServerOptions {
   demoFolder?: string;
   /** Whether to carry the engine host protocol at /engine; off serves the renderer alone. */
   engine?: boolean;
+  /** Folders where a picked or dropped file's bare name is looked up (the page cannot send a path). */
+  logFolders?: readonly string[];
   openSession?: OpenSession;
 }
 
@@ -41,11 +44,15 @@ export interface HostedServer {
 const MAX_MESSAGE_BYTES = 64 * 1024 * 1024;
 
 /** The native engine served over the host protocol, as in the desktop engine host. */
-export const openNativeSession: OpenSession = async (transport) => {
-  const engine = await createNativeEngine();
-  serveEngine(transport, engine);
-  return { close: () => engine.close() };
-};
+export function nativeSession(logFolders: readonly string[] = []): OpenSession {
+  return async (transport) => {
+    const engine = await createNativeEngine();
+    serveEngine(transport, withLogFolders(engine, logFolders));
+    return { close: () => engine.close() };
+  };
+}
+
+export const openNativeSession: OpenSession = nativeSession();
 
 /**
  * Web mode's server on 127.0.0.1: the built renderer, and (when `engine` is on) the engine host protocol
@@ -85,7 +92,7 @@ export async function createHostedServer(options: HostedServerOptions): Promise<
 
   const sockets = new WebSocketServer({ noServer: true, maxPayload: MAX_MESSAGE_BYTES });
   const sessions = new Set<Promise<{ close(): Promise<void> }>>();
-  const openSession = options.openSession ?? openNativeSession;
+  const openSession = options.openSession ?? nativeSession(options.logFolders);
   server.on('upgrade', (request: IncomingMessage, socket: Duplex, head: Buffer) => {
     const decision = engineOn
       ? checkUpgrade({ url: request.url, origin: request.headers.origin, host: request.headers.host }, { token: options.token, origin, hosts })

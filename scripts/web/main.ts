@@ -30,16 +30,18 @@ export async function main(argv: readonly string[]): Promise<void> {
     fail(`There is no built renderer in ${RENDERER_OUT_DIR}/; run without --no-build.`);
   }
 
+  const logFolders = (args.logs ?? [process.cwd(), path.join(ROOT, 'sample-data')]).map((f) => path.resolve(f));
   let server;
   try {
-    server = await createHostedServer({ port: args.port, token: newToken(), staticRoot, demoFolder: path.join(ROOT, 'sample-data'), engine: args.hosted });
+    server = await createHostedServer({ port: args.port, token: newToken(), staticRoot, demoFolder: path.join(ROOT, 'sample-data'), engine: args.hosted, logFolders });
   } catch (error) {
     const code = (error as { code?: string }).code;
     if (code === 'EADDRINUSE') fail(`Port ${args.port} is in use; pass --port N (0 picks a free port).`);
     fail(`The server could not start: ${error instanceof Error ? error.message : String(error)}`);
   }
   const engine = args.hosted
-    ? 'Engine: native DuckDB on this computer, behind a WebSocket only this page can open (the token changes at every start).'
+    ? 'Engine: native DuckDB on this computer, behind a WebSocket only this page can open (the token changes at every start).\n'
+      + `A picked or dropped log is found by its name in: ${logFolders.join(', ')}.`
     : 'Engine: DuckDB-Wasm in the browser (CSV, TSV, NDJSON). Pass --host to read Parquet with the native engine.';
   process.stdout.write(`Counterweight is serving on 127.0.0.1 only.\n${engine}\nOpen: ${server.url}\nPress Ctrl+C to stop.\n`);
 

@@ -103,7 +103,7 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   const bySegment = new Map<string, number>();
   for (const f of findings) bySegment.set(describeSegment(f.segment), (bySegment.get(describeSegment(f.segment)) ?? 0) + 1);
   const summary = flagged.length
-    ? `Reward drifts in ${flagged.length} of ${tests.length} segment × action series (BH q = ${q}, change ≥ ${pct(minChange, 0)}), mostly in ${[...bySegment.entries()].sort((a, c) => c[1] - a[1]).slice(0, 2).map(([s, n]) => `${s} (${n} actions)`).join(', ')}.`
+    ? `Reward drifts in ${flagged.length} of ${tests.length} segment × action series (BH q = ${q}, change ≥ ${pct(minChange, 0)}), mostly in ${[...bySegment.entries()].sort((a, c) => c[1] - a[1]).slice(0, 2).map(([s, n]) => `${s} (${n} series)`).join(', ')}.`
     : `No reward drift across ${tests.length} segment × action series (${binary ? 'chi-square' : 'ANOVA'}, BH q = ${q}).`;
   return result('drift.reward', status, summary, { tests: tests.length, drifting: flagged.length, test: binary ? 'chi-square homogeneity' : 'one-way ANOVA' }, findings, ['drift.reward.q', 'drift.reward.min_relative_change'], series);
 }

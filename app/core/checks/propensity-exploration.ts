@@ -71,7 +71,7 @@ export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
   }
   const status = failing ? 'fail' : findings.length ? 'warn' : 'pass';
   const summary = findings.length
-    ? `${findings.length} part(s) of the log have no exploration, ${pct(unexploredRows / rows)} of rows: ${findings.map((f) => describeSegment(f.segment)).slice(0, 3).join('; ')}${findings.length > 3 ? '; …' : ''}.`
+    ? `No exploration in ${findings.length === 1 ? '1 place' : `${findings.length} places`} holding ${pct(unexploredRows / rows)} of rows: ${findings.map((f) => describeSegment(f.segment)).slice(0, 3).join('; ')}${findings.length > 3 ? '; …' : ''}.`
     : `The logging policy explored in all ${segs.length} segments.`;
   return result(
     'propensity.exploration',

@@ -6,6 +6,8 @@ export function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> 
   const { buckets, roles } = ctx;
   if (!roles.time) return skipped('time.coverage', 'no time column mapped');
   if (!buckets) return skipped('time.coverage', `time column '${roles.time}' has no parseable timestamps`);
+  // Rows per bucket come from the cube; without it every bucket would look empty.
+  if (!ctx.rows) return skipped('time.coverage', 'the propensity, action or reward role is missing');
   const perBucket = new Array<number>(buckets.count).fill(0);
   let unparsed = 0;
   for (const c of ctx.cells) {

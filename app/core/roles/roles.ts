@@ -242,12 +242,28 @@ export function resolveRoles(profile: Profile, overrides: RoleOverrides = {}): R
   };
 }
 
+/** Why a column named like a required role was not suggested for it, or null if its name does not fit. */
+function whyNotTaken(role: SingleRole, c: ColumnProfile): string | null {
+  if (!NAME_HINTS[role].test(c.name)) return null;
+  const named = `column '${c.name}' is named like ${role === 'action' ? 'an' : 'a'} ${role} but`;
+  if (c.nonNull === 0) return `${named} every value is empty`;
+  if (role === 'propensity' && c.kind === 'text' && (c.decimalComma ?? 0) >= 0.9 * c.nonNull) {
+    return `${named} holds numbers written with a decimal comma (like 0,25); export the log with a decimal point`;
+  }
+  if (role === 'action' && c.distinct > 1000) return `${named} has about ${Math.round(c.distinct)} distinct values, more than are suggested; map it explicitly if that is right`;
+  if (role === 'action' && c.distinct < 2) return `${named} holds a single value; a log needs at least two actions`;
+  if (role !== 'action' && c.kind === 'text' && c.parsedAsNumber < 0.9 * c.nonNull) return `${named} ${pct(1 - c.parsedAsNumber / c.nonNull)} of its values are not numbers`;
+  return null;
+}
+
 /** Specific messages about the mapping; 'fail' problems stop the audit's dependent checks. */
 export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProblem[] {
   const problems: RoleProblem[] = [];
   const byName = new Map(profile.columns.map((c) => [c.name, c]));
   for (const role of REQUIRED_ROLES) {
-    if (!roles[role]) problems.push({ role, severity: 'fail', message: `no ${role} column: map one with --role ${role}=COLUMN` });
+    if (roles[role]) continue;
+    const why = profile.columns.map((c) => whyNotTaken(role, c)).find((x) => x !== null);
+    problems.push({ role, severity: 'fail', message: `no ${role} column: map one with --role ${role}=COLUMN${why ? ` (${why})` : ''}` });
   }
   const share = (x: number) => pct(x);
   const p = roles.propensity ? byName.get(roles.propensity) : undefined;
@@ -276,7 +292,12 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProbl
   if (a && a.kind === 'other') problems.push({ role: 'action', severity: 'fail', message: `action column '${a.name}' is ${a.type}; an action must be a scalar value` });
   if (a && a.distinct < 2) problems.push({ role: 'action', severity: 'warn', message: `action column '${a.name}' has about ${Math.round(a.distinct)} distinct value(s); a log needs at least two actions to evaluate another policy` });
   const t = roles.time ? byName.get(roles.time) : undefined;
-  if (t && !roles.timeEncoding) problems.push({ role: 'time', severity: 'warn', message: `time column '${t.name}' (${t.type}) is neither a timestamp nor parseable text nor Unix epoch integers; time checks are skipped` });
+  if (t && !roles.timeEncoding) {
+    const mixed = t.kind === 'text' && t.nonNull > 0 && t.parsedAsTime > 0;
+    problems.push({ role: 'time', severity: 'warn', message: mixed
+      ? `time column '${t.name}' mixes formats: only ${pct(t.parsedAsTime / t.nonNull)} of its values parse as timestamps (YYYY-MM-DD hh:mm:ss); export one format; time checks are skipped`
+      : `time column '${t.name}' (${t.type}) is neither a timestamp nor parseable text nor Unix epoch integers; time checks are skipped` });
+  }
   for (const s of roles.segments) {
     const c = byName.get(s);
     if (c && c.kind === 'other') problems.push({ role: 'segments', severity: 'fail', message: `segment column '${s}' is ${c.type}; segments must be scalar values` });

@@ -29,6 +29,8 @@ export interface ColumnProfile extends ColumnInfo {
   /** text only: values that parse as a number / as a timestamp */
   readonly parsedAsNumber: number;
   readonly parsedAsTime: number;
+  /** text only: values that start like a number and hold a comma but do not parse (a decimal comma, "0,25") */
+  readonly decimalComma?: number;
   /** temporal (or text parsed as time): range in microseconds since the Unix epoch */
   readonly minTimeUs: number | null;
   readonly maxTimeUs: number | null;
@@ -111,6 +113,7 @@ export function profileSql(relation: string, columns: readonly ColumnInfo[]): st
       parts.push(
         `count(${d})::DOUBLE AS "c${j}_pn"`,
         `count(${t})::DOUBLE AS "c${j}_pt"`,
+        `count(*) FILTER (WHERE ${d} IS NULL AND contains(${col}, ',') AND ${mayParseAsNumber(col)})::DOUBLE AS "c${j}_pc"`,
         `min(epoch_us(${t}))::DOUBLE AS "c${j}_tmin"`,
         `max(epoch_us(${t}))::DOUBLE AS "c${j}_tmax"`,
         `min(${d}) FILTER (WHERE NOT isnan(${d})) AS "c${j}_min"`,
@@ -156,6 +159,7 @@ export function parseProfile(table: Table, columns: readonly ColumnInfo[]): Prof
         nonInteger: get('ni') ?? 0,
         parsedAsNumber: kind === 'numeric' ? get('nn') ?? 0 : get('pn') ?? 0,
         parsedAsTime: kind === 'temporal' ? get('nn') ?? 0 : get('pt') ?? 0,
+        ...(kind === 'text' ? { decimalComma: get('pc') ?? 0 } : {}),
         minTimeUs: get('tmin'),
         maxTimeUs: get('tmax'),
       };

@@ -7,7 +7,7 @@ import { SEP } from '../cube/rollup.ts';
 import { double, ident, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
-import { VALID_P, type RowExpressions } from './expressions.ts';
+import type { RowExpressions } from './expressions.ts';
 
 export function duplicatesSql(relation: string, idColumn: string, examples: number): string {
   const id = ident(idColumn);
@@ -51,12 +51,13 @@ function qExpression(target: TargetPolicy, rows: RowExpressions, segmentColumns:
         const parts = target.keyColumns.length ? key.split(SEP) : [];
         for (const [a, q] of m) if (q > 0) values.push(`(${[...parts.map(literal), literal(a), double(q)].join(', ')})`);
       }
-      const keyNames = target.keyColumns.map((_, i) => `k${i}`);
-      const on = target.keyColumns.map((c, i) => `${rows.segments[segmentColumns.indexOf(c)]} = t.k${i}`);
+      // The VALUES columns are named so that no column of the log can clash with them in the ON clause.
+      const keyNames = target.keyColumns.map((_, i) => ident(`cw:k${i}`));
+      const on = target.keyColumns.map((c, i) => `${rows.segments[segmentColumns.indexOf(c)]} = t.${keyNames[i]}`);
       if (values.length === 0) return { expr: '0', join: '' };
       return {
-        expr: 'coalesce(t.q, 0)',
-        join: `LEFT JOIN (VALUES ${values.join(', ')}) AS t(${[...keyNames, 'a', 'q'].join(', ')}) ON ${[...on, `${rows.action} = t.a`].join(' AND ')}`,
+        expr: `coalesce(t.${ident('cw:q')}, 0)`,
+        join: `LEFT JOIN (VALUES ${values.join(', ')}) AS t(${[...keyNames, ident('cw:a'), ident('cw:q')].join(', ')}) ON ${[...on, `${rows.action} = t.${ident('cw:a')}`].join(' AND ')}`,
       };
     }
   }
@@ -69,15 +70,46 @@ export const LOG10_BIN = 0.1;
  * One scan per target: its largest positive weights (descending, for PSIS and the top-1% share)
  * and a histogram of log10 w in bins of LOG10_BIN (kind 0 rows: weights; kind 1 rows: bin, count).
  */
-export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): string {
+/** The row's propensity, under a name no log column has (a log may well have a column called "p"). */
+const P = ident('cw:p');
+
+export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false): string {
+  if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit);
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   return [
     `WITH w AS MATERIALIZED (`,
-    `  SELECT (${expr}) / p AS w FROM (SELECT *, ${rows.propensity} AS p FROM ${relation}) AS src ${join}`,
-    `  WHERE ${VALID_P}`,
+    `  SELECT (${expr}) / ${P} AS w FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src ${join}`,
+    `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P}))`,
     `), pos AS (SELECT w FROM w WHERE w > 0 AND isfinite(w)),`,
     `top AS (SELECT 0 AS kind, w AS x, CAST(1 AS DOUBLE) AS n FROM pos ORDER BY w DESC LIMIT ${integer(limit)}),`,
     `hist AS (SELECT 1 AS kind, floor(log10(w) / ${LOG10_BIN}) * ${LOG10_BIN} AS x, count(*)::DOUBLE AS n FROM pos GROUP BY 2)`,
+    `SELECT * FROM top UNION ALL SELECT * FROM hist`,
+    `ORDER BY kind, x DESC`,
+  ].join('\n');
+}
+
+/**
+ * The same answer as tailSql, row for row, for a target whose q depends on segment and action only:
+ * a row's weight q(s, a) / p is a function of (s, a, p), so rows are counted per (s, a, p) first, the
+ * weights computed once per group, and the largest `limit` weights listed with their multiplicity.
+ * Cheap when propensities take few distinct values.
+ */
+function tailByPropensitySql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): string {
+  const segAlias = rows.segments.map((_, i) => ident(`cw:s${i}`));
+  const actionAlias = ident('cw:a0');
+  const { expr, join } = qExpression(target, { ...rows, segments: segAlias, action: actionAlias }, segmentColumns, actions);
+  const used = target.kind === 'table' ? target.keyColumns.map((c) => segmentColumns.indexOf(c)) : [];
+  const keys = [...used.map((i) => `${rows.segments[i]} AS ${segAlias[i]}`), `${rows.action} AS ${actionAlias}`];
+  const cap = integer(limit);
+  return [
+    `WITH g AS (`,
+    `  SELECT ${keys.join(', ')}, ${P}, count(*)::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
+    `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P})) GROUP BY ALL`,
+    `), w AS (SELECT (${expr}) / ${P} AS w, c FROM g ${join}),`,
+    `pos AS (SELECT w, sum(c) AS c FROM w WHERE w > 0 AND isfinite(w) GROUP BY w),`,
+    `ranked AS (SELECT w, c, coalesce(sum(c) OVER (ORDER BY w DESC ROWS BETWEEN UNBOUNDED PRECEDING AND 1 PRECEDING), 0) AS before FROM pos),`,
+    `top AS (SELECT 0 AS kind, w AS x, CAST(1 AS DOUBLE) AS n FROM (SELECT w, unnest(range(CAST(least(c, ${cap} - before) AS BIGINT))) FROM ranked WHERE before < ${cap})),`,
+    `hist AS (SELECT 1 AS kind, floor(log10(w) / ${LOG10_BIN}) * ${LOG10_BIN} AS x, sum(c)::DOUBLE AS n FROM pos GROUP BY 2)`,
     `SELECT * FROM top UNION ALL SELECT * FROM hist`,
     `ORDER BY kind, x DESC`,
   ].join('\n');
@@ -110,17 +142,25 @@ export interface ExampleRequest {
   readonly where: string;
 }
 
-/** One scan: rows matching any finding, then at most `perFinding` per finding in a stable order. */
+/**
+ * One scan, no sort: per finding, DuckDB's top-n aggregate min_by(row, key, n) keeps the first
+ * `perFinding` matching rows in `orderBy` order (the key puts NULLs last, as ORDER BY does), so no
+ * matching row is materialised or sorted beyond those. `orderBy` are expressions over the log's columns.
+ */
 export function examplesSql(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[]): string {
   const any = requests.map((r) => `(${r.where})`).join(' OR ');
-  const cases = requests.map((r, i) => `WHEN ${i} THEN (${r.where})`).join(' ');
-  const ids = requests.map((_, i) => `(${i})`).join(', ');
-  const order = orderBy.length ? orderBy.join(', ') : '1';
+  const row = ident('cw:row');
+  const key = ident('cw:key');
+  const sortKey = orderBy.length ? `{${orderBy.flatMap((o, i) => [`'n${i}': (${o}) IS NULL`, `'v${i}': ${o}`]).join(', ')}}` : '0';
+  const n = integer(perFinding);
+  const picks = requests.map((r, i) => `min_by(${row}, ${key}, ${n}) FILTER (WHERE ${r.where}) AS ${ident(`cw:f${i}`)}`);
+  const lists = requests.map((_, i) => `SELECT ${i} AS __finding, ${ident(`cw:f${i}`)} AS l FROM picked`);
   return [
-    `WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${any})`,
-    `SELECT f.__finding, m.* FROM m, (VALUES ${ids}) AS f(__finding)`,
-    `WHERE CASE f.__finding ${cases} END`,
-    `QUALIFY row_number() OVER (PARTITION BY f.__finding ORDER BY ${order}) <= ${integer(perFinding)}`,
-    `ORDER BY f.__finding, ${order}`,
+    `WITH picked AS (`,
+    `  SELECT ${picks.join(',\n    ')}`,
+    `  FROM (SELECT ${ident('cw:t')} AS ${row}, ${sortKey} AS ${key}, * FROM ${relation} AS ${ident('cw:t')} WHERE ${any})`,
+    `), rows AS (SELECT __finding, unnest(l) AS r FROM (${lists.join(' UNION ALL ')}))`,
+    `SELECT * FROM (SELECT __finding, unnest(r) FROM rows)`,
+    `ORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`,
   ].join('\n');
 }

@@ -10,7 +10,8 @@ if (!process.send) {
   process.exit(2);
 }
 
-const engine = await createNativeEngine();
+// Query messages come from another process: they may read the registered logs and nothing else.
+const engine = await createNativeEngine({ restrictFileAccess: true });
 serveEngine(
   {
     send: (message) => { process.send?.(message); },

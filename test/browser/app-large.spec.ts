@@ -1,0 +1,146 @@
+/**
+ * Large logs: a 5M-row CSV audited in standalone web mode from a lazily read File handle, with the page's
+ * and the workers' JavaScript heaps sampled throughout (a log read into memory would show up there), and
+ * a 10M-row Parquet log audited through hosted mode. The logs come from the demo generator and are cached
+ * in the system temp folder, keyed by row count, so reruns skip generating them.
+ */
+import { spawn } from 'node:child_process';
+import { existsSync, mkdirSync, renameSync, rmSync, statSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { expect, test, type CDPSession, type Page } from '@playwright/test';
+import { newToken } from '../../scripts/web/access.ts';
+import { createHostedServer } from '../../scripts/web/hosted-server.ts';
+
+const ROOT = process.cwd();
+const CACHE = path.join(os.tmpdir(), 'counterweight-large');
+const CSV_ROWS = Number(process.env.CW_LARGE_CSV_ROWS ?? 5_000_000);
+const PARQUET_ROWS = 10_000_000;
+const PAGE_ORIGIN = 'http://127.0.0.1:5179';
+
+/** The generator's demo log of `rows` decisions, generated once into the cache. */
+async function demoLog(rows: number, format: 'csv' | 'parquet'): Promise<string> {
+  const dir = path.join(CACHE, `rows-${rows}`);
+  const file = path.join(dir, `maple-row-demo.${format}`);
+  if (existsSync(file)) return file;
+  const partial = path.join(CACHE, `rows-${rows}-${format}.partial`);
+  rmSync(partial, { recursive: true, force: true });
+  mkdirSync(partial, { recursive: true });
+  await new Promise<void>((resolve, reject) => {
+    const child = spawn(process.execPath, ['--import', 'tsx', 'sample-data/generate.ts', '--rows', String(rows), '--out', partial, '--formats', format, '--demo-only'], { cwd: ROOT, stdio: ['ignore', 'ignore', 'pipe'] });
+    let stderr = '';
+    child.stderr.on('data', (d: Buffer) => (stderr += String(d)));
+    child.on('error', reject);
+    child.on('close', (code) => (code === 0 ? resolve() : reject(new Error(`the generator failed (exit ${code}): ${stderr}`))));
+  });
+  mkdirSync(dir, { recursive: true });
+  renameSync(path.join(partial, `maple-row-demo.${format}`), file);
+  rmSync(partial, { recursive: true, force: true });
+  return file;
+}
+
+interface HeapUsage { usedSize: number; backingStorageSize?: number }
+
+/**
+ * Samples V8 heap use (Runtime.getHeapUsage: the JS heap, plus ArrayBuffer backing stores where Chromium
+ * reports them) of the page and of every worker it starts, through one CDP session auto-attached to them.
+ */
+async function heapSampler(page: Page): Promise<{ sample(): Promise<void>; peaks: Map<string, number> }> {
+  const cdp: CDPSession = await page.context().newCDPSession(page);
+  const workers = new Map<string, string>();
+  const pending = new Map<number, (v: HeapUsage | null) => void>();
+  let next = 1_000_000;
+  cdp.on('Target.attachedToTarget', (e: { sessionId: string; targetInfo: { type: string; url: string } }) => {
+    if (e.targetInfo.type === 'worker') workers.set(e.sessionId, /duckdb/.test(e.targetInfo.url) ? 'duckdb worker' : /digest/.test(e.targetInfo.url) ? 'digest worker' : 'other worker');
+  });
+  cdp.on('Target.detachedFromTarget', (e: { sessionId: string }) => { workers.delete(e.sessionId); });
+  cdp.on('Target.receivedMessageFromTarget', (e: { message: string }) => {
+    const m = JSON.parse(e.message) as { id?: number; result?: HeapUsage };
+    if (m.id !== undefined) pending.get(m.id)?.(m.result ?? null);
+  });
+  await cdp.send('Target.setAutoAttach', { autoAttach: true, waitForDebuggerOnStart: false, flatten: false });
+  const inWorker = (sessionId: string) => new Promise<HeapUsage | null>((resolve) => {
+    const id = ++next;
+    const timer = setTimeout(() => { pending.delete(id); resolve(null); }, 3000);
+    pending.set(id, (v) => { clearTimeout(timer); pending.delete(id); resolve(v); });
+    cdp.send('Target.sendMessageToTarget', { sessionId, message: JSON.stringify({ id, method: 'Runtime.getHeapUsage' }) }).catch(() => resolve(null));
+  });
+  const peaks = new Map<string, number>();
+  const note = (who: string, h: HeapUsage | null) => {
+    if (!h) return;
+    const bytes = h.usedSize + (h.backingStorageSize ?? 0);
+    peaks.set(who, Math.max(peaks.get(who) ?? 0, bytes));
+  };
+  return {
+    peaks,
+    async sample() {
+      note('page', (await cdp.send('Runtime.getHeapUsage').catch(() => null)) as HeapUsage | null);
+      for (const [sessionId, who] of [...workers]) note(who, await inWorker(sessionId));
+    },
+  };
+}
+
+const MB = 1024 * 1024;
+
+test.describe.serial('large logs @large', () => {
+  test.skip(!process.env.CW_LARGE, 'set CW_LARGE=1 to audit the 5M-row CSV and the 10M-row Parquet log');
+
+  test(`a ${(CSV_ROWS / 1e6).toFixed(0)}M-row CSV audits in standalone web mode with the file never held in the page's or the workers' heaps`, async ({ page }) => {
+    test.setTimeout(600_000);
+    const started = Date.now();
+    const file = await demoLog(CSV_ROWS, 'csv');
+    const generated = Date.now();
+    const size = statSync(file).size;
+    const heap = await heapSampler(page);
+    let sampling = true;
+    const loop = (async () => { while (sampling) { await heap.sample(); await new Promise((r) => setTimeout(r, 500)); } })();
+    try {
+      await page.goto('/');
+      await page.getByTestId('log-file-input').setInputFiles(file);
+      await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 300_000 });
+      const opened = Date.now();
+      await expect(page.locator('#role-action')).toHaveValue('promotion');
+      await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+      await page.getByRole('button', { name: 'Run the audit' }).click();
+      await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 540_000 });
+      await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
+      await expect(page.locator('.verdict-card')).toContainText(`${(CSV_ROWS * 1.003).toLocaleString('en')} rows`);
+      const done = Date.now();
+      sampling = false;
+      await loop;
+      await heap.sample();
+      const peaks = Object.fromEntries([...heap.peaks].map(([k, v]) => [k, `${(v / MB).toFixed(1)} MB`]));
+      console.log(`${CSV_ROWS} rows, ${(size / MB).toFixed(0)} MB CSV: generate/cache ${((generated - started) / 1000).toFixed(1)} s, open ${((opened - generated) / 1000).toFixed(1)} s, audit ${((done - opened) / 1000).toFixed(1)} s; peak heaps ${JSON.stringify(peaks)}`);
+      expect(heap.peaks.get('page'), 'the page heap was sampled').toBeGreaterThan(0);
+      expect(heap.peaks.get('duckdb worker'), 'the engine worker heap was sampled').toBeGreaterThan(0);
+      // Holding the log in memory would need at least its size; each heap stays under a quarter of it.
+      for (const [who, bytes] of heap.peaks) expect(bytes, `${who} peak heap`).toBeLessThan(0.25 * size);
+    } finally {
+      sampling = false;
+      await loop;
+    }
+  });
+
+  test('a 10M-row Parquet log audits through hosted mode', async ({ page }) => {
+    test.setTimeout(600_000);
+    const started = Date.now();
+    const file = await demoLog(PARQUET_ROWS, 'parquet');
+    const generated = Date.now();
+    const token = newToken();
+    const server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [path.dirname(file)] });
+    try {
+      await page.goto(`/?host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
+      await page.getByTestId('log-file-input').setInputFiles(file);
+      await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 120_000 });
+      const opened = Date.now();
+      await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+      await page.getByRole('button', { name: 'Run the audit' }).click();
+      await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 480_000 });
+      await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
+      await expect(page.locator('.verdict-card')).toContainText(`${(PARQUET_ROWS * 1.003).toLocaleString('en')} rows`);
+      console.log(`${PARQUET_ROWS} rows Parquet via hosted mode: generate/cache ${((generated - started) / 1000).toFixed(1)} s, open ${((opened - generated) / 1000).toFixed(1)} s, audit ${((Date.now() - opened) / 1000).toFixed(1)} s`);
+    } finally {
+      await server.close();
+    }
+  });
+});

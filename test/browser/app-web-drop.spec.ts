@@ -1,0 +1,66 @@
+/**
+ * Standalone web mode (DuckDB-Wasm in a worker): a log dropped on the page, and an audit cancelled while
+ * its one scan (the cube) is running.
+ */
+import { expect, test, type Page } from '@playwright/test';
+
+async function dropDemoLog(page: Page): Promise<void> {
+  // The dropped File is built in the page from the served demo log, as a file manager's drop would hand it over.
+  const dataTransfer = await page.evaluateHandle(async () => {
+    const blob = await (await fetch('/sample-data/maple-row-demo.csv')).blob();
+    const dt = new DataTransfer();
+    dt.items.add(new File([blob], 'maple-row-demo.csv', { type: 'text/csv' }));
+    return dt;
+  });
+  const zone = page.getByTestId('log-drop-zone');
+  await zone.dispatchEvent('dragover', { dataTransfer });
+  await expect(zone).toHaveClass(/dropzone-active/);
+  await zone.dispatchEvent('drop', { dataTransfer });
+}
+
+test.describe.serial('standalone web mode: drop and cancel', () => {
+  let page: Page;
+  test.beforeAll(async ({ browser }) => { page = await browser.newPage({ viewport: { width: 1280, height: 800 } }); });
+  test.afterAll(async () => { await page?.close(); });
+
+  test('a CSV log dropped on the page opens on the roles screen with the demo roles suggested', async () => {
+    await page.goto('/');
+    await dropDemoLog(page);
+    await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
+    // DESIGN.md §7: the demo's action is `promotion`, its propensity `propensity`, its time `logged_at`.
+    await expect(page.locator('#role-action')).toHaveValue('promotion');
+    await expect(page.locator('#role-propensity')).toHaveValue('propensity');
+    await expect(page.locator('#role-time')).toHaveValue('logged_at');
+    await expect(page.getByText('maple-row-demo.csv').first()).toBeVisible();
+  });
+
+  test('cancelling during the cube stage returns to the settings with nothing shown as a result, and a new run finishes', async () => {
+    test.setTimeout(120_000);
+    await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+    await page.getByRole('button', { name: 'Run the audit' }).click();
+    const cube = page.locator('.stage', { hasText: 'Cube' });
+    await expect(cube).toHaveClass(/stage-working/, { timeout: 30_000 });
+    await screen(page, '15-run-cube-stage');
+    const cancelledAt = Date.now();
+    await page.getByRole('button', { name: 'Cancel the audit' }).click();
+    await expect(page.getByRole('heading', { name: 'Target policies and settings' })).toBeVisible();
+    expect(Date.now() - cancelledAt).toBeLessThan(5_000);
+
+    // Nothing of the cancelled run is offered as a result: no overview, and every result view disabled.
+    const nav = page.getByRole('navigation', { name: 'Steps and results' });
+    await expect(page.getByRole('heading', { name: 'Audit overview' })).toHaveCount(0);
+    for (const name of ['Overview', 'Segment map', 'Weights & support', 'Drift', 'Estimates', 'Edit a target', 'Sign-off']) {
+      await expect(nav.getByRole('button', { name }), name).toBeDisabled();
+    }
+    await expect(page.getByRole('alert')).toHaveCount(0);
+
+    // The engine is usable again: the same log runs to a verdict.
+    await page.getByRole('button', { name: 'Run the audit' }).click();
+    await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 90_000 });
+    await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
+  });
+});
+
+async function screen(page: Page, name: string): Promise<void> {
+  await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage: true });
+}

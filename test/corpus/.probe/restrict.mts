@@ -1,0 +1,18 @@
+import { createNativeEngine } from '../../../app/engine/native.ts';
+const e = await createNativeEngine({ restrictFileAccess: true });
+const d = '/work/main/test/corpus/files/';
+const t = async (sql: string) => { try { const r = await e.query(sql); console.log('OK ', sql.slice(0, 80), JSON.stringify(r.columns).slice(0, 80)); } catch (x) { console.log('ERR', sql.slice(0, 80), (x as any).code, (x as Error).message.slice(0, 160)); } };
+const a = await e.register({ kind: 'path', paths: [d + 'good.parquet'] });
+await t(`SELECT count(*) FROM ${a.relation}`);
+await t(`SELECT count(*) FROM read_csv('${d}single-row.csv')`);
+await t(`COPY (SELECT 1) TO '/tmp/cwp/leak.csv'`);
+await t(`SET enable_external_access = true`);
+const b = await e.register({ kind: 'path', paths: [d + 'mixed-schema'] }).catch((x) => { console.log('reg err', x.message.slice(0, 100)); return null; });
+const c = await e.register({ kind: 'path', paths: ['test/corpus/files/single-row.csv'] });
+await t(`SELECT count(*) FROM ${a.relation}`);
+await t(`SELECT count(*) FROM ${c.relation}`);
+await t(`SELECT count(*) FROM read_parquet('${d}mixed-schema/part-1.parquet')`);
+await t(`SELECT count(*) FROM read_parquet('${d}mixed-schema/../good.parquet')`);
+await t(`SELECT count(*) FROM read_text('${d}mixed-schema/../../make-corpus.ts')`);
+await t(`SELECT * FROM read_text('/etc/hostname')`);
+await e.close();
