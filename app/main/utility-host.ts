@@ -38,7 +38,7 @@ export function parentPortTransport(port: ParentPortLike): Transport & { detach(
  * closes the engine and opens a fresh one, so the next log starts from an empty database without the
  * main process restarting anything.
  */
-export async function serveOverParentPort(port: ParentPortLike, createEngine: () => Promise<NativeEngine> = () => createNativeEngine()): Promise<void> {
+export async function serveOverParentPort(port: ParentPortLike, createEngine: () => Promise<NativeEngine> = () => createNativeEngine({ restrictFileAccess: true })): Promise<void> {
   const transport = parentPortTransport(port);
   const serveFresh = async (): Promise<void> => {
     const engine = await createEngine();

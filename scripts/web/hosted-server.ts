@@ -46,7 +46,8 @@ const MAX_MESSAGE_BYTES = 64 * 1024 * 1024;
 /** The native engine served over the host protocol, as in the desktop engine host. */
 export function nativeSession(logFolders: readonly string[] = []): OpenSession {
   return async (transport) => {
-    const engine = await createNativeEngine();
+    // As in the desktop engine host: queries may read only the logs registered through the protocol.
+    const engine = await createNativeEngine({ restrictFileAccess: true });
     serveEngine(transport, withLogFolders(engine, logFolders));
     return { close: () => engine.close() };
   };

@@ -63,3 +63,28 @@ describe.each([
     expect(grouped.uniformTail).toEqual(rowLevel.uniformTail);
   });
 });
+
+describe('example rows', () => {
+  // The plain form: every matching row, numbered per finding in the requested order.
+  const reference = (relation: string, wheres: string[], n: number, order: string[]) => [
+    `WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${wheres.map((w) => `(${w})`).join(' OR ')})`,
+    `SELECT f.__finding, m.* FROM m, (VALUES ${wheres.map((_, i) => `(${i})`).join(', ')}) AS f(__finding)`,
+    `WHERE CASE f.__finding ${wheres.map((w, i) => `WHEN ${i} THEN (${w})`).join(' ')} END`,
+    `QUALIFY row_number() OVER (PARTITION BY f.__finding ORDER BY ${order.map((o) => `m.${o}`).join(', ')}) <= ${n}`,
+    `ORDER BY f.__finding, ${order.map((o) => `m.${o}`).join(', ')}`,
+  ].join('\n');
+
+  it.each([
+    [['"decision_id"', '"logged_at"'], 3],
+    [['"ordered"', '"decision_id"'], 4],
+    [['"basket_value"', '"decision_id"'], 2],
+  ])('pick the same rows as numbering every match (order %s, %i per finding)', async (order, n) => {
+    const relation = `read_parquet('${SAMPLE}maple-row-demo.parquet')`;
+    const wheres = [`"region" = 'old-town'`, `"device" = 'web' AND "promotion" = 'bakery'`, `"ordered" IS NULL`, `"propensity" IS NULL OR "propensity" <= 0`, `"region" = 'nowhere'`];
+    const { examplesSql } = await import('../../app/core/scan/rows.ts');
+    const a = await engine.query(examplesSql(relation, wheres.map((where) => ({ where })), n, order));
+    const b = await engine.query(reference(relation, wheres, n, order));
+    expect(a.rowCount).toBeGreaterThan(4);
+    expect(a).toEqual(b);
+  });
+});

@@ -229,6 +229,7 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     await page.getByLabel(/^Segment/).selectOption({ label: 'old-town · web · new' });
     const edited = (metric: string) => page.locator(`tr[data-metric="${metric}"] td.edited`);
     const sentBefore = framesSent;
+    expect(sentBefore, 'the page talks to the host over the counted socket').toBeGreaterThan(0);
     const started = Date.now();
     await page.getByRole('button', { name: 'All on bakery' }).click();
     await expect(edited('ess')).not.toHaveAttribute('data-value', '', { timeout: 1000 });

@@ -37,14 +37,23 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
   test('cancelling during the cube stage returns to the settings with nothing shown as a result, and a new run finishes', async () => {
     test.setTimeout(120_000);
     await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-    await page.getByRole('button', { name: 'Run the audit' }).click();
-    const cube = page.locator('.stage', { hasText: 'Cube' });
-    await expect(cube).toHaveClass(/stage-working/, { timeout: 30_000 });
-    await screen(page, '15-run-cube-stage');
+    // The cube stage lasts under a second on the demo log, so the page itself presses Cancel the moment it starts.
+    await page.evaluate(() => {
+      const w = window as unknown as { cancelledDuring?: string };
+      const observer = new MutationObserver(() => {
+        const working = document.querySelector('.stage-working .stage-title')?.textContent;
+        if (working !== 'Cube') return;
+        observer.disconnect();
+        w.cancelledDuring = working;
+        [...document.querySelectorAll('button')].find((b) => b.textContent === 'Cancel the audit')?.click();
+      });
+      observer.observe(document.body, { subtree: true, childList: true, attributes: true });
+    });
     const cancelledAt = Date.now();
-    await page.getByRole('button', { name: 'Cancel the audit' }).click();
+    await page.getByRole('button', { name: 'Run the audit' }).click();
+    await expect.poll(() => page.evaluate(() => (window as unknown as { cancelledDuring?: string }).cancelledDuring), { timeout: 30_000 }).toBe('Cube');
     await expect(page.getByRole('heading', { name: 'Target policies and settings' })).toBeVisible();
-    expect(Date.now() - cancelledAt).toBeLessThan(5_000);
+    expect(Date.now() - cancelledAt).toBeLessThan(10_000);
 
     // Nothing of the cancelled run is offered as a result: no overview, and every result view disabled.
     const nav = page.getByRole('navigation', { name: 'Steps and results' });
@@ -60,7 +69,3 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
     await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
   });
 });
-
-async function screen(page: Page, name: string): Promise<void> {
-  await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage: true });
-}

@@ -37,7 +37,7 @@ export interface CorpusCase {
   readonly wasm?: 'same' | 'extension-unavailable' | Outcome;
 }
 
-const EXT_UNAVAILABLE: ErrorOutcome = { error: { code: 'extension-unavailable', words: [/DuckDB-Wasm/, /desktop app/, /counterweight audit/] } };
+export const WASM_EXTENSION_UNAVAILABLE: ErrorOutcome = { error: { code: 'extension-unavailable', words: [/DuckDB-Wasm/, /desktop app/, /counterweight audit/] } };
 
 export const CASES: readonly CorpusCase[] = [
   { id: 'empty', file: 'empty.csv', what: 'a 0-byte file', expect: { error: { name: 'EmptyLogError', words: [/no rows|empty/, /nothing to audit/] } } },

@@ -12,7 +12,7 @@ import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { fingerprintFiles } from '../../app/report/fingerprint.ts';
 import { validateReport, toJsonValue } from '../../app/report/json.ts';
-import { CASES, HIGH_CARDINALITY, type CorpusCase, type Outcome } from '../corpus/cases.ts';
+import { CASES, HIGH_CARDINALITY, WASM_EXTENSION_UNAVAILABLE, type CorpusCase, type Outcome } from '../corpus/cases.ts';
 import { writeHighCardinalitySegmentLog } from '../corpus/make-corpus.ts';
 import { expectOutcome, FILES, hashCorpus, type Attempt } from './outcome.ts';
 
@@ -43,7 +43,7 @@ describe.each(ENGINES)('corpus on %s', (kind, make) => {
 
   it.each(CASES.map((c) => [c.id, c] as const))('%s', async (_id, c) => {
     const outcome: Outcome = kind === 'native' || !c.wasm || c.wasm === 'same' ? c.expect
-      : c.wasm === 'extension-unavailable' ? { error: { code: 'extension-unavailable', words: [/DuckDB-Wasm/, /desktop app/, /counterweight audit/] } } : c.wasm;
+      : c.wasm === 'extension-unavailable' ? WASM_EXTENSION_UNAVAILABLE : c.wasm;
     const started = Date.now();
     const result = await attempt(engine, path.join(FILES, c.file), c.roles);
     expectOutcome(result, outcome);

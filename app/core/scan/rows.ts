@@ -143,24 +143,36 @@ export interface ExampleRequest {
 }
 
 /**
- * One scan, no sort: per finding, DuckDB's top-n aggregate min_by(row, key, n) keeps the first
- * `perFinding` matching rows in `orderBy` order (the key puts NULLs last, as ORDER BY does), so no
- * matching row is materialised or sorted beyond those. `orderBy` are expressions over the log's columns.
+ * Example rows, without materialising every matching row: first DuckDB's top-n aggregate
+ * min_by(key, key, n) finds, per finding, the sort keys of its first `perFinding` rows (the key puts
+ * NULLs last, as ORDER BY does); then only rows whose first sort column takes one of those keys' values
+ * are read back, and the first `perFinding` per finding picked from them in `orderBy` order. That set
+ * holds every row the full ordering would pick, so the answer is the same. `orderBy` are expressions
+ * over the log's own columns.
  */
 export function examplesSql(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[]): string {
   const any = requests.map((r) => `(${r.where})`).join(' OR ');
-  const row = ident('cw:row');
-  const key = ident('cw:key');
-  const sortKey = orderBy.length ? `{${orderBy.flatMap((o, i) => [`'n${i}': (${o}) IS NULL`, `'v${i}': ${o}`]).join(', ')}}` : '0';
+  const cases = requests.map((r, i) => `WHEN ${i} THEN (${r.where})`).join(' ');
+  const ids = requests.map((_, i) => `(${i})`).join(', ');
   const n = integer(perFinding);
-  const picks = requests.map((r, i) => `min_by(${row}, ${key}, ${n}) FILTER (WHERE ${r.where}) AS ${ident(`cw:f${i}`)}`);
-  const lists = requests.map((_, i) => `SELECT ${i} AS __finding, ${ident(`cw:f${i}`)} AS l FROM picked`);
+  const order = orderBy.length ? orderBy.map((o) => `m.${o}`).join(', ') : '1';
+  const tail = [
+    `SELECT f.__finding, m.* FROM m, (VALUES ${ids}) AS f(__finding)`,
+    `WHERE CASE f.__finding ${cases} END`,
+    `QUALIFY row_number() OVER (PARTITION BY f.__finding ORDER BY ${order}) <= ${n}`,
+    `ORDER BY f.__finding, ${order}`,
+  ];
+  const first = orderBy[0];
+  if (first === undefined) return [`WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${any})`, ...tail].join('\n');
+  const key = ident('cw:key');
+  const sortKey = `{${orderBy.flatMap((o, i) => [`'n${i}': (${o}) IS NULL`, `'v${i}': ${o}`]).join(', ')}}`;
+  const picks = requests.map((r, i) => `min_by(${key}, ${key}, ${n}) FILTER (WHERE ${r.where})`);
   return [
     `WITH picked AS (`,
-    `  SELECT ${picks.join(',\n    ')}`,
-    `  FROM (SELECT ${ident('cw:t')} AS ${row}, ${sortKey} AS ${key}, * FROM ${relation} AS ${ident('cw:t')} WHERE ${any})`,
-    `), rows AS (SELECT __finding, unnest(l) AS r FROM (${lists.join(' UNION ALL ')}))`,
-    `SELECT * FROM (SELECT __finding, unnest(r) FROM rows)`,
-    `ORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`,
+    `  SELECT flatten([${picks.join(',\n    ')}]) AS keys`,
+    `  FROM (SELECT ${sortKey} AS ${key}, * FROM ${relation} WHERE ${any})`,
+    `), firsts AS (SELECT DISTINCT unnest(keys).v0 AS v, unnest(keys).n0 AS is_null FROM picked),`,
+    `m AS MATERIALIZED (SELECT * FROM ${relation} WHERE (${any}) AND (${first} IN (SELECT v FROM firsts WHERE NOT is_null) OR (${first} IS NULL AND (SELECT coalesce(bool_or(is_null), false) FROM firsts))))`,
+    ...tail,
   ].join('\n');
 }
