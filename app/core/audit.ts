@@ -179,7 +179,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       return r;
     }
   });
-  const checks = await attachExamples(run, record, relation, drafts, settings['examples.per_finding'], settings['examples.max_findings'], orderColumns(effectiveRoles, profile));
+  const checks = await attachExamples(run, record, relation, drafts, settings['examples.per_finding'], settings['examples.max_findings'], orderColumns(effectiveRoles, profile), request.input.format === 'parquet');
   progress('checks', true);
   const { verdict, reasons } = verdictOf(checks);
   const report: Report = {
@@ -223,14 +223,14 @@ function orderColumns(roles: { decision_id: string | null; time: string | null }
   return profile.columns.filter((c) => c.kind !== 'other').map((c) => ident(c.name));
 }
 
-async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, checks: CheckResult[], perFinding: number, maxFindings: number, order: string[]): Promise<CheckResult[]> {
+async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, checks: CheckResult[], perFinding: number, maxFindings: number, order: string[], rereadIsCheap: boolean): Promise<CheckResult[]> {
   const wanted: { check: number; finding: number; where: string }[] = [];
   checks.forEach((c, ci) => c.findings.forEach((f, fi) => {
     const w = (f as DraftFinding).where;
     if (w && perFinding > 0 && f.status !== 'pass' && wanted.length < maxFindings && c.findings.slice(0, fi).filter((x) => (x as DraftFinding).where).length < 5) wanted.push({ check: ci, finding: fi, where: w });
   }));
   let table: Table | null = null;
-  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order), true));
+  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order, rereadIsCheap), true));
   const byRequest = new Map<number, Record<string, Cell>[]>();
   if (table) {
     const fcol = table.columns[0] as readonly Cell[];

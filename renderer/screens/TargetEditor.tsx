@@ -149,14 +149,14 @@ export function TargetEditor({ report, workspace, onUseTable }: Props) {
       <div className="editor-layout">
         <div className="card">
           {tables.length > 1 && (
-            <p className="inline-form">
+            <p className="editor-field">
               <label htmlFor="edit-target">Target</label>
               <select id="edit-target" value={which} onChange={(e) => { setWhich(Number(e.target.value)); setTyped(new Map()); setSegment(null); }}>
                 {tables.map((t, i) => <option key={t.spec} value={i}>{t.policy.name}</option>)}
               </select>
             </p>
           )}
-          <p className="inline-form">
+          <p className="editor-field">
             <label htmlFor="edit-segment">Segment ({policy.keyColumns.join(' · ') || 'all rows'})</label>
             <select id="edit-segment" value={key} onChange={(e) => setSegment(e.target.value)}>
               {keys.map((k) => <option key={k} value={k}>{keyLabel(k) || 'all rows'}{typed.has(k) ? ' (edited)' : ''}</option>)}

@@ -12,6 +12,7 @@ import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
 import { newToken } from '../../scripts/web/access.ts';
 import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-server.ts';
+import { parseTable } from '../../app/core/targets/targets.ts';
 import { formatShare, formatValue } from '../../renderer/format.ts';
 
 const ROOT = process.cwd();
@@ -253,5 +254,19 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     expect(t.support_deficit).toBeGreaterThan((cli.report.targets[0] as ReportJson['targets'][number]).support_deficit);
     await screen(page, '24-hosted-edit-target');
     console.log(`edit preview: ${elapsed} ms from click to numbers; frames sent before/after ${sentBefore}/${framesSent}`);
+  });
+
+  test('the edited table downloads as the table the headless command read, and can be queued for a new audit', async () => {
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Download the edited table' }).click()]);
+    expect(download.suggestedFilename()).toBe('maple-row-v9-policy-edited.csv');
+    const ctx = ['region', 'device', 'tenure', 'promotion'];
+    const mine = parseTable('table:a.csv', 'a.csv', readFileSync(await download.path(), 'utf8'), 'promotion', ctx);
+    const theirs = parseTable('table:b.csv', 'b.csv', readFileSync(path.join(tmp, 'maple-row-v9-policy.csv'), 'utf8'), 'promotion', ctx);
+    const entries = (p: typeof mine) => (p.kind === 'table' ? [...p.probabilities].map(([k, m]) => [k, [...m].filter(([, q]) => q > 0)]) : []);
+    expect(entries(mine)).toEqual(entries(theirs));
+
+    await page.getByRole('button', { name: 'Audit with the edited table…' }).click();
+    await expect(page.getByRole('heading', { name: 'Target policies and settings' })).toBeVisible();
+    await expect(page.getByText('Policy table from maple-row-v9-policy-edited.csv')).toBeVisible();
   });
 });
