@@ -3,8 +3,8 @@
  * machine (32-bit integer arithmetic only).
  */
 
-/** mulberry32 (Tommy Ettinger, 2017, public domain); used only to spread a 32-bit seed over xoshiro's state. */
-function mulberry32(seed: number): () => number {
+/** mulberry32 (Tommy Ettinger, 2017, public domain): 32-bit outputs; here it spreads a seed over xoshiro's state. */
+export function mulberry32(seed: number): () => number {
   let a = seed >>> 0;
   return () => {
     a = (a + 0x6d2b79f5) >>> 0;
@@ -16,6 +16,12 @@ function mulberry32(seed: number): () => number {
 }
 
 const TWO_POW_32 = 4294967296;
+
+/** mulberry32 scaled to [0, 1): the small seeded stream the tests draw from. */
+export function mulberry32Unit(seed: number): () => number {
+  const next = mulberry32(seed);
+  return () => next() / TWO_POW_32;
+}
 const TWO_POW_53 = 9007199254740992;
 
 /** xoshiro128** 1.1 (Blackman & Vigna, "Scrambled linear pseudorandom number generators", ACM TOMS 2021; prng.di.unimi.it). */

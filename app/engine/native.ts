@@ -10,6 +10,7 @@ import { foldersAmong } from './node-paths.ts';
 import { buildScan, createViewSql, globSql, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from './types.ts';
+import { serialQueue } from './serial.ts';
 
 export interface NativeEngineOptions {
   /** DuckDB's `threads` setting; DuckDB's default (all cores) when absent. */
@@ -81,14 +82,8 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
   let scans = 0;
   let closed = false;
   let running = false;
-  let tail: Promise<unknown> = Promise.resolve();
 
-  // One connection runs one statement at a time; later calls wait their turn.
-  function serial<T>(job: () => Promise<T>): Promise<T> {
-    const next = tail.then(job, job);
-    tail = next.catch(() => undefined);
-    return next;
-  }
+  const serial = serialQueue();
 
   function ensureOpen(): void {
     if (closed) throw new EngineError('closed', 'The engine has been closed.');
@@ -164,7 +159,7 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     async close() {
       if (closed) return;
       if (running) connection.interrupt();
-      await tail;
+      await serial(async () => undefined);
       closed = true;
       connection.closeSync();
       instance.closeSync();

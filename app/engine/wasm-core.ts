@@ -12,6 +12,7 @@ import { createViewSql, quoteIdentifier, quoteLiteral, readsRelation, relationNa
 import type { Scan } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceFormat } from './types.ts';
+import { serialQueue } from './serial.ts';
 
 /** DuckDB-Wasm's pending-query calls for one connection, sync (Node blocking build) or async (worker). */
 export interface PendingQueryApi {
@@ -86,14 +87,9 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
   let scans = 0;
   let closed = false;
   let current: { cancelled: boolean } | null = null;
-  let tail: Promise<unknown> = Promise.resolve();
   const loaded = new Map<string, Promise<void>>();
 
-  function serial<T>(job: () => Promise<T>): Promise<T> {
-    const next = tail.then(job, job);
-    tail = next.catch(() => undefined);
-    return next;
-  }
+  const serial = serialQueue();
 
   function ensureOpen(): void {
     if (closed) throw new EngineError('closed', 'The engine has been closed.');
@@ -217,7 +213,7 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
       async close() {
         if (closed) return;
         if (current) current.cancelled = true;
-        await tail;
+        await serial(async () => undefined);
         closed = true;
         await parts.close();
       },

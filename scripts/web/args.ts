@@ -28,6 +28,9 @@ export function parseWebArgs(argv: readonly string[]): WebArgs {
     const arg = argv[i] ?? '';
     const [flag, inline] = arg.startsWith('--') && arg.includes('=') ? [arg.slice(0, arg.indexOf('=')), arg.slice(arg.indexOf('=') + 1)] : [arg, undefined];
     switch (flag) {
+      case '--help':
+      case '-h':
+        throw new UsageError(WEB_USAGE);
       case '--host':
         args.hosted = true;
         break;

@@ -1,17 +1,9 @@
 /** Reading the demo generator's manifest and matching its planted defects to report findings. */
 import { readFileSync } from 'node:fs';
 import type { Finding, Report } from '../../app/core/model/report.ts';
+import type { PlantedDefect } from '../../sample-data/manifest.ts';
 
-export interface PlantedDefect {
-  kind: string;
-  also_detected_by: string[];
-  segment: Record<string, string>;
-  action?: string;
-  window?: { from: string; to: string };
-  magnitude: Record<string, unknown>;
-  rows_affected: number;
-  description: string;
-}
+export type { PlantedDefect };
 
 export function readManifest(path: string): { defects: PlantedDefect[] } {
   return JSON.parse(readFileSync(path, 'utf8')) as { defects: PlantedDefect[] };

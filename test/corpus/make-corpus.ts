@@ -9,6 +9,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { gzipSync } from 'node:zlib';
 import { DuckDBInstance } from '@duckdb/node-api';
+import { mulberry32Unit } from '../../sample-data/prng.ts';
 
 export const CORPUS_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'files');
 
@@ -16,17 +17,8 @@ const PROMOTIONS = ['produce-box', 'pantry-restock', 'bakery', 'free-delivery', 
 const REGIONS = ['north-harbor', 'east-ridge', 'old-town', 'riverside', 'west-fields', 'south-bay'];
 const HEADER = 'decision_id,logged_at,region,promotion,propensity,ordered';
 
-/** mulberry32 (Tommy Ettinger's public-domain 32-bit generator): a small seeded stream for the corpus. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32 (Tommy Ettinger, public domain) in [0, 1), shared with the demo generator. */
+const mulberry32 = mulberry32Unit;
 
 interface Row { id: string; at: string; region: string; promotion: string; p: string; ordered: string }
 

@@ -9,22 +9,14 @@ import {
   type Estimate,
   type TargetProbability,
 } from '../../app/core/stats/estimators.ts';
+import { mulberry32Unit } from '../../sample-data/prng.ts';
 
 // Reference values: (a) a direct row-level computation of each published formula on seeded synthetic
 // rows (an algebra check of the cube-sum expansions); (b) scipy 1.17 on this machine for the normal
 // quantiles and for scipy.stats.sem. No textbook worked example is used for IPS, SNIPS or DR.
 
-/** mulberry32 (Tommy Ettinger, public domain): a small seeded 32-bit PRNG returning [0, 1). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32 (Tommy Ettinger, public domain) in [0, 1), shared with the demo generator. */
+const mulberry32 = mulberry32Unit;
 
 interface Row {
   readonly segment: string;

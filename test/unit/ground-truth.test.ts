@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { EstimatorCell } from '../../app/core/cube/types.ts';
 import { doublyRobust, ips, snips, type Estimate } from '../../app/core/stats/estimators.ts';
+import { mulberry32Unit } from '../../sample-data/prng.ts';
 
 // Ground truth from open data by the supervised-to-bandit conversion of Dudík, Langford & Li (2011), §5:
 // each labelled example is a context, the ten digit classes are the actions, reward = 1 when the action
@@ -10,17 +11,8 @@ import { doublyRobust, ips, snips, type Estimate } from '../../app/core/stats/es
 // re-drawn logs. Data: UCI Optical Recognition of Handwritten Digits test set (Alpaydin & Kaynak 1998),
 // reduced to (label, segment); see test/reference/digits/PROVENANCE.md.
 
-/** mulberry32 (Tommy Ettinger, public domain): a small seeded 32-bit PRNG returning [0, 1). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32 (Tommy Ettinger, public domain) in [0, 1), shared with the demo generator. */
+const mulberry32 = mulberry32Unit;
 
 interface Example {
   readonly label: number;

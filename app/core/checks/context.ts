@@ -1,6 +1,7 @@
 /** What every check receives: the scan results and settings. A check is (context) -> CheckResult. */
 import type { CubeCell } from '../cube/types.ts';
 import type { CheckId, CheckResult, Finding, Metrics, Series, Status } from '../model/report.ts';
+import type { Totals } from '../cube/rollup.ts';
 import type { ResolvedRoles, RoleProblem } from '../roles/roles.ts';
 import type { RowExpressions, TimeBuckets } from '../scan/expressions.ts';
 import type { Profile } from '../scan/profile.ts';
@@ -116,4 +117,13 @@ export function isoUs(us: number): string {
 /** Finite numbers only: JSON carries no NaN or Infinity. */
 export function finite(x: number | null | undefined): number | null {
   return x === null || x === undefined || !Number.isFinite(x) ? null : x;
+}
+
+/** A segment × action heatmap of one cube statistic (rows: full segments, columns: actions). */
+export function cellHeatmap(ctx: AuditContext, name: string, unit: string, value: (t: Totals) => number | null, empty: number | null): Series {
+  const label = (segment: readonly string[]) => segment.join(' · ');
+  const segs = [...new Set(ctx.view.cells.map((c) => label(c.segment)))].sort();
+  const actions = ctx.view.actions;
+  const idx = new Map(ctx.view.cells.map((c) => [`${label(c.segment)}|${c.action}`, value(c.totals)]));
+  return { name, kind: 'heatmap', x: actions, y: segs, values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? empty)), unit };
 }

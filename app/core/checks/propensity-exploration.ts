@@ -1,5 +1,5 @@
 import { segmentKey } from '../cube/rollup.ts';
-import { describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { cellHeatmap, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { segmentPredicate } from './predicates.ts';
 
@@ -80,20 +80,6 @@ export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
     { segments: segs.length, unexplored_segments: segs.filter((s) => !s.explored).length, unexplored_share: unexploredRows / rows },
     findings,
     ['propensity.exploration.top_action_share', 'propensity.exploration.min_segment_share'],
-    [heatmapRows(ctx)],
+    [cellHeatmap(ctx, 'rows by segment and action', 'rows', (t) => t.n, 0)],
   );
-}
-
-function heatmapRows(ctx: AuditContext) {
-  const segs = [...new Set(ctx.view.cells.map((c) => c.segment.join(' · ')))].sort();
-  const actions = ctx.view.actions;
-  const idx = new Map(ctx.view.cells.map((c) => [`${c.segment.join(' · ')}|${c.action}`, c.totals.n]));
-  return {
-    name: 'rows by segment and action',
-    kind: 'heatmap' as const,
-    x: actions,
-    y: segs,
-    values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? 0)),
-    unit: 'rows',
-  };
 }

@@ -1,6 +1,6 @@
 import { total } from '../cube/rollup.ts';
 import { double, literal } from '../sql/quote.ts';
-import { describeSegment, fmt, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { cellHeatmap, describeSegment, fmt, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { and, segmentPredicate, validPropensity } from './predicates.ts';
 
@@ -44,13 +44,6 @@ export function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> 
     { epsilon: eps, rows_below_floor: t.nPBelowFloor, share_below_floor: share, min_propensity: t.minP, cells_below_floor: items.filter((i) => i.flagged).length },
     findings,
     ['support.floor.epsilon', 'support.floor.max_share'],
-    [minPropensityHeatmap(ctx)],
+    [cellHeatmap(ctx, 'minimum propensity by segment and action', 'propensity', (t) => t.minP, null)],
   );
-}
-
-function minPropensityHeatmap(ctx: AuditContext) {
-  const segs = [...new Set(ctx.view.cells.map((c) => c.segment.join(' · ')))].sort();
-  const actions = ctx.view.actions;
-  const idx = new Map(ctx.view.cells.map((c) => [`${c.segment.join(' · ')}|${c.action}`, c.totals.minP]));
-  return { name: 'minimum propensity by segment and action', kind: 'heatmap' as const, x: actions, y: segs, values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? null)), unit: 'propensity' };
 }

@@ -1,17 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { weightBalance } from '../../../app/core/stats/balance.ts';
+import { mulberry32Unit } from '../../../sample-data/prng.ts';
 
-/** mulberry32 (Tommy Ettinger, public domain): a small seeded PRNG so the property test is reproducible. */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32 (Tommy Ettinger, public domain) in [0, 1), shared with the demo generator. */
+const mulberry32 = mulberry32Unit;
 
 interface Sums {
   n: number;
