@@ -136,19 +136,25 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
 function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readonly CubeCell[], minEffect: number, pCut: number, floor: number): T[] {
   const order = [...flagged].sort((a, b) => Math.abs(b.t.balance - 1) - Math.abs(a.t.balance - 1) || b.t.n - a.t.n);
   const kept: T[] = [];
+  const covered = new Uint8Array(cells.length);
   for (const x of order) {
     let nP = 0, s1 = 0, s2 = 0;
-    for (const c of cells) {
-      if (!x.t.member(c) || kept.some((k) => k.t.member(c))) continue;
+    cells.forEach((c, i) => {
+      if (covered[i] || !x.t.member(c)) return;
       nP += c.nP;
       if (c.action === x.t.action) {
         s1 += c.sumInvP;
         s2 += c.sumInvP2;
       }
-    }
+    });
     if (nP < MIN_ROWS) continue;
     const wb = s1 > 0 ? weightBalance(nP, s1, s2) : neverLogged(nP, floor);
-    if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) kept.push(x);
+    if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) {
+      kept.push(x);
+      cells.forEach((c, i) => {
+        if (x.t.member(c)) covered[i] = 1;
+      });
+    }
   }
   return kept;
 }
