@@ -7,6 +7,8 @@ const page = (name: string): string => fileURLToPath(new URL(`./renderer/${name}
 
 export default defineConfig({
   root: 'renderer',
+  // Under the browser tests, DuckDB-Wasm's many source-map warnings would bury the test output.
+  ...(process.env.CW_NO_HMR ? { logLevel: 'error' as const } : {}),
   plugins: [react(), sampleDataPlugin(fileURLToPath(new URL('./sample-data', import.meta.url)))],
   server: {
     host: '127.0.0.1',

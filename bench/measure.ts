@@ -8,6 +8,11 @@ import { readFileSync } from 'node:fs';
 import { readdir, readFile } from 'node:fs/promises';
 import { runAudit } from '../app/core/audit.ts';
 import type { Report } from '../app/core/model/report.ts';
+import { resolveRoles } from '../app/core/roles/roles.ts';
+import { BY_PROPENSITY_MAX_DISTINCT, cubeSql } from '../app/core/scan/cube.ts';
+import { chooseBuckets, rowExpressions, timeRangeUs } from '../app/core/scan/expressions.ts';
+import { describeSql, parseDescribe, parseProfile, profileSql } from '../app/core/scan/profile.ts';
+import { resolveSettings } from '../app/core/settings.ts';
 import type { RunQuery } from '../app/core/table.ts';
 import { spawnHostChild } from '../app/engine/host/spawn.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
@@ -26,6 +31,8 @@ export interface MeasureSpec {
   policy: string;
   runs: number;
   warmup: boolean;
+  /** DuckDB memory_limit for the native engine (it spills to bench/cache/spill beyond it) */
+  memoryLimit?: string;
 }
 
 export interface MeasureResult {
@@ -63,9 +70,30 @@ function auditAnswer(report: Report): Record<string, number | string> {
   return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, scans: report.run.source_scans };
 }
 
-async function openEngine(name: EngineName): Promise<Engine> {
+/**
+ * The cube statement the audit builds for this log (no target column, default settings), from one
+ * profile scan, so the cube's peak memory is measured without the rest of an audit.
+ */
+export async function auditCubeSql(run: RunQuery, relation: string): Promise<string> {
+  const columns = parseDescribe(await run(describeSql(relation)));
+  const profile = parseProfile(await run(profileSql(relation, columns)), columns);
+  const roles = resolveRoles(profile);
+  const settings = resolveSettings();
+  const buckets = chooseBuckets(timeRangeUs(roles, profile), settings['time.bucket'], settings['time.max_buckets']);
+  const p = profile.columns.find((c) => c.name === roles.propensity);
+  return cubeSql({ relation, rows: rowExpressions(roles, profile, buckets), capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity: !!p && p.distinct <= BY_PROPENSITY_MAX_DISTINCT });
+}
+
+const SPILL = new URL('./cache/spill/', import.meta.url).pathname;
+
+async function openEngine(name: EngineName, memoryLimit?: string): Promise<Engine> {
   switch (name) {
-    case 'native': return createNativeEngine();
+    case 'native': {
+      if (!memoryLimit) return createNativeEngine();
+      const engine = await createNativeEngine({ memoryLimit });
+      await engine.query(`SET temp_directory = '${SPILL}'`);
+      return engine;
+    }
     case 'host': {
       const host = spawnHostChild();
       await host.ping();
@@ -102,7 +130,7 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
       const { measureInBrowser } = await import('./browser.ts');
       return await measureInBrowser(spec, targets);
     }
-    const engine = await openEngine(spec.engine);
+    const engine = await openEngine(spec.engine, spec.memoryLimit);
     try {
       const source = await engine.register({ kind: 'path', paths: [spec.file] });
       const run: RunQuery = (sql) => engine.query(sql);
@@ -112,10 +140,8 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
         const { seconds, last } = await timed(spec, audit);
         result = { seconds, answer: auditAnswer(last) };
       } else if (spec.kind === 'cube') {
-        // The audit's own cube statement, taken from the report of an untimed audit.
-        const cubeSql = (await audit()).queries.find((q) => q.name === 'cube')?.sql;
-        if (!cubeSql) throw new Error('the audit ran no cube query');
-        const { seconds, last } = await timed({ ...spec, warmup: false }, () => engine.query(cubeSql));
+        const cubeSql = await auditCubeSql(run, source.relation);
+        const { seconds, last } = await timed(spec, () => engine.query(cubeSql));
         result = { seconds, answer: { cells: last.rowCount } };
       } else {
         const { seconds, last } = await timed(spec, () => engine.query(FLOOR_SQL(source.relation)));

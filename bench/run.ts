@@ -5,7 +5,9 @@
  * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
  *
  *   npm run bench -- [--sizes 1m,10m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
- *                    [--smoke] [--out FILE]
+ *                    [--smoke] [--out FILE] [--memory-limit 2GB]
+ * (--memory-limit: DuckDB's memory_limit for the native engine, which then spills to bench/cache/spill;
+ * use with --out to keep those results apart)
  */
 import { execFile, spawn } from 'node:child_process';
 import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
@@ -51,13 +53,14 @@ export interface Options {
   warmup: boolean;
   smoke: boolean;
   out: string;
+  memoryLimit?: string;
   log: (line: string) => void;
 }
 
 export function parseOptions(argv: readonly string[]): Options {
   const { values } = parseArgs({
     args: [...argv],
-    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' } },
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' } },
     strict: true,
   });
   const smoke = values.smoke ?? false;
@@ -67,7 +70,9 @@ export function parseOptions(argv: readonly string[]): Options {
   for (const e of engines) if (!ENGINES.includes(e)) throw new Error(`--engines takes ${ENGINES.join(', ')}, got "${e}"`);
   const runs = Number(values.runs ?? (smoke ? 1 : 3));
   if (!Number.isInteger(runs) || runs < 1) throw new Error(`--runs must be a whole number of at least 1, got "${values.runs}"`);
-  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+  const memoryLimit = values['memory-limit'];
+  if (memoryLimit !== undefined && !/^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i.test(memoryLimit)) throw new Error(`--memory-limit takes a size such as 2GB, got "${memoryLimit}"`);
+  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
 }
 
 const dirOf = (size: string) => join(CACHE, `rows-${size}`);
@@ -216,6 +221,20 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
   const steps = plan(options);
   const previous: Row[] = options.smoke ? [] : await readFile(options.out, 'utf8').then((t) => (JSON.parse(t) as { results: Row[] }).results, () => []);
   const fresh: Row[] = [];
+  const mergeAll = (): Row[] => {
+    const merged = [...previous.filter((p) => !fresh.some((f) => key(f) === key(p))), ...fresh];
+    const order = (r: Row) => [SIZES[r.size]!, ENGINES.indexOf(r.engine), r.format, ['floor', 'cube', 'audit'].indexOf(r.kind)] as const;
+    return merged.sort((a, b) => {
+      const x = order(a), y = order(b);
+      return x[0] - y[0] || x[1] - y[1] || x[2].localeCompare(y[2]) || x[3] - y[3];
+    });
+  };
+  const save = async (merged: Row[]) => {
+    const output = { schema: 'counterweight.bench/1', generated_at: new Date().toISOString(), machine: await machine(), options: { runs: options.runs, warmup: options.warmup, smoke: options.smoke, memory_limit: options.memoryLimit ?? null }, results: merged, ratios: ratios(merged), linear_fit: slope(merged) };
+    await mkdir(dirname(options.out), { recursive: true });
+    await writeFile(`${options.out}.partial`, `${JSON.stringify(output, null, 2)}\n`);
+    await rename(`${options.out}.partial`, options.out);
+  };
   for (const step of steps) {
     const rows = SIZES[step.size]!;
     const base: Omit<Row, 'runs' | 'seconds' | 'rowsPerSecond' | 'peakRssMb' | 'peakHeapMb' | 'answer'> = { size: step.size, rows, engine: step.engine, format: step.format, kind: step.kind };
@@ -233,7 +252,7 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
           continue;
         }
       }
-      const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup };
+      const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup, ...(options.memoryLimit && step.engine === 'native' ? { memoryLimit: options.memoryLimit } : {}) };
       const m = await measureInChild(spec);
       const seconds = median(m.seconds);
       row = { ...base, runs: m.seconds, seconds, rowsPerSecond: rows / seconds, peakRssMb: m.timeRssMb, peakHeapMb: m.peakHeapMb, answer: m.answer,
@@ -244,22 +263,16 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
       log(`${key(step)}: error ${(error as Error).message}`);
     }
     fresh.push(row);
+    // written after every measurement, so an interrupted run keeps what it measured
+    await save(mergeAll());
   }
-  const merged = [...previous.filter((p) => !fresh.some((f) => key(f) === key(p))), ...fresh];
-  const order = (r: Row) => [SIZES[r.size]!, ENGINES.indexOf(r.engine), r.format, ['floor', 'cube', 'audit'].indexOf(r.kind)] as const;
-  merged.sort((a, b) => {
-    const x = order(a), y = order(b);
-    return x[0] - y[0] || x[1] - y[1] || x[2].localeCompare(y[2]) || x[3] - y[3];
-  });
+  const merged = mergeAll();
   const extra = ratios(merged);
   const fit = slope(merged);
   log(`\n${table(merged, extra)}\n`);
   for (const [k, v] of Object.entries(extra)) if (/wasm|host|browser|baseline/.test(k) && !/audit\/(cube|floor)/.test(k)) log(`${k}: ${v.toFixed(2)}`);
   if (fit) log(`native Parquet audit: ${fit.secondsPerMillionRows.toFixed(3)} s per million rows + ${fit.interceptSeconds.toFixed(2)} s (least squares over ${fit.points} sizes)`);
-  const output = { schema: 'counterweight.bench/1', generated_at: new Date().toISOString(), machine: await machine(), options: { runs: options.runs, warmup: options.warmup, smoke: options.smoke }, results: merged, ratios: extra, linear_fit: fit };
-  await mkdir(dirname(options.out), { recursive: true });
-  await writeFile(`${options.out}.partial`, `${JSON.stringify(output, null, 2)}\n`);
-  await rename(`${options.out}.partial`, options.out);
+  await save(merged);
   log(`wrote ${options.out}`);
   return { rows: merged, ratios: extra, file: options.out };
 }

@@ -70,7 +70,7 @@ export function App() {
         const check = report.checks.find((c) => c.id === view.id);
         return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} /> : null;
       }
-      case 'segments': return <SegmentMap report={report} />;
+      case 'segments': return <SegmentMap report={report} workspace={status.kind === 'done' ? status.workspace : undefined} />;
       case 'weights': return <WeightsPanel report={report} onOpenCheck={openCheck} />;
       case 'drift': return <DriftPanel report={report} onOpenCheck={openCheck} />;
       case 'estimates': return <EstimatesPanel report={report} onOpenCheck={openCheck} />;

@@ -1,5 +1,7 @@
 import { useCallback, useMemo, useState } from 'react';
 import type { Report } from '../../app/core/model/report.ts';
+import { segmentMap } from '../../app/core/segment-map.ts';
+import type { AuditWorkspace } from '../engine/status.ts';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
@@ -24,8 +26,21 @@ function cellStyle(v: number | null, [lo, hi]: [number, number]): { background: 
   return { background: colour, color: t > 0.6 ? '#ffffff' : '#1b1f24' };
 }
 
-export function SegmentMap({ report }: { report: Report }) {
-  const maps = useMemo(() => segmentHeatmaps(report), [report]);
+export function SegmentMap({ report, workspace }: { report: Report; workspace?: AuditWorkspace | undefined }) {
+  const columns = report.roles.segments;
+  // Regrouping by a subset of the segment columns is recomputed from the audit's cube in the page (no scan).
+  const [groupBy, setGroupBy] = useState<readonly string[]>(columns);
+  const regrouped = workspace !== undefined && groupBy.length !== columns.length;
+  const maps = useMemo(
+    () => (regrouped ? segmentMap(workspace.cells, columns, groupBy).map((series) => ({ check: 'propensity.exploration' as const, series })) : segmentHeatmaps(report)),
+    [regrouped, workspace, columns, groupBy, report],
+  );
+  const toggle = (c: string) => {
+    const next = groupBy.includes(c) ? groupBy.filter((x) => x !== c) : columns.filter((x) => x === c || groupBy.includes(x));
+    setGroupBy(next);
+    setCell(null);
+    setWhich(0);
+  };
   const [which, setWhich] = useState(0);
   const [cell, setCell] = useState<Cell | null>(null);
   const [asTable, setAsTable] = useState(false);
@@ -49,7 +64,7 @@ export function SegmentMap({ report }: { report: Report }) {
   const ys = series.y ?? [];
   const rowLabel = cell ? String(ys[cell.row] ?? '') : '';
   const action = cell ? String(series.x[cell.col] ?? '') : '';
-  const segment = cell ? segmentForLabel(report, rowLabel) : null;
+  const segment = cell ? (regrouped ? Object.fromEntries(groupBy.map((c, i) => [c, rowLabel.split(' · ')[i] as string])) : segmentForLabel(report, rowLabel)) : null;
   const findings = cell ? findingsForCell(report, segment, rowLabel, action) : [];
   const sql = cell ? cellSql(report, segment, action) : null;
 
@@ -57,6 +72,16 @@ export function SegmentMap({ report }: { report: Report }) {
     <section className="screen" aria-labelledby="segments-title">
       <h1 id="segments-title">Segment map</h1>
       <p className="lead">Segments down the side, actions across. Choose a cell to see what the checks found there and the SQL that selects its rows.</p>
+      {workspace && columns.length > 1 && (
+        <fieldset className="toolbar" aria-label="Group segments by">
+          <legend className="muted">Group by</legend>
+          {columns.map((c) => (
+            <label key={c} className="check-label">
+              <input type="checkbox" checked={groupBy.includes(c)} onChange={() => toggle(c)} data-testid={`group-by-${c}`} /> {c}
+            </label>
+          ))}
+        </fieldset>
+      )}
       <div className="toolbar" role="group" aria-label="Map to show">
         {maps.map((m, i) => (
           <button key={`${m.check}-${m.series.name}`} type="button" className={`button small${i === which ? ' selected' : ''}`} aria-pressed={i === which} onClick={() => { setWhich(i); setCell(null); }}>

@@ -68,4 +68,19 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
     await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 90_000 });
     await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
   });
+
+  test('the segment map regroups by device alone from the cube, with the counts of the full map', async () => {
+    await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Segment map' }).click();
+    await page.getByRole('button', { name: 'Show as table (keyboard)' }).click();
+    const full = page.locator('.heat-table tbody tr');
+    await expect(full).toHaveCount(72);
+    await page.getByTestId('group-by-region').uncheck();
+    await page.getByTestId('group-by-tenure').uncheck();
+    const rows = page.locator('.heat-table tbody tr th');
+    await expect(rows).toHaveText(['android', 'ios', 'web']);
+    // old-town · web is greedy (free-delivery only): regrouped by region and device it is one row with one non-zero cell
+    await page.getByTestId('group-by-region').check();
+    const row = page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^old-town · web$/ }) });
+    await expect(row.locator('td button')).toHaveText(['0', '4,851', '0', '0', '0', '0', '0'].map((v) => new RegExp(`^${v}$`)));
+  });
 });

@@ -1,0 +1,45 @@
+/** Regrouping the segment map from the cube: rows and minima must equal direct SQL over the log. */
+import { afterAll, beforeAll, expect, it } from 'vitest';
+import { runAuditDetailed, type AuditResult } from '../../app/core/audit.ts';
+import { segmentMap } from '../../app/core/segment-map.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
+import type { Engine } from '../../app/engine/types.ts';
+import { FIXED_NOW, SAMPLE } from './audit-helpers.ts';
+
+let engine: Engine;
+let audit: AuditResult;
+let relation = '';
+
+beforeAll(async () => {
+  engine = await createNativeEngine();
+  const src = await engine.register({ kind: 'path', paths: [`${SAMPLE}maple-row-demo.parquet`] });
+  relation = src.relation;
+  audit = await runAuditDetailed((q) => engine.query(q), { relation, input: { files: [], format: 'parquet' }, engine: 'native', now: FIXED_NOW });
+});
+afterAll(async () => engine?.close());
+
+it('groups by one column with the counts and minimum propensities SQL gives', async () => {
+  const scans = engine.sourceScans;
+  const [rows, minP] = segmentMap(audit.cells, audit.report.roles.segments, ['device']);
+  expect(engine.sourceScans).toBe(scans);
+  const t = await engine.query(`SELECT device, promotion, count(*)::DOUBLE AS n, min(propensity) FILTER (WHERE propensity > 0 AND propensity <= 1) AS min_p FROM ${relation} GROUP BY ALL`);
+  for (let i = 0; i < t.rowCount; i++) {
+    const [d, a, n, m] = t.columns.map((c) => c[i]);
+    const r = rows!.y!.indexOf(String(d));
+    const c = rows!.x.indexOf(String(a));
+    expect(rows!.values[r]![c]).toBe(n);
+    expect(minP!.values[r]![c]).toBe(m);
+  }
+  expect(rows!.y).toEqual(['android', 'ios', 'web']);
+});
+
+it('shows the unexplored (old-town, web) group with no other action logged', () => {
+  const [rows] = segmentMap(audit.cells, audit.report.roles.segments, ['region', 'device']);
+  const r = rows!.y!.indexOf('old-town · web');
+  const logged = rows!.x.filter((_, j) => (rows!.values[r]![j] as number) > 0);
+  expect(logged).toEqual(['free-delivery']);
+});
+
+it('refuses a column that is not a segment of the audit', () => {
+  expect(() => segmentMap(audit.cells, audit.report.roles.segments, ['basket_value'])).toThrow(/not a segment column/);
+});
