@@ -5,7 +5,7 @@
  * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
  *
  *   npm run bench -- [--sizes 1m,10m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
- *                    [--smoke] [--out FILE] [--memory-limit 2GB]
+ *                    [--kinds floor,cube,audit] [--smoke] [--out FILE] [--memory-limit 2GB]
  * (--memory-limit: DuckDB's memory_limit for the native engine, which then spills to bench/cache/spill;
  * use with --out to keep those results apart)
  */
@@ -54,13 +54,15 @@ export interface Options {
   smoke: boolean;
   out: string;
   memoryLimit?: string;
+  /** measure only these of floor, cube, audit */
+  kinds?: Kind[];
   log: (line: string) => void;
 }
 
 export function parseOptions(argv: readonly string[]): Options {
   const { values } = parseArgs({
     args: [...argv],
-    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' } },
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, kinds: { type: 'string' } },
     strict: true,
   });
   const smoke = values.smoke ?? false;
@@ -70,9 +72,11 @@ export function parseOptions(argv: readonly string[]): Options {
   for (const e of engines) if (!ENGINES.includes(e)) throw new Error(`--engines takes ${ENGINES.join(', ')}, got "${e}"`);
   const runs = Number(values.runs ?? (smoke ? 1 : 3));
   if (!Number.isInteger(runs) || runs < 1) throw new Error(`--runs must be a whole number of at least 1, got "${values.runs}"`);
+  const kinds = values.kinds?.split(',').map((k) => k.trim()) as Kind[] | undefined;
+  for (const k of kinds ?? []) if (!['floor', 'cube', 'audit'].includes(k)) throw new Error(`--kinds takes floor, cube, audit, got "${k}"`);
   const memoryLimit = values['memory-limit'];
   if (memoryLimit !== undefined && !/^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i.test(memoryLimit)) throw new Error(`--memory-limit takes a size such as 2GB, got "${memoryLimit}"`);
-  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
 }
 
 const dirOf = (size: string) => join(CACHE, `rows-${size}`);
@@ -142,7 +146,7 @@ async function measureInChild(spec: MeasureSpec): Promise<MeasureResult & { time
 
 interface Plan { size: string; engine: EngineName; format: Row['format']; kind: Kind }
 
-export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke'>): Plan[] {
+export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke' | 'kinds'>): Plan[] {
   const out: Plan[] = [];
   const kinds: Kind[] = ['floor', 'cube', 'audit'];
   // The smoke run proves the harness on every engine in well under a minute: the full audit everywhere,
@@ -161,7 +165,7 @@ export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke'>): Pla
       if (engine === 'baseline' && small) out.push({ size, engine, format: 'arrow', kind: 'audit' });
     }
   }
-  return out;
+  return options.kinds ? out.filter((p) => options.kinds!.includes(p.kind)) : out;
 }
 
 async function machine(): Promise<Record<string, string | number>> {
