@@ -4,41 +4,11 @@ import { fileURLToPath } from 'node:url';
 import Ajv, { type ErrorObject, type ValidateFunction } from 'ajv';
 import Ajv2020 from 'ajv/dist/2020.js';
 import type { Report } from '../core/model/report.ts';
+import { toJsonValue } from './serialize.ts';
 
 export const REPORT_SCHEMA_PATH = fileURLToPath(new URL('../core/model/report.schema.json', import.meta.url));
 
-/** Top-level keys in the order of the Report type (DESIGN.md §6); unknown keys follow in their own order. */
-export const REPORT_KEY_ORDER = [
-  'schema', 'tool', 'input', 'roles', 'settings', 'verdict', 'reasons', 'checks', 'targets', 'segments', 'queries', 'cautions', 'run', 'signoff',
-] as const;
-
-/**
- * JSON has no NaN or Infinity: a non-finite number becomes null (the model's "not available"). A bigint
- * (example rows keep BIGINT cells exact) becomes a number when it is a safe integer, else a decimal string.
- */
-function jsonReplacer(_key: string, value: unknown): unknown {
-  if (typeof value === 'number' && !Number.isFinite(value)) return null;
-  if (typeof value === 'bigint') {
-    return value >= BigInt(Number.MIN_SAFE_INTEGER) && value <= BigInt(Number.MAX_SAFE_INTEGER) ? Number(value) : value.toString();
-  }
-  return value;
-}
-
-export function orderReportKeys(report: Record<string, unknown>): Record<string, unknown> {
-  const out: Record<string, unknown> = {};
-  for (const key of REPORT_KEY_ORDER) if (key in report) out[key] = report[key];
-  for (const key of Object.keys(report)) if (!(key in out)) out[key] = report[key];
-  return out;
-}
-
-export function serializeReport(report: Report | Record<string, unknown>): string {
-  return `${JSON.stringify(orderReportKeys(report as Record<string, unknown>), jsonReplacer, 2)}\n`;
-}
-
-/** The report as a reader of the JSON file sees it (what validation and digests apply to). */
-export function toJsonValue(report: Report | Record<string, unknown>): Record<string, unknown> {
-  return JSON.parse(serializeReport(report)) as Record<string, unknown>;
-}
+export { REPORT_KEY_ORDER, orderReportKeys, serializeReport, toJsonValue } from './serialize.ts';
 
 export interface ValidationResult {
   ok: boolean;

@@ -1,27 +1,11 @@
 import type { Report, Signoff } from '../../app/core/model/report.ts';
 import { canonicalJson } from '../../app/report/canonical-json.ts';
+import { serializeReport } from '../../app/report/serialize.ts';
 import { Sha256 } from '../engine/sha256.ts';
 
-const KEY_ORDER = ['schema', 'tool', 'input', 'roles', 'settings', 'verdict', 'reasons', 'checks', 'targets', 'segments', 'queries', 'cautions', 'run', 'signoff'];
-
-/**
- * The same JSON text as app/report/json.ts serializeReport (which reads the schema through node:fs and
- * cannot load in a page): non-finite numbers become null, bigints numbers when safe, else strings.
- */
-function replacer(_key: string, value: unknown): unknown {
-  if (typeof value === 'number' && !Number.isFinite(value)) return null;
-  if (typeof value === 'bigint') {
-    return value >= BigInt(Number.MIN_SAFE_INTEGER) && value <= BigInt(Number.MAX_SAFE_INTEGER) ? Number(value) : value.toString();
-  }
-  return value;
-}
-
+/** The same JSON text the headless command writes. */
 export function reportJson(report: Report): string {
-  const source = report as unknown as Record<string, unknown>;
-  const ordered: Record<string, unknown> = {};
-  for (const key of KEY_ORDER) if (key in source) ordered[key] = source[key];
-  for (const key of Object.keys(source)) if (!(key in ordered)) ordered[key] = source[key];
-  return `${JSON.stringify(ordered, replacer, 2)}\n`;
+  return serializeReport(report);
 }
 
 /** Digest as app/report/signoff.ts defines it: SHA-256 of the canonical JSON (RFC 8785) without `signoff`. */
