@@ -2,10 +2,18 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { Engine, RegisteredSource } from '../engine/types.ts';
+import { stringFlag, type FlagValues } from './args.ts';
 import { UsageError } from './errors.ts';
 
 export type EngineChoice = 'native' | 'wasm';
 export const ENGINE_CHOICES: readonly EngineChoice[] = ['native', 'wasm'];
+
+/** The --engine flag every command that opens a log takes. */
+export const ENGINE_FLAG = { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node (CSV/TSV only offline)' } as const;
+
+export function engineChoice(flags: FlagValues): EngineChoice {
+  return (stringFlag(flags, 'engine') ?? 'native') as EngineChoice;
+}
 
 export async function openEngine(choice: EngineChoice): Promise<Engine> {
   if (choice === 'wasm') {

@@ -10,7 +10,7 @@ import { loadSettingsFile, parseRoleFlags, readTargets } from '../audit-options.
 import { EXIT, InterruptedError, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
 import { ProgressLine, type RowProgress } from '../progress.ts';
-import { describeColumns, ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
+import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, openEngine, registerSources } from '../sources.ts';
 import { formatAuditSummary, painter } from '../summary.ts';
 import { loadAuditCore } from './core.ts';
 
@@ -23,7 +23,7 @@ export const auditSpec: CommandSpec = {
     segments: { kind: 'string', value: 'COL,COL', help: "segment columns, comma-separated ('none' for no segments)" },
     target: { kind: 'list', value: 'SPEC', help: 'target policy: uniform, always:<action>, table:<file.csv|file.json>, column:<name>' },
     settings: { kind: 'string', value: 'FILE', help: 'thresholds from a .json or .yaml file of setting: value pairs' },
-    engine: { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node (CSV/NDJSON only offline)' },
+    engine: ENGINE_FLAG,
     json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
     'fail-on': { kind: 'string', value: 'warn|fail', choices: ['warn', 'fail'], help: "exit non-zero on 'fail' (default: exit 2 when not supported) or also on 'warn' (exit 1)" },
@@ -48,7 +48,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const jsonOut = stringFlag(flags, 'json');
   const htmlOut = stringFlag(flags, 'html');
   const failOn = (stringFlag(flags, 'fail-on') ?? 'fail') as 'warn' | 'fail';
-  const engineChoice = (stringFlag(flags, 'engine') ?? 'native') as EngineChoice;
+  const engineChoice = engineChoiceOf(flags);
   const quiet = flags.quiet === true;
   const core = await loadAuditCore();
 

@@ -1,19 +1,18 @@
 import { displayPath } from '../../report/fingerprint.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { stringFlag } from '../args.ts';
 import { useColour, type CliIo } from '../io.ts';
-import { countRows, describeColumns, ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
+import { countRows, describeColumns, ENGINE_FLAG, engineChoice, openEngine, registerSources } from '../sources.ts';
 import { formatSourceHeader, painter } from '../summary.ts';
 
 export const inspectSpec: CommandSpec = {
   name: 'inspect',
   summary: 'Print the row count and the columns (names and types) of a log.',
   positionals: { name: 'source', min: 1, max: Infinity },
-  flags: { engine: { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node' } },
+  flags: { engine: ENGINE_FLAG },
 };
 
 export async function runInspect(args: ParsedArgs, io: CliIo): Promise<number> {
-  const engine = await openEngine((stringFlag(args.flags, 'engine') ?? 'native') as EngineChoice);
+  const engine = await openEngine(engineChoice(args.flags));
   try {
     const source = await registerSources(engine, args.positionals, io.cwd);
     const columns = await describeColumns(engine, source.relation);

@@ -1,19 +1,18 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { stringFlag } from '../args.ts';
 import type { CliIo } from '../io.ts';
-import { ENGINE_CHOICES, openEngine, registerSources, type EngineChoice } from '../sources.ts';
+import { ENGINE_FLAG, engineChoice, openEngine, registerSources } from '../sources.ts';
 import { loadAuditCore } from './core.ts';
 
 export const rolesSpec: CommandSpec = {
   name: 'roles',
   summary: 'Suggest column roles for a log, with the reason for each (confirm or override them with audit --role).',
   positionals: { name: 'source', min: 1, max: Infinity },
-  flags: { engine: { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node' } },
+  flags: { engine: ENGINE_FLAG },
 };
 
 export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
   const core = await loadAuditCore();
-  const engine = await openEngine((stringFlag(args.flags, 'engine') ?? 'native') as EngineChoice);
+  const engine = await openEngine(engineChoice(args.flags));
   try {
     const source = await registerSources(engine, args.positionals, io.cwd);
     const suggestions = await core.suggestRoles((sql) => engine.query(sql), source.relation);
