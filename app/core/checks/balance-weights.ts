@@ -2,7 +2,7 @@ import { SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
 import { literal } from '../sql/quote.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
-import { weightBalance } from '../stats/balance.ts';
+import { neverLoggedBalance, weightBalance } from '../stats/balance.ts';
 import { bucketWindow, describeSegment, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
 
@@ -25,15 +25,6 @@ interface Test {
 }
 
 /** Groups rows, then for every action a in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1). */
-/**
- * An action never logged in a group has B = 0 with a zero standard error, which says nothing by itself
- * about a small group. If the action had propensity at least ε on every row, seeing it in none of n
- * rows has probability at most (1 − ε)^n; that bound is the test's p-value (z is undefined).
- */
-function neverLogged(n: number, floor: number): { balance: number; se: number; z: number; pValue: number } {
-  return { balance: 0, se: 0, z: Number.NaN, pValue: Math.pow(1 - floor, n) };
-}
-
 function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, group: (c: CubeCell) => { key: string; segment: Record<string, string>; bucket?: number; version?: string } | null, actions: readonly string[]): Test[] {
   const memberOf = (key: string) => (c: CubeCell) => group(c)?.key === key;
   const groups = new Map<string, { meta: { segment: Record<string, string>; bucket?: number; version?: string }; nP: number; byAction: Map<string, { s1: number; s2: number }> }>();
@@ -54,7 +45,7 @@ function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: numbe
     const member = memberOf(key);
     for (const action of actions) {
       const s = e.byAction.get(action) ?? { s1: 0, s2: 0 };
-      const wb = s.s1 > 0 ? weightBalance(e.nP, s.s1, s.s2) : neverLogged(e.nP, floor);
+      const wb = s.s1 > 0 ? weightBalance(e.nP, s.s1, s.s2) : neverLoggedBalance(e.nP, floor);
       out.push({ scope, segment: e.meta.segment, action, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}), n: e.nP, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, member });
     }
   }
@@ -148,7 +139,7 @@ function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readon
       }
     });
     if (nP < MIN_ROWS) continue;
-    const wb = s1 > 0 ? weightBalance(nP, s1, s2) : neverLogged(nP, floor);
+    const wb = s1 > 0 ? weightBalance(nP, s1, s2) : neverLoggedBalance(nP, floor);
     if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) {
       kept.push(x);
       cells.forEach((c, i) => {

@@ -32,3 +32,14 @@ export function weightBalance(n: number, sumInvP: number, sumInvP2: number): Wei
   const z = (balance - 1) / se;
   return { balance, se, z, pValue: twoSidedNormalP(z) };
 }
+
+/**
+ * An action never logged in n rows: if its propensity were at least `floor` on every row, the chance of
+ * seeing it in none is at most (1 − floor)^n, the binomial probability of zero successes (common
+ * practice). That bound serves as the p-value of the weight-balance test; z is undefined (NaN).
+ */
+export function neverLoggedBalance(n: number, floor: number): WeightBalance {
+  requireCount('rows in group', n);
+  if (!(floor > 0 && floor < 1)) throw new RangeError(`floor must lie in (0, 1), got ${floor}`);
+  return { balance: 0, se: 0, z: Number.NaN, pValue: Math.pow(1 - floor, n) };
+}

@@ -20,3 +20,4 @@ export { centeredSumOfSquares } from './moments.ts';
 export type { GroupMoments } from './moments.ts';
 export { cmhGeneralAssociation } from './cmh.ts';
 export type { BinaryStratum, CmhResult } from './cmh.ts';
+export { neverLoggedBalance } from './balance.ts';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { weightBalance } from '../../../app/core/stats/balance.ts';
+import { neverLoggedBalance, weightBalance } from '../../../app/core/stats/balance.ts';
 import { mulberry32Unit } from '../../../sample-data/prng.ts';
 
 /** mulberry32 (Tommy Ettinger, public domain) in [0, 1), shared with the demo generator. */
@@ -79,5 +79,22 @@ describe('weightBalance', () => {
     [10, 1, NaN, /sum of 1\/p²/],
   ])('rejects (%f, %f, %f)', (n, s1, s2, message) => {
     expect(() => weightBalance(n, s1, s2)).toThrow(message);
+  });
+});
+
+describe('neverLoggedBalance', () => {
+  // scipy.stats.binom.pmf(0, n, eps) on this machine (scipy 1.17): the chance of zero successes in n trials
+  it.each([
+    [1980, 0.01, 2.2786902975385287e-9],
+    [695, 0.01, 0.0009256786459280304],
+    [50, 0.05, 0.07694497527671333],
+  ])('n = %i, floor %f gives the binomial P(X = 0)', (n, eps, p) => {
+    const r = neverLoggedBalance(n, eps);
+    expect(Math.abs(r.pValue - p) / p).toBeLessThan(1e-12);
+    expect(r.balance).toBe(0);
+    expect(Number.isNaN(r.z)).toBe(true);
+  });
+  it('rejects a floor outside (0, 1)', () => {
+    expect(() => neverLoggedBalance(10, 0)).toThrow(RangeError);
   });
 });
