@@ -15,7 +15,7 @@ const pureLayerBans = {
 };
 
 export default tseslint.config(
-  { ignores: ['**/*.tmp.*', 'node_modules/**', 'dist/**', '**/dist/**', 'test-results/**', 'playwright-report/**', 'bench/cache/**', 'bench/results.json', 'test/corpus/files/**'] },
+  { ignores: ['**/*.tmp.*', 'node_modules/**', 'dist/**', '**/dist/**', 'test-results/**', 'playwright-report/**', 'bench/cache/**', 'bench/scratch/**', 'bench/results.json', 'test/corpus/files/**'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {

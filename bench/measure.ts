@@ -9,12 +9,14 @@ import { readdir, readFile } from 'node:fs/promises';
 import { runAudit } from '../app/core/audit.ts';
 import type { Report } from '../app/core/model/report.ts';
 import { resolveRoles } from '../app/core/roles/roles.ts';
-import { BY_PROPENSITY_MAX_DISTINCT, cubeSql } from '../app/core/scan/cube.ts';
+import { cubeSql, groupsByPropensity } from '../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../app/core/scan/expressions.ts';
-import { describeSql, parseDescribe, parseProfile, profileSql } from '../app/core/scan/profile.ts';
+import { profileLog } from '../app/core/scan/profile.ts';
 import { resolveSettings } from '../app/core/settings.ts';
 import type { RunQuery } from '../app/core/table.ts';
+import type { HostEngine } from '../app/engine/host/client.ts';
 import { spawnHostChild } from '../app/engine/host/spawn.ts';
+import { cubeFromArrowIpc } from '../app/engine/cube-arrow.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import type { Engine } from '../app/engine/types.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
@@ -75,13 +77,12 @@ function auditAnswer(report: Report): Record<string, number | string> {
  * profile scan, so the cube's peak memory is measured without the rest of an audit.
  */
 export async function auditCubeSql(run: RunQuery, relation: string): Promise<string> {
-  const columns = parseDescribe(await run(describeSql(relation)));
-  const profile = parseProfile(await run(profileSql(relation, columns)), columns);
+  const profile = await profileLog(run, relation);
   const roles = resolveRoles(profile);
   const settings = resolveSettings();
   const buckets = chooseBuckets(timeRangeUs(roles, profile), settings['time.bucket'], settings['time.max_buckets']);
   const p = profile.columns.find((c) => c.name === roles.propensity);
-  return cubeSql({ relation, rows: rowExpressions(roles, profile, buckets), capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity: !!p && p.distinct <= BY_PROPENSITY_MAX_DISTINCT });
+  return cubeSql({ relation, rows: rowExpressions(roles, profile, buckets), capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity: groupsByPropensity(p) });
 }
 
 const SPILL = new URL('./cache/spill/', import.meta.url).pathname;
@@ -131,10 +132,16 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
       return await measureInBrowser(spec, targets);
     }
     const engine = await openEngine(spec.engine, spec.memoryLimit);
+    const host = spec.engine === 'host' ? (engine as HostEngine) : null;
     try {
       const source = await engine.register({ kind: 'path', paths: [spec.file] });
       const run: RunQuery = (sql) => engine.query(sql);
-      const audit = () => runAudit(run, { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets });
+      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets };
+      // through the host, the desktop data path: one audit message, the report and the cube (Arrow IPC) back,
+      // the cube decoded as the renderer decodes it before loading it into its own DuckDB-Wasm
+      const audit = host
+        ? async () => { const r = await host.audit(request); cubeFromArrowIpc(r.cubeIpc); return r.report; }
+        : () => runAudit(run, request);
       let result: { seconds: number[]; answer: Record<string, number | string> };
       if (spec.kind === 'audit') {
         const { seconds, last } = await timed(spec, audit);

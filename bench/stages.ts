@@ -1,6 +1,6 @@
 /**
- * Time of each query of one full audit on the native engine, in seconds:
- *   node --import tsx bench/stages.ts <log path> [threads]
+ * Wall and process CPU time of each query of one full audit on the native engine, in seconds:
+ *   node --import tsx bench/stages.ts <log path> [threads] [memory_limit, e.g. 1.5GB]
  */
 import { readFileSync } from 'node:fs';
 import { runAudit } from '../app/core/audit.ts';
@@ -10,22 +10,28 @@ const V9 = new URL('../sample-data/maple-row-v9-policy.csv', import.meta.url).pa
 const path = process.argv[2];
 if (!path) throw new Error('usage: bench/stages.ts <log path> [threads]');
 const threads = process.argv[3] ? Number(process.argv[3]) : undefined;
-const engine = await createNativeEngine(threads ? { threads } : {});
+const memoryLimit = process.argv[4];
+const engine = await createNativeEngine({ ...(threads ? { threads } : {}), ...(memoryLimit ? { memoryLimit } : {}) });
+if (memoryLimit) await engine.query(`SET temp_directory = '${new URL('./cache/spill/', import.meta.url).pathname}'`);
 const src = await engine.register({ kind: 'path', paths: [path] });
 for (let round = 0; round < 2; round++) {
-  const times: [string, number, number][] = [];
+  const times: [string, number, number, number][] = [];
   let label = '';
   const t0 = performance.now();
+  const cpu0 = process.cpuUsage();
   await runAudit(async (sql) => {
-    const name = /^DESCRIBE/.test(sql) ? 'describe' : /approx_count_distinct/.test(sql) ? 'profile' : /AS n_p_null/.test(sql) ? 'cube' : /rows_in_duplicates/.test(sql) ? 'duplicates' : /__finding/.test(sql) ? 'examples' : /w DESC/.test(sql) ? 'tail' : 'other';
+    const name = /^DESCRIBE/.test(sql) ? 'describe' : /"c0_nn"/.test(sql) ? (/LIMIT/.test(sql) ? 'profile1' : 'profile') : /AS n_p_null/.test(sql) ? 'cube' : /rows_in_duplicates/.test(sql) ? 'duplicates' : /__finding/.test(sql) ? 'examples' : /w DESC/.test(sql) ? 'tail' : 'other';
     label = name;
     const s = performance.now();
+    const c0 = process.cpuUsage();
     const t = await engine.query(sql);
-    times.push([`${label} @${((s - t0) / 1000).toFixed(2)}`, (performance.now() - s) / 1000, t.rowCount]);
+    const c = process.cpuUsage(c0);
+    times.push([`${label} @${((s - t0) / 1000).toFixed(2)}`, (performance.now() - s) / 1000, (c.user + c.system) / 1e6, t.rowCount]);
     return t;
   }, { relation: src.relation, input: { files: [], format: src.format }, engine: 'native', targets: [{ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }] });
   const total = (performance.now() - t0) / 1000;
-  console.log(`round ${round}: total ${total.toFixed(3)} s`);
-  for (const [n, s, r] of times) console.log(`  ${n.padEnd(11)} ${s.toFixed(3)} s  ${r} rows`);
+  const cpu = process.cpuUsage(cpu0);
+  console.log(`round ${round}: total ${total.toFixed(3)} s wall, ${((cpu.user + cpu.system) / 1e6).toFixed(2)} s CPU`);
+  for (const [n, s, c, r] of times) console.log(`  ${n.padEnd(11)} ${s.toFixed(3)} s  ${c.toFixed(2)} s CPU  ${r} rows`);
 }
 await engine.close();

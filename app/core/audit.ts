@@ -12,13 +12,13 @@ import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
-import { BY_PROPENSITY_MAX_DISTINCT, cubeSql, parseCube } from './scan/cube.ts';
-import { describeSql, parseDescribe, parseProfile, profileSql, type Profile } from './scan/profile.ts';
+import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
+import { profileLog, type Profile } from './scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
 import { ident } from './sql/quote.ts';
 import type { Cell, RunQuery, Table } from './table.ts';
-import { analyseTarget, cubeView, type TargetAnalysis } from './targets/analysis.ts';
+import { analyseTarget, cubeView, type CubeView, type TargetAnalysis } from './targets/analysis.ts';
 import { resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
 import { psisTailLength } from './stats/psis.ts';
 import { verdictOf, readiness } from './verdict.ts';
@@ -72,14 +72,10 @@ export interface AuditResult {
   readonly profile: Profile;
 }
 
-async function profileSource(run: RunQuery, relation: string, record: (name: string, sql: string, scans: boolean) => string): Promise<Profile> {
-  const columns = parseDescribe(await run(record('describe', describeSql(relation), false)));
-  return parseProfile(await run(record('profile', profileSql(relation, columns), true)), columns);
-}
 
 /** Suggested roles with reasons, from one profile scan. */
 export async function suggestRoles(run: RunQuery, relation: string): Promise<RoleSuggestion[]> {
-  return suggestFromProfile(await profileSource(run, relation, (_n, sql) => sql));
+  return suggestFromProfile(await profileLog(run, relation));
 }
 
 /** JSON carries no bigint, NaN or Infinity: example values are made JSON-safe here, once. */
@@ -113,7 +109,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
 
   guard();
   progress('profile');
-  const profile = await profileSource(run, relation, record);
+  const profile = await profileLog(run, relation, record);
   if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
   progress('profile', true);
   const roles = resolveRoles(profile, request.roles);
@@ -127,7 +123,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const effectiveRoles = { ...roles, segments: segmentColumns, target_propensity: roles.target_propensity ?? explicit.find((t) => t.kind === 'column')?.column ?? null };
   const buckets = chooseBuckets(timeRangeUs(roles, profile), settings['time.bucket'], settings['time.max_buckets']);
   const cap = settings['segments.cap'];
-  const caps: Record<string, { distinct: number; kept: number }> = {};
+  const caps: RolesReport['caps'] = {};
   const capped: number[] = [];
   segmentColumns.forEach((c, i) => {
     const p = profile.columns.find((x) => x.name === c);
@@ -143,12 +139,17 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const tails = new Map<string, TargetTail>();
   const rowsExpr = usable ? rowExpressions(effectiveRoles, profile, buckets) : null;
   const propensityProfile = profile.columns.find((c) => c.name === roles.propensity);
-  const byPropensity = !!propensityProfile && propensityProfile.distinct <= BY_PROPENSITY_MAX_DISTINCT;
+  const byPropensity = groupsByPropensity(propensityProfile);
   let targets: TargetAnalysis[] = [];
   guard();
   if (rowsExpr) {
     progress('cube');
-    cells = parseCube(await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity }), true)), segmentColumns.length);
+    const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity }), true));
+    cells = parseCube(cube, segmentColumns.length);
+    for (const [i, distinct] of parseCappedDistinct(cube, capped)) {
+      const c = segmentColumns[i] as string;
+      caps[c] = { distinct, kept: cap };
+    }
     progress('cube', true);
   }
   const view = cubeView(cells, segmentColumns);
@@ -179,7 +180,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       return r;
     }
   });
-  const checks = await attachExamples(run, record, relation, drafts, settings['examples.per_finding'], settings['examples.max_findings'], orderColumns(effectiveRoles, profile), request.input.format === 'parquet');
+  const checks = await attachExamples(run, record, relation, view, drafts, settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
   progress('checks', true);
   const { verdict, reasons } = verdictOf(checks);
   const report: Report = {
@@ -217,17 +218,35 @@ function idOf(check: (typeof CHECKS)[number]): (typeof CHECK_IDS)[number] {
   return CHECK_IDS[CHECKS.indexOf(check)] ?? 'schema.roles';
 }
 
-function orderColumns(roles: { decision_id: string | null; time: string | null }, profile: Profile): string[] {
-  const cols = [roles.decision_id, roles.time].filter((c): c is string => !!c).map((c) => ident(c));
-  if (cols.length) return cols;
-  return profile.columns.filter((c) => c.kind !== 'other').map((c) => ident(c.name));
+/**
+ * Example rows come earliest first: by the time role, then the decision id, then every other scalar
+ * column, so that rows tied on time and id still come in one order on every engine.
+ */
+function exampleOrder(roles: { decision_id: string | null; time: string | null }, profile: Profile): string[] {
+  const first = [roles.time, roles.decision_id].filter((c): c is string => !!c);
+  const rest = profile.columns.filter((c) => c.kind !== 'other' && !first.includes(c.name)).map((c) => c.name);
+  return [...first, ...rest].map((c) => ident(c));
 }
 
-async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, checks: CheckResult[], perFinding: number, maxFindings: number, order: string[], rereadIsCheap: boolean): Promise<CheckResult[]> {
+/** Rows the cube holds for one action within a segment (segment columns not named count as any value). */
+function cellRows(view: CubeView, segment: Readonly<Record<string, string>>, action: string): number {
+  const wanted = Object.entries(segment).map(([c, v]) => [view.segmentColumns.indexOf(c), v] as const);
+  if (wanted.some(([i]) => i < 0)) return NaN;
+  let n = 0;
+  for (const c of view.cells) if (c.action === action && wanted.every(([i, v]) => c.segment[i] === v)) n += c.totals.n;
+  return n;
+}
+
+async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, view: CubeView, checks: CheckResult[], perFinding: number, maxFindings: number, order: readonly string[], rereadIsCheap: boolean): Promise<CheckResult[]> {
   const wanted: { check: number; finding: number; where: string }[] = [];
+  const empty = new Set<string>();
   checks.forEach((c, ci) => c.findings.forEach((f, fi) => {
     const w = (f as DraftFinding).where;
-    if (w && perFinding > 0 && f.status !== 'pass' && wanted.length < maxFindings && c.findings.slice(0, fi).filter((x) => (x as DraftFinding).where).length < 5) wanted.push({ check: ci, finding: fi, where: w });
+    if (!w || perFinding <= 0 || f.status === 'pass' || wanted.length >= maxFindings || c.findings.slice(0, fi).filter((x) => (x as DraftFinding).where).length >= 5) return;
+    // a finding about one action in one segment selects rows of that cell; when the cube holds none
+    // (an action never logged there), its examples are known to be none without reading the log
+    if (f.action !== undefined && cellRows(view, f.segment, f.action) === 0) empty.add(`${ci}/${fi}`);
+    else wanted.push({ check: ci, finding: fi, where: w });
   }));
   let table: Table | null = null;
   if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order, rereadIsCheap), true));
@@ -248,7 +267,8 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
     findings: c.findings.map((f, fi): Finding => {
       const { where, ...rest } = f as DraftFinding;
       const k = wanted.findIndex((w) => w.check === ci && w.finding === fi);
-      return { ...rest, ...(where ? { sql: `SELECT * FROM ${relation} WHERE ${where}` } : {}), ...(k >= 0 ? { examples: byRequest.get(k) ?? [] } : {}) };
+      const examples = k >= 0 ? byRequest.get(k) ?? [] : empty.has(`${ci}/${fi}`) ? [] : undefined;
+      return { ...rest, ...(where ? { sql: `SELECT * FROM ${relation} WHERE ${where}` } : {}), ...(examples ? { examples } : {}) };
     }),
   }));
 }

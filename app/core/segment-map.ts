@@ -8,17 +8,42 @@ import type { Series } from './model/report.ts';
 import { NULL_LABEL } from './scan/expressions.ts';
 import { weightBalance } from './stats/balance.ts';
 
+/** The sums of one (group, action) cell of the map: what the three series are drawn from. */
+export interface GroupActionTotals {
+  /** The group's segment values joined with " · ", or "all rows" when grouped by nothing. */
+  readonly group: string;
+  readonly action: string;
+  readonly n: number;
+  readonly nP: number;
+  readonly sumInvP: number;
+  readonly sumInvP2: number;
+  readonly minP: number | null;
+}
+
+export function groupLabel(values: readonly string[]): string {
+  return values.length ? values.join(' · ') : 'all rows';
+}
+
 export function segmentMap(cells: readonly CubeCell[], segmentColumns: readonly string[], groupBy: readonly string[]): Series[] {
   const idx = groupBy.map((c) => segmentColumns.indexOf(c));
   if (idx.some((i) => i < 0)) throw new Error(`cannot group by ${groupBy.filter((_, k) => (idx[k] as number) < 0).join(', ')}: not a segment column of this audit`);
-  const label = (c: CubeCell) => (idx.length ? idx.map((i) => c.segment[i]).join(' · ') : 'all rows');
-  const actions = [...new Set(cells.map((c) => c.action))].filter((a) => a !== NULL_LABEL).sort();
-  const byCell = new Map(rollup(cells, (c) => `${label(c)}${SEP}${c.action}`, () => null).map((g) => [g.key, g.totals]));
-  const byGroup = new Map(rollup(cells, label, () => null).map((g) => [g.key, g.totals]));
-  const groups = [...byGroup.keys()].sort();
+  const label = (c: CubeCell) => groupLabel(idx.map((i) => c.segment[i] as string));
+  const totals = rollup(cells, (c) => `${label(c)}${SEP}${c.action}`, (c) => ({ group: label(c), action: c.action })).map(({ meta, totals: t }) => ({
+    ...meta, n: t.n, nP: t.nP, sumInvP: t.sumInvP, sumInvP2: t.sumInvP2, minP: t.minP,
+  }));
+  return segmentMapSeries(totals, groupBy);
+}
+
+/** The map's series from (group, action) totals, however they were summed (in the page, or by SQL over the cube). */
+export function segmentMapSeries(totals: readonly GroupActionTotals[], groupBy: readonly string[]): Series[] {
+  const actions = [...new Set(totals.map((c) => c.action))].filter((a) => a !== NULL_LABEL).sort();
+  const byCell = new Map(totals.map((t) => [`${t.group}${SEP}${t.action}`, t]));
+  const groupRows = new Map<string, number>();
+  for (const t of totals) groupRows.set(t.group, (groupRows.get(t.group) ?? 0) + t.nP);
+  const groups = [...groupRows.keys()].sort();
   const grid = (f: (g: string, a: string) => number | null) => groups.map((g) => actions.map((a) => f(g, a)));
   const z = (g: string, a: string): number | null => {
-    const n = byGroup.get(g)?.nP ?? 0;
+    const n = groupRows.get(g) ?? 0;
     const t = byCell.get(`${g}${SEP}${a}`);
     if (n < 2) return null;
     const r = weightBalance(n, t?.sumInvP ?? 0, t?.sumInvP2 ?? 0);

@@ -3,6 +3,7 @@ import type { CheckId, CheckResult, Reason, SegmentReadiness, Verdict } from './
 import { describeSegment, segmentRecord, type AuditContext } from './checks/context.ts';
 import { explorationBySegment } from './checks/propensity-exploration.ts';
 import { kishEss } from './stats/ess.ts';
+import type { TargetAnalysis } from './targets/analysis.ts';
 
 /** A fail in any of these makes the log unable to support the estimate. */
 export const BLOCKING: readonly CheckId[] = ['schema.roles', 'propensity.range', 'propensity.exploration', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity'];
@@ -36,11 +37,20 @@ export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): Se
   const explored = new Map(explorationBySegment(ctx).map((e) => [e.segment.join('\u001f'), e]));
   const drift = checks.filter((c) => c.id === 'drift.reward' || c.id === 'drift.policy' || c.id === 'balance.weights');
   const rows = Math.max(1, ctx.view.rows);
+  const bySegment = ctx.primaryTargets.map((t) => {
+    const m = new Map<string, TargetAnalysis['bySegment'][number]>();
+    for (const x of t.bySegment) {
+      const k = x.segment.join('\u001f');
+      if (!m.has(k)) m.set(k, x);
+    }
+    return m;
+  });
   return ctx.view.segments.map((s) => {
-    const e = explored.get(s.segment.join('\u001f'));
+    const key = s.segment.join('\u001f');
+    const e = explored.get(key);
     const ess: Record<string, number> = {};
-    for (const t of ctx.primaryTargets) {
-      const seg = t.bySegment.find((x) => x.segment.join('\u001f') === s.segment.join('\u001f'));
+    for (const [i, t] of ctx.primaryTargets.entries()) {
+      const seg = bySegment[i]?.get(key);
       ess[t.target.name] = seg && seg.sumW2 > 0 ? kishEss(seg.sumW, seg.sumW2) : 0;
     }
     const flags: string[] = [];

@@ -4,8 +4,11 @@
  * never the whole file. Results come back as Arrow IPC bytes through the same converter as wasm-node.
  */
 import { AsyncDuckDB, DuckDBDataProtocol, VoidLogger } from '@duckdb/duckdb-wasm';
+import type { Table } from '../core/table.ts';
+import { tableFromIpcChunks } from './convert/arrow.ts';
 import { toEngineError } from './errors.ts';
-import { buildScan } from './sql-source.ts';
+import { serialQueue } from './serial.ts';
+import { buildScan, quoteIdentifier } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, RegisteredSource, SourceSpec } from './types.ts';
 import { createWasmCore } from './wasm-core.ts';
@@ -23,7 +26,19 @@ export interface WasmBrowserEngineOptions extends WasmEngineOptions {
   bundles?: WasmBrowserBundle;
 }
 
-export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions = {}): Promise<Engine & { readonly kind: 'wasm-browser' }> {
+/**
+ * Tables loaded from Arrow IPC (the cube) and SQL over them, on a connection of their own so that loading
+ * or querying them never disturbs a scan running on the engine's connection; not counted as scans.
+ */
+export interface WasmArrowTables {
+  /** Replaces table `name` with the rows of an Arrow IPC stream. */
+  load(name: string, ipc: Uint8Array): Promise<void>;
+  query(sql: string): Promise<Table>;
+}
+
+export type WasmBrowserEngine = Engine & { readonly kind: 'wasm-browser'; readonly tables: WasmArrowTables };
+
+export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions = {}): Promise<WasmBrowserEngine> {
   const bundle = options.bundles ?? (await import('./wasm-browser-bundles.ts')).defaultBundle;
   const worker = new Worker(bundle.mainWorker);
   const db = new AsyncDuckDB(new VoidLogger(), worker);
@@ -69,5 +84,25 @@ export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions 
     return core.createView(scan, names, names);
   }
 
-  return { ...core.engine, kind: 'wasm-browser', register, get sourceScans() { return core.engine.sourceScans; } };
+  const tablesQueue = serialQueue();
+  let tablesConnection: Promise<number> | null = null;
+  const onTables = <T>(work: (connection: number) => Promise<T>): Promise<T> => tablesQueue(async () => {
+    core.ensureOpen();
+    tablesConnection ??= db.connectInternal();
+    try {
+      return await work(await tablesConnection);
+    } catch (error) {
+      throw toEngineError(error);
+    }
+  });
+  const tables: WasmArrowTables = {
+    load: (name, ipc) => onTables(async (connection) => {
+      await db.runQuery(connection, `DROP TABLE IF EXISTS ${quoteIdentifier(name)}`);
+      // The worker takes ownership of the buffer it is handed; the caller keeps its own bytes.
+      await db.insertArrowFromIPCStream(connection, ipc.slice(), { name, create: true });
+    }),
+    query: (sql) => onTables(async (connection) => tableFromIpcChunks([await db.runQuery(connection, sql)])),
+  };
+
+  return { ...core.engine, kind: 'wasm-browser', register, tables, get sourceScans() { return core.engine.sourceScans; } };
 }

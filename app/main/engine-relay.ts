@@ -14,7 +14,7 @@ export function startEngineRelay(options: EngineRelayOptions): EngineHost<HostRe
     ...options,
     parseReply: parseHostReply,
     onReply: (reply) => {
-      if (reply.kind !== 'progress') waiting.delete(reply.id);
+      if (reply.kind !== 'progress' && reply.kind !== 'audit-progress') waiting.delete(reply.id);
       options.onReply(reply);
     },
     onStatus: (status) => {

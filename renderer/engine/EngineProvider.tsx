@@ -1,9 +1,10 @@
 import { createContext, useCallback, useContext, useEffect, useMemo, useReducer, useRef, type ReactNode } from 'react';
 import type { Report } from '../../app/core/model/report.ts';
 import type { AuditDraft } from '../state/draft.ts';
-import { errorMessage, type AuditBackend, type LogInput } from './backend.ts';
+import type { Table } from '../../app/core/table.ts';
+import { errorMessage, type AuditBackend, type LogInput, type RowSelection, type RowsRequest } from './backend.ts';
 import { traitsOf, type ModeTraits, type PageMode } from './mode.ts';
-import { IDLE, nextStatus, type EngineStatus } from './status.ts';
+import { IDLE, nextStatus, type EngineStatus, type OpenedSource } from './status.ts';
 
 export interface EngineApi {
   readonly status: EngineStatus;
@@ -15,6 +16,9 @@ export interface EngineApi {
   cancel(): void;
   reset(): void;
   showReport(report: Report): void;
+  /** Row drill-down pages and counts, read by the page's engine (AuditBackend.rows). */
+  rows(source: OpenedSource, request: RowsRequest): Promise<Table>;
+  rowCount(source: OpenedSource, selection: RowSelection): Promise<number>;
 }
 
 const EngineContext = createContext<EngineApi | null>(null);
@@ -103,11 +107,13 @@ export function EngineProvider({ mode, createBackend, demoInput, children }: Pro
   }, []);
 
   const showReport = useCallback((report: Report) => dispatch({ type: 'show-report', report }), []);
+  const rows = useCallback(async (source: OpenedSource, request: RowsRequest) => (await backend()).rows(source, request), [backend]);
+  const rowCount = useCallback(async (source: OpenedSource, selection: RowSelection) => (await backend()).rowCount(source, selection), [backend]);
 
   const traits = useMemo(() => traitsOf(mode), [mode]);
   const api = useMemo<EngineApi>(
-    () => ({ status, mode, traits, open, openDemo, run, cancel, reset, showReport }),
-    [status, mode, traits, open, openDemo, run, cancel, reset, showReport],
+    () => ({ status, mode, traits, open, openDemo, run, cancel, reset, showReport, rows, rowCount }),
+    [status, mode, traits, open, openDemo, run, cancel, reset, showReport, rows, rowCount],
   );
   return <EngineContext.Provider value={api}>{children}</EngineContext.Provider>;
 }

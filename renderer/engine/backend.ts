@@ -1,4 +1,6 @@
 import type { Report } from '../../app/core/model/report.ts';
+import type { DrillRoles, DrillSelection, PageRequest } from '../../app/core/scan/drill.ts';
+import type { Table } from '../../app/core/table.ts';
 import type { AuditDraft } from '../state/draft.ts';
 import type { AuditWorkspace, OpenedSource, Stage } from './status.ts';
 
@@ -27,7 +29,21 @@ export interface AuditBackend {
   readonly engineKind: string;
   open(input: LogInput): Promise<OpenedSource>;
   run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<AuditOutcome>;
+  /** One page of the rows behind a segment-map cell or finding, in drill order (app/core/scan/drill.ts). */
+  rows(source: OpenedSource, request: RowsRequest): Promise<Table>;
+  /** How many rows that selection holds. */
+  rowCount(source: OpenedSource, selection: RowSelection): Promise<number>;
   close(): Promise<void>;
+}
+
+/** Which rows to drill into, under the roles of the audit that drew the cell. */
+export interface RowSelection {
+  readonly roles: DrillRoles;
+  readonly selection: DrillSelection;
+}
+
+export interface RowsRequest extends RowSelection {
+  readonly page: PageRequest;
 }
 
 export function errorMessage(error: unknown): string {

@@ -1,3 +1,5 @@
+import type { HostEngine } from '../../app/engine/host/client.ts';
+import type { WasmArrowTables, WasmBrowserEngine } from '../../app/engine/wasm-browser.ts';
 import type { CounterweightApi } from '../../app/main/ipc-contract.ts';
 import type { AuditBackend, LogInput } from './backend.ts';
 import { createEngineBackend } from './engine-backend.ts';
@@ -23,17 +25,45 @@ export async function createBackend(mode: PageMode): Promise<AuditBackend> {
   switch (mode.kind) {
     case 'web': {
       const { createWasmBrowserEngine } = await import('../../app/engine/wasm-browser.ts');
-      return createEngineBackend(await createWasmBrowserEngine(), { readsParquet });
+      const engine = await createWasmBrowserEngine();
+      // The worker that scans the log also holds the cube.
+      return createEngineBackend(engine, { readsParquet, cubeTables: async () => engine.tables });
     }
     case 'hosted': {
       const { connectHostEngine } = await import('./ws-transport.ts');
-      return createEngineBackend(await connectHostEngine(mode.host, mode.token), { readsParquet });
+      return hostBackend(await connectHostEngine(mode.host, mode.token), readsParquet);
     }
     case 'desktop': {
       const { desktopHostEngine } = await import('./desktop-transport.ts');
-      return createEngineBackend(await desktopHostEngine(), { readsParquet });
+      return hostBackend(await desktopHostEngine(), readsParquet);
     }
   }
+}
+
+/**
+ * The host scans the log and runs the audit (DESIGN.md §2); the page keeps a DuckDB-Wasm worker of its
+ * own, started on the first audit, for SQL over the cube the host sends back.
+ */
+function hostBackend(engine: HostEngine, readsParquet: boolean): AuditBackend {
+  let worker: Promise<WasmBrowserEngine> | null = null;
+  const cubeTables = async (): Promise<WasmArrowTables> => {
+    worker ??= import('../../app/engine/wasm-browser.ts').then((m) => m.createWasmBrowserEngine());
+    worker.catch(() => { worker = null; });
+    return (await worker).tables;
+  };
+  const backend = createEngineBackend(engine, { readsParquet, cubeTables, hostAudit: (request, onProgress, signal) => engine.audit(request, onProgress, signal) });
+  return {
+    ...backend,
+    open(input) {
+      // The worker compiles DuckDB-Wasm while the user maps roles, not while the audit runs.
+      cubeTables().catch(() => undefined);
+      return backend.open(input);
+    },
+    async close() {
+      await backend.close();
+      await worker?.then((w) => w.close()).catch(() => undefined);
+    },
+  };
 }
 
 export async function demoInput(mode: PageMode): Promise<LogInput> {

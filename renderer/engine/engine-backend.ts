@@ -1,11 +1,17 @@
 import { runAuditDetailed, type AuditRequest } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
 import { suggestRoles } from '../../app/core/roles/roles.ts';
-import { describeSql, parseDescribe, parseProfile, profileSql, type Profile } from '../../app/core/scan/profile.ts';
+import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
+import { profileLog } from '../../app/core/scan/profile.ts';
 import type { RunQuery } from '../../app/core/table.ts';
+import type { CubeCell } from '../../app/core/cube/types.ts';
+import { cubeFromArrowIpc, cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
+import type { HostEngine } from '../../app/engine/host/client.ts';
 import { EngineError, type Engine } from '../../app/engine/types.ts';
+import type { WasmArrowTables } from '../../app/engine/wasm-browser.ts';
+import { loadCubeSession, type CubeSession } from './cube-session.ts';
 import type { AuditDraft } from '../state/draft.ts';
-import type { AuditBackend, AuditOutcome, LogInput, Progress } from './backend.ts';
+import type { AuditBackend, AuditOutcome, LogInput, Progress, RowSelection, RowsRequest } from './backend.ts';
 import { describeFiles } from './digest.ts';
 import { fingerprintPaths } from './host-fingerprint.ts';
 import { chooseFormat, PARQUET_IN_BROWSER } from './source-files.ts';
@@ -15,12 +21,23 @@ export interface EngineBackendOptions {
   readonly readsParquet: boolean;
   /** Hashes the files for the report; the browser default hashes them in a worker. */
   readonly describe?: (files: readonly File[]) => Promise<InputFile[]>;
+  /** The page's DuckDB-Wasm worker the audit's cube is loaded into for interactive SQL. */
+  readonly cubeTables?: () => Promise<WasmArrowTables>;
+  /** The engine host runs the whole audit in one request (desktop and hosted modes). */
+  readonly hostAudit?: HostEngine['audit'];
 }
 
-async function profileOf(run: RunQuery, relation: string): Promise<Profile> {
-  const columns = parseDescribe(await run(describeSql(relation)));
-  return parseProfile(await run(profileSql(relation, columns)), columns);
+/** The cube as table `cube` in the page's worker; without a worker, interactive views fall back to the cells. */
+async function cubeSessionOf(tables: Promise<WasmArrowTables> | undefined, ipc: () => Uint8Array, cells: readonly CubeCell[], segmentColumns: readonly string[]): Promise<{ cube?: CubeSession }> {
+  if (!tables) return {};
+  try {
+    return { cube: await loadCubeSession(await tables, ipc(), cells, segmentColumns) };
+  } catch (error) {
+    console.warn(`The cube could not be loaded into the page's DuckDB-Wasm; regrouping runs on the cube cells in the page instead: ${error instanceof Error ? error.message : String(error)}`);
+    return {};
+  }
 }
+
 
 export function auditRequest(source: OpenedSource, draft: AuditDraft, engine: string): AuditRequest {
   return {
@@ -50,6 +67,11 @@ export function sourceLabel(names: readonly string[]): string {
   return names.length === 1 ? (names[0] ?? '') : `${names[0]} and ${names.length - 1} more`;
 }
 
+/** The drill-down spec for a selection of an opened source: its relation, and the profile's column types. */
+export function drillSpecOf(source: OpenedSource, selection: RowSelection): DrillSpec {
+  return { relation: source.relation, roles: selection.roles, selection: selection.selection, columnTypes: Object.fromEntries(source.profile.columns.map((c) => [c.name, c.type])) };
+}
+
 /** An audit backend over any Engine whose queries run off the page's thread (worker or host). */
 export function createEngineBackend(engine: Engine, options: EngineBackendOptions): AuditBackend {
   const run: RunQuery = (sql) => engine.query(sql);
@@ -73,7 +95,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
         const problem = sizeMismatch(input.files, fingerprints);
         if (problem) throw new Error(problem);
       }
-      const profile = await profileOf(run, registered.relation);
+      const profile = await profileLog(run, registered.relation);
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
@@ -86,15 +108,32 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
     },
 
     async run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<AuditOutcome> {
+      const request = auditRequest(source, draft, engine.kind);
+      const targets = request.targets ?? [];
+      // The worker starts while the audit runs.
+      const tables = options.cubeTables?.();
+      tables?.catch(() => undefined);
+      if (options.hostAudit) {
+        const { report, cubeIpc } = await options.hostAudit(request, onProgress, signal);
+        const cells = cubeFromArrowIpc(cubeIpc);
+        const cube = await cubeSessionOf(tables, () => cubeIpc, cells, report.roles.segments);
+        return { report, workspace: { cells, profile: source.profile, targets, ...cube } };
+      }
       const onAbort = () => { void engine.cancel(); };
       signal.addEventListener('abort', onAbort, { once: true });
       try {
-        const request = auditRequest(source, draft, engine.kind);
         const { report, cells, profile } = await runAuditDetailed(run, { ...request, onProgress, signal });
-        return { report, workspace: { cells, profile, targets: request.targets ?? [] } };
+        const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
+        return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {
         signal.removeEventListener('abort', onAbort);
       }
+    },
+
+    rows: (source: OpenedSource, request: RowsRequest) => engine.query(drillPageSql(drillSpecOf(source, request), request.page)),
+
+    async rowCount(source: OpenedSource, selection: RowSelection): Promise<number> {
+      return parseDrillCount(await engine.query(drillCountSql(drillSpecOf(source, selection))));
     },
 
     close: () => engine.close(),

@@ -4,6 +4,7 @@ import type { RoleSuggestion } from '../../app/core/roles/roles.ts';
 import type { Profile } from '../../app/core/scan/profile.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import type { TargetInput } from '../../app/core/targets/targets.ts';
+import type { CubeSession } from './cube-session.ts';
 
 export type Stage = 'profile' | 'cube' | 'tails' | 'checks';
 export const STAGES: readonly Stage[] = ['profile', 'cube', 'tails', 'checks'];
@@ -22,13 +23,16 @@ export interface OpenedSource {
 }
 
 /**
- * What a finished audit leaves for interactive work without a rescan: the cube it scanned, the profile
- * it resolved roles from, and the targets it ran with.
+ * What a finished audit leaves for interactive work without a rescan: the cube it scanned (its cells, and
+ * the same cube as a table in the page's DuckDB-Wasm worker), the profile it resolved roles from, and the
+ * targets it ran with.
  */
 export interface AuditWorkspace {
   readonly cells: readonly CubeCell[];
   readonly profile: Profile;
   readonly targets: readonly TargetInput[];
+  /** Absent only when the page's worker could not take the cube. */
+  readonly cube?: CubeSession;
 }
 
 /** The engine's lifecycle as one immutable value (STYLE.md §8). */

@@ -1,15 +1,20 @@
 import { useCallback, useMemo, useState } from 'react';
 import type { Report } from '../../app/core/model/report.ts';
-import { segmentMap } from '../../app/core/segment-map.ts';
+import { cursorAfter, drillOrderColumns, findingWhere, type DrillSelection } from '../../app/core/scan/drill.ts';
+import { OTHER_LABEL } from '../../app/core/scan/expressions.ts';
 import type { AuditWorkspace } from '../engine/status.ts';
+import { useEngine } from '../engine/EngineProvider.tsx';
+import { drillSpecOf } from '../engine/engine-backend.ts';
+import { RowPager, type RowFeed } from '../components/RowPager.tsx';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
 import { SqlBlock } from '../components/SqlBlock.tsx';
 import { formatValue } from '../format.ts';
-import { cellSql, findingsForCell, segmentForLabel, segmentHeatmaps } from './segment-cells.ts';
+import { cellSql, findingsForCell, segmentForLabel, segmentHeatmaps, type CellFinding } from './segment-cells.ts';
 import { ReadinessTable } from './ReadinessTable.tsx';
+import { cubeVersions, regroupKey, useCubeRegroup } from './cube-regroup.ts';
 
 interface Cell { readonly row: number; readonly col: number }
 
@@ -28,16 +33,27 @@ function cellStyle(v: number | null, [lo, hi]: [number, number]): { background: 
 
 export function SegmentMap({ report, workspace }: { report: Report; workspace?: AuditWorkspace | undefined }) {
   const columns = report.roles.segments;
-  // Regrouping by a subset of the segment columns is recomputed from the audit's cube in the page (no scan).
+  // Regrouping by a subset of the segment columns, or keeping one policy version, is SQL over the audit's
+  // cube in the page's DuckDB-Wasm worker (no scan, no request to the engine).
   const [groupBy, setGroupBy] = useState<readonly string[]>(columns);
-  const regrouped = workspace !== undefined && groupBy.length !== columns.length;
+  const [version, setVersion] = useState<string | null>(null);
+  const versions = useMemo(() => cubeVersions(workspace), [workspace]);
+  const filter = useMemo(() => (version === null ? {} : { versions: [version] }), [version]);
+  const regrouped = workspace !== undefined && (groupBy.length !== columns.length || version !== null);
+  const regroup = useCubeRegroup(workspace, columns, groupBy, filter, regrouped);
+  const regroupPending = regrouped && regroup.key !== regroupKey(groupBy, filter);
   const maps = useMemo(
-    () => (regrouped ? segmentMap(workspace.cells, columns, groupBy).map((series) => ({ check: 'propensity.exploration' as const, series })) : segmentHeatmaps(report)),
-    [regrouped, workspace, columns, groupBy, report],
+    () => (regrouped && regroup.series ? regroup.series.map((series) => ({ check: 'propensity.exploration' as const, series })) : segmentHeatmaps(report)),
+    [regrouped, regroup, report],
   );
   const toggle = (c: string) => {
     const next = groupBy.includes(c) ? groupBy.filter((x) => x !== c) : columns.filter((x) => x === c || groupBy.includes(x));
     setGroupBy(next);
+    setCell(null);
+    setWhich(0);
+  };
+  const chooseVersion = (v: string) => {
+    setVersion(v === '' ? null : v);
     setCell(null);
     setWhich(0);
   };
@@ -69,7 +85,7 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
   const sql = cell ? cellSql(report, segment, action) : null;
 
   return (
-    <section className="screen" aria-labelledby="segments-title">
+    <section className="screen" aria-labelledby="segments-title" data-regroup-source={regrouped ? (regroup.source ?? 'pending') : 'report'} data-cube-queries={workspace?.cube?.queriesRun ?? 0} aria-busy={regroupPending}>
       <h1 id="segments-title">Segment map</h1>
       <p className="lead">Segments down the side, actions across. Choose a cell to see what the checks found there and the SQL that selects its rows.</p>
       {workspace && columns.length > 1 && (
@@ -82,6 +98,18 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
           ))}
         </fieldset>
       )}
+      {versions.length > 0 && (
+        <div className="toolbar">
+          <label className="check-label">
+            Policy version{' '}
+            <select value={version ?? ''} onChange={(e) => chooseVersion(e.target.value)} data-testid="segment-map-version">
+              <option value="">all versions</option>
+              {versions.map((v) => <option key={v} value={v}>{v}</option>)}
+            </select>
+          </label>
+        </div>
+      )}
+      {regroup.error && regrouped && <p role="alert">The map could not be regrouped: {regroup.error}</p>}
       <div className="toolbar" role="group" aria-label="Map to show">
         {maps.map((m, i) => (
           <button key={`${m.check}-${m.series.name}`} type="button" className={`button small${i === which ? ' selected' : ''}`} aria-pressed={i === which} onClick={() => { setWhich(i); setCell(null); }}>
@@ -128,11 +156,80 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
               {findings.length === 0 ? <p className="muted">No check reported a finding for this cell.</p> : (
                 findings.map((f, i) => <div key={i}><p className="muted"><code>{f.check}</code> {f.title}</p><FindingList findings={[f.finding]} /></div>)
               )}
+              <p><a href="#cell-rows-title">The rows behind this cell</a> are listed under the map.</p>
             </>
           ) : <p className="muted">Click a cell of the map — or, from the keyboard, switch to the table view and press a cell — to see what the checks found there and the SQL that selects its rows.</p>}
         </aside>
       </div>
+      {cell && <CellRows key={`${rowLabel}\u0000${action}\u0000${version ?? ''}`} report={report} workspace={workspace} segment={segment} version={version} action={action} findings={findings} title={`${rowLabel} · ${action}${version === null ? '' : ` (policy version ${version})`}`} />}
       <ReadinessTable report={report} />
+    </section>
+  );
+}
+
+/** For a capped segment column shown as "(other)", the values the cube kept; null when they are not known. */
+function keptValues(report: Report, workspace: AuditWorkspace | undefined, segment: Readonly<Record<string, string>>): Record<string, string[]> | null {
+  const kept: Record<string, string[]> = {};
+  for (const [column, value] of Object.entries(segment)) {
+    if (value !== OTHER_LABEL || !report.roles.caps[column]) continue;
+    const i = report.roles.segments.indexOf(column);
+    if (!workspace || i < 0) return null;
+    kept[column] = [...new Set(workspace.cells.map((c) => c.segment[i] as string))].filter((v) => v !== OTHER_LABEL);
+  }
+  return kept;
+}
+
+/** The rows behind the chosen cell, or behind one of its findings, paged from the engine on demand. */
+function CellRows({ report, workspace, segment: cellSegment, version, action, findings, title }: {
+  report: Report; workspace: AuditWorkspace | undefined; segment: Readonly<Record<string, string>> | null; version: string | null; action: string; findings: readonly CellFinding[]; title: string;
+}) {
+  // A map kept to one policy version shows that version's rows only; the version column is read as the cube reads it.
+  const versionColumn = report.roles.policy_version;
+  const segment = cellSegment && version !== null && versionColumn ? { ...cellSegment, [versionColumn]: version } : cellSegment;
+  const engine = useEngine();
+  const source = engine.status.kind === 'done' ? engine.status.source : null;
+  const [listed, setListed] = useState<number | null>(null);
+  const withRows = source ? findings.flatMap((f, i) => (findingWhere(f.finding.sql, source.relation) ? [i] : [])) : [];
+  const kept = segment ? keptValues(report, workspace, segment) : null;
+  const chosen = listed === null ? null : findings[listed];
+  const where = chosen && source ? findingWhere(chosen.finding.sql, source.relation) : null;
+  const selection: DrillSelection | null = where ? { segment: {}, where } : segment && kept && report.roles.action ? { segment, action, kept } : null;
+  const roles = report.roles;
+  const order = [roles.time, roles.decision_id].filter((c): c is string => !!c);
+
+  let body;
+  if (!source) body = <p className="muted">Rows are read from the open log: open it and run the audit to list them here.</p>;
+  else if (!selection) body = <p className="muted">This cell&apos;s rows cannot be selected from the report alone (its segment label or a capped column&apos;s kept values are not known).</p>;
+  else {
+    const request = { roles, selection };
+    const orderColumns = drillOrderColumns(drillSpecOf(source, request));
+    const feed: RowFeed = {
+      key: JSON.stringify([source.relation, selection]),
+      count: () => engine.rowCount(source, request),
+      page: (page) => engine.rows(source, { ...request, page }),
+      next: (t, before, offset) => cursorAfter(orderColumns, t, before, offset),
+    };
+    body = <RowPager feed={feed} label={`Rows behind ${chosen ? `the finding of ${chosen.check}` : title}`} order={order.length ? `${order.join(', ')}; identical rows in any order` : 'a hash of each row (no time or decision id is mapped)'} />;
+  }
+
+  return (
+    <section className="card cell-rows" aria-labelledby="cell-rows-title">
+      <h2 id="cell-rows-title">Rows behind {title}</h2>
+      {withRows.length > 0 && (
+        <div className="toolbar" role="group" aria-label="Rows of">
+          <button type="button" className={`button small${listed === null ? ' selected' : ''}`} aria-pressed={listed === null} onClick={() => setListed(null)}>This cell</button>
+          {withRows.map((i, n) => {
+            const f = findings[i] as CellFinding;
+            const same = withRows.filter((j) => findings[j]?.check === f.check);
+            return (
+              <button key={i} type="button" className={`button small${listed === i ? ' selected' : ''}`} aria-pressed={listed === i} onClick={() => setListed(i)} title={f.finding.message}>
+                Finding: <code>{f.check}</code>{same.length > 1 ? ` (${withRows.slice(0, n + 1).filter((j) => findings[j]?.check === f.check).length} of ${same.length})` : ''}
+              </button>
+            );
+          })}
+        </div>
+      )}
+      {body}
     </section>
   );
 }

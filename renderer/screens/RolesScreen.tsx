@@ -1,3 +1,4 @@
+import { distinctText } from '../../app/core/roles/roles.ts';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import type { OpenedSource } from '../engine/status.ts';
 import { reasonFor } from '../state/from-suggestions.ts';
@@ -81,7 +82,7 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
                 <li key={c.name}>
                   <input id={id} type="checkbox" checked={draft.segments.includes(c.name)} onChange={(e) => toggleSegment(c.name, e.target.checked)} />
                   <label htmlFor={id}>
-                    <strong>{c.name}</strong> <span className="muted">about {Math.round(c.distinct).toLocaleString('en')} distinct values</span>
+                    <strong>{c.name}</strong> <span className="muted">{distinctText(c)}</span>
                     {suggested && <span className="tag">suggested</span>}
                   </label>
                 </li>

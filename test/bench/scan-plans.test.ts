@@ -10,7 +10,7 @@ import { resolveRoles } from '../../app/core/roles/roles.ts';
 import { cubeSql, parseCube } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
-import { examplesSql, parseTail, tailSql } from '../../app/core/scan/rows.ts';
+import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
 import { parseTarget } from '../../app/core/targets/targets.ts';
 import { createNativeEngine, type NativeEngine } from '../../app/engine/native.ts';
 import { firstDifference } from '../core/audit-helpers.ts';
@@ -73,16 +73,38 @@ describe('example rows', () => {
     `QUALIFY row_number() OVER (PARTITION BY f.__finding ORDER BY ${order.map((o) => `m.${o}`).join(', ')}) <= ${n}`,
     `ORDER BY f.__finding, ${order.map((o) => `m.${o}`).join(', ')}`,
   ].join('\n');
+  const wheres = [`"region" = 'old-town'`, `"device" = 'web' AND "promotion" = 'bakery'`, `"ordered" IS NULL`, `"propensity" IS NULL OR "propensity" <= 0`, `"region" = 'nowhere'`, `"logged_at" >= TIMESTAMP '2026-03-30'`];
+  const all = ['"decision_id"', '"region"', '"device"', '"tenure"', '"promotion"', '"propensity"', '"ordered"', '"basket_value"', '"policy_version"'];
 
   it.each([
-    [['"decision_id"', '"logged_at"'], 3],
-    [['"ordered"', '"decision_id"'], 4],
-    [['"basket_value"', '"decision_id"'], 2],
-  ])('pick the same rows as numbering every match (order %s, %i per finding)', async (order, n) => {
-    const relation = `read_parquet('${SAMPLE}maple-row-demo.parquet')`;
-    const wheres = [`"region" = 'old-town'`, `"device" = 'web' AND "promotion" = 'bakery'`, `"ordered" IS NULL`, `"propensity" IS NULL OR "propensity" <= 0`, `"region" = 'nowhere'`];
-    const b = await engine.query(reference(relation, wheres, n, order));
+    [['"logged_at"', ...all], 3],
+    [['"ordered"', '"decision_id"', '"logged_at"'], 4],
+    [['"basket_value"', '"decision_id"', '"logged_at"'], 2],
+  ])('pick the same rows as numbering every match (order %s, %i per finding), from Parquet and CSV', async (order, n) => {
+    const requests = wheres.map((where) => ({ where }));
+    const parquet = `read_parquet('${SAMPLE}maple-row-demo.parquet')`;
+    const b = await engine.query(reference(parquet, wheres, n, order));
     expect(b.rowCount).toBeGreaterThan(4);
-    for (const reread of [true, false]) expect(await engine.query(examplesSql(relation, wheres.map((where) => ({ where })), n, order, reread))).toEqual(b);
+    for (const reread of [true, false]) expect(await engine.query(examplesSql(parquet, requests, n, order, reread))).toEqual(b);
+    const csv = `read_csv('${SAMPLE}maple-row-demo.csv')`;
+    expect(await engine.query(examplesSql(csv, requests, n, order, false))).toEqual(await engine.query(reference(csv, wheres, n, order)));
+  });
+});
+
+describe('duplicated decision ids', () => {
+  // The plain form: group every id and keep those held by more than one row.
+  const reference = (relation: string, id: string) => `WITH counts AS (SELECT CAST(${id} AS VARCHAR) AS id, count(*) AS c FROM ${relation} WHERE ${id} IS NOT NULL GROUP BY 1 HAVING count(*) > 1)
+    SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, list_sort(list(id))[1:5] AS example_ids FROM counts`;
+
+  it.each([
+    ['text ids with pairs, a triple, nulls', `SELECT CASE WHEN i % 97 = 0 THEN NULL ELSE 'd-' || (i % 4000)::VARCHAR END AS id FROM range(4100) t(i) UNION ALL SELECT 'd-7' FROM range(2)`],
+    ['integer ids, one held five times', `SELECT (i % 3000) AS id FROM range(3000) t(i) UNION ALL SELECT 17 FROM range(4)`],
+    ['double ids where 0.0 and -0.0 print differently', `SELECT x AS id FROM (VALUES (0.0::DOUBLE), ('-0.0'::DOUBLE), (0.0::DOUBLE), ('NaN'::DOUBLE), ('NaN'::DOUBLE), (1.5)) v(x)`],
+    ['no duplicates at all', `SELECT i AS id FROM range(500) t(i)`],
+  ])('count the same as grouping every id: %s', async (_name, select) => {
+    const relation = `(${select})`;
+    const sorted = parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5)));
+    const grouped = parseDuplicates(await engine.query(reference(relation, '"id"')));
+    expect(sorted).toEqual(grouped);
   });
 });

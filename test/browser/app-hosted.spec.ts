@@ -13,6 +13,7 @@ import { expect, test, type Page } from '@playwright/test';
 import { newToken } from '../../scripts/web/access.ts';
 import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-server.ts';
 import { parseTable } from '../../app/core/targets/targets.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
 import { formatShare, formatValue } from '../../renderer/format.ts';
 
 const ROOT = process.cwd();
@@ -92,6 +93,9 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
   let token = '';
   let page: Page;
   let framesSent = 0;
+  /** The `kind` of every message the page sent to the host, in order. */
+  const kindsSent: string[] = [];
+  let auditResultChars = 0;
   let cli: { code: number | null; report: ReportJson };
   let cliEdited: { code: number | null; report: ReportJson };
   let tmp = '';
@@ -108,7 +112,19 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     ]);
     page = await browser.newPage({ viewport: { width: 1280, height: 800 } });
     page.on('websocket', (ws) => {
-      if (ws.url().startsWith(server.socketUrl)) ws.on('framesent', () => { framesSent++; });
+      if (!ws.url().startsWith(server.socketUrl)) return;
+      ws.on('framesent', (frame) => {
+        framesSent++;
+        try {
+          kindsSent.push(String((JSON.parse(String(frame.payload)) as { kind?: unknown }).kind));
+        } catch {
+          kindsSent.push('(not JSON)');
+        }
+      });
+      ws.on('framereceived', (frame) => {
+        const text = String(frame.payload);
+        if (text.startsWith('{"kind":"audit-result"')) auditResultChars = text.length;
+      });
     });
   });
 
@@ -157,9 +173,16 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
     await page.locator('#target-table').setInputFiles(V9_POLICY);
     await expect(page.getByText('Policy table from maple-row-v9-policy.csv')).toBeVisible();
+    const sentBefore = kindsSent.length;
+    const started = Date.now();
     await page.getByRole('button', { name: 'Run the audit' }).click();
     await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 60_000 });
+    const elapsed = Date.now() - started;
     await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
+    // The host runs the whole audit: the page sends it one request, not the audit's queries one by one.
+    expect(kindsSent.slice(sentBefore), 'messages the page sent to the host during the audit').toEqual(['audit']);
+    expect(auditResultChars, 'the audit result (report and cube) arrived as one message').toBeGreaterThan(0);
+    console.log(`hosted audit: ${elapsed} ms from Run to the overview; 1 request sent; audit-result message ${auditResultChars} characters`);
     await screen(page, '21-hosted-overview');
   });
 
@@ -194,6 +217,38 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     await expect(detail.getByRole('heading', { name: 'old-town · web · regular · free-delivery' })).toBeVisible();
     await expect(detail).toContainText(/no exploration in region=old-town, device=web.*every propensity is 1, always free-delivery/);
     await screen(page, '22-hosted-segment-cell', false);
+  });
+
+  test('regrouping and filtering the segment map is SQL over the cube in the page\'s DuckDB-Wasm, with nothing sent to the host', async () => {
+    const map = page.locator('section[aria-labelledby="segments-title"]');
+    await expect(map).toHaveAttribute('data-regroup-source', 'report');
+    const sentBefore = framesSent;
+    await page.getByTestId('group-by-region').uncheck();
+    await page.getByTestId('group-by-tenure').uncheck();
+    await expect(page.locator('.heat-table tbody tr th')).toHaveText(['android', 'ios', 'web']);
+    await expect(map).toHaveAttribute('data-regroup-source', 'cube-sql');
+    const queries = Number(await map.getAttribute('data-cube-queries'));
+    expect(queries, 'SQL statements run over the cube table').toBeGreaterThanOrEqual(2);
+    await page.getByTestId('segment-map-version').selectOption('v8');
+    await expect.poll(async () => Number(await map.getAttribute('data-cube-queries'))).toBeGreaterThan(queries);
+    await expect(map).toHaveAttribute('data-regroup-source', 'cube-sql');
+    await expect(map).toHaveAttribute('aria-busy', 'false');
+    // Rows per (device, promotion) among v8 decisions, counted by native DuckDB straight from the log.
+    const engine = await createNativeEngine({ threads: 1 });
+    try {
+      const src = await engine.register({ kind: 'path', paths: [DEMO_PARQUET] });
+      const t = await engine.query(`SELECT promotion, count(*)::DOUBLE AS n FROM ${src.relation} WHERE device = 'web' AND policy_version = 'v8' GROUP BY ALL`);
+      const header = await page.locator('.heat-table thead th').allTextContents();
+      const web = await page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^web$/ }) }).locator('td button').allTextContents();
+      const shown = Object.fromEntries(header.slice(1).map((a, j) => [a, web[j]]));
+      for (let i = 0; i < t.rowCount; i++) expect(shown[String(t.columns[0]?.[i])], String(t.columns[0]?.[i])).toBe(formatValue(t.columns[1]?.[i] as number));
+    } finally {
+      await engine.close();
+    }
+    expect(framesSent, 'WebSocket frames sent to the host while regrouping').toBe(sentBefore);
+    await page.getByTestId('segment-map-version').selectOption('');
+    for (const c of ['region', 'tenure']) await page.getByTestId(`group-by-${c}`).check();
+    await expect(map).toHaveAttribute('data-regroup-source', 'report');
   });
 
   test('the drift panel shows the reward change for lapsed customers', async () => {

@@ -78,6 +78,8 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
     await page.getByTestId('group-by-tenure').uncheck();
     const rows = page.locator('.heat-table tbody tr th');
     await expect(rows).toHaveText(['android', 'ios', 'web']);
+    // The worker that scanned the log holds the cube as table `cube`; the regroup is SQL over it.
+    await expect(page.locator('section[aria-labelledby="segments-title"]')).toHaveAttribute('data-regroup-source', 'cube-sql');
     // old-town · web is greedy (free-delivery only): regrouped by region and device it is one row with one non-zero cell
     await page.getByTestId('group-by-region').check();
     const row = page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^old-town · web$/ }) });

@@ -131,7 +131,7 @@ describe('time bucket labels on page charts', () => {
 
 describe('role mapping problems', () => {
   const col = (name: string, type: string, kind: ColumnProfile['kind'], extra: Partial<ColumnProfile> = {}): ColumnProfile => ({
-    name, type, kind, nonNull: 100, distinct: 5, min: null, max: null, nan: 0, infinite: 0, nonBinary: 0, nonInteger: 0,
+    name, type, kind, nonNull: 100, distinct: 5, distinctBasis: 'all rows', distinctRows: 100, min: null, max: null, nan: 0, infinite: 0, nonBinary: 0, nonInteger: 0,
     parsedAsNumber: 0, parsedAsTime: 0, minTimeUs: null, maxTimeUs: null, ...extra,
   });
   const profile: Profile = {

@@ -1,4 +1,4 @@
-import { SEP } from '../cube/rollup.ts';
+import { pairKeys, SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
 import { literal } from '../sql/quote.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
@@ -20,33 +20,41 @@ interface Test {
   readonly se: number;
   readonly z: number;
   readonly p: number;
-  /** the rows (cells) of the test's group, all actions */
-  readonly member: (c: CubeCell) => boolean;
+  /** indexes (ascending) of the cells of the test's group, all actions */
+  readonly members: readonly number[];
 }
 
-/** Groups rows, then for every action a in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1). */
-function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, group: (c: CubeCell) => { key: string; segment: Record<string, string>; bucket?: number; version?: string } | null, actions: readonly string[]): Test[] {
-  const memberOf = (key: string) => (c: CubeCell) => group(c)?.key === key;
-  const groups = new Map<string, { meta: { segment: Record<string, string>; bucket?: number; version?: string }; nP: number; byAction: Map<string, { s1: number; s2: number }> }>();
-  for (const c of cells) {
-    const g = group(c);
-    if (!g) continue;
-    let e = groups.get(g.key);
-    if (!e) groups.set(g.key, (e = { meta: g, nP: 0, byAction: new Map() }));
+interface GroupMeta {
+  readonly segment: Record<string, string>;
+  readonly bucket?: number;
+  readonly version?: string;
+}
+
+/**
+ * Groups rows, then for every action a in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1).
+ * `key` names a cell's group (null: in none); `meta` describes a group from its first cell.
+ */
+function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, key: (c: CubeCell, i: number) => string | null, meta: (c: CubeCell) => GroupMeta, actions: readonly string[]): Test[] {
+  const groups = new Map<string, { meta: GroupMeta; nP: number; byAction: Map<string, { s1: number; s2: number }>; members: number[] }>();
+  cells.forEach((c, i) => {
+    const k = key(c, i);
+    if (k === null) return;
+    let e = groups.get(k);
+    if (!e) groups.set(k, (e = { meta: meta(c), nP: 0, byAction: new Map(), members: [] }));
+    e.members.push(i);
     e.nP += c.nP;
-    const a = e.byAction.get(c.action) ?? { s1: 0, s2: 0 };
+    let a = e.byAction.get(c.action);
+    if (!a) e.byAction.set(c.action, (a = { s1: 0, s2: 0 }));
     a.s1 += c.sumInvP;
     a.s2 += c.sumInvP2;
-    e.byAction.set(c.action, a);
-  }
+  });
   const out: Test[] = [];
-  for (const [key, e] of groups) {
+  for (const e of groups.values()) {
     if (e.nP < MIN_ROWS) continue;
-    const member = memberOf(key);
     for (const action of actions) {
       const s = e.byAction.get(action) ?? { s1: 0, s2: 0 };
       const wb = s.s1 > 0 ? weightBalance(e.nP, s.s1, s.s2) : neverLoggedBalance(e.nP, floor);
-      out.push({ scope, segment: e.meta.segment, action, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}), n: e.nP, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, member });
+      out.push({ scope, segment: e.meta.segment, action, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}), n: e.nP, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, members: e.members });
     }
   }
   return out;
@@ -60,12 +68,15 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const cells = ctx.cells.filter((c) => c.action !== '(null)');
   const floor = ctx.settings['support.floor.epsilon'];
   const tests: Test[] = [
-    ...testsFor('action', cells, floor, () => ({ key: 'all', segment: {} }), actions),
-    ...cols.flatMap((col, j) => testsFor('segment value', cells, floor, (c) => ({ key: c.segment[j] as string, segment: { [col]: c.segment[j] as string } }), actions)),
-    ...(cols.length > 1 ? testsFor('segment', cells, floor, (c) => ({ key: c.segment.join(SEP), segment: segmentRecord(cols, c.segment) }), actions) : []),
-    ...(ctx.buckets ? testsFor('time bucket', cells, floor, (c) => (c.bucket < 0 ? null : { key: String(c.bucket), segment: {}, bucket: c.bucket }), actions) : []),
+    ...testsFor('action', cells, floor, () => 'all', () => ({ segment: {} }), actions),
+    ...cols.flatMap((col, j) => testsFor('segment value', cells, floor, (c) => c.segment[j] as string, (c) => ({ segment: { [col]: c.segment[j] as string } }), actions)),
+    ...(cols.length > 1 ? testsFor('segment', cells, floor, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions) : []),
+    ...(ctx.buckets ? testsFor('time bucket', cells, floor, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions) : []),
     ...(ctx.roles.policy_version
-      ? cols.flatMap((col, j) => testsFor('policy version', cells, floor, (c) => ({ key: `${c.segment[j]}${SEP}${c.version}`, segment: { [col]: c.segment[j] as string }, version: c.version }), actions))
+      ? cols.flatMap((col, j) => {
+        const key = pairKeys((v, version) => `${v}${SEP}${version}`);
+        return testsFor('policy version', cells, floor, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions);
+      })
       : []),
   ];
   const q = ctx.settings['balance.q'];
@@ -130,21 +141,20 @@ function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readon
   const covered = new Uint8Array(cells.length);
   for (const x of order) {
     let nP = 0, s1 = 0, s2 = 0;
-    cells.forEach((c, i) => {
-      if (covered[i] || !x.t.member(c)) return;
+    for (const i of x.t.members) {
+      if (covered[i]) continue;
+      const c = cells[i] as CubeCell;
       nP += c.nP;
       if (c.action === x.t.action) {
         s1 += c.sumInvP;
         s2 += c.sumInvP2;
       }
-    });
+    }
     if (nP < MIN_ROWS) continue;
     const wb = s1 > 0 ? weightBalance(nP, s1, s2) : neverLoggedBalance(nP, floor);
     if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) {
       kept.push(x);
-      cells.forEach((c, i) => {
-        if (x.t.member(c)) covered[i] = 1;
-      });
+      for (const i of x.t.members) covered[i] = 1;
     }
   }
   return kept;

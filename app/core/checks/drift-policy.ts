@@ -107,14 +107,20 @@ export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   };
   // segments without exploration are propensity.exploration's finding; left in, their B = 0 actions would read as drift
   const unexplored = new Set(explorationBySegment(ctx).filter((e) => !e.explored).map((e) => e.segment.join('\u001f')));
-  const cells = ctx.cells.filter((c) => !unexplored.has(c.segment.join('\u001f')));
+  const cells = unexplored.size ? ctx.cells.filter((c) => !unexplored.has(ctx.view.segmentKeyOf(c))) : ctx.cells;
+  // the group of each (column, value) is looked up by its key once, then by the value
+  const byValue = ctx.segmentColumns.map(() => new Map<string, Group>());
+  let everyRow: Group | undefined;
   for (const c of cells) {
     const a = ai.get(c.action);
     if (a === undefined || c.bucket < 0 || c.bucket >= b.count) continue;
-    add(touch('*', {}, () => true), c, a);
+    add((everyRow ??= touch('*', {}, () => true)), c, a);
     ctx.segmentColumns.forEach((col, j) => {
       const v = c.segment[j] as string;
-      add(touch(`${col}=${v}`, { [col]: v }, (x) => x.segment[j] === v), c, a);
+      const known = byValue[j] as Map<string, Group>;
+      let g = known.get(v);
+      if (!g) known.set(v, (g = touch(`${col}=${v}`, { [col]: v }, (x) => x.segment[j] === v)));
+      add(g, c, a);
     });
   }
   const q = ctx.settings['drift.policy.q'];
@@ -130,13 +136,17 @@ export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   });
   const bh = benjaminiHochberg(list.map((x) => x.p), q);
   const switches = versionSwitches(ctx);
-  // explain away: a group stays unexplained only if it is still unbalanced without the rows of groups already reported
-  const windowOf = (member: (c: CubeCell) => boolean, exclude: readonly Group[]) => {
+  // explain away: a group stays unexplained only if it is still unbalanced without the rows of groups already reported (`excluded`)
+  const actionOf = cells.map((c) => ai.get(c.action));
+  const excluded = new Uint8Array(cells.length);
+  const membersOf = (g: Group) => cells.map((c) => g.member(c));
+  const windowOf = (member: readonly boolean[]) => {
     const first = emptyWindow(actions.length);
     const last = emptyWindow(actions.length);
-    for (const c of cells) {
-      const a = ai.get(c.action);
-      if (a === undefined || c.bucket < 0 || !member(c) || exclude.some((g) => g.member(c))) continue;
+    for (let i = 0; i < cells.length; i++) {
+      const c = cells[i] as CubeCell;
+      const a = actionOf[i];
+      if (a === undefined || c.bucket < 0 || !member[i] || excluded[i]) continue;
       if (c.minP !== null && c.minP < floor) {
         first.lowFloor.add(a);
         last.lowFloor.add(a);
@@ -151,13 +161,16 @@ export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
     return { first, last };
   };
   const imbalance = (w: Window) => Math.max(0, ...w.s1.map((s1, a) => (w.nP > 0 && s1 > 0 && !w.lowFloor.has(a) ? Math.abs(s1 / w.nP - 1) : 0)));
-  const reported: Group[] = [];
+
   const candidates = list.map((x, i) => ({ x, i })).filter(({ x, i }) => bh.rejected[i] && x.psi >= PSI_NOTICE && !x.explainedByPropensities);
   candidates.sort((u, v) => Math.max(imbalance(v.x.g.last), imbalance(v.x.g.first)) - Math.max(imbalance(u.x.g.last), imbalance(u.x.g.first)));
   for (const { x } of candidates) {
-    const w = windowOf(x.g.member, reported);
+    const member = membersOf(x.g);
+    const w = windowOf(member);
     if (balanced(w.first, minEffect, alpha) && balanced(w.last, minEffect, alpha)) x.explainedByPropensities = true;
-    else reported.push(x.g);
+    else member.forEach((m, i) => {
+      if (m) excluded[i] = 1;
+    });
   }
   const findings: DraftFinding[] = [];
   list.forEach((x, i) => {

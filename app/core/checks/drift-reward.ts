@@ -40,13 +40,30 @@ export interface RewardDriftTest {
   readonly change: ChangePoint | null;
 }
 
-/** Per (all rows | one segment value) × action: reward moments per time bucket. */
-function groupsOf(ctx: AuditContext): { segment: Record<string, string>; action: string; buckets: GroupMoments[] }[] {
+type Moments = { n: number; sum: number; sumSq: number };
+type RewardGroup = { segment: Record<string, string>; action: string; buckets: Moments[] };
+
+/** Per (all rows | one segment value) × action: reward moments per time bucket, groups in first-seen order. */
+function groupsOf(ctx: AuditContext): RewardGroup[] {
   const b = ctx.buckets!;
-  const out = new Map<string, { segment: Record<string, string>; action: string; buckets: { n: number; sum: number; sumSq: number }[] }>();
-  const add = (key: string, segment: Record<string, string>, c: CubeCell) => {
+  const cols = ctx.segmentColumns;
+  const out = new Map<string, RewardGroup>();
+  const open = (key: string, segment: () => Record<string, string>, action: string): RewardGroup => {
     let g = out.get(key);
-    if (!g) out.set(key, (g = { segment, action: c.action, buckets: Array.from({ length: b.count }, () => ({ n: 0, sum: 0, sumSq: 0 })) }));
+    if (!g) out.set(key, (g = { segment: segment(), action, buckets: Array.from({ length: b.count }, () => ({ n: 0, sum: 0, sumSq: 0 })) }));
+    return g;
+  };
+  // the group of each (column, value, action) is looked up by its key once, then by small integer ids
+  const actionIds = new Map<string, number>();
+  const valueIds = cols.map(() => new Map<string, number>());
+  const all: RewardGroup[] = [];
+  const byValue: RewardGroup[][][] = cols.map(() => []);
+  const idOf = (m: Map<string, number>, v: string) => {
+    let id = m.get(v);
+    if (id === undefined) m.set(v, (id = m.size));
+    return id;
+  };
+  const add = (g: RewardGroup, c: CubeCell) => {
     const m = g.buckets[c.bucket]!;
     m.n += c.nRAll;
     m.sum += c.sumRAll;
@@ -54,8 +71,14 @@ function groupsOf(ctx: AuditContext): { segment: Record<string, string>; action:
   };
   for (const c of ctx.cells) {
     if (c.bucket < 0 || c.bucket >= b.count || c.action === '(null)') continue;
-    add(`*|${c.action}`, {}, c);
-    ctx.segmentColumns.forEach((col, j) => add(`${col}=${c.segment[j]}|${c.action}`, { [col]: c.segment[j] as string }, c));
+    const a = idOf(actionIds, c.action);
+    add((all[a] ??= open(`*|${c.action}`, () => ({}), c.action)), c);
+    for (let j = 0; j < cols.length; j++) {
+      const col = cols[j] as string;
+      const v = c.segment[j] as string;
+      const row = ((byValue[j] as RewardGroup[][])[idOf(valueIds[j]!, v)] ??= []);
+      add((row[a] ??= open(`${col}=${v}|${c.action}`, () => ({ [col]: v }), c.action)), c);
+    }
   }
   return [...out.values()];
 }
@@ -66,7 +89,8 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.buckets || ctx.buckets.count < 2) return skipped('drift.reward', ctx.roles.time ? 'the log spans a single time bucket' : 'no time column mapped');
   const binary = rewardKind(ctx) === 'binary';
   const tests: RewardDriftTest[] = [];
-  for (const g of groupsOf(ctx)) {
+  const groups = groupsOf(ctx);
+  for (const g of groups) {
     const used = g.buckets.map((m, i) => ({ m, i })).filter(({ m }) => m.n > 0);
     const windows = coarsen(g.buckets, TEST_WINDOWS).filter((m) => m.n >= MIN_BUCKET_ROWS);
     if (used.length < 2 || windows.length < 2) continue;
@@ -75,7 +99,7 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
     const change = cp ? { ...cp, index: (used[cp.index] as { i: number }).i } : null;
     tests.push({ segment: g.segment, action: g.action, buckets: g.buckets, p, change });
   }
-  if (binary) tests.push(...stratifiedTests(groupsOf(ctx)));
+  if (binary) tests.push(...stratifiedTests(groups));
   const q = ctx.settings['drift.reward.q'];
   const minChange = ctx.settings['drift.reward.min_relative_change'];
   const bh = benjaminiHochberg(tests.map((t) => t.p), q);

@@ -1,4 +1,3 @@
-import { total } from '../cube/rollup.ts';
 import type { Estimate as ModelEstimate, Status } from '../model/report.ts';
 import { doublyRobust, ips, minimumDetectableDifference, onPolicyValue, snips, type Estimate } from '../stats/estimators.ts';
 import { fmt, pct, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
@@ -48,7 +47,7 @@ export function estimatesFor(t: TargetAnalysis, rewardedRows: number): TargetEst
 /** estimate.preview: IPS, SNIPS, DR with 95% CIs per target, the on-policy value, and the detectable difference. */
 export function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('estimate.preview', 'the propensity, action or reward role is missing');
-  const t = total(ctx.cells);
+  const t = ctx.view.total;
   if (t.nRAll < 2) return skipped('estimate.preview', 'fewer than 2 rows have a reward');
   const onPolicy = model(onPolicyValue(t.nRAll, t.sumRAll, t.sumR2All));
   const maxRel = ctx.settings['estimate.preview.max_relative_halfwidth'];

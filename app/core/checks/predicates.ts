@@ -1,5 +1,5 @@
 /** SQL predicates over the source that select the rows behind a finding. */
-import { literal } from '../sql/quote.ts';
+import { literal, timestamp } from '../sql/quote.ts';
 import { OTHER_LABEL, type RowExpressions, type TimeBuckets } from '../scan/expressions.ts';
 
 export function validPropensity(p: string): string {
@@ -25,6 +25,7 @@ export function windowPredicate(rows: RowExpressions, buckets: TimeBuckets | nul
   if (!buckets || !rows.timeUs) return null;
   const lo = buckets.originUs + first * buckets.widthUs;
   const hi = buckets.originUs + (lastInclusive + 1) * buckets.widthUs;
+  if (rows.timeColumn) return `${rows.timeColumn} >= ${timestamp(lo)} AND ${rows.timeColumn} < ${timestamp(hi)}`;
   return `${rows.timeUs} >= ${lo} AND ${rows.timeUs} < ${hi}`;
 }
 

@@ -1,4 +1,3 @@
-import { total } from '../cube/rollup.ts';
 import { bucketWindow, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { concentrate } from './locate.ts';
 import { and, segmentPredicate, validPropensity, windowPredicate } from './predicates.ts';
@@ -6,7 +5,7 @@ import { and, segmentPredicate, validPropensity, windowPredicate } from './predi
 /** propensity.range: p null, NaN, <= 0, > 1 — counts, share, where and when. */
 export function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('propensity.range', 'the propensity, action or reward role is missing');
-  const t = total(ctx.cells);
+  const t = ctx.view.total;
   const rows = Math.max(1, t.n);
   const share = t.nPInvalid / rows;
   const failAt = ctx.settings['propensity.range.fail_share'];

@@ -1,4 +1,3 @@
-import { total } from '../cube/rollup.ts';
 import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
 import { and, finiteReward, windowPredicate } from './predicates.ts';
@@ -16,7 +15,7 @@ export function rewardKind(ctx: AuditContext): RewardKind | null {
 /** reward.validity: missing rewards (overall and by time), range, kind, non-finite values. */
 export function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('reward.validity', 'the propensity, action or reward role is missing');
-  const t = total(ctx.cells);
+  const t = ctx.view.total;
   const share = t.nRNull / Math.max(1, t.n);
   const warnAt = ctx.settings['reward.validity.warn_null'];
   const failAt = ctx.settings['reward.validity.fail_null'];

@@ -1,4 +1,3 @@
-import { total } from '../cube/rollup.ts';
 import { double, literal } from '../sql/quote.ts';
 import { cellHeatmap, describeSegment, fmt, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
@@ -11,7 +10,7 @@ export function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> 
   if (!ctx.rows || ctx.cells.length === 0) return skipped('support.floor', 'the propensity, action or reward role is missing');
   const eps = ctx.settings['support.floor.epsilon'];
   const maxShare = ctx.settings['support.floor.max_share'];
-  const t = total(ctx.cells);
+  const t = ctx.view.total;
   const share = t.nPBelowFloor / Math.max(1, t.nP);
   const items = ctx.view.cells
     .filter((c) => c.totals.nP > 0)

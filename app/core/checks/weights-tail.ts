@@ -28,8 +28,9 @@ export function checkTail(ctx: AuditContext): ReturnType<typeof result> {
   const findings: DraftFinding[] = [];
   const statuses: Status[] = [];
   const metrics: Record<string, number | null> = {};
+  const summaries = new Map(ctx.targets.map((t) => [t, tailSummary(t, ctx.tails.get(t.target.name)?.weights)]));
   for (const t of ctx.targets) {
-    const s = tailSummary(t, ctx.tails.get(t.target.name)?.weights);
+    const s = summaries.get(t) as TailSummary;
     const primary = ctx.primaryTargets.includes(t);
     const status: Status = s.khat === null ? 'warn' : s.khat > s.threshold ? 'fail' : s.khat > warnK ? 'warn' : 'pass';
     if (primary) statuses.push(status);
@@ -44,7 +45,7 @@ export function checkTail(ctx: AuditContext): ReturnType<typeof result> {
   }
   const status = statuses.length ? worst(...statuses) : 'pass';
   const summary = ctx.primaryTargets.map((t) => {
-    const s = tailSummary(t, ctx.tails.get(t.target.name)?.weights);
+    const s = summaries.get(t) ?? tailSummary(t, ctx.tails.get(t.target.name)?.weights);
     return `${t.target.name}: k̂ = ${s.khat === null ? 'n/a' : fmt(s.khat)}`;
   }).join('; ') + ` (warn above ${warnK}, fail above min(1 − 1/log10 n, 0.7)).`;
   return result('weights.tail', status, summary, metrics, findings, ['weights.tail.warn_khat']);

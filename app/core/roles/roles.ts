@@ -2,7 +2,7 @@
  * Column roles (DESIGN.md §3): suggestion from names, types and value profiles, explicit overrides,
  * and validation with specific messages.
  */
-import type { ColumnProfile, Profile } from '../scan/profile.ts';
+import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
 
 export const SINGLE_ROLES = ['decision_id', 'time', 'action', 'propensity', 'reward', 'policy_version', 'target_propensity', 'propensity_vector', 'action_set_size'] as const;
 export type SingleRole = (typeof SINGLE_ROLES)[number];
@@ -87,6 +87,19 @@ export function timeEncodingOf(c: ColumnProfile): TimeEncoding | null {
 
 const pct = (x: number) => `${(100 * x).toFixed(x < 0.001 && x > 0 ? 3 : 1)}%`;
 
+/** Share of a text column's values that are not numbers, in words that say which rows were looked at. */
+function notNumbersText(c: ColumnProfile): string {
+  if (c.parseBasis === 'first rows') return `none of its first ${PREFIX_ROWS.toLocaleString('en')} values parses as a number`;
+  return `${pct(1 - c.parsedAsNumber / Math.max(1, c.nonNull))} of values do not parse as numbers`;
+}
+
+/** "6 distinct values", or where only the first rows were counted, "over 10,000 distinct values in the first 100,000 rows". */
+export function distinctText(c: ColumnProfile): string {
+  const n = Math.round(c.distinct).toLocaleString('en');
+  if (c.distinctBasis === 'all rows') return `${n} distinct value${c.distinct === 1 ? '' : 's'}`;
+  return `${n} distinct values in the first ${c.distinctRows.toLocaleString('en')} rows`;
+}
+
 function isProbabilityLike(c: ColumnProfile): boolean {
   return (c.kind === 'numeric' || (c.kind === 'text' && c.parsedAsNumber > 0.9 * c.nonNull)) && c.min !== null && c.max !== null && c.min >= 0 && c.max <= 1 && c.nonBinary > 0;
 }
@@ -108,7 +121,7 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
     case 'action': {
       if (c.kind !== 'text' && !(c.kind === 'numeric' && c.nonInteger === 0)) return null;
       if (c.distinct < 2 || c.distinct > 1000) return null;
-      if (named) return { role, column: c.name, reason: `named like an action; ${Math.round(c.distinct)} distinct values`, confidence: 0.9 };
+      if (named) return { role, column: c.name, reason: `named like an action; ${distinctText(c)}`, confidence: 0.9 };
       return null;
     }
     case 'reward': {
@@ -121,8 +134,11 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
       return null;
     }
     case 'decision_id': {
-      const unique = rows > 0 && c.distinct >= 0.9 * rows;
-      if (named && unique) return { role, column: c.name, reason: `named like an identifier; about ${pct(Math.min(1, c.distinct / rows))} of values distinct`, confidence: 0.95 };
+      const counted = c.distinctRows;
+      const unique = rows > 0 && counted > 0 && c.distinct >= 0.9 * counted;
+      const share = pct(Math.min(1, c.distinct / Math.max(1, counted)));
+      const of = c.distinctBasis === 'all rows' ? 'values' : `the first ${counted.toLocaleString('en')} values`;
+      if (named && unique) return { role, column: c.name, reason: `named like an identifier; ${share} of ${of} distinct`, confidence: 0.95 };
       if (named && c.kind !== 'numeric') return { role, column: c.name, reason: 'named like an identifier', confidence: 0.5 };
       return null;
     }
@@ -134,7 +150,7 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
       return named ? { role, column: c.name, reason: `integers in the range of Unix ${enc === 'epoch_s' ? 'seconds' : enc === 'epoch_ms' ? 'milliseconds' : 'microseconds'}`, confidence: 0.7 } : null;
     }
     case 'policy_version':
-      return named && c.kind !== 'numeric' && c.distinct >= 1 && c.distinct <= 100 ? { role, column: c.name, reason: `named like a policy version; ${Math.round(c.distinct)} distinct values`, confidence: 0.8 } : null;
+      return named && c.kind !== 'numeric' && c.distinct >= 1 && c.distinct <= 100 ? { role, column: c.name, reason: `named like a policy version; ${distinctText(c)}`, confidence: 0.8 } : null;
     case 'propensity_vector':
       return named && /\[\]$|^LIST|^[A-Z]+\[\d*\]$/i.test(c.type) ? { role, column: c.name, reason: 'list column named like a probability vector', confidence: 0.8 } : null;
     case 'action_set_size':
@@ -165,15 +181,15 @@ export function suggestRoles(profile: Profile): RoleSuggestion[] {
       .sort((a, b) => a.distinct - b.distinct)
       .pop();
     if (fallback) {
-      out.push({ role: 'action', column: fallback.name, reason: `text column with ${Math.round(fallback.distinct)} distinct values (no column is named like an action)`, confidence: 0.3 });
+      out.push({ role: 'action', column: fallback.name, reason: `text column with ${distinctText(fallback)} (no column is named like an action)`, confidence: 0.3 });
       taken.add(fallback.name);
     }
   }
   for (const c of profile.columns) {
     if (taken.has(c.name)) continue;
     const categorical = c.kind === 'text' || c.kind === 'boolean' || (c.kind === 'numeric' && c.nonInteger === 0 && c.distinct <= 50);
-    if (categorical && c.distinct >= 2 && c.distinct <= 1000 && c.distinct < 0.5 * Math.max(1, profile.rows)) {
-      out.push({ role: 'segments', column: c.name, reason: `categorical ${c.type} with about ${Math.round(c.distinct)} distinct values`, confidence: c.distinct <= 50 ? 0.7 : 0.4 });
+    if (categorical && c.distinct >= 2 && c.distinct <= 1000 && c.distinct < 0.5 * Math.max(1, c.distinctRows)) {
+      out.push({ role: 'segments', column: c.name, reason: `categorical ${c.type} with ${distinctText(c)}`, confidence: c.distinct <= 50 ? 0.7 : 0.4 });
     }
   }
   return out;
@@ -250,9 +266,9 @@ function whyNotTaken(role: SingleRole, c: ColumnProfile): string | null {
   if (role === 'propensity' && c.kind === 'text' && (c.decimalComma ?? 0) >= 0.9 * c.nonNull) {
     return `${named} holds numbers written with a decimal comma (like 0,25); export the log with a decimal point`;
   }
-  if (role === 'action' && c.distinct > 1000) return `${named} has about ${Math.round(c.distinct)} distinct values, more than are suggested; map it explicitly if that is right`;
+  if (role === 'action' && c.distinct > 1000) return `${named} has ${distinctText(c)}, more than are suggested; map it explicitly if that is right`;
   if (role === 'action' && c.distinct < 2) return `${named} holds a single value; a log needs at least two actions`;
-  if (role !== 'action' && c.kind === 'text' && c.parsedAsNumber < 0.9 * c.nonNull) return `${named} ${pct(1 - c.parsedAsNumber / c.nonNull)} of its values are not numbers`;
+  if (role !== 'action' && c.kind === 'text' && c.parsedAsNumber < 0.9 * c.nonNull) return `${named} ${notNumbersText(c)}`;
   return null;
 }
 
@@ -265,7 +281,6 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProbl
     const why = profile.columns.map((c) => whyNotTaken(role, c)).find((x) => x !== null);
     problems.push({ role, severity: 'fail', message: `no ${role} column: map one with --role ${role}=COLUMN${why ? ` (${why})` : ''}` });
   }
-  const share = (x: number) => pct(x);
   const p = roles.propensity ? byName.get(roles.propensity) : undefined;
   if (p) {
     if (p.kind === 'text') {
@@ -273,7 +288,7 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProbl
       problems.push({
         role: 'propensity',
         severity: bad > 0.5 * Math.max(1, p.nonNull) ? 'fail' : 'warn',
-        message: `propensity column '${p.name}' is ${p.type}; ${share(bad / Math.max(1, p.nonNull))} of values do not parse as numbers`,
+        message: `propensity column '${p.name}' is ${p.type}; ${notNumbersText(p)}`,
       });
     } else if (p.kind !== 'numeric') {
       problems.push({ role: 'propensity', severity: 'fail', message: `propensity column '${p.name}' is ${p.type}, not numeric` });
@@ -283,14 +298,14 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProbl
   if (r) {
     if (r.kind === 'text') {
       const bad = r.nonNull - r.parsedAsNumber;
-      problems.push({ role: 'reward', severity: bad > 0.5 * Math.max(1, r.nonNull) ? 'fail' : 'warn', message: `reward column '${r.name}' is ${r.type}; ${share(bad / Math.max(1, r.nonNull))} of values do not parse as numbers` });
+      problems.push({ role: 'reward', severity: bad > 0.5 * Math.max(1, r.nonNull) ? 'fail' : 'warn', message: `reward column '${r.name}' is ${r.type}; ${notNumbersText(r)}` });
     } else if (r.kind !== 'numeric' && r.kind !== 'boolean') {
       problems.push({ role: 'reward', severity: 'fail', message: `reward column '${r.name}' is ${r.type}, not numeric` });
     }
   }
   const a = roles.action ? byName.get(roles.action) : undefined;
   if (a && a.kind === 'other') problems.push({ role: 'action', severity: 'fail', message: `action column '${a.name}' is ${a.type}; an action must be a scalar value` });
-  if (a && a.distinct < 2) problems.push({ role: 'action', severity: 'warn', message: `action column '${a.name}' has about ${Math.round(a.distinct)} distinct value(s); a log needs at least two actions to evaluate another policy` });
+  if (a && a.distinct < 2) problems.push({ role: 'action', severity: 'warn', message: `action column '${a.name}' has ${distinctText(a)}; a log needs at least two actions to evaluate another policy` });
   const t = roles.time ? byName.get(roles.time) : undefined;
   if (t && !roles.timeEncoding) {
     const mixed = t.kind === 'text' && t.nonNull > 0 && t.parsedAsTime > 0;

@@ -7,7 +7,8 @@
 import type { CubeCell, TargetColumnSums } from '../cube/types.ts';
 import { double, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
-import { OTHER_LABEL, VALID_P, VALID_R, type RowExpressions } from './expressions.ts';
+import type { ColumnProfile } from './profile.ts';
+import { NULL_LABEL, OTHER_LABEL, VALID_P, VALID_R, type RowExpressions } from './expressions.ts';
 
 export interface CubeSpec {
   readonly relation: string;
@@ -24,8 +25,17 @@ export interface CubeSpec {
   readonly byPropensity?: boolean;
 }
 
-/** Propensity-level grouping pays off while the distinct propensities (approximate, from the profile) stay this few. */
+/** Propensity-level grouping pays off while the distinct propensities stay this few. */
 export const BY_PROPENSITY_MAX_DISTINCT = 100_000;
+
+/**
+ * Whether the cube (and the tails) group rows by propensity first: when the profile counted the
+ * propensity column's distinct values over the whole log and found few. A count over the first rows
+ * only means more than profile.ts's EXACT_DISTINCT_MAX among them: a continuous propensity.
+ */
+export function groupsByPropensity(propensity: ColumnProfile | undefined): boolean {
+  return !!propensity && propensity.distinctBasis === 'all rows' && propensity.distinct <= BY_PROPENSITY_MAX_DISTINCT;
+}
 
 const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
 
@@ -140,7 +150,6 @@ export function cubeSql(spec: CubeSpec): string {
   } else {
     ctes.push(`raw AS (\n  SELECT ${keys.join(', ')},\n    ${aggs.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM base GROUP BY ${keys.join(', ')}\n)`);
   }
-  let from = 'raw';
   if (spec.capped.length > 0) {
     for (const i of spec.capped) {
       ctes.push(`top_s${i} AS (SELECT s${i} FROM raw GROUP BY s${i} ORDER BY sum(n) DESC, s${i} LIMIT ${integer(spec.cap)})`);
@@ -152,15 +161,28 @@ export function cubeSql(spec: CubeSpec): string {
     ctes.push(`capped AS (\n  SELECT ${capKeys.join(', ')}, ${aggs.map(([a]) => a).join(', ')} FROM raw\n)`);
     const merged = aggs.map(([a, , how]) => `${how}(${a}) AS ${a}`);
     ctes.push(`merged AS (\n  SELECT ${keys.join(', ')}, ${merged.join(', ')} FROM capped GROUP BY ${keys.join(', ')}\n)`);
-    from = 'merged';
+    // the distinct values a capped column had before capping, counted exactly from the uncapped cells
+    const counts = spec.capped.map((i) => `(SELECT count(DISTINCT s${i}) FILTER (WHERE s${i} <> ${literal(NULL_LABEL)}) FROM raw)::DOUBLE AS d_s${i}`);
+    return `WITH ${ctes.join(',\n')}\nSELECT *, ${counts.join(', ')} FROM merged\nORDER BY ${keys.join(', ')}`;
   }
-  return `WITH ${ctes.join(',\n')}\nSELECT * FROM ${from}\nORDER BY ${keys.join(', ')}`;
+  return `WITH ${ctes.join(',\n')}\nSELECT * FROM raw\nORDER BY ${keys.join(', ')}`;
 }
 
 function nums(table: Table, name: string): readonly (number | null)[] {
   const j = table.names.indexOf(name);
   if (j < 0) throw new Error(`cube result lacks column ${name}`);
   return (table.columns[j] as readonly unknown[]).map((v) => (v === null ? null : Number(v)));
+}
+
+/** Distinct values of each capped segment column before capping (the cube's d_s{i} columns), by position. */
+export function parseCappedDistinct(table: Table, capped: readonly number[]): Map<number, number> {
+  const out = new Map<number, number>();
+  for (const i of capped) {
+    const j = table.names.indexOf(`d_s${i}`);
+    const v = j < 0 ? undefined : (table.columns[j] as readonly unknown[])[0];
+    if (v !== undefined && v !== null) out.set(i, Number(v));
+  }
+  return out;
 }
 
 export function parseCube(table: Table, segmentCount: number): CubeCell[] {

@@ -86,6 +86,12 @@ export interface RowExpressions {
   readonly reward: string;
   readonly bucket: string;
   readonly timeUs: string | null;
+  /**
+   * The time column itself when it is a plain TIMESTAMP: a window written against the column
+   * (`col >= TIMESTAMP '...'`) selects the same rows as one on timeUs, and lets a Parquet scan skip
+   * row groups by their statistics.
+   */
+  readonly timeColumn: string | null;
   readonly version: string | null;
   readonly targetPropensity: string | null;
   readonly decisionId: string | null;
@@ -106,6 +112,7 @@ export function rowExpressions(roles: ResolvedRoles, profile: Profile, buckets: 
     propensity: `TRY_CAST(${ident(roles.propensity)} AS DOUBLE)`,
     reward,
     timeUs,
+    timeColumn: timeUs && roles.timeEncoding === 'timestamp' && profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() === 'TIMESTAMP' ? ident(roles.time as string) : null,
     bucket: buckets && timeUs ? `coalesce(CAST(floor((${timeUs} - ${buckets.originUs}) / ${buckets.widthUs}) AS INTEGER), -1)` : '0',
     version: roles.policy_version ? textValue(roles.policy_version) : null,
     targetPropensity: roles.target_propensity ? `TRY_CAST(${ident(roles.target_propensity)} AS DOUBLE)` : null,

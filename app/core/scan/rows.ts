@@ -9,12 +9,18 @@ import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
 import type { RowExpressions } from './expressions.ts';
 
+/**
+ * Decision ids held by more than one row. The ids are sorted and each compared with the one before
+ * it (a window lag): a row equal to its predecessor is an extra copy. On 10^7 distinct ids a sort
+ * costs DuckDB less than half what a hash aggregate does (bench/NOTES.md), and only the extra
+ * copies, few in any log worth auditing, are grouped. Ids compare as text, as they are reported.
+ */
 export function duplicatesSql(relation: string, idColumn: string, examples: number): string {
   const id = ident(idColumn);
   return [
-    'WITH counts AS (',
-    `  SELECT CAST(${id} AS VARCHAR) AS id, count(*) AS c FROM ${relation} WHERE ${id} IS NOT NULL GROUP BY 1 HAVING count(*) > 1`,
-    ')',
+    'WITH extras AS (',
+    `  SELECT id FROM (SELECT id, lag(id) OVER (ORDER BY id) AS prev FROM (SELECT CAST(${id} AS VARCHAR) AS id FROM ${relation} WHERE ${id} IS NOT NULL)) WHERE id = prev`,
+    '), counts AS (SELECT id, count(*) + 1 AS c FROM extras GROUP BY 1)',
     `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${integer(Math.max(1, examples))}) AS example_ids FROM counts`,
   ].join('\n');
 }
@@ -143,37 +149,20 @@ export interface ExampleRequest {
 }
 
 /**
- * Example rows, without materialising every matching row: first DuckDB's top-n aggregate
- * min_by(key, key, n) finds, per finding, the sort keys of its first `perFinding` rows (the key puts
- * NULLs last, as ORDER BY does); then only rows whose first sort column takes one of those keys' values
- * are read back, and the first `perFinding` per finding picked from them in `orderBy` order. That set
- * holds every row the full ordering would pick, so the answer is the same. `orderBy` are expressions
- * over the log's own columns. That second read costs little on Parquet (the key columns' pages) and a
- * whole parse on CSV, so `rereadIsCheap: false` keeps to one read: every matching row, numbered per finding.
+ * Example rows: per finding, the first `perFinding` matching rows in `orderBy` order (the time role,
+ * then the decision id, where mapped). One branch per finding, each `ORDER BY ... LIMIT n`: a top-n
+ * that keeps n rows in memory, not every match. On Parquet each branch reads the file itself and
+ * skips row groups its time window rules out by their statistics. Where re-reading means re-parsing
+ * (CSV, NDJSON; `rereadIsCheap: false`), the rows matching any finding are read once into a
+ * materialised set and the branches take from it.
  */
 export function examplesSql(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[], rereadIsCheap = true): string {
-  const any = requests.map((r) => `(${r.where})`).join(' OR ');
-  const cases = requests.map((r, i) => `WHEN ${i} THEN (${r.where})`).join(' ');
-  const ids = requests.map((_, i) => `(${i})`).join(', ');
   const n = integer(perFinding);
-  const order = orderBy.length ? orderBy.map((o) => `m.${o}`).join(', ') : '1';
-  const tail = [
-    `SELECT f.__finding, m.* FROM m, (VALUES ${ids}) AS f(__finding)`,
-    `WHERE CASE f.__finding ${cases} END`,
-    `QUALIFY row_number() OVER (PARTITION BY f.__finding ORDER BY ${order}) <= ${n}`,
-    `ORDER BY f.__finding, ${order}`,
-  ];
-  const first = orderBy[0];
-  if (first === undefined || !rereadIsCheap) return [`WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${any})`, ...tail].join('\n');
-  const key = ident('cw:key');
-  const sortKey = `{${orderBy.flatMap((o, i) => [`'n${i}': (${o}) IS NULL`, `'v${i}': ${o}`]).join(', ')}}`;
-  const picks = requests.map((r) => `min_by(${key}, ${key}, ${n}) FILTER (WHERE ${r.where})`);
-  return [
-    `WITH picked AS (`,
-    `  SELECT flatten([${picks.join(',\n    ')}]) AS keys`,
-    `  FROM (SELECT ${sortKey} AS ${key}, * FROM ${relation} WHERE ${any})`,
-    `), firsts AS (SELECT DISTINCT unnest(keys).v0 AS v, unnest(keys).n0 AS is_null FROM picked),`,
-    `m AS MATERIALIZED (SELECT * FROM ${relation} WHERE (${any}) AND (${first} IN (SELECT v FROM firsts WHERE NOT is_null) OR (${first} IS NULL AND (SELECT coalesce(bool_or(is_null), false) FROM firsts))))`,
-    ...tail,
-  ].join('\n');
+  const from = rereadIsCheap ? relation : 'm';
+  const order = orderBy.length ? ` ORDER BY ${orderBy.join(', ')}` : '';
+  const branches = requests.map((r, i) => `(SELECT ${i} AS __finding, * FROM ${from} WHERE (${r.where})${order} LIMIT ${n})`);
+  const union = `SELECT * FROM (\n${branches.join('\nUNION ALL\n')}\n)\nORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`;
+  if (rereadIsCheap) return union;
+  const any = requests.map((r) => `(${r.where})`).join(' OR ');
+  return `WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${any})\n${union}`;
 }

@@ -20,3 +20,13 @@ export function integer(value: number): string {
   if (!Number.isSafeInteger(value)) throw new Error(`not a safe integer: ${value}`);
   return String(value);
 }
+
+/** A TIMESTAMP literal for microseconds since the Unix epoch (UTC), to the microsecond. */
+export function timestamp(us: number): string {
+  if (!Number.isSafeInteger(us)) throw new Error(`not a whole number of microseconds: ${us}`);
+  const ms = Math.floor(us / 1000);
+  // safe integers of microseconds span the years 1684-2255, which toISOString writes as YYYY-MM-DD
+  const iso = new Date(ms).toISOString();
+  const micro = String(us - ms * 1000).padStart(3, '0');
+  return `TIMESTAMP '${iso.slice(0, 10)} ${iso.slice(11, 23)}${micro}'`;
+}

@@ -54,7 +54,16 @@ function logSumExp(values: readonly number[]): number {
 /** Profile log-likelihood per observation of the generalized Pareto at θ (Zhang & Stephens 2009; loo's lx). */
 function profileLogLik(theta: number, x: readonly number[]): number {
   const a = -theta;
-  const k = mean(x.map((xi) => Math.log1p(a * xi)));
+  // mean(x.map(log1p(a·x))) with compensatedSum's steps inlined: the grid makes this the inner loop of the fit
+  let sum = 0;
+  let compensation = 0;
+  for (let i = 0; i < x.length; i++) {
+    const v = Math.log1p(a * (x[i] as number));
+    const t = sum + v;
+    compensation += Math.abs(sum) >= Math.abs(v) ? sum - t + v : v - t + sum;
+    sum = t;
+  }
+  const k = (sum + compensation) / x.length;
   return Math.log(a / k) - k - 1;
 }
 
@@ -114,14 +123,19 @@ function isConstant(ascending: readonly number[]): boolean {
   return Math.abs((ascending[ascending.length - 1] as number) - (ascending[0] as number)) < Number.EPSILON / 100;
 }
 
+/** The generalized Pareto fit of the tail's exceedances over the cutoff (the fit in loo's psis_smooth_tail). */
+function fitTail(tailAscending: readonly number[], expCutoff: number): GpdFit {
+  return gpdFit(
+    tailAscending.map((v) => Math.exp(v) - expCutoff),
+    { sortX: false },
+  );
+}
+
 /** Fits the tail (ascending log weights shifted by the overall max) above the cutoff (loo's psis_smooth_tail). */
 function smoothTail(tailAscending: readonly number[], cutoff: number): { tail: readonly number[]; k: number } {
   const len = tailAscending.length;
   const expCutoff = Math.exp(cutoff);
-  const fit = gpdFit(
-    tailAscending.map((v) => Math.exp(v) - expCutoff),
-    { sortX: false },
-  );
+  const fit = fitTail(tailAscending, expCutoff);
   if (!Number.isFinite(fit.k)) return { tail: tailAscending, k: fit.k };
   const tail = tailAscending.map((_, i) => Math.log(gpdQuantile((i + 1 - 0.5) / len, fit.k, fit.sigma) + expCutoff));
   return { tail, k: fit.k };
@@ -187,5 +201,5 @@ export function psisKhatFromTail(largestLogWeightsDescending: readonly number[],
   const shifted = used.map((v) => v - max);
   const tailAscending = shifted.slice(0, tailLength).reverse();
   if (isConstant(tailAscending)) return Infinity;
-  return smoothTail(tailAscending, shifted[tailLength] as number).k;
+  return fitTail(tailAscending, Math.exp(shifted[tailLength] as number)).k;
 }

@@ -4,7 +4,7 @@
  * For a target given per (segment, action), w = q(s, a)/p, so Σw = q·Σ1/p and Σw² = q²·Σ1/p² per cell
  * (DESIGN.md §4).
  */
-import { rollup, segmentKey, SEP, type Totals } from '../cube/rollup.ts';
+import { cellKeys, rollup, segmentKey, SEP, total, type Totals } from '../cube/rollup.ts';
 import type { CubeCell, EstimatorCell } from '../cube/types.ts';
 import { NULL_LABEL } from '../scan/expressions.ts';
 import type { TargetPolicy } from './targets.ts';
@@ -27,11 +27,22 @@ export interface CubeView {
   readonly segments: readonly SegmentTotals[];
   readonly actions: readonly string[];
   readonly rows: number;
+  /** segmentKey(c.segment) of a cube cell, joined once per cell of the view's cube */
+  readonly segmentKeyOf: (c: CubeCell) => string;
+  /** total(cells) of the view's cube */
+  readonly total: Totals;
 }
 
 export function cubeView(cells: readonly CubeCell[], segmentColumns: readonly string[]): CubeView {
-  const sa = rollup(cells, (c) => `${segmentKey(c.segment)}${SEP}${SEP}${c.action}`, (c) => ({ segment: c.segment, action: c.action }));
-  const seg = rollup(cells, (c) => segmentKey(c.segment), (c) => c.segment);
+  const keys = cellKeys(cells);
+  const index = new Map<CubeCell, number>();
+  cells.forEach((c, i) => index.set(c, i));
+  const segmentKeyOf = (c: CubeCell) => {
+    const i = index.get(c);
+    return i === undefined ? segmentKey(c.segment) : (keys.segment[i] as string);
+  };
+  const sa = rollup(cells, (_c, i) => keys.cell[i] as string, (c) => ({ segment: c.segment, action: c.action }));
+  const seg = rollup(cells, (_c, i) => keys.segment[i] as string, (c) => c.segment);
   const actions = [...new Set(cells.map((c) => c.action))].filter((a) => a !== NULL_LABEL).sort();
   const rows = seg.reduce((s, g) => s + g.totals.n, 0);
   return {
@@ -40,6 +51,8 @@ export function cubeView(cells: readonly CubeCell[], segmentColumns: readonly st
     segments: seg.map((g) => ({ segment: g.meta, totals: g.totals })),
     actions,
     rows,
+    segmentKeyOf,
+    total: total(cells),
   };
 }
 

@@ -1,11 +1,16 @@
 /**
  * The engine host's request handling, independent of what carries the messages. Cancel and ping are
- * answered at once; register and query run on the engine in arrival order (the engine serialises them).
+ * answered at once; register, query and the queries of an audit run on the engine in arrival order
+ * (the engine serialises them). An audit runs app/core's audit here, next to the log, and sends back
+ * the report and the cube (DESIGN.md §2).
  */
+import { AuditCancelled, runAuditDetailed } from '../../core/audit.ts';
+import { cubeToArrowIpc } from '../cube-arrow.ts';
 import { toEngineError } from '../errors.ts';
 import type { NativeEngine } from '../native.ts';
 import { EngineError } from '../types.ts';
-import { encodeTable, parseHostMessage, PROTOCOL_VERSION, ProtocolError } from './protocol.ts';
+import { toBase64 } from './base64.ts';
+import { encodeReport, encodeTable, isRequest, parseHostMessage, PROTOCOL_VERSION, ProtocolError } from './protocol.ts';
 import type { HostReply, HostRequest } from './protocol.ts';
 import type { Transport } from './transport.ts';
 
@@ -24,14 +29,44 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
     reply({ kind: 'error', id, code: e.code, message: e.message });
   };
 
+  /** Running audits by request id; a cancel naming one sets its flag, which the audit checks between stages. */
+  const audits = new Map<number, { aborted: boolean }>();
+
+  async function audit(request: Extract<HostRequest, { kind: 'audit' }>): Promise<void> {
+    const { id } = request;
+    const signal = { aborted: false };
+    audits.set(id, signal);
+    try {
+      const { report, cells } = await runAuditDetailed((sql) => engine.query(sql), {
+        ...request.request,
+        onProgress: (p) => reply({ kind: 'audit-progress', id, stage: p.stage, ...(p.done ? { done: true as const } : {}) }),
+        signal,
+      });
+      if (signal.aborted) throw new AuditCancelled();
+      reply({ kind: 'audit-result', id, report: encodeReport(report), cube: toBase64(cubeToArrowIpc(cells)) });
+    } catch (error) {
+      if (signal.aborted || error instanceof AuditCancelled) throw new EngineError('cancelled', 'The audit was cancelled.');
+      // The core's own errors (a role that names no column, a malformed target table) keep their words.
+      throw error instanceof EngineError ? error : new EngineError('internal', error instanceof Error ? error.message : String(error));
+    } finally {
+      audits.delete(id);
+    }
+  }
+
   async function handle(request: HostRequest): Promise<void> {
     switch (request.kind) {
       case 'ping':
         reply({ kind: 'pong', id: request.id, protocol: PROTOCOL_VERSION });
         return;
-      case 'cancel':
+      case 'cancel': {
+        const target = request.target === undefined ? undefined : audits.get(request.target);
+        if (target) target.aborted = true;
         await engine.cancel();
         reply({ kind: 'done', id: request.id });
+        return;
+      }
+      case 'audit':
+        await audit(request);
         return;
       case 'register':
         reply({ kind: 'registered', id: request.id, source: await engine.register(request.source) });
@@ -63,7 +98,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
     let request: HostRequest;
     try {
       const message = parseHostMessage(raw);
-      if (message.kind !== 'register' && message.kind !== 'query' && message.kind !== 'cancel' && message.kind !== 'close' && message.kind !== 'ping') {
+      if (!isRequest(message)) {
         throw new ProtocolError(`Malformed engine host message: the host accepts requests only, not "${message.kind}".`);
       }
       request = message;

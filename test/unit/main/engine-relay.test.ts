@@ -63,6 +63,18 @@ describe('startEngineRelay', () => {
     expect(await next).toBe(1);
   });
 
+  it('keeps an audit waiting through its progress, and fails it with "closed" if the host dies before the result', async () => {
+    const { client, current } = relayHarness();
+    const stages: string[] = [];
+    const pending = client.audit({ relation: '"src_1"', input: { files: [], format: 'parquet' }, engine: 'host' }, (p) => stages.push(`${p.stage}${p.done ? ' done' : ''}`));
+    expect(current().posted).toEqual([{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' }, engine: 'host' } }]);
+    current().emit('message', { kind: 'audit-progress', id: 1, stage: 'profile' });
+    current().emit('message', { kind: 'audit-progress', id: 1, stage: 'profile', done: true });
+    current().emit('exit', 139);
+    await expect(pending).rejects.toMatchObject({ code: 'closed' });
+    expect(stages).toEqual(['profile', 'profile done']);
+  });
+
   it('drops replies from the host that are not protocol replies', () => {
     const { current, statuses, relayed } = relayHarness();
     current().emit('spawn');

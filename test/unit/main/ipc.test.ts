@@ -29,6 +29,9 @@ describe('validateIpc', () => {
     ['engine:send', [{ kind: 'drop-tables', id: 1 }], /unknown kind/],
     ['engine:send', [{ kind: 'pong', id: 1, protocol: 1 }], /is a reply/],
     ['engine:send', [{ kind: 'register', id: 1, source: { kind: 'file', files: [] } }], /path source/],
+    ['engine:send', [{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' } } }], /"request.engine" must be a string/],
+    ['engine:send', [{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' }, engine: 'host', roles: { action: 1 } } }], /"request.roles.action" must be a column name or null/],
+    ['engine:send', [{ kind: 'audit-progress', id: 1, stage: 'cube' }], /is a reply/],
   ] as const)('rejects %s with malformed arguments %j', (channel, args, message) => {
     let thrown: unknown;
     try {
@@ -54,6 +57,8 @@ describe('validateIpc', () => {
     ['engine:send', [{ kind: 'ping', id: 3 }]],
     ['engine:send', [{ kind: 'query', id: 4, sql: 'select 42' }]],
     ['engine:send', [{ kind: 'register', id: 5, source: { kind: 'path', paths: ['/data/a.parquet'], format: 'parquet' } }]],
+    ['engine:send', [{ kind: 'audit', id: 6, request: { relation: '"src_1"', input: { files: [{ path: '/data/a.parquet', bytes: 10, sha256: 'ab' }], format: 'parquet' }, roles: { action: 'promotion', segments: ['region'] }, targets: [{ spec: 'uniform' }], settings: { 'segments.cap': 50 }, engine: 'host' } }]],
+    ['engine:send', [{ kind: 'cancel', id: 7, target: 6 }]],
     ['engine:status', []],
   ] as const)('accepts %s %j unchanged', (channel, args) => {
     expect(validateIpc(channel, args)).toEqual({ channel, args });
@@ -122,6 +127,8 @@ describe('engine messages', () => {
 
   it('relays only replies from the host', () => {
     expect(parseHostReply({ kind: 'pong', id: 1, protocol: 1 })).toEqual({ kind: 'pong', id: 1, protocol: 1 });
+    expect(parseHostReply({ kind: 'audit-progress', id: 2, stage: 'tails', done: true })).toEqual({ kind: 'audit-progress', id: 2, stage: 'tails', done: true });
+    expect(() => parseHostReply({ kind: 'audit', id: 3, request: { relation: '"src_1"', input: { files: [], format: 'csv' }, engine: 'host' } })).toThrow(/is a request/);
     expect(() => parseHostReply({ kind: 'query', id: 1, sql: 'select 1' })).toThrow(/is a request/);
     expect(() => parseHostReply('pong')).toThrow(/expected an object/);
   });
