@@ -40,7 +40,7 @@ export interface Finding {
   readonly status: Exclude<Status, 'skipped' | 'pass'> | 'pass';
   readonly metrics: Metrics;
   readonly message: string;
-  /** Up to a few example rows behind the finding, values as the engine returned them. */
+  /** The earliest rows behind the finding (by time, then decision id), up to examples.per_finding, values as the engine returned them. */
   readonly examples?: readonly Record<string, Cell>[];
   /** SQL that selects the rows behind the finding from the source, for re-running. */
   readonly sql?: string;
