@@ -1,1 +1,0 @@
-DESCRIBE SELECT * FROM src
