@@ -6,6 +6,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { runAudit } from '../app/core/audit.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 const V9 = new URL('../sample-data/maple-row-v9-policy.csv', import.meta.url).pathname;
+if (!process.argv[2] || !process.argv[3]) throw new Error('usage: bench/dump-queries.ts <log> <prefix>');
 const engine = await createNativeEngine();
 const src = await engine.register({ kind: 'path', paths: [process.argv[2]!] });
 const r = await runAudit((sql) => engine.query(sql), { relation: src.relation, input: { files: [], format: src.format }, engine: 'native', targets: [{ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }] });
