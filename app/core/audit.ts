@@ -12,7 +12,7 @@ import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
-import { cubeGroupsSql, cubeSql, dropGroupsSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
+import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
@@ -141,40 +141,30 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const propensityProfile = profile.columns.find((c) => c.name === roles.propensity);
   const byPropensity = groupsByPropensity(propensityProfile);
   let targets: TargetAnalysis[] = [];
-  // the propensity-grouped plan keeps its (cell keys, p) groups for the tails: one read of the log for both
-  const groups = rowsExpr && byPropensity && !rowsExpr.targetPropensity ? ident('cw:cube groups') : undefined;
-  const spec = rowsExpr ? { relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, ...(groups ? { groupsTable: groups } : {}) } : null;
-  let view = cubeView(cells, segmentColumns);
-  try {
-    guard();
-    if (spec) {
-      progress('cube');
-      if (groups) await run(record('cube groups', cubeGroupsSql(spec, groups), true));
-      const cube = await run(record('cube', cubeSql(spec), !groups));
-      cells = parseCube(cube, segmentColumns.length);
-      for (const [i, distinct] of parseCappedDistinct(cube, capped)) {
-        const c = segmentColumns[i] as string;
-        caps[c] = { distinct, kept: cap };
-      }
-      view = cubeView(cells, segmentColumns);
-      progress('cube', true);
+  guard();
+  if (rowsExpr) {
+    progress('cube');
+    const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity }), true));
+    cells = parseCube(cube, segmentColumns.length);
+    for (const [i, distinct] of parseCappedDistinct(cube, capped)) {
+      const c = segmentColumns[i] as string;
+      caps[c] = { distinct, kept: cap };
     }
-    guard();
-    progress('tails');
-    if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
-    if (rowsExpr) {
-      const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
-      targets = policies.map((p) => analyseTarget(p, view));
-      for (const t of targets) {
-        guard();
-        if (t.n < 2) continue;
-        const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-        const fromGroups = !!groups && t.target.kind !== 'column';
-        tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity, groups), !fromGroups))));
-      }
+    progress('cube', true);
+  }
+  const view = cubeView(cells, segmentColumns);
+  guard();
+  progress('tails');
+  if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
+  if (rowsExpr) {
+    const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
+    targets = policies.map((p) => analyseTarget(p, view));
+    for (const t of targets) {
+      guard();
+      if (t.n < 2) continue;
+      const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
+      tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
     }
-  } finally {
-    if (groups) await run(dropGroupsSql(groups)).catch(() => undefined);
   }
   progress('tails', true);
   guard();

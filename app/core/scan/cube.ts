@@ -23,11 +23,6 @@ export interface CubeSpec {
    * of two dozen). Ignored when a target-propensity column is mapped.
    */
   readonly byPropensity?: boolean;
-  /**
-   * With byPropensity: read the (cell keys, p) groups from this table, written by cubeGroupsSql, instead
-   * of grouping the log's rows here; the tails then read the same table (rows.ts tailSql).
-   */
-  readonly groupsTable?: string;
 }
 
 /** Propensity-level grouping pays off while the distinct propensities stay this few. */
@@ -130,9 +125,11 @@ function byPropensityAggregates(spec: CubeSpec): [string, string][] {
   ];
 }
 
-/** The per-row expressions every cube plan starts from, named s0.., a, v, b, p, r (and q). */
-function baseColumns(rows: RowExpressions): string[] {
-  return [
+export function cubeSql(spec: CubeSpec): string {
+  const { rows } = spec;
+  const segs = rows.segments.map((_, i) => `s${i}`);
+  const keys = [...segs, 'a', 'v', 'b'];
+  const base = [
     ...rows.segments.map((e, i) => `${e} AS s${i}`),
     `${rows.action} AS a`,
     `${rows.version ?? "''"} AS v`,
@@ -141,47 +138,17 @@ function baseColumns(rows: RowExpressions): string[] {
     `${rows.reward} AS r`,
     ...(rows.targetPropensity ? [`${rows.targetPropensity} AS q`] : []),
   ];
-}
-
-const cellKeys = (rows: RowExpressions) => [...rows.segments.map((_, i) => `s${i}`), 'a', 'v', 'b'];
-
-/** The log's rows grouped by (cell keys, p): count, count of finite rewards, their Σr and Σr². */
-function groupsSelect(spec: CubeSpec): string {
-  const keys = cellKeys(spec.rows);
-  return `SELECT ${keys.join(', ')}, p, count(*)::DOUBLE AS c, count(rr)::DOUBLE AS c_r, coalesce(sum(rr), 0)::DOUBLE AS s_r, coalesce(sum(rr * rr), 0)::DOUBLE AS s_r2\n`
-    + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r END AS rr FROM (SELECT ${baseColumns(spec.rows).join(', ')} FROM ${spec.relation}) AS base) GROUP BY ${keys.join(', ')}, p`;
-}
-
-/**
- * The one scan of the propensity-grouped plan, kept as a temporary table so that the cube and every
- * table/uniform/always tail are computed from it without reading the log again (a tail's weight
- * q(s, a)/p is a function of the cell keys and p). Drop it with dropGroupsSql when the audit ends.
- */
-export function cubeGroupsSql(spec: CubeSpec, table: string): string {
-  return `CREATE OR REPLACE TEMP TABLE ${table} AS\n${groupsSelect(spec)}`;
-}
-
-export function dropGroupsSql(table: string): string {
-  return `DROP TABLE IF EXISTS ${table}`;
-}
-
-export function cubeSql(spec: CubeSpec): string {
-  const { rows } = spec;
-  const segs = rows.segments.map((_, i) => `s${i}`);
-  const keys = cellKeys(rows);
   const aggs = aggregates(spec);
-  const ctes: string[] = [];
+  const ctes = [`base AS (\n  SELECT ${base.join(', ')}\n  FROM ${spec.relation}\n)`];
   if (spec.byPropensity && !rows.targetPropensity) {
     const fine = byPropensityAggregates(spec);
     ctes.push(
-      spec.groupsTable ? `by_p AS (SELECT * FROM ${spec.groupsTable})` : `by_p AS (\n  ${groupsSelect(spec)}\n)`,
+      `by_p AS (\n  SELECT ${keys.join(', ')}, p, count(*)::DOUBLE AS c, count(rr)::DOUBLE AS c_r, coalesce(sum(rr), 0)::DOUBLE AS s_r, coalesce(sum(rr * rr), 0)::DOUBLE AS s_r2\n`
+        + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r END AS rr FROM base) GROUP BY ${keys.join(', ')}, p\n)`,
       `raw AS (\n  SELECT ${keys.join(', ')},\n    ${fine.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM by_p GROUP BY ${keys.join(', ')}\n)`,
     );
   } else {
-    ctes.push(
-      `base AS (\n  SELECT ${baseColumns(rows).join(', ')}\n  FROM ${spec.relation}\n)`,
-      `raw AS (\n  SELECT ${keys.join(', ')},\n    ${aggs.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM base GROUP BY ${keys.join(', ')}\n)`,
-    );
+    ctes.push(`raw AS (\n  SELECT ${keys.join(', ')},\n    ${aggs.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM base GROUP BY ${keys.join(', ')}\n)`);
   }
   if (spec.capped.length > 0) {
     for (const i of spec.capped) {

@@ -79,8 +79,8 @@ export const LOG10_BIN = 0.1;
 /** The row's propensity, under a name no log column has (a log may well have a column called "p"). */
 const P = ident('cw:p');
 
-export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false, groupsTable?: string): string {
-  if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit, groupsTable);
+export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false): string {
+  if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit);
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   return [
     `WITH w AS MATERIALIZED (`,
@@ -98,25 +98,19 @@ export function tailSql(relation: string, rows: RowExpressions, target: TargetPo
  * The same answer as tailSql, row for row, for a target whose q depends on segment and action only:
  * a row's weight q(s, a) / p is a function of (s, a, p), so rows are counted per (s, a, p) first, the
  * weights computed once per group, and the largest `limit` weights listed with their multiplicity.
- * Cheap when propensities take few distinct values. With `groupsTable` (scan/cube.ts cubeGroupsSql:
- * the log's rows counted per cell keys and p, segments as s{i}, the action as a) the counts come from
- * that table and the log is not read again.
+ * Cheap when propensities take few distinct values.
  */
-function tailByPropensitySql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, groupsTable?: string): string {
+function tailByPropensitySql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): string {
   const segAlias = rows.segments.map((_, i) => ident(`cw:s${i}`));
   const actionAlias = ident('cw:a0');
   const { expr, join } = qExpression(target, { ...rows, segments: segAlias, action: actionAlias }, segmentColumns, actions);
   const used = target.kind === 'table' ? target.keyColumns.map((c) => segmentColumns.indexOf(c)) : [];
   const keys = [...used.map((i) => `${rows.segments[i]} AS ${segAlias[i]}`), `${rows.action} AS ${actionAlias}`];
   const cap = integer(limit);
-  const counted = groupsTable
-    ? [`  SELECT ${[...used.map((i) => `s${i} AS ${segAlias[i]}`), `a AS ${actionAlias}`].join(', ')}, p AS ${P}, sum(c)::DOUBLE AS c FROM ${groupsTable}`,
-      `  WHERE (p > 0 AND p <= 1 AND NOT isnan(p)) GROUP BY ALL`]
-    : [`  SELECT ${keys.join(', ')}, ${P}, count(*)::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
-      `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P})) GROUP BY ALL`];
   return [
     `WITH g AS (`,
-    ...counted,
+    `  SELECT ${keys.join(', ')}, ${P}, count(*)::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
+    `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P})) GROUP BY ALL`,
     `), w AS (SELECT (${expr}) / ${P} AS w, c FROM g ${join}),`,
     `pos AS (SELECT w, sum(c) AS c FROM w WHERE w > 0 AND isfinite(w) GROUP BY w),`,
     `ranked AS (SELECT w, c, coalesce(sum(c) OVER (ORDER BY w DESC ROWS BETWEEN UNBOUNDED PRECEDING AND 1 PRECEDING), 0) AS before FROM pos),`,
