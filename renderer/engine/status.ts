@@ -17,7 +17,7 @@ export interface OpenedSource {
   readonly scanSql: string;
   readonly format: SourceFormat;
   readonly files: readonly InputFile[];
-  /** The core's one-scan profile: rows, types, approximate distinct values per column. */
+  /** The core's profile (scan/profile.ts profileLog): rows, types, distinct values per column (exact, or over the first rows where labelled). */
   readonly profile: Profile;
   readonly suggestions: readonly RoleSuggestion[];
 }
