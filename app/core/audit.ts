@@ -13,6 +13,7 @@ import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputF
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
 import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
+import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
@@ -268,7 +269,7 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
       const { where, ...rest } = f as DraftFinding;
       const k = wanted.findIndex((w) => w.check === ci && w.finding === fi);
       const examples = k >= 0 ? byRequest.get(k) ?? [] : empty.has(`${ci}/${fi}`) ? [] : undefined;
-      return { ...rest, ...(where ? { sql: `SELECT * FROM ${relation} WHERE ${where}` } : {}), ...(examples ? { examples } : {}) };
+      return { ...rest, ...(where ? { sql: findingSql(relation, where) } : {}), ...(examples ? { examples } : {}) };
     }),
   }));
 }

@@ -66,26 +66,23 @@ export function createSignoff(report: JsonObject, request: SignRequest): Signoff
   };
 }
 
-export function loadPrivateKey(pem: string): KeyObject {
+function loadEd25519(pem: string, kind: 'private' | 'public'): KeyObject {
   let key: KeyObject;
   try {
-    key = createPrivateKey({ key: pem, format: 'pem' });
+    key = (kind === 'private' ? createPrivateKey : createPublicKey)({ key: pem, format: 'pem' });
   } catch (error) {
-    throw new Error(`not a PEM private key (${(error as Error).message})`);
+    throw new Error(`not a PEM ${kind} key (${(error as Error).message})`);
   }
   if (key.asymmetricKeyType !== 'ed25519') throw new Error(`the key is ${key.asymmetricKeyType ?? 'not asymmetric'}, not ed25519`);
   return key;
 }
 
+export function loadPrivateKey(pem: string): KeyObject {
+  return loadEd25519(pem, 'private');
+}
+
 export function loadPublicKey(pem: string): KeyObject {
-  let key: KeyObject;
-  try {
-    key = createPublicKey({ key: pem, format: 'pem' });
-  } catch (error) {
-    throw new Error(`not a PEM public key (${(error as Error).message})`);
-  }
-  if (key.asymmetricKeyType !== 'ed25519') throw new Error(`the key is ${key.asymmetricKeyType ?? 'not asymmetric'}, not ed25519`);
-  return key;
+  return loadEd25519(pem, 'public');
 }
 
 export function publicKeyBase64(key: KeyObject): string {

@@ -251,11 +251,15 @@ export function cursorAfter(orderColumns: readonly string[], page: Table, before
   return { key, types: idx.map((j) => page.types[j] ?? ''), tied };
 }
 
-/**
- * The predicate of a finding's re-runnable SQL, which the audit writes as `SELECT * FROM <relation>
- * WHERE <predicate>` (app/core/audit.ts); null for SQL of any other shape or over another relation.
- */
+const findingSqlPrefix = (relation: string) => `SELECT * FROM ${relation} WHERE `;
+
+/** A finding's re-runnable SQL (report findings' `sql`): every row of the relation its predicate selects. */
+export function findingSql(relation: string, where: string): string {
+  return `${findingSqlPrefix(relation)}${where}`;
+}
+
+/** The predicate back from findingSql's text; null for SQL of any other shape or over another relation. */
 export function findingWhere(sql: string | undefined, relation: string): string | null {
-  const prefix = `SELECT * FROM ${relation} WHERE `;
+  const prefix = findingSqlPrefix(relation);
   return sql !== undefined && sql.startsWith(prefix) && sql.length > prefix.length ? sql.slice(prefix.length) : null;
 }

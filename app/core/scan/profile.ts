@@ -66,11 +66,9 @@ export const EXACT_DISTINCT_MAX = 10_000;
 
 /** How the whole-log query measures one column. */
 export interface ColumnPlan {
-  /** counted per distinct value: every figure exact and cheap, for a column of few values */
+  /** counted per distinct value: every figure exact and cheap, for a column of few values; otherwise row by row, without a distinct count */
   readonly byValue: boolean;
-  /** row by row: count distinct values */
-  readonly distinct: boolean;
-  /** row by row, text only: screen for numbers and timestamps */
+  /** row by row, text only: screen for numbers and timestamps (by value, text is always screened) */
   readonly screen: boolean;
 }
 
@@ -118,7 +116,7 @@ const derived = (j: number, what: 'd' | 't' | 'g' | 'k') => ident(`cw:${what}${j
 const COUNT = ident('cw:n');
 
 /** Every figure for every column, exactly, from value counts: the first-rows query, and a complete profile of a small log. */
-export const FULL_PLAN: ColumnPlan = { byValue: true, distinct: true, screen: true };
+export const FULL_PLAN: ColumnPlan = { byValue: true, screen: true };
 
 /**
  * How one column's aggregates read: row by row (`count(*) FILTER (...)`), or over its value counts
@@ -129,7 +127,6 @@ interface Reader {
   nonNull(x: string): string;
   min(x: string, cond?: string): string;
   max(x: string, cond?: string): string;
-  distinct(col: string): string;
 }
 
 const rowReader: Reader = {
@@ -137,7 +134,6 @@ const rowReader: Reader = {
   nonNull: (x) => `count(${x})`,
   min: (x, cond) => `min(${x})${cond ? ` FILTER (WHERE ${cond})` : ''}`,
   max: (x, cond) => `max(${x})${cond ? ` FILTER (WHERE ${cond})` : ''}`,
-  distinct: (col) => `count(DISTINCT ${col})`,
 };
 
 /** Over one column's rows of the value counts: each row a distinct value and its count `cw:n`. */
@@ -146,7 +142,6 @@ const valueReader: Reader = {
   nonNull: (x) => `coalesce(sum(${COUNT}) FILTER (WHERE ${x} IS NOT NULL), 0)`,
   min: rowReader.min,
   max: rowReader.max,
-  distinct: (col) => `count(${col})`,
 };
 
 /** One column's aggregates and the per-row (or per-value) expressions they read. */
@@ -158,7 +153,8 @@ function columnParts(c: ColumnInfo, j: number, plan: ColumnPlan, read: Reader): 
   const d = derived(j, 'd');
   const t = derived(j, 't');
   const parts = [`${read.nonNull(col)}::DOUBLE AS "c${j}_nn"`];
-  if (kind !== 'other' && (plan.byValue || plan.distinct)) parts.push(`${read.distinct(col)}::DOUBLE AS "c${j}_nd"`);
+  // over value counts, each row is one value: counting the non-null ones counts the distinct values
+  if (kind !== 'other' && plan.byValue) parts.push(`count(${col})::DOUBLE AS "c${j}_nd"`);
   if (kind === 'numeric') {
     inner.push(`CAST(${col} AS DOUBLE) AS ${d}`);
     parts.push(
@@ -207,9 +203,8 @@ function aggregateOver(source: string, parts: readonly string[], inner: readonly
  * One statement over `relation` (a relation name or a parenthesised subquery). Columns planned
  * `byValue` are counted once per distinct value in one GROUPING SETS aggregate and every figure
  * follows from those counts, exactly (a figure over rows is a sum of value counts); text screens then
- * run once per value, not per row. The other columns are read row by row, counting distinct values
- * (count(DISTINCT)) and screening text only where their plan asks. `c{j}_sc` counts the text values
- * passing mayParse.
+ * run once per value, not per row. The other columns are read row by row, without a distinct count,
+ * screening text only where their plan asks. `c{j}_sc` counts the text values passing mayParse.
  */
 export function profileSql(relation: string, columns: readonly ColumnInfo[], plans: readonly ColumnPlan[] = columns.map(() => FULL_PLAN)): string {
   const rows = { parts: ['count(*)::DOUBLE AS "rows"'], inner: [] as string[], screens: [] as string[] };
@@ -293,7 +288,6 @@ export function prefixSql(relation: string, rows = PREFIX_ROWS): string {
 export function planFromPrefix(prefix: Profile, screened: readonly number[]): ColumnPlan[] {
   return prefix.columns.map((c, j) => ({
     byValue: c.kind !== 'other' && c.distinct <= EXACT_DISTINCT_MAX && c.distinct <= Math.max(1, 0.5 * c.nonNull),
-    distinct: false,
     screen: c.kind === 'text' && (screened[j] ?? 0) > 0,
   }));
 }
@@ -305,22 +299,12 @@ export function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly C
     columns: whole.columns.map((c, j) => {
       const plan = plans[j] ?? FULL_PLAN;
       const first = prefix.columns[j] as ColumnProfile;
-      const distinct = plan.byValue || plan.distinct
+      const distinct = plan.byValue
         ? { distinct: c.distinct, distinctBasis: 'all rows' as const, distinctRows: whole.rows }
         : { distinct: first.distinct, distinctBasis: 'first rows' as const, distinctRows: prefix.rows };
       if (c.kind !== 'text' || plan.byValue || plan.screen) return { ...c, ...distinct };
-      return {
-        ...c,
-        ...distinct,
-        parsedAsNumber: 0,
-        parsedAsTime: 0,
-        decimalComma: 0,
-        parseBasis: 'first rows' as const,
-        min: null,
-        max: null,
-        minTimeUs: null,
-        maxTimeUs: null,
-      };
+      // unscreened text has no parse counts or parsed ranges (all 0 and null): they describe the first rows
+      return { ...c, ...distinct, parseBasis: 'first rows' as const };
     }),
   };
 }
