@@ -1,6 +1,6 @@
 import { defineConfig } from '@playwright/test';
 
-const PORT = 5179;
+import { PAGE_PORT as PORT } from './test/browser/page-origin.ts';
 
 export default defineConfig({
   testDir: 'test/browser',

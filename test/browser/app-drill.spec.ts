@@ -17,7 +17,7 @@ import { formatValue } from '../../renderer/format.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
-const PAGE_ORIGIN = 'http://127.0.0.1:5179';
+import { PAGE_ORIGIN } from './page-origin.ts';
 
 // The generator's record of the unexplored cell (sample-data/maple-row-demo.manifest.json).
 const manifest = JSON.parse(readFileSync(path.join(SAMPLE, 'maple-row-demo.manifest.json'), 'utf8')) as { defects: { kind: string; segment: Record<string, string>; action?: string; rows_affected?: number }[] };

@@ -20,7 +20,7 @@ const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
 const DEMO_PARQUET = path.join(SAMPLE, 'maple-row-demo.parquet');
 const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
-const PAGE_ORIGIN = 'http://127.0.0.1:5179';
+import { PAGE_ORIGIN } from './page-origin.ts';
 
 interface Manifest {
   defects: { kind: string; segment: Record<string, string>; action?: string; rows_affected?: number; magnitude: Record<string, number> }[];

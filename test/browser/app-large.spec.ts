@@ -16,7 +16,7 @@ const ROOT = process.cwd();
 const CACHE = path.join(os.tmpdir(), 'counterweight-large');
 const CSV_ROWS = Number(process.env.CW_LARGE_CSV_ROWS ?? 5_000_000);
 const PARQUET_ROWS = 10_000_000;
-const PAGE_ORIGIN = 'http://127.0.0.1:5179';
+import { PAGE_ORIGIN } from './page-origin.ts';
 
 /** The generator's demo log of `rows` decisions, generated once into the cache. */
 async function demoLog(rows: number, format: 'csv' | 'parquet'): Promise<string> {
