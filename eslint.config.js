@@ -2,7 +2,7 @@ import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 import globals from 'globals';
 
-// Layer rules (DESIGN.md §2): app/core and app/charts are pure. They may not reach Node, the DOM,
+// Layer rules (DEVELOPERS.md, "Layer rules"): app/core and app/charts are pure. They may not reach Node, the DOM,
 // Electron, an engine, Arrow, React or ECharts; tsconfig in app/core removes the DOM and Node types too.
 const pureLayerBans = {
   paths: ['fs', 'path', 'os', 'crypto', 'child_process', 'worker_threads', 'stream', 'url', 'util', 'http', 'https', 'net', 'zlib',

@@ -1,5 +1,5 @@
 /**
- * Writes the Maple Row Market sample data (DESIGN.md §7): the demo and clean decision logs as CSV and
+ * Writes the Maple Row Market sample data (sample-data/README.md): the demo and clean decision logs as CSV and
  * Parquet, their manifests, and the candidate policy table v9.
  *
  *   node --import tsx sample-data/generate.ts [--rows N] [--out DIR] [--seed S] [--formats parquet,csv]

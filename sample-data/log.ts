@@ -29,7 +29,7 @@ export const LOG_COLUMNS: readonly { name: string; type: string }[] = [
   { name: 'policy_version', type: 'VARCHAR' },
 ];
 
-/** Where the demo log's non-policy defects sit (DESIGN.md §7). */
+/** Where the demo log's non-policy defects sit (sample-data/README.md). */
 export const DEMO_PLAN = {
   rangeDevice: deviceIndex('android'),
   rangeFromMs: dayStartMs(9),

@@ -5,7 +5,7 @@ import { DEMO_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8 } from './policy.ts';
 import { DAYS, DEVICES, END_MS, PROMOTIONS, REGIONS, START_MS, TENURES, V8_FROM_MS } from './scenario.ts';
 
 export interface PlantedDefect {
-  /** The check (DESIGN.md §5) that should detect it. */
+  /** The check (README.md, "What the audit checks") that should detect it. */
   kind: string;
   /** Other checks expected to notice it too. */
   also_detected_by: string[];

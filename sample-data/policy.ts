@@ -105,7 +105,7 @@ export function quantize(shares: readonly number[], total: number): number[] {
   return counts;
 }
 
-/** Defects of the demo log that live in the logging policy itself (DESIGN.md §7). */
+/** Defects of the demo log that live in the logging policy itself (sample-data/README.md). */
 export interface PolicyDefects {
   /** In (region, device) the policy is greedy: this promotion with probability 1. */
   readonly greedy: { readonly region: number; readonly device: number; readonly action: number } | null;

@@ -1,5 +1,5 @@
 /**
- * "Maple Row Market" (DESIGN.md §7): a fictional grocery-delivery app whose home screen shows one of
+ * "Maple Row Market" (sample-data/README.md): a fictional grocery-delivery app whose home screen shows one of
  * seven promotions per session. Names, time span and the context mix of the invented population.
  */
 

@@ -1,6 +1,6 @@
 /**
  * The audit: a small constant number of scans (profile, cube, duplicates, examples, and one tail
- * query per target), then pure checks over their results (DESIGN.md §4). The only thing it needs
+ * query per target), then pure checks over their results (DEVELOPERS.md, "The scans of one audit"). The only thing it needs
  * from an engine is `run(sql) -> Table`.
  */
 import { CHECKS } from './checks/index.ts';

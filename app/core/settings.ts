@@ -1,5 +1,5 @@
 /**
- * Every threshold of the audit, with its default and where the default comes from (DESIGN.md §5).
+ * Every threshold of the audit, with its default and where the default comes from (README.md, "What the audit checks").
  * The report prints each one with its value, default and source.
  */
 export interface SettingSpec {

@@ -1,4 +1,4 @@
-/** The verdict (DESIGN.md §5) and the per-segment readiness table. */
+/** The verdict (README.md, "What the audit checks") and the per-segment readiness table. */
 import type { CheckId, CheckResult, Reason, SegmentReadiness, Verdict } from './model/report.ts';
 import { describeSegment, segmentRecord, type AuditContext } from './checks/context.ts';
 import { explorationBySegment } from './checks/propensity-exploration.ts';

@@ -1,6 +1,6 @@
 /**
  * The cube as Arrow IPC (stream format): how it crosses from the engine host to the page and how it is
- * loaded into the page's DuckDB-Wasm as table `cube` (DESIGN.md §2). Browser-safe: apache-arrow only.
+ * loaded into the page's DuckDB-Wasm as table `cube` (DEVELOPERS.md, "The desktop data path"). Browser-safe: apache-arrow only.
  *
  * One row per CubeCell. `segment` is a list of strings (the cube's segment-column order, so SQL reads
  * `segment[1]`, `segment[2]`, ...), every count and sum a DOUBLE: a JS number is a double, so counts,

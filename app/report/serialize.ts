@@ -4,7 +4,7 @@
  */
 import type { Report } from '../core/model/report.ts';
 
-/** Top-level keys in the order of the Report type (DESIGN.md §6); unknown keys follow in their own order. */
+/** Top-level keys in the order of the Report type (README.md, "The report contract"); unknown keys follow in their own order. */
 export const REPORT_KEY_ORDER = [
   'schema', 'tool', 'input', 'roles', 'settings', 'verdict', 'reasons', 'checks', 'targets', 'segments', 'queries', 'cautions', 'run', 'signoff',
 ] as const;

@@ -1,6 +1,6 @@
 import { CAUTIONS } from '../../app/core/model/report.ts';
 
-/** DESIGN.md §8: shown wherever results are shown. */
+/** README.md "Cautions": shown wherever results are shown. */
 export function Cautions({ cautions = CAUTIONS }: { cautions?: readonly string[] }) {
   return (
     <aside className="cautions" aria-label="Cautions">

@@ -41,7 +41,7 @@ export async function createBackend(mode: PageMode): Promise<AuditBackend> {
 }
 
 /**
- * The host scans the log and runs the audit (DESIGN.md §2); the page keeps a DuckDB-Wasm worker of its
+ * The host scans the log and runs the audit (DEVELOPERS.md, "The desktop data path"); the page keeps a DuckDB-Wasm worker of its
  * own, started on the first audit, for SQL over the cube the host sends back.
  */
 function hostBackend(engine: HostEngine, readsParquet: boolean): AuditBackend {

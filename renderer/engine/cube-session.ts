@@ -8,7 +8,7 @@ import type { WasmArrowTables } from '../../app/engine/wasm-browser.ts';
 export const CUBE_TABLE = 'cube';
 
 /**
- * The audit's cube in the page's own DuckDB-Wasm worker (DESIGN.md §2): the segment map's regroups and
+ * The audit's cube in the page's own DuckDB-Wasm worker (DEVELOPERS.md, "The desktop data path"): the segment map's regroups and
  * filters are SQL over it there, with no rescan and no request to the engine that scanned the log.
  */
 export interface CubeSession {

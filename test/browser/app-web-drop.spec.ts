@@ -27,7 +27,7 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
     await page.goto('/');
     await dropDemoLog(page);
     await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-    // DESIGN.md §7: the demo's action is `promotion`, its propensity `propensity`, its time `logged_at`.
+    // sample-data/README.md: the demo's action is `promotion`, its propensity `propensity`, its time `logged_at`.
     await expect(page.locator('#role-action')).toHaveValue('promotion');
     await expect(page.locator('#role-propensity')).toHaveValue('propensity');
     await expect(page.locator('#role-time')).toHaveValue('logged_at');

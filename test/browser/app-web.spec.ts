@@ -21,7 +21,7 @@ async function screen(page: Page, name: string, fullPage = true): Promise<void> 
 
 async function expectDemoRoles(page: Page): Promise<void> {
   await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-  // DESIGN.md §7 names the demo's columns: the action is `promotion`, rewards are `ordered` or `basket_value`.
+  // sample-data/README.md names the demo's columns: the action is `promotion`, rewards are `ordered` or `basket_value`.
   await expect(page.locator('#role-action')).toHaveValue('promotion');
   await expect(page.locator('#role-propensity')).toHaveValue('propensity');
   await expect(page.locator('#role-reward')).toHaveValue(/^(ordered|basket_value)$/);

@@ -1,6 +1,6 @@
 /**
  * A target given as a column of per-row probabilities must give the same numbers as the same policy
- * given as a table: w = q/p either way (DESIGN.md §4). The column is made by joining the v9 table onto
+ * given as a table: w = q/p either way (DEVELOPERS.md, "The scans of one audit"). The column is made by joining the v9 table onto
  * the demo log.
  */
 import { afterAll, beforeAll, expect, it } from 'vitest';

@@ -1,7 +1,7 @@
 /**
  * Writes the corpus of broken and hostile logs into test/corpus/files/ (committed; deterministic).
  * Run with `node --import tsx test/corpus/make-corpus.ts`. Scenario values follow the invented
- * "Maple Row Market" log (DESIGN.md §7). The 10^6-distinct segment log is too large to commit; tests
+ * "Maple Row Market" log (sample-data/README.md). The 10^6-distinct segment log is too large to commit; tests
  * write it into a temporary folder with writeHighCardinalitySegmentLog().
  */
 import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';

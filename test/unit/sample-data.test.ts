@@ -54,7 +54,7 @@ async function computeDigest(from: string): Promise<{ n: number; digest: string 
 /**
  * B_a = (1/n) Σ 1{A_i = a}/p_i with its standard error, per promotion. When every p_i is the true
  * probability of the logged action and a has positive probability everywhere, E[B_a] = 1
- * (Horvitz & Thompson 1952, JASA 47:663, unbiasedness of inverse-probability weighting; DESIGN.md §5 balance.weights).
+ * (Horvitz & Thompson 1952, JASA 47:663, unbiasedness of inverse-probability weighting; README.md, "What the audit checks": balance.weights).
  */
 async function balance(from: string, where: string, groupBy = ''): Promise<Row[]> {
   const actions = `[${PROMOTIONS.map(sqlString).join(', ')}]`;
@@ -134,7 +134,7 @@ describe('candidate policy v9', () => {
 describe('the demo manifest matches the demo log', () => {
   const demo = (): string => committed('demo');
 
-  it('lists exactly the seven planted defects of DESIGN.md §7, by the check meant to find each', () => {
+  it('lists exactly the seven planted defects of sample-data/README.md, by the check meant to find each', () => {
     expect(manifests.demo!.defects.map((d) => d.kind).sort()).toEqual([
       'balance.weights', 'drift.reward', 'identity.duplicates', 'propensity.exploration', 'propensity.range', 'reward.validity', 'support.floor',
     ]);
@@ -149,7 +149,7 @@ describe('the demo manifest matches the demo log', () => {
     expect(num(r.seg)).toBe(d.rows_affected);
     expect(num(r.greedy)).toBe(d.rows_affected);
     expect(num(r.elsewhere)).toBe(0);
-    // DESIGN.md §5 fails the check for a segment holding >= 1% of rows.
+    // README.md, "What the audit checks", fails the check for a segment holding >= 1% of rows.
     expect(num(r.seg) / manifests.demo!.generator.rows).toBeGreaterThan(0.01);
   });
 

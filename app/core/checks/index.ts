@@ -1,4 +1,4 @@
-/** The checks in report order (DESIGN.md §5); each is one function from the audit context to a result. */
+/** The checks in report order (README.md, "What the audit checks"); each is one function from the audit context to a result. */
 import type { Check } from './context.ts';
 import { checkBalance } from './balance-weights.ts';
 import { checkPolicyDrift } from './drift-policy.ts';

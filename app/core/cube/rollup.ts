@@ -1,4 +1,4 @@
-/** Merging cube cells: sums add, minima and maxima combine (DESIGN.md §4: cells are mergeable). */
+/** Merging cube cells: sums add, minima and maxima combine (cells are mergeable, so parts of a log combine exactly). */
 import type { CubeCell, TargetColumnSums } from './types.ts';
 
 export type Totals = Omit<CubeCell, 'segment' | 'action' | 'bucket' | 'version'>;

@@ -1,5 +1,5 @@
 /**
- * One cell of the sufficient-statistics cube (DESIGN.md §4): all rows sharing (segment values, action,
+ * One cell of the sufficient-statistics cube (DEVELOPERS.md, "The scans of one audit"): all rows sharing (segment values, action,
  * time bucket). Every field is a sum, count, min or max, so cells merge exactly across files/partitions.
  *
  * Row sets (p is the logged propensity, r the reward):

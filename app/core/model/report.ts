@@ -1,6 +1,6 @@
 /**
  * The report model: the one value every face renders (UI, JSON, HTML, terminal). Field names are the
- * JSON contract "counterweight.report/1" (DESIGN.md §6) and therefore snake_case. The JSON Schema is
+ * JSON contract "counterweight.report/1" (README.md, "The report contract") and therefore snake_case. The JSON Schema is
  * app/core/model/report.schema.json; every report the tests produce is validated against it.
  */
 import type { Cell } from '../table.ts';
@@ -131,7 +131,7 @@ export interface RolesReport {
   readonly action_set_size: string | null;
   /** Why each role was chosen: "override" or the suggestion's reason. */
   readonly reasons: Record<string, string>;
-  /** Segment columns over the cap: column -> {distinct, kept}. Never silent (DESIGN.md §3). */
+  /** Segment columns over the cap: column -> {distinct, kept}. Never silent (README.md, "What the audit checks"). */
   readonly caps: Record<string, { readonly distinct: number; readonly kept: number }>;
 }
 
@@ -175,7 +175,7 @@ export interface Report {
   readonly signoff: Signoff | null;
 }
 
-/** DESIGN.md §8, shown wherever results are shown. */
+/** README.md "Cautions", shown wherever results are shown. */
 export const CAUTIONS: readonly string[] = [
   'Off-policy estimates inform decisions that affect people. A passing audit is necessary, not sufficient, for a trustworthy estimate.',
   'A log cannot show unmeasured confounding in contexts that were not logged, interference between units, or whether the reward measures what matters.',

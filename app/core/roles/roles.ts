@@ -1,5 +1,5 @@
 /**
- * Column roles (DESIGN.md §3): suggestion from names, types and value profiles, explicit overrides,
+ * Column roles (README.md, "What the audit checks"): suggestion from names, types and value profiles, explicit overrides,
  * and validation with specific messages.
  */
 import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';

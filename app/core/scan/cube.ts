@@ -1,5 +1,5 @@
 /**
- * The sufficient-statistics cube (DESIGN.md §4): ONE scan grouped by (segment values, action,
+ * The sufficient-statistics cube (DEVELOPERS.md, "The scans of one audit"): ONE scan grouped by (segment values, action,
  * policy version, time bucket). Segment columns over the cap keep their most frequent values and
  * fold the rest into "(other)" inside the same statement, by merging cells (sums add, mins and
  * maxes combine), so capping costs no extra scan.

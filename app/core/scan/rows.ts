@@ -1,5 +1,5 @@
 /**
- * The row-level queries (DESIGN.md §4): duplicated decision ids, the largest weights of each target
+ * The row-level queries (DEVELOPERS.md, "The scans of one audit"): duplicated decision ids, the largest weights of each target
  * (enough for the PSIS tail and the top-1% weight share), and a bounded number of example rows per
  * finding. Everything else comes from the cube.
  */

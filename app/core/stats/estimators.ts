@@ -2,7 +2,7 @@ import normalQuantile from '@stdlib/stats-base-dists-normal-quantile';
 import type { EstimatorCell } from '../cube/types.ts';
 
 /**
- * Off-policy value estimates computed from cube sums alone (DESIGN.md §4, §5 `estimate.preview`).
+ * Off-policy value estimates computed from cube sums alone (README.md, "What the audit checks": `estimate.preview`).
  * A row in cell (s, a) with logged propensity p has weight w = q/p, so within a cell
  *   Σw = q·ΣinvP, Σw² = q²·ΣinvP², Σwr = q·ΣrInvP, Σw²r = q²·ΣrInvP², Σ(wr)² = q²·Σr²InvP².
  */

@@ -1,6 +1,6 @@
 import { requireCount, requireFinite } from './validate.ts';
 
-/** Count, sum and sum of squares of one group of values: the form the cube keeps (DESIGN.md §4). */
+/** Count, sum and sum of squares of one group of values: the form the cube keeps (DEVELOPERS.md, "The scans of one audit"). */
 export interface GroupMoments {
   readonly n: number;
   readonly sum: number;

@@ -2,7 +2,7 @@
  * Everything the audit needs to know about one target policy, computed from the cube alone:
  * weight sums overall and by segment, unsupported probability mass, and the estimator cells.
  * For a target given per (segment, action), w = q(s, a)/p, so Σw = q·Σ1/p and Σw² = q²·Σ1/p² per cell
- * (DESIGN.md §4).
+ * (DEVELOPERS.md, "The scans of one audit").
  */
 import { cellKeys, rollup, segmentKey, SEP, total, type Totals } from '../cube/rollup.ts';
 import type { CubeCell, EstimatorCell } from '../cube/types.ts';

@@ -1,5 +1,5 @@
 /**
- * Target policies (DESIGN.md §5): uniform, always:<action>, table:<file> (CSV or JSON rows of
+ * Target policies (README.md, "What the audit checks"): uniform, always:<action>, table:<file> (CSV or JSON rows of
  * segment values, action, probability) and column:<name>. A table is validated on parsing:
  * probabilities in [0, 1], each segment summing to 1 within 1e-9, no repeated rows.
  */

@@ -2,7 +2,7 @@
  * The engine host's request handling, independent of what carries the messages. Cancel and ping are
  * answered at once; register, query and the queries of an audit run on the engine in arrival order
  * (the engine serialises them). An audit runs app/core's audit here, next to the log, and sends back
- * the report and the cube (DESIGN.md §2).
+ * the report and the cube (DEVELOPERS.md, "The desktop data path").
  */
 import { AuditCancelled, runAuditDetailed } from '../../core/audit.ts';
 import { cubeToArrowIpc } from '../cube-arrow.ts';

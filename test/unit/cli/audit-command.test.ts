@@ -47,7 +47,7 @@ describe.skipIf(!haveLogs)('counterweight audit (spawned)', () => {
     expect(r.stdout.split('\n')[1]).toMatch(/^parquet · [\d,]+ rows · 10 columns$/);
     expect(r.stdout).toMatch(/Verdict: NOT SUPPORTED/);
     expect(r.stdout.indexOf('Verdict:')).toBeLessThan(r.stdout.indexOf('Checks'));
-    // Planted in the demo log (DESIGN.md §7): no exploration in (old-town, web).
+    // Planted in the demo log (sample-data/README.md): no exploration in (old-town, web).
     expect(r.stdout).toMatch(/FAIL\s+propensity\.exploration.*old-town/);
     const written = JSON.parse(readFileSync(json, 'utf8')) as Record<string, unknown>;
     expect(withoutRun(written)).toEqual(withoutRun(await coreReport(DEMO)));
