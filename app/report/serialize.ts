@@ -2,12 +2,10 @@
  * The report's JSON text, with no platform imports so that the page and Node write the same bytes
  * (the digest of a sign-off is computed over this serialisation).
  */
-import type { Report } from '../core/model/report.ts';
+import { REPORT_KEYS, type Report } from '../core/model/report.ts';
 
-/** Top-level keys in the order of the Report type (README.md, "The report contract"); unknown keys follow in their own order. */
-export const REPORT_KEY_ORDER = [
-  'schema', 'tool', 'input', 'roles', 'settings', 'verdict', 'reasons', 'checks', 'targets', 'segments', 'queries', 'cautions', 'run', 'signoff',
-] as const;
+/** Top-level keys in the order the contract declares them (app/core/model/report.ts); unknown keys follow in their own order. */
+export const REPORT_KEY_ORDER = REPORT_KEYS;
 
 /**
  * JSON has no NaN or Infinity: a non-finite number becomes null (the model's "not available"). A bigint

@@ -1,4 +1,5 @@
 import type { Report, Verdict } from '../../app/core/model/report.ts';
+import { validateReport } from '../../app/report/validate.ts';
 
 /** A finished audit remembered in this browser (localStorage), newest first. */
 export interface RecentAudit {
@@ -18,7 +19,8 @@ const MAX_REPORT_CHARS = 400_000;
 export function loadRecent(storage: Storage = localStorage): RecentAudit[] {
   try {
     const parsed: unknown = JSON.parse(storage.getItem(KEY) ?? '[]');
-    return Array.isArray(parsed) ? parsed.filter(isRecent) : [];
+    // A stored report that no longer meets the contract (an older build wrote it) is dropped, the entry kept.
+    return Array.isArray(parsed) ? parsed.filter(isRecent).map((r) => (r.report && !validateReport(r.report).ok ? { ...r, report: undefined } : r)) : [];
   } catch {
     return [];
   }

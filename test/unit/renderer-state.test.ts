@@ -112,6 +112,12 @@ describe('recent audits', () => {
     expect(loadRecent(storage)).toHaveLength(2);
   });
 
+  it('keeps an entry but drops its stored report when the report does not meet the contract', () => {
+    const storage = new MemoryStorage() as unknown as Storage;
+    rememberAudit('a.csv', report('2026-01-01T00:00:00Z'), storage);
+    expect(loadRecent(storage).map((r) => [r.label, r.report !== undefined])).toEqual([['a.csv', false]]);
+  });
+
   it('survives a corrupted entry', () => {
     const storage = new MemoryStorage() as unknown as Storage;
     storage.setItem('counterweight.recent-audits', '{not json');

@@ -1,10 +1,9 @@
-import type { Report } from '../../core/model/report.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { stringFlag } from '../args.ts';
 import { UsageError } from '../errors.ts';
 import type { CliIo } from '../io.ts';
 import { writeFile } from './audit.ts';
-import { readReportFile } from './report-file.ts';
+import { readReport } from './report-file.ts';
 
 export const renderSpec: CommandSpec = {
   name: 'render',
@@ -16,7 +15,7 @@ export const renderSpec: CommandSpec = {
 export async function runRender(args: ParsedArgs, io: CliIo): Promise<number> {
   const out = stringFlag(args.flags, 'html');
   if (!out) throw new UsageError("'render' needs --html FILE");
-  const report = readReportFile(args.positionals[0] as string, io.cwd) as unknown as Report;
+  const report = readReport(args.positionals[0] as string, io.cwd);
   const { renderHtmlReport } = await import('../../report/html.ts');
   writeFile(out, renderHtmlReport(report), io.cwd);
   io.stdout.write(`HTML report: ${out}\n`);

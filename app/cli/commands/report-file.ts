@@ -1,5 +1,7 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
+import type { Report } from '../../core/model/report.ts';
+import { parseReport, ReportContractError } from '../../report/validate.ts';
 import { UsageError } from '../errors.ts';
 
 /** Reads a report JSON file as plain data (signing and verifying work on what the file says). */
@@ -21,6 +23,17 @@ export function readReportFile(file: string, cwd: string): Record<string, unknow
     throw new UsageError(`${file} is not a Counterweight report (no "schema": "counterweight.report/…" key)`);
   }
   return value as Record<string, unknown>;
+}
+
+/** Reads a report JSON file and validates it against the report contract (a usage error names what is wrong). */
+export function readReport(file: string, cwd: string): Report {
+  const value = readReportFile(file, cwd);
+  try {
+    return parseReport(value, file);
+  } catch (error) {
+    if (error instanceof ReportContractError) throw new UsageError(error.message);
+    throw error;
+  }
 }
 
 export function readTextFile(file: string, cwd: string, what: string): string {

@@ -1,7 +1,5 @@
-import { readFileSync } from 'node:fs';
-import { REPORT_SCHEMA_PATH } from '../../report/json.ts';
+import { reportJsonSchema, schemaText } from '../../core/model/json-schema.ts';
 import type { CommandSpec } from '../args.ts';
-import { UsageError } from '../errors.ts';
 import type { CliIo } from '../io.ts';
 
 export const schemaSpec: CommandSpec = {
@@ -11,13 +9,8 @@ export const schemaSpec: CommandSpec = {
   flags: {},
 };
 
+/** The schema generated from the contract itself: the same text as app/core/model/report.schema.json. */
 export function runSchema(io: CliIo): number {
-  let text: string;
-  try {
-    text = readFileSync(REPORT_SCHEMA_PATH, 'utf8');
-  } catch {
-    throw new UsageError(`the report schema is missing from this build (${REPORT_SCHEMA_PATH})`);
-  }
-  io.stdout.write(text.endsWith('\n') ? text : `${text}\n`);
+  io.stdout.write(schemaText(reportJsonSchema()));
   return 0;
 }

@@ -1,181 +1,244 @@
 /**
  * The report model: the one value every face renders (UI, JSON, HTML, terminal). Field names are the
- * JSON contract "counterweight.report/1" (README.md, "The report contract") and therefore snake_case. The JSON Schema is
- * app/core/model/report.schema.json; every report the tests produce is validated against it.
+ * JSON contract "counterweight.report/1" and therefore snake_case.
+ *
+ * This file is the contract's only definition: each part is a zod schema, its TypeScript type is inferred
+ * from it (`z.infer`), and the published JSON Schema (app/core/model/report.schema.json, printed by
+ * `counterweight schema`) is generated from it by `npm run schemas` and held to it by
+ * test/unit/report/contract.test.ts. To add a field, add it here once (DEVELOPERS.md, "Adding a report field").
  */
+import { z } from 'zod';
 import type { Cell } from '../table.ts';
 
 export const REPORT_SCHEMA_ID = 'counterweight.report/1';
 
-export type Status = 'pass' | 'warn' | 'fail' | 'skipped';
-export type Verdict = 'supported' | 'supported-with-caveats' | 'not-supported';
-export type CheckId =
-  | 'schema.roles'
-  | 'identity.duplicates'
-  | 'time.coverage'
-  | 'propensity.range'
-  | 'propensity.exploration'
-  | 'support.floor'
-  | 'support.target'
-  | 'balance.weights'
-  | 'weights.ess'
-  | 'weights.tail'
-  | 'reward.validity'
-  | 'drift.reward'
-  | 'drift.policy'
-  | 'estimate.preview';
+// ---- vocabularies ---------------------------------------------------------------------------------
 
-export type Metrics = Record<string, number | string | boolean | null>;
+export const STATUSES = ['pass', 'warn', 'fail', 'skipped'] as const;
+export const VERDICTS = ['supported', 'supported-with-caveats', 'not-supported'] as const;
+/** Stable check ids, in audit order. */
+export const CHECK_IDS = [
+  'schema.roles',
+  'identity.duplicates',
+  'time.coverage',
+  'propensity.range',
+  'propensity.exploration',
+  'support.floor',
+  'support.target',
+  'balance.weights',
+  'weights.ess',
+  'weights.tail',
+  'reward.validity',
+  'drift.reward',
+  'drift.policy',
+  'estimate.preview',
+] as const;
 
-export interface TimeWindow {
-  readonly from: string; // ISO-8601 UTC
-  readonly to: string; // ISO-8601 UTC, exclusive
+export const StatusSchema = z.enum(STATUSES);
+export const VerdictSchema = z.enum(VERDICTS);
+export const CheckIdSchema = z.enum(CHECK_IDS).meta({ id: 'checkId' });
+/** A finding or a segment is never "skipped". */
+const OutcomeSchema = z.enum(['pass', 'warn', 'fail']);
+
+export type Status = z.infer<typeof StatusSchema>;
+export type Verdict = z.infer<typeof VerdictSchema>;
+export type CheckId = z.infer<typeof CheckIdSchema>;
+
+// ---- building blocks ------------------------------------------------------------------------------
+
+/** A shape with exactly these keys; its inferred type has readonly properties. */
+function record<S extends z.core.$ZodLooseShape>(shape: S) {
+  return z.strictObject(shape).readonly();
 }
-
-export interface Finding {
-  readonly segment: Record<string, string>;
-  readonly action?: string;
-  readonly window?: TimeWindow;
-  readonly target?: string;
-  readonly status: Exclude<Status, 'skipped' | 'pass'> | 'pass';
-  readonly metrics: Metrics;
-  readonly message: string;
-  /** The earliest rows behind the finding (by time, then decision id), up to examples.per_finding, values as the engine returned them. */
-  readonly examples?: readonly Record<string, Cell>[];
-  /** SQL that selects the rows behind the finding from the source, for re-running. */
-  readonly sql?: string;
+function list<T extends z.ZodType>(item: T) {
+  return z.array(item).readonly();
 }
+const nullable = <T extends z.ZodType>(schema: T) => z.union([schema, z.null()]);
+const count = () => z.number().int().min(0);
+const share = () => z.number().min(0).max(1);
+const ColumnSchema = nullable(z.string()).meta({ id: 'column' });
+const column = () => ColumnSchema;
+
+export const MetricsSchema = z.record(z.string(), z.union([z.number(), z.string(), z.boolean(), z.null()])).meta({ id: 'metrics' });
+export type Metrics = z.infer<typeof MetricsSchema>;
+
+export const SegmentSchema = z.record(z.string(), z.string()).meta({ id: 'segment' });
+
+export const TimeWindowSchema = record({
+  from: z.iso.datetime({ offset: true }).describe('ISO-8601 UTC'),
+  to: z.iso.datetime({ offset: true }).describe('ISO-8601 UTC, exclusive'),
+});
+export type TimeWindow = z.infer<typeof TimeWindowSchema>;
+
+/** A row value as the engine returned it (app/core/table.ts); in JSON, big integers are numbers or decimal strings. */
+const CellSchema = z.custom<Cell>(() => true);
+
+export const FindingSchema = record({
+  segment: SegmentSchema,
+  action: z.string().optional(),
+  target: z.string().optional(),
+  window: TimeWindowSchema.optional(),
+  status: OutcomeSchema,
+  metrics: MetricsSchema,
+  message: z.string(),
+  examples: list(z.record(z.string(), CellSchema)).optional()
+    .describe('The earliest rows behind the finding (by time, then decision id), up to examples.per_finding.'),
+  sql: z.string().optional().describe('SQL that selects the rows behind the finding from the source, for re-running.'),
+}).meta({ id: 'finding' });
+export type Finding = z.infer<typeof FindingSchema>;
 
 /** Chart-ready series a check exposes for app/charts (never recomputed by a view). */
-export interface Series {
-  readonly name: string;
-  readonly kind: 'bars' | 'lines' | 'heatmap' | 'histogram' | 'points';
-  readonly x: readonly (string | number)[];
-  readonly y?: readonly (string | number)[];
-  readonly values: readonly (readonly (number | null)[])[];
-  readonly labels?: readonly string[];
-  readonly unit?: string;
-}
+export const SeriesSchema = record({
+  name: z.string(),
+  kind: z.enum(['bars', 'lines', 'heatmap', 'histogram', 'points']),
+  x: list(z.union([z.string(), z.number()])),
+  y: list(z.union([z.string(), z.number()])).optional(),
+  values: list(list(nullable(z.number()))),
+  labels: list(z.string()).optional(),
+  unit: z.string().optional(),
+}).meta({ id: 'series' });
+export type Series = z.infer<typeof SeriesSchema>;
 
-export interface CheckResult {
-  readonly id: CheckId;
-  readonly title: string;
-  readonly status: Status;
-  readonly summary: string;
-  readonly metrics: Metrics;
-  readonly findings: readonly Finding[];
-  readonly series?: readonly Series[];
-  /** Settings keys this check used. */
-  readonly settings_used: readonly string[];
-}
+export const CheckResultSchema = record({
+  id: CheckIdSchema,
+  title: z.string(),
+  status: StatusSchema,
+  summary: z.string(),
+  metrics: MetricsSchema,
+  findings: list(FindingSchema),
+  series: list(SeriesSchema).optional(),
+  settings_used: list(z.string()).describe('Settings keys this check used.'),
+});
+export type CheckResult = z.infer<typeof CheckResultSchema>;
 
-export interface Estimate {
-  readonly value: number | null;
-  readonly se: number | null;
-  readonly ci_low: number | null;
-  readonly ci_high: number | null;
-}
+export const EstimateSchema = record({
+  value: nullable(z.number()),
+  se: nullable(z.number()),
+  ci_low: nullable(z.number()),
+  ci_high: nullable(z.number()),
+}).meta({ id: 'estimate' });
+export type Estimate = z.infer<typeof EstimateSchema>;
 
-export interface TargetSummary {
-  readonly name: string;
-  readonly spec: string;
-  readonly ess: number;
-  readonly ess_fraction: number;
-  readonly max_weight: number;
-  readonly top1_weight_share: number;
-  readonly khat: number | null;
-  readonly khat_threshold: number;
-  readonly tail_length: number;
-  readonly support_deficit: number;
-  readonly ips: Estimate;
-  readonly snips: Estimate;
-  readonly dr: Estimate;
-  readonly detectable_difference: number | null;
-}
+export const TargetSummarySchema = record({
+  name: z.string(),
+  spec: z.string(),
+  ess: z.number().min(0),
+  ess_fraction: z.number().min(0),
+  max_weight: z.number().min(0),
+  top1_weight_share: share(),
+  khat: nullable(z.number()),
+  khat_threshold: z.number(),
+  tail_length: count(),
+  support_deficit: share(),
+  ips: EstimateSchema,
+  snips: EstimateSchema,
+  dr: EstimateSchema,
+  detectable_difference: nullable(z.number()),
+});
+export type TargetSummary = z.infer<typeof TargetSummarySchema>;
 
-export interface SegmentReadiness {
-  readonly segment: Record<string, string>;
-  readonly rows: number;
-  readonly share: number;
-  readonly explored: boolean;
-  readonly top_action_share: number;
-  readonly min_propensity: number | null;
-  readonly ess: Record<string, number>;
-  readonly drift_flags: readonly string[];
-  readonly status: Exclude<Status, 'skipped'>;
-}
+export const SegmentReadinessSchema = record({
+  segment: SegmentSchema,
+  rows: count(),
+  share: share(),
+  explored: z.boolean(),
+  top_action_share: share(),
+  min_propensity: nullable(z.number()),
+  ess: z.record(z.string(), z.number()),
+  drift_flags: list(z.string()),
+  status: OutcomeSchema,
+});
+export type SegmentReadiness = z.infer<typeof SegmentReadinessSchema>;
 
-export interface Reason {
-  readonly check: CheckId;
-  readonly status: 'warn' | 'fail';
-  readonly message: string;
-}
+export const ReasonSchema = record({
+  check: CheckIdSchema,
+  status: z.enum(['warn', 'fail']),
+  message: z.string(),
+});
+export type Reason = z.infer<typeof ReasonSchema>;
 
-export interface SettingValue {
-  readonly value: number | string | boolean;
-  readonly default: number | string | boolean;
-  readonly source: string;
-  readonly description: string;
-}
+const SettingScalar = z.union([z.number(), z.string(), z.boolean()]);
+export const SettingValueSchema = record({
+  value: SettingScalar,
+  default: SettingScalar,
+  source: z.string().min(1),
+  description: z.string(),
+});
+export type SettingValue = z.infer<typeof SettingValueSchema>;
 
-export interface RolesReport {
-  readonly decision_id: string | null;
-  readonly time: string | null;
-  readonly action: string | null;
-  readonly propensity: string | null;
-  readonly reward: string | null;
-  readonly segments: readonly string[];
-  readonly policy_version: string | null;
-  readonly target_propensity: string | null;
-  readonly propensity_vector: string | null;
-  readonly action_set_size: string | null;
-  /** Why each role was chosen: "override" or the suggestion's reason. */
-  readonly reasons: Record<string, string>;
-  /** Segment columns over the cap: column -> {distinct, kept}. Never silent (README.md, "What the audit checks"). */
-  readonly caps: Record<string, { readonly distinct: number; readonly kept: number }>;
-}
+export const RolesReportSchema = record({
+  decision_id: column(),
+  time: column(),
+  action: column(),
+  propensity: column(),
+  reward: column(),
+  segments: list(z.string()),
+  policy_version: column(),
+  target_propensity: column(),
+  propensity_vector: column(),
+  action_set_size: column(),
+  reasons: z.record(z.string(), z.string()).describe('Why each role was chosen: "override" or the suggestion\'s reason.'),
+  caps: z.record(z.string(), record({ distinct: z.number().int(), kept: z.number().int() }))
+    .describe('Segment columns over the cap: column -> {distinct, kept}; never silent.'),
+});
+export type RolesReport = z.infer<typeof RolesReportSchema>;
 
-export interface InputFile {
-  readonly path: string;
-  readonly bytes: number;
-  readonly sha256: string;
-  readonly modified?: string;
-}
+export const InputFileSchema = record({
+  path: z.string(),
+  bytes: count(),
+  sha256: z.string().regex(/^[0-9a-f]{64}$/),
+  modified: z.string().optional(),
+});
+export type InputFile = z.infer<typeof InputFileSchema>;
 
-export interface QueryRecord {
-  readonly name: string;
-  readonly sql: string;
-  readonly scans_source: boolean;
-}
+export const QueryRecordSchema = record({
+  name: z.string(),
+  sql: z.string(),
+  scans_source: z.boolean(),
+});
+export type QueryRecord = z.infer<typeof QueryRecordSchema>;
 
-export interface Signoff {
-  readonly reviewer: string;
-  readonly decision: 'approve' | 'approve-with-conditions' | 'reject';
-  readonly note: string;
-  readonly signed_at: string;
-  readonly digest: string;
-  readonly signature?: { readonly algorithm: 'ed25519'; readonly public_key: string; readonly value: string };
-}
+export const SignoffSchema = record({
+  reviewer: z.string().min(1),
+  decision: z.enum(['approve', 'approve-with-conditions', 'reject']),
+  note: z.string(),
+  signed_at: z.string(),
+  digest: z.string().regex(/^[0-9a-f]{64}$/),
+  signature: record({ algorithm: z.literal('ed25519'), public_key: z.string(), value: z.string() }).optional(),
+});
+export type Signoff = z.infer<typeof SignoffSchema>;
 
-export interface Report {
-  readonly schema: typeof REPORT_SCHEMA_ID;
-  readonly tool: { readonly name: 'counterweight'; readonly version: string };
-  readonly input: { readonly files: readonly InputFile[]; readonly format: string; readonly rows: number };
-  readonly roles: RolesReport;
-  readonly settings: Record<string, SettingValue>;
-  readonly verdict: Verdict;
-  readonly reasons: readonly Reason[];
-  readonly checks: readonly CheckResult[];
-  readonly targets: readonly TargetSummary[];
-  readonly segments: readonly SegmentReadiness[];
-  readonly queries: readonly QueryRecord[];
-  readonly cautions: readonly string[];
-  /** Timings and engine: the only part of a report allowed to differ between engines and runs. */
-  readonly run: { readonly engine: string; readonly started_at: string; readonly seconds: number; readonly source_scans: number };
-  readonly signoff: Signoff | null;
-}
+export const RunSchema = record({
+  engine: z.string(),
+  started_at: z.string(),
+  seconds: z.number().min(0),
+  source_scans: count(),
+}).describe('Timings and engine: the only part of a report allowed to differ between engines and runs.');
 
-/** README.md "Cautions", shown wherever results are shown. */
+// ---- the report -----------------------------------------------------------------------------------
+
+/** Top-level keys in the order they are written (app/report/serialize.ts takes its order from here). */
+export const ReportSchema = record({
+  schema: z.literal(REPORT_SCHEMA_ID),
+  tool: record({ name: z.literal('counterweight'), version: z.string() }),
+  input: record({ files: list(InputFileSchema), format: z.string(), rows: count() }),
+  roles: RolesReportSchema,
+  settings: z.record(z.string(), SettingValueSchema),
+  verdict: VerdictSchema,
+  reasons: list(ReasonSchema),
+  checks: z.array(CheckResultSchema).min(CHECK_IDS.length).max(CHECK_IDS.length).readonly(),
+  targets: list(TargetSummarySchema),
+  segments: list(SegmentReadinessSchema),
+  queries: list(QueryRecordSchema),
+  cautions: z.array(z.string()).min(1).readonly(),
+  run: RunSchema,
+  signoff: nullable(SignoffSchema),
+});
+export type Report = z.infer<typeof ReportSchema>;
+
+export const REPORT_KEYS = Object.keys(ReportSchema.unwrap().shape) as readonly (keyof Report)[];
+
+/** Shown wherever results are shown. */
 export const CAUTIONS: readonly string[] = [
   'Off-policy estimates inform decisions that affect people. A passing audit is necessary, not sufficient, for a trustworthy estimate.',
   'A log cannot show unmeasured confounding in contexts that were not logged, interference between units, or whether the reward measures what matters.',

@@ -2,6 +2,7 @@
 import type { AuditRequest, AuditStage } from '../../core/audit.ts';
 import type { Report } from '../../core/model/report.ts';
 import type { Table } from '../../core/table.ts';
+import { parseReport } from '../../report/validate.ts';
 import { EngineError } from '../types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from '../types.ts';
 import { decodeCube, decodeReport, decodeTable, isRequest, parseHostMessage } from './protocol.ts';
@@ -139,7 +140,7 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
           auditId = id;
           if (onProgress) progressListeners.set(id, onProgress);
         }), 'audit-result');
-        return { report: decodeReport(reply.report), cubeIpc: decodeCube(reply) };
+        return { report: parseReport(decodeReport(reply.report), 'the engine host\'s report'), cubeIpc: decodeCube(reply) };
       } catch (error) {
         throw error instanceof EngineError ? error : new EngineError('internal', (error as Error).message);
       } finally {
