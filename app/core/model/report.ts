@@ -9,8 +9,9 @@
  */
 import { z } from 'zod';
 import type { Cell } from '../table.ts';
+import { REPORT_SCHEMA_ID } from './contract-ids.ts';
 
-export const REPORT_SCHEMA_ID = 'counterweight.report/1';
+export { REPORT_SCHEMA_ID };
 
 // ---- vocabularies ---------------------------------------------------------------------------------
 

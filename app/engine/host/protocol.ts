@@ -5,7 +5,8 @@
  * numbers as {"$num":"NaN" | "Infinity" | "-Infinity"}.
  */
 import type { AuditStage } from '../../core/audit.ts';
-import { REPORT_SCHEMA_ID, type InputFile, type Report } from '../../core/model/report.ts';
+import { REPORT_SCHEMA_ID } from '../../core/model/contract-ids.ts';
+import type { InputFile, Report } from '../../core/model/report.ts';
 import { SINGLE_ROLES } from '../../core/roles/roles.ts';
 import type { Cell, Table } from '../../core/table.ts';
 import type { EngineErrorCode, RegisteredSource, SourceFormat } from '../types.ts';
