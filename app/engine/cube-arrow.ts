@@ -9,17 +9,13 @@
  */
 import { Field, Float64, List, makeData, makeVector, Table, tableFromIPC, tableToIPC, Type, Utf8, Vector } from 'apache-arrow';
 import type { Data } from 'apache-arrow';
-import type { CubeCell, TargetColumnSums } from '../core/cube/types.ts';
+import { blankCell, blankTargetSums, MAX_FIELDS, MIN_FIELDS, SUM_FIELDS, TARGET_FIELDS } from '../core/cube/measures.ts';
+import type { CubeCell } from '../core/cube/types.ts';
 
-/** Count and sum fields of a cell, in column order; every one is a number. */
-export const CUBE_NUMBER_FIELDS = [
-  'bucket', 'n', 'nPNull', 'nPNaN', 'nPNonPositive', 'nPAboveOne', 'nPBelowFloor', 'nPInvalid', 'nPOne', 'nRNull', 'nP', 'sumInvP', 'sumInvP2',
-  'nRw', 'sumInvPRw', 'sumInvP2Rw', 'sumR', 'sumR2', 'sumRInvP', 'sumRInvP2', 'sumR2InvP2', 'nRAll', 'sumRAll', 'sumR2All',
-] as const satisfies readonly (keyof CubeCell)[];
-const NULLABLE_FIELDS = ['minP', 'maxP'] as const satisfies readonly (keyof CubeCell)[];
-const TARGET_FIELDS = ['nInvalid', 'sumW', 'sumW2', 'sumWRw', 'sumW2Rw', 'sumWR', 'sumW2R', 'sumW2R2'] as const satisfies readonly (keyof TargetColumnSums)[];
-
-type NumberField = (typeof CUBE_NUMBER_FIELDS)[number];
+/** Count and sum fields of a cell, in column order; every one is a number (from the measures table). */
+export const CUBE_NUMBER_FIELDS: readonly (keyof CubeCell)[] = ['bucket', ...SUM_FIELDS];
+/** Minima and maxima: null when the cell has no valid propensity. */
+const NULLABLE_FIELDS = [...MIN_FIELDS, ...MAX_FIELDS];
 
 function doubles(values: Float64Array, valid?: readonly boolean[]): Vector {
   if (!valid) return makeVector(values);
@@ -81,7 +77,7 @@ export function cubeToArrowIpc(cells: readonly CubeCell[]): Uint8Array {
     action: strings(cells.map((c) => c.action)),
     version: strings(cells.map((c) => c.version)),
   };
-  for (const f of CUBE_NUMBER_FIELDS) columns[f] = doubles(Float64Array.from(cells, (c) => c[f]));
+  for (const f of CUBE_NUMBER_FIELDS) columns[f] = doubles(Float64Array.from(cells, (c) => c[f] as number));
   for (const f of NULLABLE_FIELDS) columns[f] = doubles(Float64Array.from(cells, (c) => c[f] ?? 0), cells.map((c) => c[f] !== null));
   if (cells.some((c) => c.target !== null)) {
     const valid = cells.map((c) => c.target !== null);
@@ -141,31 +137,30 @@ export function cubeFromArrowIpc(bytes: Uint8Array): CubeCell[] {
   const segment = allLists(column(table, 'segment', Type.List), 'segment');
   const action = allStrings(column(table, 'action', Type.Utf8), 'action');
   const version = allStrings(column(table, 'version', Type.Utf8), 'version');
-  const num = (f: NumberField): Float64Array => {
+  const num = (f: string): Float64Array => {
     const v = column(table, f, Type.Float);
     noNulls(v, f);
     return allDoubles(v).values;
   };
-  const [bucket, n, nPNull, nPNaN, nPNonPositive, nPAboveOne, nPBelowFloor, nPInvalid, nPOne, nRNull, nP, sumInvP, sumInvP2, nRw, sumInvPRw, sumInvP2Rw, sumR, sumR2, sumRInvP, sumRInvP2, sumR2InvP2, nRAll, sumRAll, sumR2All] = CUBE_NUMBER_FIELDS.map(num) as Float64Array[] as [Float64Array, ...Float64Array[]] & Float64Array[];
-  const minP = allDoubles(column(table, 'minP', Type.Float));
-  const maxP = allDoubles(column(table, 'maxP', Type.Float));
-  const target = table.getChild('target_nInvalid') ? TARGET_FIELDS.map((f) => allDoubles(column(table, `target_${f}`, Type.Float))) : null;
-  const at = (values: Float64Array | undefined, i: number): number => (values as Float64Array)[i] as number;
+  // every column is found by its name; a missing or mistyped one is refused above
+  const numbers = CUBE_NUMBER_FIELDS.map((f) => [f, num(f)] as const);
+  const extrema = NULLABLE_FIELDS.map((f) => [f, allDoubles(column(table, f, Type.Float))] as const);
+  const target = table.getChild(`target_${TARGET_FIELDS[0]}`) ? TARGET_FIELDS.map((f) => [f, allDoubles(column(table, `target_${f}`, Type.Float))] as const) : null;
   const cells: CubeCell[] = new Array(table.numRows);
   for (let i = 0; i < table.numRows; i++) {
-    let t: TargetColumnSums | null = null;
-    if (target && target[0]?.valid(i)) {
-      const [a, b, c, d, e, f, g, h] = target.map((x) => x.values[i] as number) as [number, number, number, number, number, number, number, number];
-      t = { nInvalid: a, sumW: b, sumW2: c, sumWRw: d, sumW2Rw: e, sumWR: f, sumW2R: g, sumW2R2: h };
+    const cell = blankCell();
+    cell.segment = segment[i] as string[];
+    cell.action = action[i] as string;
+    cell.version = version[i] as string;
+    for (const [f, values] of numbers) cell[f] = values[i] as number;
+    for (const [f, x] of extrema) cell[f] = x.valid(i) ? (x.values[i] as number) : null;
+    let t: Record<string, number> | null = null;
+    if (target && target[0]?.[1].valid(i)) {
+      t = blankTargetSums();
+      for (const [f, x] of target) t[f] = x.values[i] as number;
     }
-    cells[i] = {
-      segment: segment[i] as string[], action: action[i] as string, version: version[i] as string, bucket: at(bucket, i),
-      n: at(n, i), nPNull: at(nPNull, i), nPNaN: at(nPNaN, i), nPNonPositive: at(nPNonPositive, i), nPAboveOne: at(nPAboveOne, i), nPBelowFloor: at(nPBelowFloor, i),
-      nPInvalid: at(nPInvalid, i), nPOne: at(nPOne, i), nRNull: at(nRNull, i), nP: at(nP, i), sumInvP: at(sumInvP, i), sumInvP2: at(sumInvP2, i),
-      minP: minP.valid(i) ? at(minP.values, i) : null, maxP: maxP.valid(i) ? at(maxP.values, i) : null,
-      nRw: at(nRw, i), sumInvPRw: at(sumInvPRw, i), sumInvP2Rw: at(sumInvP2Rw, i), sumR: at(sumR, i), sumR2: at(sumR2, i), sumRInvP: at(sumRInvP, i),
-      sumRInvP2: at(sumRInvP2, i), sumR2InvP2: at(sumR2InvP2, i), nRAll: at(nRAll, i), sumRAll: at(sumRAll, i), sumR2All: at(sumR2All, i), target: t,
-    };
+    cell.target = t;
+    cells[i] = cell as unknown as CubeCell;
   }
   return cells;
 }

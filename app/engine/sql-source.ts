@@ -1,22 +1,14 @@
 /**
  * Pure builders for the SQL that exposes a log as a relation: the table-function scan
  * (read_parquet / read_csv / read_json) and the view over it. No engine, no file system: callers say
- * which paths are folders. Every string literal goes through quoteLiteral, every name through quoteIdentifier.
+ * which paths are folders. Every string literal and name is quoted by app/core/sql/quote.ts.
  */
 import type { CsvOptions, SourceFormat } from './types.ts';
 import { EngineError } from './types.ts';
+import { ident as quoteIdentifier, literal as quoteLiteral } from '../core/sql/quote.ts';
 
-/** SQL string literal: single quotes doubled (SQL-92 §5.3 <character string literal>). */
-export function quoteLiteral(text: string): string {
-  const quoted = `'${text.replaceAll("'", "''")}'`;
-  // A NUL would end DuckDB's parse of the statement there.
-  return text.includes('\0') ? `(${quoted.split('\0').join("' || chr(0) || '")})` : quoted;
-}
-
-/** SQL delimited identifier: double quotes doubled (SQL-92 §5.2 <delimited identifier>). */
-export function quoteIdentifier(name: string): string {
-  return `"${name.replaceAll('"', '""')}"`;
-}
+/** Quoting is app/core/sql/quote.ts's, under the names the engine adapters have always used. */
+export { ident as quoteIdentifier, literal as quoteLiteral } from '../core/sql/quote.ts';
 
 const EXTENSION_FORMATS: readonly (readonly [string, SourceFormat])[] = [
   ['.parquet', 'parquet'], ['.pq', 'parquet'],

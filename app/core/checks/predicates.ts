@@ -2,13 +2,7 @@
 import { literal, timestamp } from '../sql/quote.ts';
 import { OTHER_LABEL, type RowExpressions, type TimeBuckets } from '../scan/expressions.ts';
 
-export function validPropensity(p: string): string {
-  return `(${p} > 0 AND ${p} <= 1 AND NOT isnan(${p}))`;
-}
-
-export function finiteReward(r: string): string {
-  return `(${r} IS NOT NULL AND isfinite(${r}))`;
-}
+export { finiteReward, validPropensity } from '../scan/expressions.ts';
 
 /** null when a value is the capped "(other)" bucket, which no simple predicate selects. */
 export function segmentPredicate(rows: RowExpressions, columns: readonly string[], segment: Record<string, string>): string | null {

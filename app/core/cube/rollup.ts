@@ -1,103 +1,109 @@
-/** Merging cube cells: sums add, minima and maxima combine (cells are mergeable, so parts of a log combine exactly). */
-import type { CubeCell, TargetColumnSums } from './types.ts';
+/** Merging cube cells: sums add, minima and maxima combine (cells are mergeable), field lists from measures.ts. */
+import { blankTargetSums, blankTotals, MAX_FIELDS, MIN_FIELDS, SUM_FIELDS, TARGET_FIELDS, type ExtremumField, type SumField, type TargetMeasureField } from './measures.ts';
+import type { CubeCell } from './types.ts';
 
 export type Totals = Omit<CubeCell, 'segment' | 'action' | 'bucket' | 'version'>;
 
-type Mutable<T> = { -readonly [K in keyof T]: T[K] };
-type Accumulator = Mutable<Omit<Totals, 'target'>> & { target: Mutable<TargetColumnSums> | null };
+/*
+ * Merging accumulates into one Float64Array (the sums, the minima, the maxima, a flag saying whether
+ * target-column sums are present, then those sums): one loop per merge rule over the field lists, and
+ * an object is made only once per group. A null minimum or maximum is NaN in the accumulator.
+ */
+const S = SUM_FIELDS.length;
+const MIN_AT = S;
+const MAX_AT = MIN_AT + MIN_FIELDS.length;
+const FLAG_AT = MAX_AT + MAX_FIELDS.length;
+const TARGET_AT = FLAG_AT + 1;
+const WIDTH = TARGET_AT + TARGET_FIELDS.length;
 
-const SUM_FIELDS = [
-  'n', 'nPInvalid', 'nPNull', 'nPNaN', 'nPNonPositive', 'nPAboveOne', 'nPBelowFloor', 'nPOne', 'nRNull', 'nP', 'sumInvP', 'sumInvP2',
-  'nRw', 'sumInvPRw', 'sumInvP2Rw', 'sumR', 'sumR2', 'sumRInvP', 'sumRInvP2', 'sumR2InvP2', 'nRAll', 'sumRAll', 'sumR2All',
-] as const;
-const TARGET_FIELDS = ['nInvalid', 'sumW', 'sumW2', 'sumWRw', 'sumW2Rw', 'sumWR', 'sumW2R', 'sumW2R2'] as const;
+/** The packed measures of a cell or totals. */
+function packInto(v: Float64Array, c: Totals): Float64Array {
+  for (let k = 0; k < S; k++) v[k] = c[SUM_FIELDS[k] as SumField];
+  for (let k = 0; k < MIN_FIELDS.length; k++) v[MIN_AT + k] = c[MIN_FIELDS[k] as ExtremumField] ?? NaN;
+  for (let k = 0; k < MAX_FIELDS.length; k++) v[MAX_AT + k] = c[MAX_FIELDS[k] as ExtremumField] ?? NaN;
+  const t = c.target;
+  v[FLAG_AT] = t ? 1 : 0;
+  for (let k = 0; k < TARGET_FIELDS.length; k++) v[TARGET_AT + k] = t ? t[TARGET_FIELDS[k] as TargetMeasureField] : 0;
+  return v;
+}
+const packed = (c: Totals): Float64Array => packInto(new Float64Array(WIDTH), c);
+
+/** Totals read back from a packed accumulator, keys in emptyTotals' order. */
+function unpacked(v: Float64Array): Totals {
+  const out = blankTotals();
+  for (let k = 0; k < S; k++) out[SUM_FIELDS[k] as SumField] = v[k];
+  for (let k = 0; k < MIN_FIELDS.length; k++) out[MIN_FIELDS[k] as ExtremumField] = Number.isNaN(v[MIN_AT + k]) ? null : v[MIN_AT + k];
+  for (let k = 0; k < MAX_FIELDS.length; k++) out[MAX_FIELDS[k] as ExtremumField] = Number.isNaN(v[MAX_AT + k]) ? null : v[MAX_AT + k];
+  let target: Record<string, number> | null = null;
+  if (v[FLAG_AT] === 1) {
+    target = blankTargetSums();
+    for (let k = 0; k < TARGET_FIELDS.length; k++) target[TARGET_FIELDS[k] as TargetMeasureField] = v[TARGET_AT + k] as number;
+  }
+  out.target = target;
+  const totals = out as unknown as Totals;
+  return totals;
+}
+
+/** acc += c in place: sums add, minima and maxima combine (NaN is "none"), target sums add or are taken. */
+function accumulate(acc: Float64Array, c: Totals): void {
+  for (let k = 0; k < S; k++) (acc[k] as number) += c[SUM_FIELDS[k] as SumField];
+  for (let k = 0; k < MIN_FIELDS.length; k++) {
+    const a = acc[MIN_AT + k] as number;
+    const b = c[MIN_FIELDS[k] as ExtremumField];
+    if (b !== null && (a !== a || b < a)) acc[MIN_AT + k] = b;
+  }
+  for (let k = 0; k < MAX_FIELDS.length; k++) {
+    const a = acc[MAX_AT + k] as number;
+    const b = c[MAX_FIELDS[k] as ExtremumField];
+    if (b !== null && (a !== a || b > a)) acc[MAX_AT + k] = b;
+  }
+  const t = c.target;
+  if (t) {
+    if (acc[FLAG_AT] === 1) for (let k = 0; k < TARGET_FIELDS.length; k++) (acc[TARGET_AT + k] as number) += t[TARGET_FIELDS[k] as TargetMeasureField];
+    else {
+      acc[FLAG_AT] = 1;
+      for (let k = 0; k < TARGET_FIELDS.length; k++) acc[TARGET_AT + k] = t[TARGET_FIELDS[k] as TargetMeasureField];
+    }
+  }
+}
+
+const EMPTY = new Float64Array(WIDTH).fill(NaN, MIN_AT, FLAG_AT);
 
 export function emptyTotals(withTarget: boolean): Totals {
-  const t: Record<string, unknown> = { minP: null, maxP: null, target: withTarget ? Object.fromEntries(TARGET_FIELDS.map((f) => [f, 0])) : null };
-  for (const f of SUM_FIELDS) t[f] = 0;
-  return t as unknown as Totals;
-}
-
-/** A fresh accumulator holding acc + c, keys in the order addInto has always produced (sums, minP, maxP, target). */
-function started(acc: Totals): Accumulator {
-  return {
-    n: acc.n, nPInvalid: acc.nPInvalid, nPNull: acc.nPNull, nPNaN: acc.nPNaN, nPNonPositive: acc.nPNonPositive, nPAboveOne: acc.nPAboveOne,
-    nPBelowFloor: acc.nPBelowFloor, nPOne: acc.nPOne, nRNull: acc.nRNull, nP: acc.nP, sumInvP: acc.sumInvP, sumInvP2: acc.sumInvP2,
-    nRw: acc.nRw, sumInvPRw: acc.sumInvPRw, sumInvP2Rw: acc.sumInvP2Rw, sumR: acc.sumR, sumR2: acc.sumR2, sumRInvP: acc.sumRInvP,
-    sumRInvP2: acc.sumRInvP2, sumR2InvP2: acc.sumR2InvP2, nRAll: acc.nRAll, sumRAll: acc.sumRAll, sumR2All: acc.sumR2All,
-    minP: acc.minP, maxP: acc.maxP, target: acc.target ? { ...acc.target } : null,
-  };
-}
-
-/** acc += c in place; the same additions, in the same order, as addInto. */
-function accumulate(acc: Accumulator, c: Totals): void {
-  acc.n += c.n;
-  acc.nPInvalid += c.nPInvalid;
-  acc.nPNull += c.nPNull;
-  acc.nPNaN += c.nPNaN;
-  acc.nPNonPositive += c.nPNonPositive;
-  acc.nPAboveOne += c.nPAboveOne;
-  acc.nPBelowFloor += c.nPBelowFloor;
-  acc.nPOne += c.nPOne;
-  acc.nRNull += c.nRNull;
-  acc.nP += c.nP;
-  acc.sumInvP += c.sumInvP;
-  acc.sumInvP2 += c.sumInvP2;
-  acc.nRw += c.nRw;
-  acc.sumInvPRw += c.sumInvPRw;
-  acc.sumInvP2Rw += c.sumInvP2Rw;
-  acc.sumR += c.sumR;
-  acc.sumR2 += c.sumR2;
-  acc.sumRInvP += c.sumRInvP;
-  acc.sumRInvP2 += c.sumRInvP2;
-  acc.sumR2InvP2 += c.sumR2InvP2;
-  acc.nRAll += c.nRAll;
-  acc.sumRAll += c.sumRAll;
-  acc.sumR2All += c.sumR2All;
-  acc.minP = acc.minP === null ? c.minP : c.minP === null ? acc.minP : Math.min(acc.minP, c.minP);
-  acc.maxP = acc.maxP === null ? c.maxP : c.maxP === null ? acc.maxP : Math.max(acc.maxP, c.maxP);
-  const a = acc.target;
-  const t = c.target;
-  if (a && t) {
-    a.nInvalid += t.nInvalid;
-    a.sumW += t.sumW;
-    a.sumW2 += t.sumW2;
-    a.sumWRw += t.sumWRw;
-    a.sumW2Rw += t.sumW2Rw;
-    a.sumWR += t.sumWR;
-    a.sumW2R += t.sumW2R;
-    a.sumW2R2 += t.sumW2R2;
-  } else if (!a && t) acc.target = { ...t };
+  const v = EMPTY.slice();
+  if (withTarget) v[FLAG_AT] = 1;
+  return unpacked(v);
 }
 
 export function addInto(acc: Totals, c: Totals): Totals {
-  const out = started(acc);
+  const out = packed(acc);
   accumulate(out, c);
-  return out;
+  return unpacked(out);
 }
 
 export function total(cells: readonly CubeCell[]): Totals {
   if (cells.length === 0) return emptyTotals(false);
-  const acc = started(emptyTotals(cells.some((c) => c.target !== null)));
+  const acc = packed(emptyTotals(cells.some((c) => c.target !== null)));
   for (const c of cells) accumulate(acc, c);
-  return acc;
+  return unpacked(acc);
 }
 
 /** Groups cells by a key and merges each group; keeps first-seen order of keys. */
 export function rollup<K>(cells: readonly CubeCell[], key: (c: CubeCell, index: number) => string, meta: (c: CubeCell) => K): { key: string; meta: K; totals: Totals }[] {
-  const groups = new Map<string, { key: string; meta: K; totals: Accumulator }>();
-  const empty = emptyTotals(cells.some((c) => c.target !== null));
+  const groups = new Map<string, { key: string; meta: K; acc: Float64Array }>();
+  const empty = EMPTY.slice();
+  if (cells.some((c) => c.target !== null)) empty[FLAG_AT] = 1;
   for (let i = 0; i < cells.length; i++) {
     const c = cells[i] as CubeCell;
     const k = key(c, i);
     let g = groups.get(k);
     if (!g) {
-      g = { key: k, meta: meta(c), totals: started(empty) };
+      g = { key: k, meta: meta(c), acc: empty.slice() };
       groups.set(k, g);
     }
-    accumulate(g.totals, c);
+    accumulate(g.acc, c);
   }
-  return [...groups.values()];
+  return [...groups.values()].map((g) => ({ key: g.key, meta: g.meta, totals: unpacked(g.acc) }));
 }
 
 export const SEP = '\u001f';

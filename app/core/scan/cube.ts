@@ -4,11 +4,12 @@
  * fold the rest into "(other)" inside the same statement, by merging cells (sums add, mins and
  * maxes combine), so capping costs no extra scan.
  */
-import type { CubeCell, TargetColumnSums } from '../cube/types.ts';
-import { double, integer, literal } from '../sql/quote.ts';
+import { blankCell, blankTargetSums, CELL_MEASURES, DERIVED_MEASURES, TARGET_MEASURES, type Measure, type Merge } from '../cube/measures.ts';
+import type { CubeCell } from '../cube/types.ts';
+import { integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { ColumnProfile } from './profile.ts';
-import { NULL_LABEL, OTHER_LABEL, VALID_P, VALID_R, type RowExpressions } from './expressions.ts';
+import { NULL_LABEL, OTHER_LABEL, VALID_R, type RowExpressions } from './expressions.ts';
 
 export interface CubeSpec {
   readonly relation: string;
@@ -37,92 +38,17 @@ export function groupsByPropensity(propensity: ColumnProfile | undefined): boole
   return !!propensity && propensity.distinctBasis === 'all rows' && propensity.distinct <= BY_PROPENSITY_MAX_DISTINCT;
 }
 
-const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
-
-/** [alias, aggregate over the base rows, how cells merge] */
-function aggregates(spec: CubeSpec): [string, string, 'sum' | 'min' | 'max'][] {
-  const pv = VALID_P;
-  const rw = `${VALID_P} AND ${VALID_R}`;
-  const cnt = (where: string) => `count(*) FILTER (WHERE ${where})::DOUBLE`;
-  const sum = (x: string, where: string) => `coalesce(sum(${x}) FILTER (WHERE ${where}), 0)::DOUBLE`;
-  const out: [string, string, 'sum' | 'min' | 'max'][] = [
-    ['n', 'count(*)::DOUBLE', 'sum'],
-    ['n_p_null', cnt('p IS NULL'), 'sum'],
-    ['n_p_nan', cnt('isnan(p)'), 'sum'],
-    ['n_p_nonpos', cnt('p <= 0'), 'sum'],
-    ['n_p_above', cnt('p > 1 AND NOT isnan(p)'), 'sum'],
-    ['n_p_one', cnt('p = 1'), 'sum'],
-    ['n_p_floor', cnt(`${pv} AND p < ${double(spec.floor)}`), 'sum'],
-    ['n_r_null', cnt(`NOT coalesce(${VALID_R}, false)`), 'sum'],
-    ['n_p', cnt(pv), 'sum'],
-    ['s_ip', sum('1 / p', pv), 'sum'],
-    ['s_ip2', sum('1 / (p * p)', pv), 'sum'],
-    ['min_p', `min(p) FILTER (WHERE ${pv})`, 'min'],
-    ['max_p', `max(p) FILTER (WHERE ${pv})`, 'max'],
-    ['n_rw', cnt(rw), 'sum'],
-    ['s_ip_rw', sum('1 / p', rw), 'sum'],
-    ['s_ip2_rw', sum('1 / (p * p)', rw), 'sum'],
-    ['s_r', sum('r', rw), 'sum'],
-    ['s_r2', sum('r * r', rw), 'sum'],
-    ['s_rip', sum('r / p', rw), 'sum'],
-    ['s_rip2', sum('r / (p * p)', rw), 'sum'],
-    ['s_r2ip2', sum('r * r / (p * p)', rw), 'sum'],
-    ['n_rall', cnt(VALID_R), 'sum'],
-    ['s_rall', sum('r', VALID_R), 'sum'],
-    ['s_r2all', sum('r * r', VALID_R), 'sum'],
-  ];
-  if (spec.rows.targetPropensity) {
-    const qv = `${pv} AND ${VALID_Q}`;
-    const qrw = `${rw} AND ${VALID_Q}`;
-    out.push(
-      ['t_n_invalid', cnt(`NOT coalesce(${VALID_Q}, false)`), 'sum'],
-      ['t_sw', sum('q / p', qv), 'sum'],
-      ['t_sw2', sum('q * q / (p * p)', qv), 'sum'],
-      ['t_sw_rw', sum('q / p', qrw), 'sum'],
-      ['t_sw2_rw', sum('q * q / (p * p)', qrw), 'sum'],
-      ['t_swr', sum('q * r / p', qrw), 'sum'],
-      ['t_sw2r', sum('q * q * r / (p * p)', qrw), 'sum'],
-      ['t_sw2r2', sum('q * q * r * r / (p * p)', qrw), 'sum'],
-    );
-  }
-  return out;
+/** [alias, aggregate over the base rows, how cells merge], from the measures table */
+function aggregates(spec: CubeSpec): [string, string, Merge][] {
+  const x = { floor: spec.floor };
+  const measures: readonly Measure[] = spec.rows.targetPropensity ? [...CELL_MEASURES, ...TARGET_MEASURES] : CELL_MEASURES;
+  return measures.map((m) => [m.column, m.rows(x), m.merge]);
 }
 
-/**
- * The same aggregates as `aggregates`, over groups g of rows sharing (cell keys, p) with c = rows,
- * c_r = rows with a finite reward, s_r / s_r2 = their Σr / Σr²: Σ_rows f(p) = Σ_g c·f(p), and
- * Σ_rows r·f(p) = Σ_g s_r·f(p), so each statistic is a sum over groups.
- */
+/** The same aggregates over groups of rows sharing (cell keys, p) (Measure.groups). */
 function byPropensityAggregates(spec: CubeSpec): [string, string][] {
-  const pv = VALID_P;
-  const cnt = (where: string) => `coalesce(sum(c) FILTER (WHERE ${where}), 0)::DOUBLE`;
-  const sum = (x: string, where?: string) => `coalesce(sum(${x})${where ? ` FILTER (WHERE ${where})` : ''}, 0)::DOUBLE`;
-  return [
-    ['n', 'sum(c)::DOUBLE'],
-    ['n_p_null', cnt('p IS NULL')],
-    ['n_p_nan', cnt('isnan(p)')],
-    ['n_p_nonpos', cnt('p <= 0')],
-    ['n_p_above', cnt('p > 1 AND NOT isnan(p)')],
-    ['n_p_one', cnt('p = 1')],
-    ['n_p_floor', cnt(`${pv} AND p < ${double(spec.floor)}`)],
-    ['n_r_null', sum('c - c_r')],
-    ['n_p', cnt(pv)],
-    ['s_ip', sum('c / p', pv)],
-    ['s_ip2', sum('c / (p * p)', pv)],
-    ['min_p', `min(p) FILTER (WHERE ${pv})`],
-    ['max_p', `max(p) FILTER (WHERE ${pv})`],
-    ['n_rw', sum('c_r', pv)],
-    ['s_ip_rw', sum('c_r / p', pv)],
-    ['s_ip2_rw', sum('c_r / (p * p)', pv)],
-    ['s_r', sum('s_r', pv)],
-    ['s_r2', sum('s_r2', pv)],
-    ['s_rip', sum('s_r / p', pv)],
-    ['s_rip2', sum('s_r / (p * p)', pv)],
-    ['s_r2ip2', sum('s_r2 / (p * p)', pv)],
-    ['n_rall', sum('c_r')],
-    ['s_rall', sum('s_r')],
-    ['s_r2all', sum('s_r2')],
-  ];
+  const x = { floor: spec.floor };
+  return CELL_MEASURES.map((m) => [m.column, m.groups(x)]);
 }
 
 export function cubeSql(spec: CubeSpec): string {
@@ -191,52 +117,26 @@ export function parseCube(table: Table, segmentCount: number): CubeCell[] {
   const a = col('a');
   const v = col('v');
   const b = nums(table, 'b');
-  const f = (name: string) => nums(table, name);
-  const n = f('n'), nPNull = f('n_p_null'), nPNaN = f('n_p_nan'), nPNonPos = f('n_p_nonpos'), nPAbove = f('n_p_above');
-  const nPOne = f('n_p_one'), nPFloor = f('n_p_floor'), nRNull = f('n_r_null'), nP = f('n_p'), sIp = f('s_ip'), sIp2 = f('s_ip2');
-  const minP = f('min_p'), maxP = f('max_p'), nRw = f('n_rw'), sIpRw = f('s_ip_rw'), sIp2Rw = f('s_ip2_rw');
-  const sR = f('s_r'), sR2 = f('s_r2'), sRip = f('s_rip'), sRip2 = f('s_rip2'), sR2ip2 = f('s_r2ip2');
-  const nRAll = f('n_rall'), sRAll = f('s_rall'), sR2All = f('s_r2all');
-  const hasTarget = table.names.includes('t_sw');
-  const t = hasTarget ? ['t_n_invalid', 't_sw', 't_sw2', 't_sw_rw', 't_sw2_rw', 't_swr', 't_sw2r', 't_sw2r2'].map(f) : null;
+  const cellColumns = CELL_MEASURES.map((m) => [m.field, m.merge, nums(table, m.column)] as const);
+  const hasTarget = table.names.includes(TARGET_MEASURES[0].column);
+  const targetColumns = hasTarget ? TARGET_MEASURES.map((m) => [m.field, nums(table, m.column)] as const) : null;
   const cells: CubeCell[] = [];
-  const z = (x: readonly (number | null)[], i: number) => x[i] ?? 0;
   for (let i = 0; i < table.rowCount; i++) {
-    const target: TargetColumnSums | null = t
-      ? { nInvalid: z(t[0]!, i), sumW: z(t[1]!, i), sumW2: z(t[2]!, i), sumWRw: z(t[3]!, i), sumW2Rw: z(t[4]!, i), sumWR: z(t[5]!, i), sumW2R: z(t[6]!, i), sumW2R2: z(t[7]!, i) }
-      : null;
-    cells.push({
-      segment: segCols.map((c) => String(c[i])),
-      action: String(a[i]),
-      version: String(v[i] ?? ''),
-      bucket: z(b, i),
-      n: z(n, i),
-      nPNull: z(nPNull, i),
-      nPNaN: z(nPNaN, i),
-      nPNonPositive: z(nPNonPos, i),
-      nPAboveOne: z(nPAbove, i),
-      nPInvalid: z(nPNull, i) + z(nPNaN, i) + z(nPNonPos, i) + z(nPAbove, i),
-      nPBelowFloor: z(nPFloor, i),
-      nPOne: z(nPOne, i),
-      nRNull: z(nRNull, i),
-      nP: z(nP, i),
-      sumInvP: z(sIp, i),
-      sumInvP2: z(sIp2, i),
-      minP: minP[i] ?? null,
-      maxP: maxP[i] ?? null,
-      nRw: z(nRw, i),
-      sumInvPRw: z(sIpRw, i),
-      sumInvP2Rw: z(sIp2Rw, i),
-      sumR: z(sR, i),
-      sumR2: z(sR2, i),
-      sumRInvP: z(sRip, i),
-      sumRInvP2: z(sRip2, i),
-      sumR2InvP2: z(sR2ip2, i),
-      nRAll: z(nRAll, i),
-      sumRAll: z(sRAll, i),
-      sumR2All: z(sR2All, i),
-      target,
-    });
+    const cell = blankCell();
+    cell.segment = segCols.map((c) => String(c[i]));
+    cell.action = String(a[i]);
+    cell.version = String(v[i] ?? '');
+    cell.bucket = b[i] ?? 0;
+    // an empty sum is 0; an empty minimum or maximum is null
+    for (const [field, merge, values] of cellColumns) cell[field] = values[i] ?? (merge === 'sum' ? 0 : null);
+    for (const d of DERIVED_MEASURES) cell[d.field] = d.of.reduce((s, f) => s + (cell[f] as number), 0);
+    let target: Record<string, number> | null = null;
+    if (targetColumns) {
+      target = blankTargetSums();
+      for (const [field, values] of targetColumns) target[field] = values[i] ?? 0;
+    }
+    cell.target = target;
+    cells.push(cell as unknown as CubeCell);
   }
   return cells;
 }

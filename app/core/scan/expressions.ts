@@ -120,6 +120,16 @@ export function rowExpressions(roles: ResolvedRoles, profile: Profile, buckets: 
   };
 }
 
-/** Valid propensity: 0 < p <= 1 and not NaN (DuckDB orders NaN above every number). */
-export const VALID_P = '(p > 0 AND p <= 1 AND NOT isnan(p))';
-export const VALID_R = '(r IS NOT NULL AND isfinite(r))';
+/** The one rule for a valid propensity: 0 < p <= 1 and not NaN (DuckDB orders NaN above every number). */
+export function validPropensity(p: string): string {
+  return `(${p} > 0 AND ${p} <= 1 AND NOT isnan(${p}))`;
+}
+
+/** The one rule for a usable reward: present and finite. */
+export function finiteReward(r: string): string {
+  return `(${r} IS NOT NULL AND isfinite(${r}))`;
+}
+
+/** The rules over the cube's base columns p and r. */
+export const VALID_P = validPropensity('p');
+export const VALID_R = finiteReward('r');

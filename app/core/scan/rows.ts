@@ -7,7 +7,7 @@ import { SEP } from '../cube/rollup.ts';
 import { double, ident, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
-import type { RowExpressions } from './expressions.ts';
+import { validPropensity, type RowExpressions } from './expressions.ts';
 
 /**
  * Decision ids held by more than one row. The ids are sorted and each compared with the one before
@@ -85,7 +85,7 @@ export function tailSql(relation: string, rows: RowExpressions, target: TargetPo
   return [
     `WITH w AS MATERIALIZED (`,
     `  SELECT (${expr}) / ${P} AS w FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src ${join}`,
-    `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P}))`,
+    `  WHERE ${validPropensity(P)}`,
     `), pos AS (SELECT w FROM w WHERE w > 0 AND isfinite(w)),`,
     `top AS (SELECT 0 AS kind, w AS x, CAST(1 AS DOUBLE) AS n FROM pos ORDER BY w DESC LIMIT ${integer(limit)}),`,
     `hist AS (SELECT 1 AS kind, floor(log10(w) / ${LOG10_BIN}) * ${LOG10_BIN} AS x, count(*)::DOUBLE AS n FROM pos GROUP BY 2)`,
@@ -110,7 +110,7 @@ function tailByPropensitySql(relation: string, rows: RowExpressions, target: Tar
   return [
     `WITH g AS (`,
     `  SELECT ${keys.join(', ')}, ${P}, count(*)::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
-    `  WHERE (${P} > 0 AND ${P} <= 1 AND NOT isnan(${P})) GROUP BY ALL`,
+    `  WHERE ${validPropensity(P)} GROUP BY ALL`,
     `), w AS (SELECT (${expr}) / ${P} AS w, c FROM g ${join}),`,
     `pos AS (SELECT w, sum(c) AS c FROM w WHERE w > 0 AND isfinite(w) GROUP BY w),`,
     `ranked AS (SELECT w, c, coalesce(sum(c) OVER (ORDER BY w DESC ROWS BETWEEN UNBOUNDED PRECEDING AND 1 PRECEDING), 0) AS before FROM pos),`,

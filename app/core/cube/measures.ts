@@ -1,0 +1,142 @@
+/**
+ * The cube's measures, each declared once: the field it fills on a cell, its column in the cube query's
+ * result, how two cells merge it, and its aggregate in SQL. The cube query (app/core/scan/cube.ts), its
+ * parser, the merge of cells (rollup.ts), the cell type (types.ts) and the Arrow layout
+ * (app/engine/cube-arrow.ts) are all derived from these lists; a new sum is one entry here.
+ *
+ * Row sets (p is the logged propensity, r the reward, q a mapped target_propensity):
+ *   - all rows:          n, the invalid-p counts, nPOne, nRNull
+ *   - valid-p rows:      nP, sumInvP, sumInvP2, minP, maxP, nPBelowFloor        (0 < p <= 1)
+ *   - rewarded rows:     valid p AND finite r:  nRw, sumInvPRw, sumInvP2Rw, sumR, sumR2, sumRInvP, sumRInvP2, sumR2InvP2
+ *   - any finite reward: nRAll, sumRAll, sumR2All                               (on-policy value, reward drift)
+ */
+import { double } from '../sql/quote.ts';
+import { VALID_P, VALID_R } from '../scan/expressions.ts';
+
+/** How a measure combines when cells merge: sums add, minima and maxima combine (null is "no value"). */
+export type Merge = 'sum' | 'min' | 'max';
+
+/** What a measure's SQL may depend on besides the row. */
+export interface MeasureContext {
+  /** the support floor ε the cube is built with */
+  readonly floor: number;
+}
+
+export interface Measure<F extends string = string, M extends Merge = Merge> {
+  readonly field: F;
+  /** column name in the cube query's result */
+  readonly column: string;
+  readonly merge: M;
+  /** aggregate over the rows (columns p, r and q of the cube's base projection) */
+  readonly rows: (x: MeasureContext) => string;
+  /**
+   * the same aggregate over groups of rows sharing (cell keys, p), with c = rows, c_r = rows with a
+   * finite reward, s_r / s_r2 = their Σr / Σr²: Σ_rows f(p) = Σ_g c·f(p) and Σ_rows r·f(p) = Σ_g s_r·f(p)
+   */
+  readonly groups: (x: MeasureContext) => string;
+}
+
+const PV = VALID_P;
+const RW = `${VALID_P} AND ${VALID_R}`;
+const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
+const QV = `${PV} AND ${VALID_Q}`;
+const QRW = `${RW} AND ${VALID_Q}`;
+
+const rowCount = (where: string) => `count(*) FILTER (WHERE ${where})::DOUBLE`;
+const groupCount = (where: string) => `coalesce(sum(c) FILTER (WHERE ${where}), 0)::DOUBLE`;
+const rowSum = (x: string, where: string) => `coalesce(sum(${x}) FILTER (WHERE ${where}), 0)::DOUBLE`;
+const groupSum = (x: string, where?: string) => `coalesce(sum(${x})${where ? ` FILTER (WHERE ${where})` : ''}, 0)::DOUBLE`;
+
+/** A count of rows satisfying `where` (a condition on p only, so it holds for a whole (keys, p) group). */
+function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string): Measure<F, 'sum'> {
+  return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)) };
+}
+
+function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: string, groups: string): Measure<F, M> {
+  return { field, column, merge, rows: () => rows, groups: () => groups };
+}
+
+/** The measures of every cell, in the cube query's column order. */
+export const CELL_MEASURES = [
+  measure('n', 'n', 'sum', 'count(*)::DOUBLE', 'sum(c)::DOUBLE'),
+  count('nPNull', 'n_p_null', () => 'p IS NULL'),
+  count('nPNaN', 'n_p_nan', () => 'isnan(p)'),
+  count('nPNonPositive', 'n_p_nonpos', () => 'p <= 0'),
+  count('nPAboveOne', 'n_p_above', () => 'p > 1 AND NOT isnan(p)'),
+  count('nPOne', 'n_p_one', () => 'p = 1'),
+  count('nPBelowFloor', 'n_p_floor', (x) => `${PV} AND p < ${double(x.floor)}`),
+  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), groupSum('c - c_r')),
+  count('nP', 'n_p', () => PV),
+  measure('sumInvP', 's_ip', 'sum', rowSum('1 / p', PV), groupSum('c / p', PV)),
+  measure('sumInvP2', 's_ip2', 'sum', rowSum('1 / (p * p)', PV), groupSum('c / (p * p)', PV)),
+  measure('minP', 'min_p', 'min', `min(p) FILTER (WHERE ${PV})`, `min(p) FILTER (WHERE ${PV})`),
+  measure('maxP', 'max_p', 'max', `max(p) FILTER (WHERE ${PV})`, `max(p) FILTER (WHERE ${PV})`),
+  measure('nRw', 'n_rw', 'sum', rowCount(RW), groupSum('c_r', PV)),
+  measure('sumInvPRw', 's_ip_rw', 'sum', rowSum('1 / p', RW), groupSum('c_r / p', PV)),
+  measure('sumInvP2Rw', 's_ip2_rw', 'sum', rowSum('1 / (p * p)', RW), groupSum('c_r / (p * p)', PV)),
+  measure('sumR', 's_r', 'sum', rowSum('r', RW), groupSum('s_r', PV)),
+  measure('sumR2', 's_r2', 'sum', rowSum('r * r', RW), groupSum('s_r2', PV)),
+  measure('sumRInvP', 's_rip', 'sum', rowSum('r / p', RW), groupSum('s_r / p', PV)),
+  measure('sumRInvP2', 's_rip2', 'sum', rowSum('r / (p * p)', RW), groupSum('s_r / (p * p)', PV)),
+  measure('sumR2InvP2', 's_r2ip2', 'sum', rowSum('r * r / (p * p)', RW), groupSum('s_r2 / (p * p)', PV)),
+  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), groupSum('c_r')),
+  measure('sumRAll', 's_rall', 'sum', rowSum('r', VALID_R), groupSum('s_r')),
+  measure('sumR2All', 's_r2all', 'sum', rowSum('r * r', VALID_R), groupSum('s_r2')),
+] as const;
+
+/** Row-level only: a target-propensity column makes the cube read every row. */
+const rowsOnly = <F extends string>(field: F, column: string, rows: string): Measure<F, 'sum'> => ({
+  field, column, merge: 'sum', rows: () => rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
+});
+
+/** Sums for a mapped target_propensity column q (row weight q/p), same row sets; on cell.target. */
+export const TARGET_MEASURES = [
+  rowsOnly('nInvalid', 't_n_invalid', rowCount(`NOT coalesce(${VALID_Q}, false)`)),
+  rowsOnly('sumW', 't_sw', rowSum('q / p', QV)),
+  rowsOnly('sumW2', 't_sw2', rowSum('q * q / (p * p)', QV)),
+  rowsOnly('sumWRw', 't_sw_rw', rowSum('q / p', QRW)),
+  rowsOnly('sumW2Rw', 't_sw2_rw', rowSum('q * q / (p * p)', QRW)),
+  rowsOnly('sumWR', 't_swr', rowSum('q * r / p', QRW)),
+  rowsOnly('sumW2R', 't_sw2r', rowSum('q * q * r / (p * p)', QRW)),
+  rowsOnly('sumW2R2', 't_sw2r2', rowSum('q * q * r * r / (p * p)', QRW)),
+] as const;
+
+/** Fields computed from other fields of the same cell when it is parsed; they merge as sums. */
+export const DERIVED_MEASURES = [
+  /** invalid propensities of any kind: null (or unparseable), NaN, <= 0, > 1 */
+  { field: 'nPInvalid', of: ['nPNull', 'nPNaN', 'nPNonPositive', 'nPAboveOne'] },
+] as const;
+
+type FieldOf<T extends readonly { readonly field: string }[]> = T[number]['field'];
+type MergeOf<T, F> = T extends Measure<infer G, infer M> ? (G extends F ? M : never) : never;
+
+export type CellMeasureField = FieldOf<typeof CELL_MEASURES> | FieldOf<typeof DERIVED_MEASURES>;
+export type TargetMeasureField = FieldOf<typeof TARGET_MEASURES>;
+export type ExtremumField = { [K in FieldOf<typeof CELL_MEASURES>]: MergeOf<(typeof CELL_MEASURES)[number], K> extends 'sum' ? never : K }[FieldOf<typeof CELL_MEASURES>];
+export type SumField = Exclude<CellMeasureField, ExtremumField>;
+
+/** Every summed field of a cell, in cell order (query columns first, then the derived ones). */
+export const SUM_FIELDS: readonly SumField[] = [
+  ...CELL_MEASURES.filter((m) => m.merge === 'sum').map((m) => m.field as SumField),
+  ...DERIVED_MEASURES.map((d) => d.field),
+];
+export const MIN_FIELDS: readonly ExtremumField[] = CELL_MEASURES.filter((m) => m.merge === 'min').map((m) => m.field as ExtremumField);
+export const MAX_FIELDS: readonly ExtremumField[] = CELL_MEASURES.filter((m) => m.merge === 'max').map((m) => m.field as ExtremumField);
+export const TARGET_FIELDS: readonly TargetMeasureField[] = TARGET_MEASURES.map((m) => m.field);
+
+/*
+ * Objects built by assigning two dozen computed keys one by one fall into V8's slow dictionary mode,
+ * which makes every later read of a field several times slower; a spread copy of a template is a
+ * plain fast object. Cells, totals and target sums are therefore made as copies of these templates.
+ */
+const template = (keys: readonly string[], value: unknown): Readonly<Record<string, unknown>> => Object.fromEntries(keys.map((k) => [k, value]));
+const CELL_TEMPLATE = template(['segment', 'action', 'version', 'bucket', ...CELL_MEASURES.map((m) => m.field), ...DERIVED_MEASURES.map((d) => d.field), 'target'], null);
+const TOTALS_TEMPLATE = template([...SUM_FIELDS, ...MIN_FIELDS, ...MAX_FIELDS, 'target'], null);
+const TARGET_TEMPLATE = template(TARGET_FIELDS, 0);
+
+/** A new cell object with every key in cell order, to be filled in. */
+export const blankCell = (): Record<string, unknown> => ({ ...CELL_TEMPLATE });
+/** A new totals object (sums, minima, maxima, target), to be filled in. */
+export const blankTotals = (): Record<string, unknown> => ({ ...TOTALS_TEMPLATE });
+/** A new target-sums object, to be filled in. */
+export const blankTargetSums = (): Record<string, number> => ({ ...TARGET_TEMPLATE }) as Record<string, number>;
