@@ -35,8 +35,16 @@ export function bundleOptions(root: string = ROOT, outDir: string = path.join(ro
   return [
     {
       ...shared,
+      // Main needs no native package; its one library (zod, for the IPC and host messages) is inlined.
+      entryPoints: { main: 'app/main/index.ts' },
+      platform: 'node',
+      target: NODE_TARGET,
+      external: ['electron'],
+    },
+    {
+      ...shared,
       // Node packages stay in node_modules; @duckdb/node-api ships a native addon that cannot be bundled.
-      entryPoints: { main: 'app/main/index.ts', 'engine-host': 'app/main/host-utility-entry.ts' },
+      entryPoints: { 'engine-host': 'app/main/host-utility-entry.ts' },
       platform: 'node',
       target: NODE_TARGET,
       packages: 'external',

@@ -9,7 +9,8 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { runAudit, type TargetInput } from '../app/core/audit.ts';
 import type { Table } from '../app/core/table.ts';
-import { decodeTable, type WireTable } from '../app/engine/host/protocol.ts';
+import { decodeTable } from '../app/engine/host/codec.ts';
+import type { WireTable } from '../app/engine/host/messages.ts';
 import type { MeasureResult, MeasureSpec } from './measure.ts';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');

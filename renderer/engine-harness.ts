@@ -4,8 +4,8 @@
  */
 import ehWasm from '@duckdb/duckdb-wasm/dist/duckdb-eh.wasm?url';
 import ehWorker from '@duckdb/duckdb-wasm/dist/duckdb-browser-eh.worker.js?url';
-import { encodeTable } from '../app/engine/host/protocol.ts';
-import type { WireTable } from '../app/engine/host/protocol.ts';
+import { encodeTable } from '../app/engine/host/codec.ts';
+import type { WireTable } from '../app/engine/host/messages.ts';
 import { EngineError } from '../app/engine/types.ts';
 import type { RegisteredSource } from '../app/engine/types.ts';
 import { createWasmBrowserEngine } from '../app/engine/wasm-browser.ts';

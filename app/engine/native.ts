@@ -1,4 +1,3 @@
-import path from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import type { DuckDBConnection } from '@duckdb/node-api';
 import type { Table } from '../core/table.ts';
@@ -6,8 +5,10 @@ import { tableFromDuckDBResult } from './convert/duckdb-values.ts';
 import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts';
 import { toEngineError } from './errors.ts';
 import { withFileKind } from './file-kind.ts';
+import { expandSource, lockDownSql } from './file-grants.ts';
 import { foldersAmong } from './node-paths.ts';
-import { buildScan, createViewSql, globSql, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
+import { assertReadStatement, STATEMENT_CHECK_SQL } from './read-only.ts';
+import { buildScan, createViewSql, globSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from './types.ts';
 import { serialQueue } from './serial.ts';
@@ -18,15 +19,25 @@ export interface NativeEngineOptions {
   /** DuckDB's `memory_limit`, e.g. "4GB"; DuckDB's default (80% of RAM) when absent. */
   memoryLimit?: string;
   /**
-   * Queries may read the registered sources and nothing else: no other file (read_csv('/any/file')),
-   * no COPY ... TO, ATTACH or extension install, and no setting can be changed back (DuckDB's
-   * enable_external_access = false with allowed_paths / allowed_directories, then lock_configuration).
-   * DuckDB cannot widen the allow-list once access is off, so each register() reopens the in-memory
-   * database with the grown list and recreates the views (they hold no data). For the engine host,
-   * whose query messages come from another process.
+   * Locked: queries may read the registered files and nothing else, and nothing can write.
+   * - Each file is granted by its own path (DuckDB's allowed_paths; allowed_directories stays empty),
+   *   after its registration succeeded; globs and folders are expanded in Node (file-grants.ts).
+   *   enable_external_access = false and lock_configuration = true keep every other file and setting out.
+   *   DuckDB cannot widen the list once access is off, so a registration opens a new in-memory database
+   *   with the grown list and its views (they hold no data) and swaps it in only when the new view
+   *   reads; on failure the old database stays as it was, so a failed registration grants nothing.
+   * - DuckDB's allowed paths may be written as well as read, so every query passes a statement gate
+   *   first (read-only.ts): one SELECT (DESCRIBE, SUMMARIZE) per call, checked by DuckDB's parser.
+   * - A result is capped at `maxResultRows` rows.
+   * For the engine host, whose requests come from another process.
    */
   restrictFileAccess?: boolean;
+  /** Row cap of one result when locked (default MAX_RESULT_ROWS). */
+  maxResultRows?: number;
 }
+
+/** Far above any audit query's answer (cube cells are capped by segments.cap); a drill page is 200 rows. */
+export const MAX_RESULT_ROWS = 2_000_000;
 
 export interface QueryProgress {
   /** Percent done as DuckDB estimates it, or -1 when it cannot tell. */
@@ -50,16 +61,18 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
   if (options.threads !== undefined) config.threads = String(options.threads);
   if (options.memoryLimit !== undefined) config.memory_limit = options.memoryLimit;
   const restricted = options.restrictFileAccess === true;
-  const allowed = { paths: new Set<string>(), directories: new Set<string>() };
+  const maxRows = options.maxResultRows ?? MAX_RESULT_ROWS;
+  /** Files the current database may read; grows only when a registration succeeds. */
+  let granted: readonly string[] = [];
   const views = new Map<string, string>();
 
-  async function open(): Promise<{ instance: DuckDBInstance; connection: DuckDBConnection }> {
+  async function open(files: readonly string[] = granted): Promise<{ instance: DuckDBInstance; connection: DuckDBConnection }> {
     const db = await DuckDBInstance.create(':memory:', config);
     const conn = await db.connect();
     try {
       // Progress is tracked for the host's progress events; printing it to the terminal stays off.
       await conn.run('SET enable_progress_bar = true; SET enable_progress_bar_print = false; SET progress_bar_time = 100');
-      if (restricted) await conn.run(lockDownSql(allowed.paths, allowed.directories));
+      if (restricted) await conn.run(lockDownSql(files));
       for (const [relation, scanSql] of views) await conn.run(createViewSql(relation, scanSql));
     } catch (error) {
       conn.closeSync();
@@ -92,28 +105,29 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
   async function register(source: SourceSpec): Promise<RegisteredSource> {
     ensureOpen();
     if (source.kind !== 'path') throw new EngineError('unsupported-format', 'The native engine reads files by path; a browser File handle cannot be opened here.');
+    return restricted ? registerLocked(source) : registerOpen(source);
+  }
+
+  /** Registers the source on `conn`; throws when the view does not read (or a CSV's rows are ragged). */
+  async function createView(conn: DuckDBConnection, relation: string, scan: { sql: string; format: string }, files: readonly string[]): Promise<void> {
+    await conn.run(createViewSql(relation, scan.sql));
+    if (scan.format === 'csv') {
+      const shape = collapsedHeader(await tableFromDuckDBResult(await conn.run(`DESCRIBE SELECT * FROM ${relation}`)));
+      if (shape) throw raggedRowsError(files.length === 1 ? files[0] : undefined, shape, await tableFromDuckDBResult(await conn.run(raggedLinesSql(relation, shape))));
+    }
+  }
+
+  function registerOpen(source: Extract<SourceSpec, { kind: 'path' }>): Promise<RegisteredSource> {
     const folders = foldersAmong(source.paths);
     const scan = buildScan({ paths: source.paths, folders, format: source.format, csv: source.csv, hivePartitioning: source.hivePartitioning });
     return serial(async () => {
       ensureOpen();
       const relation = relationName(++sequence);
       try {
-        if (restricted) {
-          const grant = accessFor(scan.patterns, folders);
-          grant.paths.forEach((p) => allowed.paths.add(p));
-          grant.directories.forEach((d) => allowed.directories.add(d));
-          const next = await open();
-          connection.closeSync();
-          instance.closeSync();
-          ({ instance, connection } = next);
-        }
         await connection.run(createViewSql(relation, scan.sql));
         const listed = await connection.run(globSql(scan.patterns));
         const files = (await listed.getRows()).map((row) => String(row[0]));
-        if (scan.format === 'csv') {
-          const shape = collapsedHeader(await tableFromDuckDBResult(await connection.run(`DESCRIBE SELECT * FROM ${relation}`)));
-          if (shape) throw raggedRowsError(files.length === 1 ? files[0] : undefined, shape, await tableFromDuckDBResult(await connection.run(raggedLinesSql(relation, shape))));
-        }
+        await createView(connection, relation, scan, files);
         relations.add(relation);
         views.set(relation, scan.sql);
         return { relation, format: scan.format, files, scanSql: scan.sql };
@@ -121,6 +135,50 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
         throw withFileKind(toEngineError(error, { files: source.paths }), source.paths, scan.format);
       }
     });
+  }
+
+  function registerLocked(source: Extract<SourceSpec, { kind: 'path' }>): Promise<RegisteredSource> {
+    const folders = foldersAmong(source.paths);
+    const format = resolveFormat({ paths: source.paths, folders, format: source.format });
+    return serial(async () => {
+      ensureOpen();
+      const { files, hadFolder } = expandSource(source.paths, format);
+      const scan = buildScan({ paths: files, format, csv: source.csv, hivePartitioning: source.hivePartitioning ?? hadFolder });
+      const relation = relationName(++sequence);
+      const grown = [...granted, ...files.filter((f) => !granted.includes(f))];
+      let next: { instance: DuckDBInstance; connection: DuckDBConnection };
+      try {
+        next = await open(grown);
+      } catch (error) {
+        throw toEngineError(error);
+      }
+      try {
+        await createView(next.connection, relation, scan, files);
+      } catch (error) {
+        // Rolled back: the new database (and its grants) is dropped, the old one was never touched.
+        next.connection.closeSync();
+        next.instance.closeSync();
+        throw withFileKind(toEngineError(error, { files: source.paths }), source.paths, scan.format);
+      }
+      connection.closeSync();
+      instance.closeSync();
+      ({ instance, connection } = next);
+      granted = grown;
+      relations.add(relation);
+      views.set(relation, scan.sql);
+      return { relation, format: scan.format, files, scanSql: scan.sql };
+    });
+  }
+
+  /** A locked engine's query: the gate, then the statement, read up to the row cap. */
+  async function runLocked(sql: string): Promise<Table> {
+    const check = await (await connection.run(STATEMENT_CHECK_SQL, [sql])).getRows();
+    assertReadStatement(String(check[0]?.[0] ?? ''), sql);
+    const reader = await connection.streamAndReadUntil(sql, maxRows + 1);
+    if (reader.currentRowCount > maxRows) {
+      throw new EngineError('too-large', `The result has more than ${maxRows.toLocaleString('en')} rows, the most one answer may hold; nothing was sent.`);
+    }
+    return tableFromDuckDBResult(reader);
   }
 
   function query(sql: string, queryOptions: QueryOptions = {}): Promise<Table> {
@@ -133,7 +191,7 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       signal?.addEventListener('abort', onAbort, { once: true });
       running = true;
       try {
-        return await tableFromDuckDBResult(await connection.run(sql));
+        return restricted ? await runLocked(sql) : await tableFromDuckDBResult(await connection.run(sql));
       } catch (error) {
         throw toEngineError(error);
       } finally {
@@ -165,33 +223,4 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       instance.closeSync();
     },
   };
-}
-
-/** What a restricted engine must be allowed to read for a scan: each named file, and the folder of a glob or folder. */
-export function accessFor(patterns: readonly string[], folders: readonly string[]): { paths: string[]; directories: string[] } {
-  const paths: string[] = [];
-  const directories: string[] = [];
-  const folderSet = new Set(folders.map((f) => path.resolve(f)));
-  for (const pattern of patterns) {
-    const wild = pattern.search(/[*?[{]/);
-    if (wild < 0) {
-      paths.push(path.resolve(pattern));
-      continue;
-    }
-    const dir = path.resolve(pattern.slice(0, wild).replace(/[^/\\]*$/, '') || '.');
-    directories.push(dir.endsWith(path.sep) ? dir : `${dir}${path.sep}`);
-  }
-  for (const f of folderSet) if (!directories.some((d) => `${f}${path.sep}`.startsWith(d))) directories.push(`${f}${path.sep}`);
-  return { paths, directories };
-}
-
-/** Settings that confine DuckDB to the allowed files; order matters (allow-lists cannot change once access is off). */
-export function lockDownSql(paths: Iterable<string>, directories: Iterable<string>): string {
-  const list = (xs: Iterable<string>) => `[${[...xs].map(quoteLiteral).join(', ')}]`;
-  return [
-    `SET allowed_paths = ${list(paths)}`,
-    `SET allowed_directories = ${list(directories)}`,
-    'SET enable_external_access = false',
-    'SET lock_configuration = true',
-  ].join('; ');
 }

@@ -37,7 +37,9 @@ export interface Engine {
   close(): Promise<void>;
 }
 
-export type EngineErrorCode = 'cancelled' | 'sql' | 'io' | 'unsupported-format' | 'extension-unavailable' | 'out-of-memory' | 'closed' | 'internal';
+/** 'too-large': a result past the row or byte cap of one answer. */
+export const ENGINE_ERROR_CODES = ['cancelled', 'sql', 'io', 'unsupported-format', 'extension-unavailable', 'out-of-memory', 'too-large', 'closed', 'internal'] as const;
+export type EngineErrorCode = (typeof ENGINE_ERROR_CODES)[number];
 
 export class EngineError extends Error {
   constructor(readonly code: EngineErrorCode, message: string) {

@@ -1,4 +1,4 @@
-import type { HostReply, HostRequest } from '../engine/host/protocol.ts';
+import type { HostReply, HostRequest } from '../engine/host/messages.ts';
 import { type EngineHost, type EngineHostOptions, startEngineHost } from './engine-host.ts';
 import { parseHostReply } from './host-messages.ts';
 
@@ -14,7 +14,7 @@ export function startEngineRelay(options: EngineRelayOptions): EngineHost<HostRe
     ...options,
     parseReply: parseHostReply,
     onReply: (reply) => {
-      if (reply.kind !== 'progress' && reply.kind !== 'audit-progress') waiting.delete(reply.id);
+      if (reply.kind !== 'audit-progress') waiting.delete(reply.id);
       options.onReply(reply);
     },
     onStatus: (status) => {

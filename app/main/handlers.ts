@@ -1,4 +1,4 @@
-import type { HostReply, HostRequest } from '../engine/host/protocol.ts';
+import type { HostReply, HostRequest } from '../engine/host/messages.ts';
 import { chooseLog, chooseTargetTable, type DialogApi, type PathGrants, PathNotGrantedError, type RecentStore, saveReport } from './file-access.ts';
 import { admitRequest } from './host-messages.ts';
 import type { EngineHost } from './engine-host.ts';

@@ -1,6 +1,6 @@
 // Start-up of the Electron main process: the one place the modules are wired together.
 import { app, BrowserWindow, dialog, ipcMain, protocol, session, utilityProcess } from 'electron';
-import type { HostReply } from '../engine/host/protocol.ts';
+import type { HostReply } from '../engine/host/messages.ts';
 import { APP_ENTRY_URL, APP_ORIGIN, registerAppScheme, serveAppScheme } from './app-protocol.ts';
 import { startEngineRelay } from './engine-relay.ts';
 import { type DialogApi, parseLaunchArgs, PathGrants, recentStore, userArgs } from './file-access.ts';

@@ -1,6 +1,9 @@
 // The closed set of messages between the renderer (through the preload) and the main process.
-// Shared by app/main and app/preload; type-only apart from the channel names.
-import type { HostReply, HostRequest } from '../engine/host/protocol.ts';
+// Shared by app/main and app/preload; type-only: the arguments' schemas are in ipc-schema.ts.
+import type { HostReply, HostRequest } from '../engine/host/messages.ts';
+import type { InvokeArgsOf, PrintRequest, SaveReportRequest } from './ipc-schema.ts';
+
+export type { PrintRequest, SaveReportRequest };
 
 export type ReportFormat = 'json' | 'html' | 'pdf';
 
@@ -21,16 +24,6 @@ export interface TargetTableFile {
   text: string;
 }
 
-export interface SaveReportRequest {
-  format: 'json' | 'html';
-  contents: string;
-  suggestedName?: string;
-}
-
-export interface PrintRequest {
-  suggestedName?: string;
-}
-
 export type EngineHostState = 'starting' | 'ready' | 'restarting' | 'failed';
 
 export interface EngineHostStatus {
@@ -41,15 +34,15 @@ export interface EngineHostStatus {
 
 /** Renderer -> main requests (ipcRenderer.invoke), each with its arguments and result. */
 export interface InvokeChannels {
-  'launch:log': { args: []; result: LaunchLog };
-  'log:choose': { args: []; result: string[] | null };
-  'recent:list': { args: []; result: RecentLog[] };
-  'recent:add': { args: [paths: string[]]; result: RecentLog[] };
-  'target-table:choose': { args: []; result: TargetTableFile | null };
-  'report:save': { args: [request: SaveReportRequest]; result: string | null };
-  'report:print-pdf': { args: [request: PrintRequest]; result: string | null };
-  'engine:send': { args: [message: HostRequest]; result: void };
-  'engine:status': { args: []; result: EngineHostStatus };
+  'launch:log': { args: InvokeArgsOf<'launch:log'>; result: LaunchLog };
+  'log:choose': { args: InvokeArgsOf<'log:choose'>; result: string[] | null };
+  'recent:list': { args: InvokeArgsOf<'recent:list'>; result: RecentLog[] };
+  'recent:add': { args: InvokeArgsOf<'recent:add'>; result: RecentLog[] };
+  'target-table:choose': { args: InvokeArgsOf<'target-table:choose'>; result: TargetTableFile | null };
+  'report:save': { args: InvokeArgsOf<'report:save'>; result: string | null };
+  'report:print-pdf': { args: InvokeArgsOf<'report:print-pdf'>; result: string | null };
+  'engine:send': { args: InvokeArgsOf<'engine:send'>; result: void };
+  'engine:status': { args: InvokeArgsOf<'engine:status'>; result: EngineHostStatus };
 }
 
 /** Main -> renderer events (webContents.send). */
@@ -62,24 +55,6 @@ export type InvokeChannel = keyof InvokeChannels;
 export type EventChannel = keyof EventChannels;
 export type InvokeArgs<C extends InvokeChannel> = InvokeChannels[C]['args'];
 export type InvokeResult<C extends InvokeChannel> = InvokeChannels[C]['result'];
-
-export const INVOKE_CHANNELS = [
-  'launch:log',
-  'log:choose',
-  'recent:list',
-  'recent:add',
-  'target-table:choose',
-  'report:save',
-  'report:print-pdf',
-  'engine:send',
-  'engine:status',
-] as const satisfies readonly InvokeChannel[];
-
-type UnlistedChannel = Exclude<InvokeChannel, (typeof INVOKE_CHANNELS)[number]>;
-/** Does not compile while a channel of InvokeChannels is missing from INVOKE_CHANNELS. */
-export const INVOKE_CHANNELS_COMPLETE: [UnlistedChannel] extends [never] ? true : UnlistedChannel = true;
-
-export const EVENT_CHANNELS = ['engine:message', 'engine:status-changed'] as const satisfies readonly EventChannel[];
 
 /** What the preload exposes as `window.counterweight`. */
 export interface CounterweightApi {

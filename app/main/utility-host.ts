@@ -1,5 +1,5 @@
 import { createNativeEngine, type NativeEngine } from '../engine/native.ts';
-import type { HostMessage } from '../engine/host/protocol.ts';
+import type { HostMessage } from '../engine/host/messages.ts';
 import { serveEngine } from '../engine/host/server.ts';
 import type { Transport } from '../engine/host/transport.ts';
 

@@ -3,6 +3,7 @@ import type { WasmArrowTables, WasmBrowserEngine } from '../../app/engine/wasm-b
 import type { CounterweightApi } from '../../app/main/ipc-contract.ts';
 import type { AuditBackend, LogInput } from './backend.ts';
 import { createEngineBackend } from './engine-backend.ts';
+import { createHostBackend } from './host-backend.ts';
 import { detectMode, traitsOf, type PageMode } from './mode.ts';
 
 declare global {
@@ -12,11 +13,21 @@ declare global {
 }
 
 export const DEMO_LOG_URL = '/sample-data/maple-row-demo.csv';
-/** Relative to the host's working directory (the checkout the local server was started from). */
-export const DEMO_LOG_HOST_PATH = 'sample-data/maple-row-demo.csv';
+/** By its bare name: the local server always looks in the demo folder too (scripts/web/main.ts). */
+export const DEMO_LOG_HOST_NAME = 'maple-row-demo.csv';
 
+let mode: PageMode | null = null;
+
+/**
+ * What the page was opened for. A hosted page finds its socket and token in the URL fragment (never sent
+ * to a server, never in a Referer), which is then removed from the address bar so the token stays out
+ * of the history and of restored sessions; a reload therefore needs the address the server printed.
+ */
 export function pageMode(): PageMode {
-  return detectMode(window.location.search, window.counterweight?.kind === 'desktop');
+  if (mode) return mode;
+  mode = detectMode(window.location.hash, window.counterweight?.kind === 'desktop');
+  if (window.location.hash) window.history.replaceState(null, '', `${window.location.pathname}${window.location.search}`);
+  return mode;
 }
 
 /** Starts the engine this page was opened for. */
@@ -31,27 +42,27 @@ export async function createBackend(mode: PageMode): Promise<AuditBackend> {
     }
     case 'hosted': {
       const { connectHostEngine } = await import('./ws-transport.ts');
-      return hostBackend(await connectHostEngine(mode.host, mode.token), readsParquet);
+      return hostBackend(await connectHostEngine(mode.host, mode.token));
     }
     case 'desktop': {
       const { desktopHostEngine } = await import('./desktop-transport.ts');
-      return hostBackend(await desktopHostEngine(), readsParquet);
+      return hostBackend(await desktopHostEngine());
     }
   }
 }
 
 /**
- * The host scans the log and runs the audit (DEVELOPERS.md, "The desktop data path"); the page keeps a DuckDB-Wasm worker of its
+ * The host scans the log and runs the audit; the page keeps a DuckDB-Wasm worker of its
  * own, started on the first audit, for SQL over the cube the host sends back.
  */
-function hostBackend(engine: HostEngine, readsParquet: boolean): AuditBackend {
+function hostBackend(engine: HostEngine): AuditBackend {
   let worker: Promise<WasmBrowserEngine> | null = null;
   const cubeTables = async (): Promise<WasmArrowTables> => {
     worker ??= import('../../app/engine/wasm-browser.ts').then((m) => m.createWasmBrowserEngine());
     worker.catch(() => { worker = null; });
     return (await worker).tables;
   };
-  const backend = createEngineBackend(engine, { readsParquet, cubeTables, hostAudit: (request, onProgress, signal) => engine.audit(request, onProgress, signal) });
+  const backend = createHostBackend(engine, { cubeTables });
   return {
     ...backend,
     open(input) {
@@ -74,7 +85,7 @@ export async function demoInput(mode: PageMode): Promise<LogInput> {
       return { kind: 'files', files: [new File([await response.blob()], 'maple-row-demo.csv', { type: 'text/csv' })] };
     }
     case 'hosted':
-      return { kind: 'paths', paths: [DEMO_LOG_HOST_PATH] };
+      return { kind: 'paths', paths: [DEMO_LOG_HOST_NAME] };
     case 'desktop': {
       const launch = await window.counterweight?.launchLog();
       if (launch?.source !== 'demo') throw new Error('This window was started with a log of its own; start Counterweight without a log to get the demo.');

@@ -1,9 +1,12 @@
 import { createHostEngine, type HostEngine } from '../../app/engine/host/client.ts';
-import type { HostMessage, HostRequest } from '../../app/engine/host/protocol.ts';
+import type { HostMessage, HostRequest } from '../../app/engine/host/messages.ts';
 import type { Transport } from '../../app/engine/host/transport.ts';
 import { EngineError } from '../../app/engine/types.ts';
 
-/** The host protocol through the preload bridge (Electron IPC to the engine utility process). */
+/**
+ * The host protocol through the preload bridge (Electron IPC to the engine utility process). Messages are
+ * structured clones all the way, so the cube's bytes arrive as a Uint8Array.
+ */
 export function desktopTransport(api: NonNullable<Window['counterweight']>): Transport {
   const closeListeners: ((reason: string) => void)[] = [];
   api.engine.onStatus((status) => {
@@ -22,6 +25,6 @@ export async function desktopHostEngine(): Promise<HostEngine> {
   const api = window.counterweight;
   if (!api) throw new EngineError('closed', 'The desktop bridge is missing; this page was not opened by the Counterweight app.');
   const engine = createHostEngine(desktopTransport(api));
-  await engine.ping();
+  await engine.connect();
   return engine;
 }

@@ -5,15 +5,13 @@ import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '..
 import { profileLog } from '../../app/core/scan/profile.ts';
 import type { RunQuery } from '../../app/core/table.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
-import { cubeFromArrowIpc, cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
-import type { HostEngine } from '../../app/engine/host/client.ts';
+import { cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
 import { EngineError, type Engine } from '../../app/engine/types.ts';
 import type { WasmArrowTables } from '../../app/engine/wasm-browser.ts';
 import { loadCubeSession, type CubeSession } from './cube-session.ts';
 import type { AuditDraft } from '../state/draft.ts';
 import type { AuditBackend, AuditOutcome, LogInput, Progress, RowSelection, RowsRequest } from './backend.ts';
 import { describeFiles } from './digest.ts';
-import { fingerprintPaths } from './host-fingerprint.ts';
 import { chooseFormat, PARQUET_IN_BROWSER } from './source-files.ts';
 import type { OpenedSource } from './status.ts';
 
@@ -23,12 +21,10 @@ export interface EngineBackendOptions {
   readonly describe?: (files: readonly File[]) => Promise<InputFile[]>;
   /** The page's DuckDB-Wasm worker the audit's cube is loaded into for interactive SQL. */
   readonly cubeTables?: () => Promise<WasmArrowTables>;
-  /** The engine host runs the whole audit in one request (desktop and hosted modes). */
-  readonly hostAudit?: HostEngine['audit'];
 }
 
 /** The cube as table `cube` in the page's worker; without a worker, interactive views fall back to the cells. */
-async function cubeSessionOf(tables: Promise<WasmArrowTables> | undefined, ipc: () => Uint8Array, cells: readonly CubeCell[], segmentColumns: readonly string[]): Promise<{ cube?: CubeSession }> {
+export async function cubeSessionOf(tables: Promise<WasmArrowTables> | undefined, ipc: () => Uint8Array, cells: readonly CubeCell[], segmentColumns: readonly string[]): Promise<{ cube?: CubeSession }> {
   if (!tables) return {};
   try {
     return { cube: await loadCubeSession(await tables, ipc(), cells, segmentColumns) };
@@ -72,7 +68,10 @@ export function drillSpecOf(source: OpenedSource, selection: RowSelection): Dril
   return { relation: source.relation, roles: selection.roles, selection: selection.selection, columnTypes: Object.fromEntries(source.profile.columns.map((c) => [c.name, c.type])) };
 }
 
-/** An audit backend over any Engine whose queries run off the page's thread (worker or host). */
+/**
+ * An audit backend over an Engine in the page's own worker (standalone web mode): the SQL runs in the
+ * page's DuckDB-Wasm and crosses no process boundary. The engine host has its own (host-backend.ts).
+ */
 export function createEngineBackend(engine: Engine, options: EngineBackendOptions): AuditBackend {
   const run: RunQuery = (sql) => engine.query(sql);
   const describe = options.describe ?? describeFiles;
@@ -85,23 +84,17 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       if ('error' in choice) throw new Error(choice.error);
       if (choice.format === 'parquet' && !options.readsParquet) throw new EngineError('unsupported-format', PARQUET_IN_BROWSER);
       const csv = choice.csv ? { csv: choice.csv } : {};
-      const digests = input.kind === 'files' ? describe(input.files) : null;
-      digests?.catch(() => undefined);
-      const registered = input.kind === 'files'
-        ? await engine.register({ kind: 'file', files: [...input.files], format: choice.format, ...csv })
-        : await engine.register({ kind: 'path', paths: names, format: choice.format, ...csv });
-      const fingerprints = digests ? null : await fingerprintPaths(run, registered.files);
-      if (input.kind === 'named' && fingerprints) {
-        const problem = sizeMismatch(input.files, fingerprints);
-        if (problem) throw new Error(problem);
-      }
+      if (input.kind !== 'files') throw new EngineError('unsupported-format', 'The page\'s own engine reads picked or dropped files; it cannot open a path.');
+      const digests = describe(input.files);
+      digests.catch(() => undefined);
+      const registered = await engine.register({ kind: 'file', files: [...input.files], format: choice.format, ...csv });
       const profile = await profileLog(run, registered.relation);
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
         scanSql: registered.scanSql,
         format: registered.format,
-        files: digests ? await digests : (fingerprints ?? []),
+        files: await digests,
         profile,
         suggestions: suggestRoles(profile),
       };
@@ -113,12 +106,6 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       // The worker starts while the audit runs.
       const tables = options.cubeTables?.();
       tables?.catch(() => undefined);
-      if (options.hostAudit) {
-        const { report, cubeIpc } = await options.hostAudit(request, onProgress, signal);
-        const cells = cubeFromArrowIpc(cubeIpc);
-        const cube = await cubeSessionOf(tables, () => cubeIpc, cells, report.roles.segments);
-        return { report, workspace: { cells, profile: source.profile, targets, ...cube } };
-      }
       const onAbort = () => { void engine.cancel(); };
       signal.addEventListener('abort', onAbort, { once: true });
       try {

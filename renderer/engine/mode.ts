@@ -4,9 +4,10 @@ export type PageMode =
   | { readonly kind: 'hosted'; readonly host: string; readonly token: string }
   | { readonly kind: 'web' };
 
-export function detectMode(search: string, hasDesktopBridge: boolean): PageMode {
+/** `fragment` is the page URL's hash (`#host=ws://...&token=...`), where the local server puts them. */
+export function detectMode(fragment: string, hasDesktopBridge: boolean): PageMode {
   if (hasDesktopBridge) return { kind: 'desktop' };
-  const params = new URLSearchParams(search);
+  const params = new URLSearchParams(fragment.replace(/^#/, ''));
   const host = params.get('host');
   const token = params.get('token');
   if (host && token && /^wss?:\/\//.test(host)) return { kind: 'hosted', host, token };

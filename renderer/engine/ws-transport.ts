@@ -1,12 +1,17 @@
 import { createHostEngine, type HostEngine } from '../../app/engine/host/client.ts';
-import type { HostMessage } from '../../app/engine/host/protocol.ts';
+import { decodeFrame, encodeFrame } from '../../app/engine/host/frames.ts';
+import type { HostMessage } from '../../app/engine/host/messages.ts';
 import type { Transport } from '../../app/engine/host/transport.ts';
 import { EngineError } from '../../app/engine/types.ts';
 
 const CONNECT_TIMEOUT_MS = 10_000;
 
-/** The host protocol over a browser WebSocket: one JSON message per frame; arrivals are validated by the client. */
+/**
+ * The host protocol over a browser WebSocket (app/engine/host/frames.ts: JSON text frames, and one binary
+ * frame for the audit result so the cube's Arrow IPC arrives as bytes); arrivals are validated by the client.
+ */
 export function webSocketTransport(socket: WebSocket): Transport {
+  socket.binaryType = 'arraybuffer';
   const closeListeners: ((reason: string) => void)[] = [];
   socket.addEventListener('close', (event) => {
     const reason = event.reason || (event.code === 1000 ? 'closed' : `connection lost, code ${event.code}`);
@@ -15,14 +20,12 @@ export function webSocketTransport(socket: WebSocket): Transport {
   return {
     send(message: HostMessage) {
       if (socket.readyState !== WebSocket.OPEN) throw new EngineError('closed', 'The connection to the local engine is closed; restart it and reload this page.');
-      socket.send(JSON.stringify(message));
+      socket.send(encodeFrame(message));
     },
     onMessage(listener) {
       socket.addEventListener('message', (event: MessageEvent<unknown>) => {
-        if (typeof event.data !== 'string') { listener(null); return; }
-        let parsed: unknown;
-        try { parsed = JSON.parse(event.data); } catch { parsed = null; }
-        listener(parsed);
+        const data = event.data;
+        listener(typeof data === 'string' ? decodeFrame(data) : data instanceof ArrayBuffer ? decodeFrame(new Uint8Array(data)) : null);
       });
     },
     onClose(listener) { closeListeners.push(listener); },
@@ -47,6 +50,6 @@ export async function connectHostEngine(host: string, token: string): Promise<Ho
     }, { once: true });
   });
   const engine = createHostEngine(webSocketTransport(socket), { onClosed: async () => { socket.close(1000); } });
-  await engine.ping();
+  await engine.connect();
   return engine;
 }

@@ -4,7 +4,7 @@ import { DesktopPicker, FilePicker, PathForm } from './log-pickers.tsx';
 import type { RecentAudit } from '../state/recent.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 
-const HOSTED_PICK_HINT = 'Parquet, CSV, TSV or NDJSON. The local engine finds a picked or dropped file by its name in the folders it was started with (its terminal lists them) and checks the size; for a file elsewhere, type its path below.';
+const HOSTED_PICK_HINT = 'Parquet, CSV, TSV or NDJSON. The local engine finds a picked or dropped file by its name in the folders it was started with (its terminal lists them) and checks the size. It opens files in those folders only (by name below, too); for a file elsewhere, restart it with --logs FOLDER.';
 
 interface Props {
   readonly recent: readonly RecentAudit[];

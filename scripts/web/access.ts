@@ -58,8 +58,13 @@ export function loopbackHosts(port: number): string[] {
   return [`${LOOPBACK}:${port}`, `localhost:${port}`];
 }
 
-/** The address a user opens: the page, told where the engine socket is and which token to use. */
+/**
+ * The address a user opens: the page, told where the engine socket is and which token to use, in the
+ * URL fragment. A fragment is never sent to a server nor put in a Referer, and the page removes it from
+ * the address bar as it loads (renderer/engine/choose-backend.ts), so the token stays out of the
+ * browser's history and restored sessions.
+ */
 export function hostedUrl(port: number, token: string): string {
   const socket = `ws://${LOOPBACK}:${port}${ENGINE_PATH}`;
-  return `http://${LOOPBACK}:${port}/?host=${encodeURIComponent(socket)}&token=${token}`;
+  return `http://${LOOPBACK}:${port}/#host=${encodeURIComponent(socket)}&token=${token}`;
 }

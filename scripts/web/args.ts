@@ -16,7 +16,8 @@ export const WEB_USAGE = `Usage: npm run web -- [--port N] [--host] [--no-build]
   --host       also run the native engine (reads Parquet) behind a token-protected WebSocket
   --no-build   serve the existing dist/renderer without rebuilding it
   --logs DIR   with --host: a folder where a picked or dropped log is found by its name (repeatable;
-               default: the folder the server was started in, and its sample-data folder)`;
+               default: the folder the server was started in; the demo folder is always searched last).
+               The engine opens files in these folders only, by bare name; links out of them are refused`;
 
 export class UsageError extends Error {
   override readonly name = 'UsageError';

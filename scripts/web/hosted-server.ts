@@ -1,22 +1,26 @@
 import { createServer, type IncomingMessage, type Server } from 'node:http';
 import type { Duplex } from 'node:stream';
-import { WebSocketServer, type WebSocket } from 'ws';
-import { createNativeEngine } from '../../app/engine/native.ts';
-import type { HostMessage } from '../../app/engine/host/protocol.ts';
-import { serveEngine } from '../../app/engine/host/server.ts';
+import { WebSocketServer } from 'ws';
 import type { Transport } from '../../app/engine/host/transport.ts';
 import { contentSecurityPolicy } from '../../app/main/security.ts';
 import { checkUpgrade, ENGINE_PATH, hostedUrl, LOOPBACK, loopbackHosts } from './access.ts';
-import { withLogFolders } from './log-folders.ts';
+import { engineSession } from './engine-session.ts';
+import { socketTransport } from './socket-transport.ts';
 import { pageHeaders, serveStatic } from './static-files.ts';
 
+export interface Session {
+  /** The engine process serving this socket, when it runs in one. */
+  readonly pid?: number | undefined;
+  close(): Promise<void>;
+}
+
 /** One engine per socket; the session ends when the socket closes. */
-export type OpenSession = (transport: Transport) => Promise<{ close(): Promise<void> }>;
+export type OpenSession = (transport: Transport, closeSocket: (reason: string) => void) => Promise<Session>;
 
 export interface HostedServerOptions {
   /** 0 picks a free port. */
   port: number;
-  /** Per-launch secret the socket requires (query parameter `token`). */
+  /** Per-launch secret the socket requires (query parameter `token`; the page reads it from its URL fragment). */
   token: string;
   /** The page origin allowed to open the socket; defaults to this server's own origin. */
   origin?: string;
@@ -26,7 +30,7 @@ export interface HostedServerOptions {
   demoFolder?: string;
   /** Whether to carry the engine host protocol at /engine; off serves the renderer alone. */
   engine?: boolean;
-  /** Folders where a picked or dropped file's bare name is looked up (the page cannot send a path). */
+  /** Folders where a picked or dropped file's bare name is looked up (the page cannot send a path; only bare names are accepted). */
   logFolders?: readonly string[];
   openSession?: OpenSession;
 }
@@ -37,23 +41,13 @@ export interface HostedServer {
   /** The page address with the socket and token in it (or just the page when standalone). */
   readonly url: string;
   readonly socketUrl: string;
+  /** Process ids of the engines serving the open sockets, one per socket. */
+  enginePids(): number[];
   close(): Promise<void>;
 }
 
-/** A large cube page or result table; anything bigger is not a protocol request. */
-const MAX_MESSAGE_BYTES = 64 * 1024 * 1024;
-
-/** The native engine served over the host protocol, as in the desktop engine host. */
-export function nativeSession(logFolders: readonly string[] = []): OpenSession {
-  return async (transport) => {
-    // As in the desktop engine host: queries may read only the logs registered through the protocol.
-    const engine = await createNativeEngine({ restrictFileAccess: true });
-    serveEngine(transport, withLogFolders(engine, logFolders));
-    return { close: () => engine.close() };
-  };
-}
-
-export const openNativeSession: OpenSession = nativeSession();
+/** A request is small (a target table is at most 5 MB); anything bigger is not a protocol request. */
+const MAX_MESSAGE_BYTES = 16 * 1024 * 1024;
 
 /**
  * Web mode's server on 127.0.0.1: the built renderer, and (when `engine` is on) the engine host protocol
@@ -92,8 +86,9 @@ export async function createHostedServer(options: HostedServerOptions): Promise<
   });
 
   const sockets = new WebSocketServer({ noServer: true, maxPayload: MAX_MESSAGE_BYTES });
-  const sessions = new Set<Promise<{ close(): Promise<void> }>>();
-  const openSession = options.openSession ?? nativeSession(options.logFolders);
+  const sessions = new Set<Promise<Session>>();
+  const opened = new Set<Session>();
+  const openSession = options.openSession ?? engineSession(options.logFolders ?? []);
   server.on('upgrade', (request: IncomingMessage, socket: Duplex, head: Buffer) => {
     const decision = engineOn
       ? checkUpgrade({ url: request.url, origin: request.headers.origin, host: request.headers.host }, { token: options.token, origin, hosts })
@@ -103,12 +98,12 @@ export async function createHostedServer(options: HostedServerOptions): Promise<
       return;
     }
     sockets.handleUpgrade(request, socket, head, (ws) => {
-      const session = openSession(socketTransport(ws));
+      const session = openSession(socketTransport(ws), (reason) => ws.close(1011, reason.slice(0, 120)));
       sessions.add(session);
-      session.catch((error: unknown) => ws.close(1011, String(error instanceof Error ? error.message : error).slice(0, 120)));
+      session.then((s) => opened.add(s), (error: unknown) => ws.close(1011, String(error instanceof Error ? error.message : error).slice(0, 120)));
       ws.once('close', () => {
         sessions.delete(session);
-        void session.then((s) => s.close()).catch(() => undefined);
+        void session.then((s) => { opened.delete(s); return s.close(); }).catch(() => undefined);
       });
     });
   });
@@ -118,6 +113,7 @@ export async function createHostedServer(options: HostedServerOptions): Promise<
     origin,
     url: engineOn ? hostedUrl(port, options.token) : `http://${LOOPBACK}:${port}/`,
     socketUrl,
+    enginePids: () => [...opened].flatMap((s) => (s.pid === undefined ? [] : [s.pid])),
     async close() {
       for (const ws of sockets.clients) ws.terminate();
       await Promise.all([...sessions].map((s) => s.then((x) => x.close()).catch(() => undefined)));
@@ -125,41 +121,6 @@ export async function createHostedServer(options: HostedServerOptions): Promise<
       await closeServer(server);
     },
   };
-}
-
-/**
- * The host protocol as JSON text frames (the protocol's messages are JSON-safe by design). Frames that
- * arrive before the engine is ready are held and delivered once it listens.
- */
-export function socketTransport(ws: WebSocket): Transport {
-  let listener: ((message: unknown) => void) | null = null;
-  const held: unknown[] = [];
-  ws.on('message', (data, isBinary) => {
-    const message = isBinary ? { malformed: 'binary frame' } : parseFrame(String(data));
-    if (listener) listener(message);
-    else held.push(message);
-  });
-  return {
-    send(message: HostMessage) {
-      if (ws.readyState === ws.OPEN) ws.send(JSON.stringify(message));
-    },
-    onMessage(next) {
-      listener = next;
-      for (const message of held.splice(0)) next(message);
-    },
-    onClose(next) {
-      ws.once('close', (code) => next(`socket closed (${code})`));
-    },
-  };
-}
-
-/** Not JSON becomes a value the protocol parser rejects with a clear error reply. */
-function parseFrame(text: string): unknown {
-  try {
-    return JSON.parse(text);
-  } catch {
-    return { malformed: 'not JSON' };
-  }
 }
 
 function closeServer(server: Server): Promise<void> {

@@ -30,7 +30,9 @@ export async function main(argv: readonly string[]): Promise<void> {
     fail(`There is no built renderer in ${RENDERER_OUT_DIR}/; run without --no-build.`);
   }
 
-  const logFolders = (args.logs ?? [process.cwd(), path.join(ROOT, 'sample-data')]).map((f) => path.resolve(f));
+  // The demo folder is always searched last, so "Open the demo log" works with any --logs.
+  const demo = path.join(ROOT, 'sample-data');
+  const logFolders = [...new Set([...(args.logs ?? [process.cwd()]), demo].map((f) => path.resolve(f)))];
   let server;
   try {
     server = await createHostedServer({ port: args.port, token: newToken(), staticRoot, demoFolder: path.join(ROOT, 'sample-data'), engine: args.hosted, logFolders });
@@ -41,7 +43,7 @@ export async function main(argv: readonly string[]): Promise<void> {
   }
   const engine = args.hosted
     ? 'Engine: native DuckDB on this computer, behind a WebSocket only this page can open (the token changes at every start).\n'
-      + `A picked or dropped log is found by its name in: ${logFolders.join(', ')}.`
+      + `A picked or dropped log is found by its name in: ${logFolders.join(', ')} (files in these folders only; no paths).`
     : 'Engine: DuckDB-Wasm in the browser (CSV, TSV, NDJSON). Pass --host to read Parquet with the native engine.';
   process.stdout.write(`Counterweight is serving on 127.0.0.1 only.\n${engine}\nOpen: ${server.url}\nPress Ctrl+C to stop.\n`);
 

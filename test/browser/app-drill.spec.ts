@@ -170,7 +170,7 @@ test.describe.serial('row drill-down, hosted mode on the demo Parquet log', () =
     test.setTimeout(150_000);
     const expected = await nativeRows(path.join(SAMPLE, 'maple-row-demo.parquet'));
     await page.setViewportSize({ width: 1280, height: 800 });
-    await page.goto(`/?host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
+    await page.goto(`/#host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
     await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-demo.parquet'));
     await runAudit(page);
     await checkDrill(page, expected, '30-drill-hosted');
@@ -223,7 +223,7 @@ test.describe('row drill-down on a 10M-row log (CW_LARGE=1)', () => {
     const server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [path.dirname(LARGE_PARQUET)] });
     try {
       await page.setViewportSize({ width: 1280, height: 800 });
-      await page.goto(`/?host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
+      await page.goto(`/#host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
       await page.locator('#log-paths').fill(LARGE_PARQUET);
       await page.getByRole('button', { name: 'Open', exact: true }).click();
       await runAudit(page);

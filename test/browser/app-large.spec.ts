@@ -146,7 +146,7 @@ test.describe.serial('large logs @large', () => {
     const token = newToken();
     const server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [path.dirname(file)] });
     try {
-      await page.goto(`/?host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
+      await page.goto(`/#host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
       await page.getByTestId('log-file-input').setInputFiles(file);
       await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 120_000 });
       const opened = Date.now();

@@ -1,8 +1,8 @@
 /** The browser engine (DuckDB-Wasm in a worker) gives the Node suite's answers for files picked in a page. */
 import { expect, test } from '@playwright/test';
 import type { Page } from '@playwright/test';
-import { decodeTable } from '../../app/engine/host/protocol.ts';
-import type { WireTable } from '../../app/engine/host/protocol.ts';
+import { decodeTable } from '../../app/engine/host/codec.ts';
+import type { WireTable } from '../../app/engine/host/messages.ts';
 import type { RegisteredSource } from '../../app/engine/types.ts';
 import { ENGINE_CASES, rowsOf } from '../engine/cases.ts';
 import { writeFixtures } from '../engine/fixtures.ts';

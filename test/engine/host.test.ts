@@ -1,54 +1,92 @@
-import { describe, expect, it } from 'vitest';
+/**
+ * The engine host as a child process, spoken to only through its named requests: register (with the
+ * files' fingerprints), profile, audit, drill-page and drill-count, ping, cancel, close. Expected values
+ * come from the same builders run on an in-process native engine, and from node:crypto for the digests.
+ */
+import { createHash } from 'node:crypto';
+import { readFileSync, statSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runAuditDetailed } from '../../app/core/audit.ts';
+import { cursorAfter, drillCountSql, drillOrderColumns, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
+import { profileLog } from '../../app/core/scan/profile.ts';
+import { rowObjects } from '../../app/core/table.ts';
+import { findingsWithRows } from '../../app/engine/host/codec.ts';
+import type { HostEngine, HostRegistration } from '../../app/engine/host/client.ts';
+import { PROTOCOL_VERSION } from '../../app/engine/host/messages.ts';
 import { spawnHostChild } from '../../app/engine/host/spawn.ts';
-import { decodeTable } from '../../app/engine/host/protocol.ts';
-import type { HostReply } from '../../app/engine/host/protocol.ts';
-import { serveEngine } from '../../app/engine/host/server.ts';
-import type { Transport } from '../../app/engine/host/transport.ts';
-import { createNativeEngine } from '../../app/engine/native.ts';
-import { engineSuite } from './suite.ts';
+import { createNativeEngine, type NativeEngine } from '../../app/engine/native.ts';
+import { FIXED_NOW, SAMPLE } from '../core/audit-helpers.ts';
 
-engineSuite('host (child process)', async () => {
-  const engine = spawnHostChild();
-  await engine.ping();
-  return engine;
-}, { formats: ['parquet', 'csv', 'ndjson'], cancellable: true });
+const DEMO = `${SAMPLE}maple-row-demo.parquet`;
+const roles = { time: 'logged_at', decision_id: 'decision_id', action: 'promotion' };
 
-describe('engine host server over an in-memory transport', () => {
-  it('answers requests, reports progress and rejects malformed messages', async () => {
-    const toClient: unknown[] = [];
-    let deliver: (message: unknown) => void = () => undefined;
-    const serverSide: Transport = {
-      // JSON text in between, as any real carrier would have.
-      send: (message) => { toClient.push(JSON.parse(JSON.stringify(message))); },
-      onMessage: (listener) => { deliver = listener; },
-    };
-    const engine = await createNativeEngine({ threads: 1 });
-    serveEngine(serverSide, engine, { progressIntervalMs: 20 });
-    const settle = async (id: number): Promise<void> => {
-      while (!toClient.some((m) => (m as HostReply).id === id && (m as HostReply).kind !== 'progress')) await new Promise((r) => setTimeout(r, 10));
-    };
+let host: HostEngine;
+let local: NativeEngine;
+let registration: HostRegistration;
+let localRelation = '';
 
-    deliver({ kind: 'ping', id: 1 });
-    await settle(1);
-    expect(toClient).toContainEqual({ kind: 'pong', id: 1, protocol: 1 });
+beforeAll(async () => {
+  host = spawnHostChild();
+  await host.connect();
+  registration = await host.register({ kind: 'path', paths: [DEMO] });
+  local = await createNativeEngine({ threads: 1 });
+  localRelation = (await local.register({ kind: 'path', paths: [DEMO] })).relation;
+});
+afterAll(async () => {
+  await host?.close();
+  await local?.close();
+});
 
-    deliver({ kind: 'query', id: 2, sql: 'SELECT count(*)::BIGINT AS n FROM range(300000000) WHERE range % 7 = 0' });
-    await settle(2);
-    const forQuery = toClient.filter((m) => (m as HostReply).id === 2) as HostReply[];
-    expect(forQuery[0]).toEqual({ kind: 'progress', id: 2, stage: 'started' });
-    expect(forQuery.some((m) => m.kind === 'progress' && m.stage === 'finished')).toBe(true);
-    // ceil(300000000 / 7) multiples of 7 in [0, 3e8): 42857143.
-    const result = forQuery.find((m) => m.kind === 'result');
-    expect(result && result.kind === 'result' && decodeTable(result.table).columns[0]).toEqual([42857143n]);
+const spec = (selection: DrillSpec['selection'], columnTypes: Record<string, string>): DrillSpec => ({ relation: localRelation, roles, selection, columnTypes });
 
-    deliver({ kind: 'query', id: 3 });
-    deliver({ kind: 'hello' });
-    await settle(3);
-    expect(toClient).toContainEqual({ kind: 'error', id: 3, code: 'internal', message: 'Malformed engine host message: "sql" must be a string.' });
-    expect(toClient).toContainEqual(expect.objectContaining({ kind: 'error', id: 0, code: 'internal' }));
+describe('engine host (child process): named requests only', () => {
+  it('speaks the protocol version this build speaks', async () => {
+    expect(await host.ping()).toBe(PROTOCOL_VERSION);
+  });
 
-    deliver({ kind: 'close', id: 4 });
-    await settle(4);
-    expect(toClient).toContainEqual({ kind: 'done', id: 4 });
+  it('register answers with the files and their size, time and SHA-256 (node:crypto over the file)', () => {
+    expect(registration.source.files).toEqual([DEMO]);
+    const bytes = readFileSync(DEMO);
+    expect(registration.inputs).toEqual([{
+      path: DEMO,
+      bytes: statSync(DEMO).size,
+      sha256: createHash('sha256').update(bytes).digest('hex'),
+      modified: new Date(Math.floor(statSync(DEMO).mtimeMs / 1000) * 1000).toISOString().replace('.000Z', 'Z'),
+    }]);
+  });
+
+  it('profile answers what profileLog answers in-process', async () => {
+    expect(await host.profile(registration.source.relation)).toEqual(await profileLog((q) => local.query(q), localRelation));
+  });
+
+  it('drill-page and drill-count read the rows the builders read in-process, page after page', async () => {
+    const profile = await host.profile(registration.source.relation);
+    const types = Object.fromEntries(profile.columns.map((c) => [c.name, c.type]));
+    const selection = { segment: { region: 'old-town', device: 'web' }, action: 'free-delivery' };
+    const drill = { source: registration.source.relation, roles, selection };
+    expect(await host.drillCount(drill)).toBe(parseDrillCount(await local.query(drillCountSql(spec(selection, types)))));
+    const first = await host.drillPage(drill, { offset: 0, limit: 50 });
+    expect(rowObjects(first)).toEqual(rowObjects(await local.query(drillPageSql(spec(selection, types), { offset: 0, limit: 50 }))));
+    const after = cursorAfter(drillOrderColumns(spec(selection, types)), first, null, 0);
+    const second = await host.drillPage(drill, { offset: 50, limit: 50, after });
+    expect(rowObjects(second)).toEqual(rowObjects(await local.query(drillPageSql(spec(selection, types), { offset: 50, limit: 50, after }))));
+  });
+
+  it('a finding is drilled by its number in the host\'s latest audit, never by its predicate', async () => {
+    const { report } = await host.audit({ source: registration.source.relation });
+    const predicates = findingsWithRows(report, registration.source.relation);
+    expect(predicates.length).toBeGreaterThan(0);
+    const reference = await runAuditDetailed((q) => local.query(q), { relation: localRelation, input: { files: [], format: 'parquet' }, engine: 'native', now: FIXED_NOW });
+    const where = findingsWithRows(reference.report, localRelation)[0] as string;
+    const types = Object.fromEntries(reference.profile.columns.map((c) => [c.name, c.type]));
+    const count = await host.drillCount({ source: registration.source.relation, roles, selection: { segment: {}, finding: 0 } });
+    expect(count).toBe(parseDrillCount(await local.query(drillCountSql(spec({ segment: {}, where }, types)))));
+    await expect(host.drillCount({ source: registration.source.relation, roles, selection: { segment: {}, finding: predicates.length } }))
+      .rejects.toThrow(/no finding number \d+ with rows; run the audit again/);
+  });
+
+  it('a page larger than the protocol allows is refused before it reaches the engine', async () => {
+    await expect(host.drillPage({ source: registration.source.relation, roles, selection: { segment: {} } }, { offset: 0, limit: 100_000 }))
+      .rejects.toThrow(/"page.limit" .*1000/);
   });
 });

@@ -1,7 +1,17 @@
+/**
+ * The host protocol's messages (app/engine/host/messages.ts): the named request kinds and their replies
+ * are accepted, anything else (a statement, a path where a handle belongs, a reply sent as a request) is
+ * refused with the field that is wrong; the cell wire form keeps bigint, NaN and ±Infinity; a WebSocket
+ * frame carries the cube as bytes.
+ */
 import { describe, expect, it } from 'vitest';
 import type { Table } from '../../app/core/table.ts';
-import { toBase64 } from '../../app/engine/host/base64.ts';
-import { decodeCube, decodeReport, decodeTable, encodeCell, encodeReport, encodeTable, isRequest, parseHostMessage, ProtocolError } from '../../app/engine/host/protocol.ts';
+import { decodeReport, decodeTable, encodeCell, encodeReport, encodeTable } from '../../app/engine/host/codec.ts';
+import { decodeFrame, encodeFrame } from '../../app/engine/host/frames.ts';
+import { PROTOCOL_VERSION, REPLY_KINDS, REQUEST_KINDS, type HostMessage } from '../../app/engine/host/messages.ts';
+import { ProtocolError } from '../../app/engine/host/protocol-error.ts';
+import { parseHostReply } from '../../app/engine/host/replies.ts';
+import { parseHostRequest } from '../../app/engine/host/requests.ts';
 
 describe('wire encoding of tables', () => {
   const table: Table = {
@@ -31,109 +41,130 @@ describe('wire encoding of tables', () => {
     [null, null],
   ])('encodes %s as %j', (cell, wire) => expect(encodeCell(cell)).toEqual(wire));
 
-  it('a result message with the encoded table validates', () => {
-    const message = { kind: 'result', id: 7, table: encodeTable(table), sourceScans: 1 };
-    expect(parseHostMessage(JSON.parse(JSON.stringify(message)))).toEqual(JSON.parse(JSON.stringify(message)));
+  it('a rows reply with the encoded table validates', () => {
+    const message = JSON.parse(JSON.stringify({ kind: 'rows', id: 7, table: encodeTable(table) }));
+    expect(parseHostReply(message)).toEqual(message);
   });
 });
 
-describe('parseHostMessage', () => {
+const cell = { source: '"src_1"', roles: { time: 'logged_at', decision_id: 'decision_id', action: 'promotion' }, selection: { segment: { region: 'old-town' }, action: 'bakery' } };
+
+describe('requests', () => {
+  it('the request kinds are exactly the named ones, and none carries SQL', () => {
+    expect([...REQUEST_KINDS].sort()).toEqual(['audit', 'cancel', 'close', 'drill-count', 'drill-page', 'ping', 'profile', 'register']);
+    expect(PROTOCOL_VERSION).toBe(2);
+  });
+
   it.each([
     [{ kind: 'ping', id: 1 }],
-    [{ kind: 'query', id: 2, sql: 'SELECT 1' }],
     [{ kind: 'register', id: 3, source: { kind: 'path', paths: ['/a.csv'], format: 'csv', csv: { delimiter: ';', header: true } } }],
-    [{ kind: 'cancel', id: 4 }],
-    [{ kind: 'close', id: 5 }],
-    [{ kind: 'progress', id: 6, stage: 'scanning', rowsScanned: 1000 }],
-    [{ kind: 'error', id: 7, code: 'io', message: 'Cannot read "a.csv"' }],
-    [{ kind: 'registered', id: 8, source: { relation: '"src_1"', format: 'csv', files: ['/a.csv'], scanSql: 'read_csv(...)' } }],
-  ])('accepts %j', (message) => expect(parseHostMessage(message)).toEqual(message));
+    [{ kind: 'profile', id: 3, source: '"src_1"' }],
+    [{ kind: 'audit', id: 4, request: { source: '"src_1"', roles: { action: 'promotion', time: null, segments: ['region'] }, targets: [{ spec: 'uniform' }, { spec: 'table:v9.csv', tableText: 'region,promotion,probability\n' }], settings: { 'segments.cap': 50, 'time.bucket': 'day', x: true } } }],
+    [{ kind: 'drill-page', id: 5, ...cell, page: { offset: 0, limit: 200 } }],
+    [{ kind: 'drill-page', id: 5, ...cell, page: { offset: 200, limit: 200, after: { key: ['2026-01-01T00:00:00.000000Z', { $bigint: '12' }], types: ['TIMESTAMP', 'BIGINT'], tied: 1 } } }],
+    [{ kind: 'drill-count', id: 6, ...cell, selection: { segment: {}, finding: 3 } }],
+    [{ kind: 'cancel', id: 7 }],
+    [{ kind: 'cancel', id: 7, target: 4 }],
+    [{ kind: 'close', id: 8 }],
+  ])('accepts %j', (message) => expect(parseHostRequest(message)).toEqual(message));
 
+  const audit = (request: Record<string, unknown>) => ({ kind: 'audit', id: 1, request: { source: '"src_1"', ...request } });
   it.each([
-    [null, /expected an object/],
-    [[], /expected an object/],
-    [{ kind: 'query', sql: 'SELECT 1' }, /"id"/],
-    [{ kind: 'query', id: -1, sql: 'SELECT 1' }, /"id"/],
-    [{ kind: 'query', id: 1 }, /"sql"/],
-    [{ kind: 'drop-table', id: 1 }, /unknown kind "drop-table"/],
-    [{ kind: 'register', id: 1, source: { kind: 'file', files: [] } }, /path source/],
-    [{ kind: 'register', id: 1, source: { kind: 'path', paths: '/a.csv' } }, /list of strings/],
-    [{ kind: 'register', id: 1, source: { kind: 'path', paths: ['/a.xlsx'], format: 'xlsx' } }, /"format"/],
-    [{ kind: 'error', id: 1, code: 'oops', message: 'x' }, /"code"/],
-    [{ kind: 'result', id: 1, sourceScans: 0, table: { names: ['a'], types: ['BIGINT'], columns: [[1n]], rowCount: 1 } }, /wire form/],
-    [{ kind: 'result', id: 1, sourceScans: 0, table: { names: ['a'], types: ['DOUBLE'], columns: [[{ $num: 'nan' }]], rowCount: 1 } }, /wire form/],
-    [{ kind: 'result', id: 1, sourceScans: 0, table: { names: ['a'], types: ['INTEGER'], columns: [[1, 2]], rowCount: 1 } }, /rowCount/],
-  ])('rejects malformed message %#', (message, why) => {
-    expect(() => parseHostMessage(message)).toThrow(ProtocolError);
-    expect(() => parseHostMessage(message)).toThrow(why);
+    [null, /"kind"|expected/],
+    [{ kind: 'query', id: 2, sql: 'SELECT 1' }, /"kind"/],
+    [{ kind: 'ping' }, /"id"/],
+    [{ kind: 'ping', id: -1 }, /"id"/],
+    [{ kind: 'ping', id: 1, sql: 'COPY x TO y' }, /sql/],
+    [{ kind: 'register', id: 1, source: { kind: 'file', files: [] } }, /"source.kind"/],
+    [{ kind: 'register', id: 1, source: { kind: 'path', paths: '/a.csv' } }, /"source.paths"/],
+    [{ kind: 'register', id: 1, source: { kind: 'path', paths: [] } }, /"source.paths"/],
+    [{ kind: 'register', id: 1, source: { kind: 'path', paths: ['/a\0.csv'] } }, /NUL/],
+    [{ kind: 'register', id: 1, source: { kind: 'path', paths: ['/a.xlsx'], format: 'xlsx' } }, /"source.format"/],
+    [{ kind: 'profile', id: 1, source: 'read_text(\'/etc/passwd\')' }, /must be a source the engine registered/],
+    [audit({ source: 7 }), /"request.source"/],
+    [audit({ source: '"src_1" UNION SELECT 1' }), /"request.source" must be a source the engine registered/],
+    [audit({ relation: '"src_1"' }), /"request" .*relation/],
+    [audit({ scanSql: "read_csv('/etc/passwd')" }), /scanSql/],
+    [audit({ input: { files: [], format: 'csv' } }), /input/],
+    [audit({ roles: { action: 3 } }), /"request.roles.action"/],
+    [audit({ roles: { owner: 'x' } }), /owner/],
+    [audit({ targets: { spec: 'uniform' } }), /"request.targets"/],
+    [audit({ settings: { 'segments.cap': { n: 5 } } }), /"request.settings.segments.cap"/],
+    [{ kind: 'drill-page', id: 1, ...cell, page: { offset: 0, limit: 5000 } }, /"page.limit"/],
+    [{ kind: 'drill-page', id: 1, ...cell, selection: { segment: {}, where: '1=1) TO \'/tmp/x\' --' }, page: { offset: 0, limit: 10 } }, /where/],
+    [{ kind: 'drill-count', id: 1, ...cell, selection: { segment: {}, finding: -1 } }, /"selection.finding"/],
+    [{ kind: 'cancel', id: 2, target: -1 }, /"target"/],
+  ])('refuses malformed request %#', (message, why) => {
+    expect(() => parseHostRequest(message)).toThrow(ProtocolError);
+    expect(() => parseHostRequest(message)).toThrow(why);
+  });
+
+  it.each(REPLY_KINDS.map((k) => [k]))('refuses the reply kind %s sent as a request', (kind) => {
+    expect(() => parseHostRequest({ kind, id: 1 })).toThrow(`the host accepts requests only, not "${kind}"`);
   });
 });
 
-describe('audit messages', () => {
-  const request = {
-    relation: '"src_1"',
-    input: { files: [{ path: '/logs/maple-row-demo.parquet', bytes: 1234, sha256: 'ab'.repeat(32) }], format: 'parquet' },
-    scanSql: "read_parquet('/logs/maple-row-demo.parquet')",
-    roles: { action: 'promotion', propensity: 'propensity', time: null, segments: ['region', 'device'] },
-    targets: [{ spec: 'uniform' }, { spec: 'table:v9.csv', tableText: 'region,promotion,probability\nold-town,bakery,1\n' }],
-    settings: { 'segments.cap': 50, 'time.bucket': 'day' },
-    engine: 'host',
-  };
+describe('replies', () => {
   const report = encodeReport({ schema: 'counterweight.report/1', verdict: 'not-supported', targets: [{ ess: NaN, max_weight: Infinity }] } as never);
-  const cube = toBase64(new Uint8Array([1, 2, 3, 4, 5]));
+  const cube = new Uint8Array([1, 2, 3, 4, 5]);
 
   it.each([
-    [{ kind: 'audit', id: 1, request }],
-    [{ kind: 'audit', id: 2, request: { relation: '"src_1"', input: { files: [], format: 'csv' }, engine: 'host' } }],
-    [{ kind: 'cancel', id: 3, target: 1 }],
+    [{ kind: 'pong', id: 1, protocol: 2 }],
     [{ kind: 'audit-progress', id: 1, stage: 'cube' }],
     [{ kind: 'audit-progress', id: 1, stage: 'checks', done: true }],
-    [{ kind: 'audit-result', id: 1, report, cube }],
-  ])('accepts %j', (message) => {
-    const wire = JSON.parse(JSON.stringify(message));
-    expect(parseHostMessage(wire)).toEqual(wire);
-  });
+    [{ kind: 'count', id: 1, rows: 12 }],
+    [{ kind: 'done', id: 1 }],
+    [{ kind: 'error', id: 7, code: 'too-large', message: 'The result has more than 2,000,000 rows' }],
+    [{ kind: 'registered', id: 8, source: { relation: '"src_1"', format: 'csv', files: ['/a.csv'], scanSql: 'read_csv(...)' }, inputs: [{ path: '/a.csv', bytes: 3, sha256: 'ab'.repeat(32), modified: '2026-01-01T00:00:00Z' }] }],
+  ])('accepts %j', (message) => expect(parseHostReply(message)).toEqual(message));
 
-  it('an audit request is a request, its progress and result are replies', () => {
-    expect(isRequest(parseHostMessage({ kind: 'audit', id: 1, request }))).toBe(true);
-    expect(isRequest(parseHostMessage({ kind: 'audit-result', id: 1, report, cube }))).toBe(false);
-  });
-
-  it('the report crosses JSON text exactly (NaN and Infinity kept), and the cube bytes too', () => {
-    const message = parseHostMessage(JSON.parse(JSON.stringify({ kind: 'audit-result', id: 1, report, cube })));
+  it('the report keeps NaN and Infinity and the cube stays bytes', () => {
+    const message = parseHostReply(structuredClone({ kind: 'audit-result', id: 1, report, cube }));
     if (message.kind !== 'audit-result') throw new Error(message.kind);
     const back = decodeReport(message.report) as unknown as { targets: { ess: number; max_weight: number }[] };
     expect(Object.is(back.targets[0]?.ess, NaN)).toBe(true);
     expect(back.targets[0]?.max_weight).toBe(Infinity);
-    expect([...decodeCube(message)]).toEqual([1, 2, 3, 4, 5]);
+    expect([...message.cube]).toEqual([1, 2, 3, 4, 5]);
   });
 
-  const withRequest = (patch: Record<string, unknown>) => ({ kind: 'audit', id: 1, request: { ...request, ...patch } });
   it.each([
-    [{ kind: 'audit', id: 1 }, /"request" must be an object/],
-    [withRequest({ relation: 7 }), /"request.relation" must be a relation name/],
-    [withRequest({ relation: '' }), /"request.relation" must be a relation name/],
-    [withRequest({ input: { files: 'a.csv', format: 'csv' } }), /"request.input.files" must be a list/],
-    [withRequest({ input: { files: [{ path: 'a.csv', bytes: -1, sha256: '' }], format: 'csv' } }), /"request.input.files\[0\]".bytes must be a non-negative integer/],
-    [withRequest({ input: { files: [], format: 'csv', sql: 'x' } }), /"request.input" has an unknown field "sql"/],
-    [withRequest({ engine: undefined }), /"request.engine" must be a string/],
-    [withRequest({ roles: { action: 3 } }), /"request.roles.action" must be a column name or null/],
-    [withRequest({ roles: { owner: 'x' } }), /"request.roles" has an unknown field "owner"/],
-    [withRequest({ roles: { segments: 'region' } }), /"request.roles.segments" must be a list of strings/],
-    [withRequest({ targets: { spec: 'uniform' } }), /"request.targets" must be a list/],
-    [withRequest({ targets: [{ tableText: 'x' }] }), /"request.targets\[0\]".spec must be a string/],
-    [withRequest({ settings: { 'segments.cap': { n: 5 } } }), /"request.settings.segments.cap" must be a finite number/],
-    [withRequest({ now: 5 }), /"request" has an unknown field "now"/],
-    [{ kind: 'cancel', id: 2, target: -1 }, /"target" must be a non-negative integer/],
-    [{ kind: 'audit-progress', id: 1, stage: 'scan' }, /"stage" must be one of profile, cube, tails, checks/],
-    [{ kind: 'audit-progress', id: 1, stage: 'cube', done: false }, /"done" must be true/],
-    [{ kind: 'audit-result', id: 1, report, cube: 'not base64!' }, /"cube" must be Arrow IPC bytes in base64/],
-    [{ kind: 'audit-result', id: 1, report, cube: '' }, /"cube" must be Arrow IPC bytes in base64/],
-    [{ kind: 'audit-result', id: 1, report: { verdict: 'pass' }, cube }, /"report" must be a report in the wire form/],
-    [{ kind: 'audit-result', id: 1, report: { $struct: { schema: 'other/2' } }, cube }, /"report.schema" must be "counterweight.report\/1"/],
-    [{ kind: 'audit-result', id: 1, report: { $struct: { schema: 'counterweight.report/1', x: { a: 1, b: 2 } } }, cube }, /a value of "report" is not in the wire form/],
-  ])('rejects malformed audit message %#', (message, why) => {
-    expect(() => parseHostMessage(message)).toThrow(ProtocolError);
-    expect(() => parseHostMessage(message)).toThrow(why);
+    [{ kind: 'query', id: 1, sql: 'select 1' }, /"query"|"kind"/],
+    [{ kind: 'audit', id: 3, request: { source: '"src_1"' } }, /is a request/],
+    [{ kind: 'error', id: 1, code: 'oops', message: 'x' }, /"code"/],
+    [{ kind: 'rows', id: 1, table: { names: ['a'], types: ['BIGINT'], columns: [[1n]], rowCount: 1 } }, /wire form/],
+    [{ kind: 'rows', id: 1, table: { names: ['a'], types: ['INTEGER'], columns: [[1, 2]], rowCount: 1 } }, /rowCount/],
+    [{ kind: 'audit-progress', id: 1, stage: 'scan' }, /"stage"/],
+    [{ kind: 'audit-progress', id: 1, stage: 'cube', done: false }, /"done"/],
+    [{ kind: 'audit-result', id: 1, report, cube: 'AQIDBAU=' }, /"cube" must be the bytes of the cube/],
+    [{ kind: 'audit-result', id: 1, report: { $struct: { schema: 'other/2' } }, cube }, /"report" must be a report with schema/],
+    [{ kind: 'audit-result', id: 1, report: { $struct: { schema: 'counterweight.report/1', x: { a: 1, b: 2 } } }, cube }, /"report"/],
+  ])('refuses malformed reply %#', (message, why) => {
+    expect(() => parseHostReply(message)).toThrow(ProtocolError);
+    expect(() => parseHostReply(message)).toThrow(why);
+  });
+});
+
+describe('WebSocket frames', () => {
+  it('a message without bytes is JSON text; the audit result is one binary frame with the cube as it is', () => {
+    expect(encodeFrame({ kind: 'ping', id: 1 })).toBe('{"kind":"ping","id":1}');
+    const cube = new Uint8Array(1000).map((_, i) => i % 251);
+    const message: HostMessage = { kind: 'audit-result', id: 3, report: { $struct: { schema: 'counterweight.report/1' } }, cube };
+    const frame = encodeFrame(message);
+    expect(frame).toBeInstanceOf(Uint8Array);
+    const header = (frame as Uint8Array).byteLength - cube.byteLength;
+    expect(header).toBeLessThan(120);
+    const back = parseHostReply(decodeFrame(frame as Uint8Array));
+    expect(back).toEqual(message);
+  });
+
+  it.each([
+    [new Uint8Array([0, 0]), /short/],
+    [new Uint8Array([0, 0, 0, 50, 123]), /runs past/],
+    [new Uint8Array([0, 0, 0, 1, 123]), /not JSON/],
+    [Uint8Array.from([0, 0, 0, 13, ...new TextEncoder().encode('{"a":{"$bytes":9}}').slice(0, 13)]), /not JSON/],
+  ])('a malformed binary frame becomes a value the parser refuses %#', (frame, why) => {
+    const decoded = decodeFrame(frame) as { malformed?: string };
+    expect(decoded.malformed).toMatch(why);
+    expect(() => parseHostReply(decoded)).toThrow(ProtocolError);
   });
 });

@@ -1,5 +1,5 @@
 /**
- * Engine-side limits: the engine host reads only registered logs; DuckDB-Wasm running out of memory
+ * Engine-side limits: a locked engine (the engine host's) reads only registered logs; DuckDB-Wasm running out of memory
  * says what to use instead; literals with NUL bytes stay inside their quotes.
  */
 import { existsSync, mkdtempSync, rmSync } from 'node:fs';
@@ -8,8 +8,8 @@ import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { runAudit } from '../../app/core/audit.ts';
 import { literal } from '../../app/core/sql/quote.ts';
-import { spawnHostChild } from '../../app/engine/host/spawn.ts';
-import { accessFor, createNativeEngine } from '../../app/engine/native.ts';
+import { expandSource } from '../../app/engine/file-grants.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
 import { quoteLiteral } from '../../app/engine/sql-source.ts';
 import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
 import { FILES } from './outcome.ts';
@@ -17,9 +17,9 @@ import { FILES } from './outcome.ts';
 const out = mkdtempSync(path.join(tmpdir(), 'cw-limits-'));
 afterAll(() => rmSync(out, { recursive: true, force: true }));
 
-describe('engine host: queries read only the registered logs', () => {
+describe('locked engine (the engine host\'s): queries read only the registered logs', () => {
   it('refuses read_csv of an unregistered file, COPY ... TO, ATTACH and SET, and still reads what was registered', async () => {
-    const host = spawnHostChild();
+    const host = await createNativeEngine({ restrictFileAccess: true, threads: 1 });
     try {
       const src = await host.register({ kind: 'path', paths: [path.join(FILES, 'epoch-seconds.csv')] });
       expect((await host.query(`SELECT count(*)::DOUBLE AS n FROM ${src.relation}`)).columns[0]).toEqual([400]);
@@ -45,8 +45,9 @@ describe('engine host: queries read only the registered logs', () => {
     }
   });
 
-  it('allows a folder source by its directory and named files by their exact path', () => {
-    expect(accessFor(['/logs/a.csv', '/logs/day=1/**/*.parquet'], ['/logs/day=1'])).toEqual({ paths: ['/logs/a.csv'], directories: ['/logs/day=1/'] });
+  it('expands a folder source to its part files, each granted by its own path', () => {
+    const folder = path.join(FILES, 'mixed-schema');
+    expect(expandSource([folder], 'parquet')).toEqual({ files: [path.join(folder, 'part-1.parquet'), path.join(folder, 'part-2.parquet')], hadFolder: true });
   });
 
   it('an in-process native engine without the option keeps full access (the headless command reads what it is given)', async () => {

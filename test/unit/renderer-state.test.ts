@@ -62,12 +62,12 @@ describe('choosing a log format from file names', () => {
 describe('page mode', () => {
   it.each([
     ['', false, 'web'],
-    ['?host=ws://127.0.0.1:5178/engine&token=abc', false, 'hosted'],
-    ['?host=http://evil&token=abc', false, 'web'],
-    ['?host=ws://127.0.0.1:5178/engine', false, 'web'],
-    ['?host=ws://127.0.0.1:5178/engine&token=abc', true, 'desktop'],
-  ])('%s (bridge %s) is %s', (search, bridge, kind) => {
-    expect(detectMode(search, bridge).kind).toBe(kind);
+    ['#host=ws://127.0.0.1:5178/engine&token=abc', false, 'hosted'],
+    ['#host=http://evil&token=abc', false, 'web'],
+    ['#host=ws://127.0.0.1:5178/engine', false, 'web'],
+    ['#host=ws://127.0.0.1:5178/engine&token=abc', true, 'desktop'],
+  ])('fragment %s (bridge %s) is %s', (fragment, bridge, kind) => {
+    expect(detectMode(fragment, bridge).kind).toBe(kind);
   });
 });
 

@@ -10,7 +10,7 @@ import {
   DuckDBMapValue, DuckDBStructValue, DuckDBTimestampMillisecondsValue, DuckDBTimestampNanosecondsValue,
   DuckDBTimestampSecondsValue, DuckDBTimestampTZValue, DuckDBTimestampValue, DuckDBTimeValue, DuckDBUnionValue,
 } from '@duckdb/node-api';
-import type { DuckDBMaterializedResult, DuckDBValue } from '@duckdb/node-api';
+import type { DuckDBMaterializedResult, DuckDBResultReader, DuckDBValue } from '@duckdb/node-api';
 import type { Cell, Table } from '../../core/table.ts';
 import { bytesToHex, floorDiv, formatDate, formatDecimal, formatTime, formatTimestamp } from './format.ts';
 
@@ -49,10 +49,11 @@ function formatTimestampScaled(raw: bigint, multiply: bigint, divide: bigint): s
   return formatTimestamp(floorDiv(raw * multiply, divide));
 }
 
-export async function tableFromDuckDBResult(result: DuckDBMaterializedResult): Promise<Table> {
+/** A materialized result, or a streamed one read as far as it was (a locked engine's capped read). */
+export async function tableFromDuckDBResult(result: DuckDBMaterializedResult | DuckDBResultReader): Promise<Table> {
   const names = result.columnNames();
   const types = result.columnTypes().map((t) => t.toString());
   const raw = await result.getColumns();
   const columns = raw.map((col) => col.map(cellFromDuckDB));
-  return { names, types, columns, rowCount: result.rowCount };
+  return { names, types, columns, rowCount: 'rowCount' in result ? result.rowCount : result.currentRowCount };
 }

@@ -1,12 +1,18 @@
-/** Engine on the client side of the host protocol (no Node imports: the browser uses it too). */
-import type { AuditRequest, AuditStage } from '../../core/audit.ts';
-import type { Report } from '../../core/model/report.ts';
+/**
+ * The client side of the host protocol (no Node imports: the browser uses it too). It asks for named
+ * things only (messages.ts); there is no way to send the host a statement.
+ */
+import type { AuditStage } from '../../core/audit.ts';
+import type { InputFile, Report } from '../../core/model/report.ts';
+import type { DrillRoles, DrillSelection, PageRequest } from '../../core/scan/drill.ts';
+import type { Profile } from '../../core/scan/profile.ts';
 import type { Table } from '../../core/table.ts';
 import { parseReport } from '../../report/validate.ts';
 import { EngineError } from '../types.ts';
-import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from '../types.ts';
-import { decodeCube, decodeReport, decodeTable, isRequest, parseHostMessage } from './protocol.ts';
-import type { HostReply, HostRequest, WireAuditRequest } from './protocol.ts';
+import type { RegisteredSource } from '../types.ts';
+import { decodeProfile, decodeReport, decodeTable, encodeCell } from './codec.ts';
+import { PROTOCOL_VERSION, type HostReply, type HostRequest, type WireAuditRequest, type WireDrillSelection, type WirePathSource } from './messages.ts';
+import { parseHostReply } from './replies.ts';
 import type { Transport } from './transport.ts';
 
 type Pending = { resolve: (reply: HostReply) => void; reject: (error: EngineError) => void };
@@ -22,36 +28,52 @@ export interface HostAuditResult {
 
 export type AuditProgress = { readonly stage: AuditStage; readonly done?: boolean };
 
-/** What the host needs of an AuditRequest: everything but the callbacks and the clock. */
-export type HostAuditRequest = Omit<AuditRequest, 'onProgress' | 'signal' | 'now'>;
+/** What a page asks the host to audit: a source it registered, and the user's choices. */
+export type HostAuditRequest = WireAuditRequest;
 
-export interface HostEngine extends Engine {
+export interface HostRegistration {
+  readonly source: RegisteredSource;
+  /** Size, time and SHA-256 of each file behind the source, as the report records them. */
+  readonly inputs: readonly InputFile[];
+}
+
+/**
+ * Rows behind a segment-map cell, or behind a finding of the host's latest audit of the source (by its
+ * position among that report's findings with rows, codec.ts findingsWithRows).
+ */
+export interface HostDrill {
+  readonly source: string;
+  readonly roles: DrillRoles;
+  readonly selection: Omit<DrillSelection, 'where'> & { readonly finding?: number };
+}
+
+export interface HostEngine {
   readonly kind: 'host';
   /** Round trip to the host; resolves with the protocol version it speaks. */
   ping(): Promise<number>;
+  /** Pings and refuses a host that speaks another protocol version. */
+  connect(): Promise<void>;
+  register(source: WirePathSource): Promise<HostRegistration>;
+  profile(relation: string): Promise<Profile>;
   /** The whole audit in one request: the host runs it next to the log and sends the report and the cube. */
   audit(request: HostAuditRequest, onProgress?: (p: AuditProgress) => void, signal?: AbortSignal): Promise<HostAuditResult>;
-}
-
-/** The request as JSON would carry it: fields that are undefined are left out, so any carrier sends the same thing. */
-function wireRequest(request: HostAuditRequest): WireAuditRequest {
-  const { relation, input, scanSql, roles, targets, settings, engine } = request;
-  return JSON.parse(JSON.stringify({ relation, input, scanSql, roles, targets, settings, engine })) as WireAuditRequest;
+  drillPage(drill: HostDrill, page: PageRequest, signal?: AbortSignal): Promise<Table>;
+  drillCount(drill: HostDrill, signal?: AbortSignal): Promise<number>;
+  /** Interrupts the running query, if any. */
+  cancel(): Promise<void>;
+  close(): Promise<void>;
 }
 
 export function createHostEngine(transport: Transport, options: { onClosed?: () => Promise<void> } = {}): HostEngine {
   const pending = new Map<number, Pending>();
   const progressListeners = new Map<number, (p: AuditProgress) => void>();
   let nextId = 1;
-  let scans = 0;
   let gone: EngineError | null = null;
 
   transport.onMessage((raw) => {
     let reply: HostReply;
     try {
-      const message = parseHostMessage(raw);
-      if (isRequest(message)) return;
-      reply = message;
+      reply = parseHostReply(raw);
     } catch (error) {
       const id = (raw as { id?: unknown } | null)?.id;
       const waiting = typeof id === 'number' ? pending.get(id) : undefined;
@@ -61,7 +83,6 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
       }
       return;
     }
-    if (reply.kind === 'progress') return;
     if (reply.kind === 'audit-progress') {
       progressListeners.get(reply.id)?.({ stage: reply.stage, ...(reply.done ? { done: true } : {}) });
       return;
@@ -99,34 +120,42 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
     return reply as Extract<HostReply, { kind: K }>;
   }
 
-  return {
+  /** A request that a signal can interrupt (the host interrupts its running query). */
+  async function interruptible(body: RequestBody, signal: AbortSignal | undefined): Promise<HostReply> {
+    if (signal?.aborted) throw new EngineError('cancelled', 'The query was cancelled.');
+    const onAbort = (): void => { void request({ kind: 'cancel' }).catch(() => undefined); };
+    signal?.addEventListener('abort', onAbort, { once: true });
+    try {
+      return await request(body);
+    } finally {
+      signal?.removeEventListener('abort', onAbort);
+    }
+  }
+
+  const wireDrill = (drill: HostDrill) => ({
+    source: drill.source,
+    roles: { time: drill.roles.time, decision_id: drill.roles.decision_id, action: drill.roles.action },
+    // Fields that are undefined are left out, so every carrier sends the same message.
+    selection: JSON.parse(JSON.stringify(drill.selection)) as WireDrillSelection,
+  });
+
+  const engine: HostEngine = {
     kind: 'host',
-    async register(source: SourceSpec): Promise<RegisteredSource> {
-      if (source.kind !== 'path') throw new EngineError('unsupported-format', 'The engine host reads files by path; a browser File handle cannot be sent to it.');
-      const { kind: _kind, paths, format, csv, hivePartitioning } = source;
-      const wire = { kind: 'path' as const, paths, ...(format && { format }), ...(csv && { csv }), ...(hivePartitioning !== undefined && { hivePartitioning }) };
-      return expect(await request({ kind: 'register', source: wire }), 'registered').source;
-    },
-    async query(sql: string, queryOptions: QueryOptions = {}): Promise<Table> {
-      const { signal } = queryOptions;
-      if (signal?.aborted) throw new EngineError('cancelled', 'The query was cancelled.');
-      const onAbort = (): void => { void request({ kind: 'cancel' }).catch(() => undefined); };
-      signal?.addEventListener('abort', onAbort, { once: true });
-      try {
-        const reply = expect(await request({ kind: 'query', sql }), 'result');
-        scans = reply.sourceScans;
-        return decodeTable(reply.table);
-      } finally {
-        signal?.removeEventListener('abort', onAbort);
-      }
-    },
-    async cancel() {
-      if (gone) return;
-      await request({ kind: 'cancel' });
-    },
-    get sourceScans() { return scans; },
     async ping() {
       return expect(await request({ kind: 'ping' }), 'pong').protocol;
+    },
+    async connect() {
+      const protocol = await engine.ping();
+      if (protocol !== PROTOCOL_VERSION) {
+        throw new EngineError('closed', `The engine speaks protocol version ${protocol} and this page version ${PROTOCOL_VERSION}; restart the engine and reload the page so both come from the same build.`);
+      }
+    },
+    async register(source) {
+      const reply = expect(await request({ kind: 'register', source }), 'registered');
+      return { source: reply.source, inputs: reply.inputs };
+    },
+    async profile(relation) {
+      return decodeProfile(expect(await request({ kind: 'profile', source: relation }), 'profiled').profile);
     },
     async audit(auditRequest, onProgress, signal) {
       if (signal?.aborted) throw new EngineError('cancelled', 'The audit was cancelled.');
@@ -135,22 +164,35 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
         if (auditId !== null) void request({ kind: 'cancel', target: auditId }).catch(() => undefined);
       };
       signal?.addEventListener('abort', onAbort, { once: true });
+      // Fields that are undefined are left out, so every carrier sends the same message.
+      const wire = JSON.parse(JSON.stringify(auditRequest)) as WireAuditRequest;
       try {
-        const reply = expect(await request({ kind: 'audit', request: wireRequest(auditRequest) }, (id) => {
+        const reply = expect(await request({ kind: 'audit', request: wire }, (id) => {
           auditId = id;
           if (onProgress) progressListeners.set(id, onProgress);
         }), 'audit-result');
-        return { report: parseReport(decodeReport(reply.report), 'the engine host\'s report'), cubeIpc: decodeCube(reply) };
-      } catch (error) {
-        throw error instanceof EngineError ? error : new EngineError('internal', (error as Error).message);
+        return { report: parseReport(decodeReport(reply.report), 'the engine host\'s report'), cubeIpc: reply.cube };
       } finally {
         if (auditId !== null) progressListeners.delete(auditId);
         signal?.removeEventListener('abort', onAbort);
       }
+    },
+    async drillPage(drill, page, signal) {
+      const after = page.after ? { key: page.after.key.map(encodeCell), types: [...page.after.types], tied: page.after.tied } : null;
+      const reply = await interruptible({ kind: 'drill-page', ...wireDrill(drill), page: { offset: page.offset, limit: page.limit, after } }, signal);
+      return decodeTable(expect(reply, 'rows').table);
+    },
+    async drillCount(drill, signal) {
+      return expect(await interruptible({ kind: 'drill-count', ...wireDrill(drill) }, signal), 'count').rows;
+    },
+    async cancel() {
+      if (gone) return;
+      await request({ kind: 'cancel' });
     },
     async close() {
       if (!gone) await request({ kind: 'close' }).catch(() => undefined);
       await options.onClosed?.();
     },
   };
+  return engine;
 }

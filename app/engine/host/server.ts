@@ -1,49 +1,102 @@
 /**
- * The engine host's request handling, independent of what carries the messages. Cancel and ping are
- * answered at once; register, query and the queries of an audit run on the engine in arrival order
- * (the engine serialises them). An audit runs app/core's audit here, next to the log, and sends back
- * the report and the cube (DEVELOPERS.md, "The desktop data path").
+ * The engine host's request handling, independent of what carries the messages. Every request is one of
+ * the named kinds of messages.ts; the SQL each runs is built here from app/core's builders (profile,
+ * audit, drill), over a source this host registered, on a locked engine (native.ts restrictFileAccess:
+ * reads of registered files only, one SELECT per statement). Cancel and ping are answered at once; the
+ * rest run on the engine in arrival order (the engine serialises them).
  */
 import { AuditCancelled, runAuditDetailed } from '../../core/audit.ts';
+import type { InputFile } from '../../core/model/report.ts';
+import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../core/scan/drill.ts';
+import { describeSql, parseDescribe, profileLog } from '../../core/scan/profile.ts';
 import { cubeToArrowIpc } from '../cube-arrow.ts';
 import { toEngineError } from '../errors.ts';
 import type { NativeEngine } from '../native.ts';
+import { serialQueue } from '../serial.ts';
 import { EngineError } from '../types.ts';
-import { toBase64 } from './base64.ts';
-import { encodeReport, encodeTable, isRequest, parseHostMessage, PROTOCOL_VERSION, ProtocolError } from './protocol.ts';
-import type { HostReply, HostRequest } from './protocol.ts';
+import type { RegisteredSource } from '../types.ts';
+import { decodeCell, encodeProfile, encodeReport, encodeTable, findingsWithRows } from './codec.ts';
+import { fingerprintFiles } from './fingerprint.ts';
+import { MAX_REPLY_BYTES, PROTOCOL_VERSION, type HostReply, type HostRequest } from './messages.ts';
+import { ProtocolError } from './protocol-error.ts';
+import { idOf, parseHostRequest } from './requests.ts';
 import type { Transport } from './transport.ts';
 
 export interface ServeOptions {
-  /** How often a running query reports progress, in milliseconds. */
-  progressIntervalMs?: number;
   /** Called once the engine has been closed on request. */
   onClosed?: () => void;
+  /** Byte cap of one reply (default MAX_REPLY_BYTES). */
+  maxReplyBytes?: number;
 }
 
+interface Source {
+  readonly registered: RegisteredSource;
+  readonly inputs: InputFile[];
+  columnTypes?: Record<string, string>;
+  /** Predicates of the latest audit's findings with rows (codec.ts findingsWithRows). */
+  findings: string[];
+}
+
+type DrillRequest = Extract<HostRequest, { kind: 'drill-page' | 'drill-count' }>;
+
 export function serveEngine(transport: Transport, engine: NativeEngine, options: ServeOptions = {}): void {
-  const interval = options.progressIntervalMs ?? 250;
+  const maxBytes = options.maxReplyBytes ?? MAX_REPLY_BYTES;
   const reply = (message: HostReply): void => transport.send(message);
   const replyError = (id: number, error: unknown): void => {
     const e = error instanceof ProtocolError ? new EngineError('internal', error.message) : toEngineError(error);
     reply({ kind: 'error', id, code: e.code, message: e.message });
   };
-
+  const sources = new Map<string, Source>();
+  const inOrder = serialQueue();
   /** Running audits by request id; a cancel naming one sets its flag, which the audit checks between stages. */
   const audits = new Map<number, { aborted: boolean }>();
 
+  function sourceOf(relation: string): Source {
+    const source = sources.get(relation);
+    if (!source) throw new EngineError('sql', `No log is registered as ${relation} on this engine; open the log again.`);
+    return source;
+  }
+
+  function capped(bytes: number, what: string): void {
+    if (bytes > maxBytes) throw new EngineError('too-large', `The ${what} is ${(bytes / 2 ** 20).toFixed(1)} MB, more than the ${(maxBytes / 2 ** 20).toFixed(0)} MB one answer may hold; nothing was sent.`);
+  }
+
+  async function drillSpec(request: DrillRequest): Promise<DrillSpec> {
+    const source = sourceOf(request.source);
+    source.columnTypes ??= Object.fromEntries(parseDescribe(await engine.query(describeSql(request.source))).map((c) => [c.name, c.type]));
+    const { finding, ...cell } = request.selection;
+    let where: string | undefined;
+    if (finding !== undefined) {
+      where = source.findings[finding];
+      if (where === undefined) throw new EngineError('sql', `The latest audit of this log has no finding number ${finding} with rows; run the audit again.`);
+    }
+    return { relation: request.source, roles: request.roles, selection: { ...cell, ...(where === undefined ? {} : { where, segment: {} }) }, columnTypes: source.columnTypes };
+  }
+
   async function audit(request: Extract<HostRequest, { kind: 'audit' }>): Promise<void> {
     const { id } = request;
+    const { source: relation, roles, targets, settings } = request.request;
+    const source = sourceOf(relation);
     const signal = { aborted: false };
     audits.set(id, signal);
     try {
       const { report, cells } = await runAuditDetailed((sql) => engine.query(sql), {
-        ...request.request,
+        relation,
+        input: { files: source.inputs, format: source.registered.format },
+        scanSql: source.registered.scanSql,
+        ...(roles ? { roles } : {}),
+        ...(targets ? { targets } : {}),
+        ...(settings ? { settings } : {}),
+        engine: 'host',
         onProgress: (p) => reply({ kind: 'audit-progress', id, stage: p.stage, ...(p.done ? { done: true as const } : {}) }),
         signal,
       });
       if (signal.aborted) throw new AuditCancelled();
-      reply({ kind: 'audit-result', id, report: encodeReport(report), cube: toBase64(cubeToArrowIpc(cells)) });
+      const cube = cubeToArrowIpc(cells);
+      const wireReport = encodeReport(report);
+      capped(cube.byteLength + JSON.stringify(wireReport).length, 'audit result');
+      source.findings = findingsWithRows(report, relation);
+      reply({ kind: 'audit-result', id, report: wireReport, cube });
     } catch (error) {
       if (signal.aborted || error instanceof AuditCancelled) throw new EngineError('cancelled', 'The audit was cancelled.');
       // The core's own errors (a role that names no column, a malformed target table) keep their words.
@@ -65,27 +118,32 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         reply({ kind: 'done', id: request.id });
         return;
       }
+      case 'register': {
+        const registered = await engine.register(request.source);
+        const inputs = await fingerprintFiles(registered.files);
+        sources.set(registered.relation, { registered, inputs, findings: [] });
+        reply({ kind: 'registered', id: request.id, source: { relation: registered.relation, format: registered.format, files: [...registered.files], scanSql: registered.scanSql }, inputs });
+        return;
+      }
+      case 'profile': {
+        sourceOf(request.source);
+        reply({ kind: 'profiled', id: request.id, profile: encodeProfile(await profileLog((sql) => engine.query(sql), request.source)) });
+        return;
+      }
       case 'audit':
         await audit(request);
         return;
-      case 'register':
-        reply({ kind: 'registered', id: request.id, source: await engine.register(request.source) });
-        return;
-      case 'query': {
-        reply({ kind: 'progress', id: request.id, stage: 'started' });
-        const timer = setInterval(() => {
-          const p = engine.progress();
-          if (p.percentage >= 0) reply({ kind: 'progress', id: request.id, stage: 'scanning', rowsScanned: p.rowsProcessed });
-        }, interval);
-        try {
-          const table = await engine.query(request.sql);
-          reply({ kind: 'progress', id: request.id, stage: 'finished' });
-          reply({ kind: 'result', id: request.id, table: encodeTable(table), sourceScans: engine.sourceScans });
-        } finally {
-          clearInterval(timer);
-        }
+      case 'drill-page': {
+        const { after, ...page } = request.page;
+        const cursor = after ? { key: after.key.map(decodeCell), types: after.types, tied: after.tied } : null;
+        const table = encodeTable(await engine.query(drillPageSql(await drillSpec(request), { ...page, after: cursor })));
+        capped(JSON.stringify(table).length, 'page of rows');
+        reply({ kind: 'rows', id: request.id, table });
         return;
       }
+      case 'drill-count':
+        reply({ kind: 'count', id: request.id, rows: parseDrillCount(await engine.query(drillCountSql(await drillSpec(request)))) });
+        return;
       case 'close':
         await engine.close();
         reply({ kind: 'done', id: request.id });
@@ -97,16 +155,14 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
   transport.onMessage((raw) => {
     let request: HostRequest;
     try {
-      const message = parseHostMessage(raw);
-      if (!isRequest(message)) {
-        throw new ProtocolError(`Malformed engine host message: the host accepts requests only, not "${message.kind}".`);
-      }
-      request = message;
+      request = parseHostRequest(raw);
     } catch (error) {
-      const id = typeof raw === 'object' && raw !== null && Number.isSafeInteger((raw as { id?: unknown }).id) ? (raw as { id: number }).id : 0;
-      replyError(id, error);
+      replyError(idOf(raw), error);
       return;
     }
-    handle(request).catch((error: unknown) => replyError(request.id, error));
+    // Ping and cancel are answered at once; everything else in arrival order (a profile sent right after
+    // its register waits for it).
+    const run = request.kind === 'ping' || request.kind === 'cancel' ? handle(request) : inOrder(() => handle(request));
+    run.catch((error: unknown) => replyError(request.id, error));
   });
 }

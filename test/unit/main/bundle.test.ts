@@ -1,4 +1,5 @@
 import { execFile } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import os from 'node:os';
 import path from 'node:path';
@@ -7,6 +8,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildElectron, packaging, ROOT } from '../../../electron.config.ts';
 
 const run = promisify(execFile);
+const DEMO = path.join(ROOT, 'sample-data', 'maple-row-demo.csv');
+const DEMO_ROWS = (JSON.parse(readFileSync(path.join(ROOT, 'sample-data', 'maple-row-demo.manifest.json'), 'utf8')) as { generator: { rows: number } }).generator.rows;
 
 function requires(code: string): string[] {
   return [...new Set([...code.matchAll(/require\("([^"]+)"\)/g)].map((m) => m[1] ?? ''))].sort();
@@ -42,17 +45,20 @@ describe('desktop bundles (esbuild, electron.config.ts)', () => {
       const { EventEmitter } = require('node:events');
       const port = new EventEmitter();
       const replies = [];
-      port.postMessage = (m) => { replies.push(m); if (m.kind === 'result') { console.log(JSON.stringify(replies)); process.exit(0); } };
+      port.postMessage = (m) => { replies.push(m); if (m.kind === 'profiled' || m.kind === 'error') { console.log(JSON.stringify(replies)); process.exit(0); } };
       process.parentPort = port;
       require(${JSON.stringify(entry)});
       port.emit('message', { data: { kind: 'ping', id: 1 } });
-      port.emit('message', { data: { kind: 'query', id: 2, sql: 'select 6 * 7 as answer' } });
+      port.emit('message', { data: { kind: 'register', id: 2, source: { kind: 'path', paths: [${JSON.stringify(DEMO)}] } } });
+      port.emit('message', { data: { kind: 'profile', id: 3, source: '"src_1"' } });
       setTimeout(() => process.exit(3), 20000);
     `;
     const { stdout } = await run(process.execPath, ['-e', shim], { cwd: ROOT, env: { ...process.env, NODE_PATH: path.join(ROOT, 'node_modules') } });
-    const replies = JSON.parse(stdout) as { kind: string; id: number; table?: { columns: unknown[][] } }[];
-    expect(replies[0]).toEqual({ kind: 'pong', id: 1, protocol: 1 });
-    expect(replies.at(-1)?.table?.columns).toEqual([[42]]);
+    const replies = JSON.parse(stdout) as { kind: string; id: number; profile?: { $struct: { rows: number } } }[];
+    expect(replies[0]).toEqual({ kind: 'pong', id: 1, protocol: 2 });
+    expect(replies[1]).toMatchObject({ kind: 'registered', id: 2, source: { relation: '"src_1"' } });
+    // The demo log's manifest states its row count.
+    expect(replies.at(-1)?.profile?.$struct.rows).toBe(DEMO_ROWS);
   });
 
   it('packaging names the app and points at the bundled main', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { HostReply, HostRequest } from '../../../app/engine/host/protocol.ts';
+import type { HostReply, HostRequest } from '../../../app/engine/host/messages.ts';
 import type { EngineHost } from '../../../app/main/engine-host.ts';
 import { type DialogApi, PathGrants, type RecentStore } from '../../../app/main/file-access.ts';
 import { createHandlers } from '../../../app/main/handlers.ts';

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { dispatch, type IpcHandlers, IpcValidationError, isInvokeChannel, registerIpc, validateIpc } from '../../../app/main/ipc.ts';
+import { dispatch, INVOKE_CHANNELS, type IpcHandlers, IpcValidationError, isInvokeChannel, registerIpc, validateIpc } from '../../../app/main/ipc.ts';
 import { admitRequest, parseHostReply, parseHostRequest } from '../../../app/main/host-messages.ts';
 import { PathGrants } from '../../../app/main/file-access.ts';
-import { INVOKE_CHANNELS } from '../../../app/main/ipc-contract.ts';
+
 
 describe('validateIpc', () => {
   it.each([['shell:open-external'], ['__proto__'], ['constructor'], [''], [42], [undefined]])('rejects the unknown channel %j', (channel) => {
@@ -14,24 +14,25 @@ describe('validateIpc', () => {
     ['launch:log', [1], /takes no arguments/],
     ['log:choose', ['/etc/passwd'], /takes no arguments/],
     ['recent:add', [], /takes one argument/],
-    ['recent:add', ['/a.csv'], /list of 1 to/],
+    ['recent:add', ['/a.csv'], /expected array/],
     ['recent:add', [[]], /list of 1 to/],
-    ['recent:add', [['/a.csv', 7]], /paths\[1\] must be a string/],
+    ['recent:add', [['/a.csv', 7]], /request 1 expected string/],
     ['recent:add', [['/a\0.csv']], /without NUL/],
     ['report:save', [{ format: 'exe', contents: 'x' }], /format must be "json" or "html"/],
     ['report:save', [{ format: 'pdf', contents: 'x' }], /format must be "json" or "html"/],
-    ['report:save', [{ format: 'json', contents: 12 }], /contents must be a string/],
-    ['report:save', [{ format: 'json', contents: '{}', path: '/etc/cron.d/x' }], /unknown field "path"/],
-    ['report:save', [null], /must be an object/],
+    ['report:save', [{ format: 'json', contents: 12 }], /contents expected string/],
+    ['report:save', [{ format: 'json', contents: '{}', path: '/etc/cron.d/x' }], /Unrecognized key: "path"/],
+    ['report:save', [null], /expected object/],
     ['report:print-pdf', [{ suggestedName: 'x'.repeat(300) }], /longer than 255/],
-    ['report:print-pdf', [[]], /must be an object/],
-    ['engine:send', [{ kind: 'query', id: 1 }], /"sql" must be a string/],
-    ['engine:send', [{ kind: 'drop-tables', id: 1 }], /unknown kind/],
-    ['engine:send', [{ kind: 'pong', id: 1, protocol: 1 }], /is a reply/],
-    ['engine:send', [{ kind: 'register', id: 1, source: { kind: 'file', files: [] } }], /path source/],
-    ['engine:send', [{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' } } }], /"request.engine" must be a string/],
-    ['engine:send', [{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' }, engine: 'host', roles: { action: 1 } } }], /"request.roles.action" must be a column name or null/],
-    ['engine:send', [{ kind: 'audit-progress', id: 1, stage: 'cube' }], /is a reply/],
+    ['report:print-pdf', [[]], /expected object/],
+    ['engine:send', [{ kind: 'query', id: 1, sql: 'COPY (SELECT 1) TO \'/tmp/x\'' }], /kind/],
+    ['engine:send', [{ kind: 'drop-tables', id: 1 }], /kind/],
+    ['engine:send', [{ kind: 'pong', id: 1, protocol: 1 }], /kind/],
+    ['engine:send', [{ kind: 'register', id: 1, source: { kind: 'file', files: [] } }], /source.kind/],
+    ['engine:send', [{ kind: 'audit', id: 1, request: { relation: '"src_1"', input: { files: [], format: 'parquet' } } }], /request.source/],
+    ['engine:send', [{ kind: 'audit', id: 1, request: { source: '"src_1"', roles: { action: 1 } } }], /request.roles.action/],
+    ['engine:send', [{ kind: 'drill-page', id: 1, source: '"src_1"', roles: { time: null, decision_id: null, action: null }, selection: { segment: {}, where: 'TRUE' }, page: { offset: 0, limit: 10 } }], /where/],
+    ['engine:send', [{ kind: 'audit-progress', id: 1, stage: 'cube' }], /kind/],
   ] as const)('rejects %s with malformed arguments %j', (channel, args, message) => {
     let thrown: unknown;
     try {
@@ -55,9 +56,9 @@ describe('validateIpc', () => {
     ['report:print-pdf', [{}]],
     ['report:print-pdf', [{ suggestedName: 'audit' }]],
     ['engine:send', [{ kind: 'ping', id: 3 }]],
-    ['engine:send', [{ kind: 'query', id: 4, sql: 'select 42' }]],
+    ['engine:send', [{ kind: 'drill-count', id: 4, source: '"src_1"', roles: { time: null, decision_id: null, action: 'promotion' }, selection: { segment: { region: 'old-town' }, action: 'bakery' } }]],
     ['engine:send', [{ kind: 'register', id: 5, source: { kind: 'path', paths: ['/data/a.parquet'], format: 'parquet' } }]],
-    ['engine:send', [{ kind: 'audit', id: 6, request: { relation: '"src_1"', input: { files: [{ path: '/data/a.parquet', bytes: 10, sha256: 'ab' }], format: 'parquet' }, roles: { action: 'promotion', segments: ['region'] }, targets: [{ spec: 'uniform' }], settings: { 'segments.cap': 50 }, engine: 'host' } }]],
+    ['engine:send', [{ kind: 'audit', id: 6, request: { source: '"src_1"', roles: { action: 'promotion', segments: ['region'] }, targets: [{ spec: 'uniform' }], settings: { 'segments.cap': 50 } } }]],
     ['engine:send', [{ kind: 'cancel', id: 7, target: 6 }]],
     ['engine:status', []],
   ] as const)('accepts %s %j unchanged', (channel, args) => {
@@ -128,8 +129,8 @@ describe('engine messages', () => {
   it('relays only replies from the host', () => {
     expect(parseHostReply({ kind: 'pong', id: 1, protocol: 1 })).toEqual({ kind: 'pong', id: 1, protocol: 1 });
     expect(parseHostReply({ kind: 'audit-progress', id: 2, stage: 'tails', done: true })).toEqual({ kind: 'audit-progress', id: 2, stage: 'tails', done: true });
-    expect(() => parseHostReply({ kind: 'audit', id: 3, request: { relation: '"src_1"', input: { files: [], format: 'csv' }, engine: 'host' } })).toThrow(/is a request/);
-    expect(() => parseHostReply({ kind: 'query', id: 1, sql: 'select 1' })).toThrow(/is a request/);
-    expect(() => parseHostReply('pong')).toThrow(/expected an object/);
+    expect(() => parseHostReply({ kind: 'audit', id: 3, request: { source: '"src_1"' } })).toThrow(/is a request/);
+    expect(() => parseHostReply({ kind: 'query', id: 1, sql: 'select 1' })).toThrow(/kind/);
+    expect(() => parseHostReply('pong')).toThrow(/expected object/);
   });
 });

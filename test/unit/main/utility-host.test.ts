@@ -1,7 +1,8 @@
+import { readFileSync } from 'node:fs';
 import { EventEmitter } from 'node:events';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createHostEngine } from '../../../app/engine/host/client.ts';
-import type { HostMessage } from '../../../app/engine/host/protocol.ts';
+import type { HostMessage } from '../../../app/engine/host/messages.ts';
 import { createNativeEngine, type NativeEngine } from '../../../app/engine/native.ts';
 import { parentPortTransport, serveOverParentPort } from '../../../app/main/utility-host.ts';
 
@@ -44,6 +45,10 @@ describe('parentPortTransport', () => {
   });
 });
 
+const DEMO_CSV = new URL('../../../sample-data/maple-row-demo.csv', import.meta.url).pathname;
+// The generator's manifest beside the demo log states its row count.
+const DEMO_ROWS = (JSON.parse(readFileSync(new URL('../../../sample-data/maple-row-demo.manifest.json', import.meta.url), 'utf8')) as { generator: { rows: number } }).generator.rows;
+
 describe('serveOverParentPort (real native engine)', () => {
   const engines: NativeEngine[] = [];
   const port = new FakeParentPort();
@@ -62,22 +67,21 @@ describe('serveOverParentPort (real native engine)', () => {
     await Promise.all(engines.map((e) => e.close().catch(() => undefined)));
   });
 
-  it('answers a ping with the protocol version and runs SQL through the host protocol', async () => {
+  it('answers a ping with the protocol version and registers and profiles a log through the host protocol', async () => {
     await served;
-    expect(await client.ping()).toBe(1);
-    const table = await client.query('select 42 as answer');
-    expect(table.names).toEqual(['answer']);
-    expect(table.columns).toEqual([[42]]);
+    expect(await client.ping()).toBe(2);
+    const { source } = await client.register({ kind: 'path', paths: [DEMO_CSV] });
+    expect((await client.profile(source.relation)).rows).toBe(DEMO_ROWS);
   });
 
-  it('opens a fresh engine after a close, so earlier tables are gone', async () => {
-    await client.query('create table kept as select 1 as x');
-    await client.query('select * from kept');
+  it('opens a fresh engine after a close, so earlier sources are gone', async () => {
+    const { source } = await client.register({ kind: 'path', paths: [DEMO_CSV] });
     const repliesBefore = port.posted.length;
     await client.close();
     expect(port.posted.length).toBeGreaterThan(repliesBefore);
     await expect.poll(() => engines.length).toBe(2);
-    await expect(client.query('select * from kept')).rejects.toThrow(/kept/);
-    expect((await client.query('select 7 as n')).columns).toEqual([[7]]);
+    await expect(client.profile(source.relation)).rejects.toThrow(/No log is registered as/);
+    const again = await client.register({ kind: 'path', paths: [DEMO_CSV] });
+    expect((await client.profile(again.source.relation)).rows).toBe(DEMO_ROWS);
   });
 });

@@ -35,11 +35,13 @@ describe('checkUpgrade', () => {
     expect(tokensEqual('', token)).toBe(false);
   });
 
-  it('builds the page URL with the socket and token as query parameters', () => {
+  it('builds the page URL with the socket and token in the fragment, which no request carries', () => {
     const url = new URL(hostedUrl(5178, token));
     expect(url.origin).toBe('http://127.0.0.1:5178');
-    expect(url.searchParams.get('host')).toBe('ws://127.0.0.1:5178/engine');
-    expect(url.searchParams.get('token')).toBe(token);
+    expect(url.search).toBe('');
+    const fragment = new URLSearchParams(url.hash.slice(1));
+    expect(fragment.get('host')).toBe('ws://127.0.0.1:5178/engine');
+    expect(fragment.get('token')).toBe(token);
   });
 });
 

@@ -6,6 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import WebSocket from 'ws';
 import { createHostEngine } from '../../../app/engine/host/client.ts';
 import type { Transport } from '../../../app/engine/host/transport.ts';
+import { decodeFrame, encodeFrame } from '../../../app/engine/host/frames.ts';
 import { newToken } from '../../../scripts/web/access.ts';
 import { createHostedServer, type HostedServer } from '../../../scripts/web/hosted-server.ts';
 
@@ -37,8 +38,8 @@ function get(port: number, pathname: string, host = `127.0.0.1:${port}`): Promis
 
 function clientTransport(ws: WebSocket): Transport {
   return {
-    send: (message) => ws.send(JSON.stringify(message)),
-    onMessage: (listener) => ws.on('message', (data) => listener(JSON.parse(String(data)) as unknown)),
+    send: (message) => ws.send(encodeFrame(message)),
+    onMessage: (listener) => ws.on('message', (data, isBinary) => listener(decodeFrame(isBinary ? new Uint8Array(data as Buffer) : String(data)))),
     onClose: (listener) => ws.once('close', (code) => listener(`closed ${code}`)),
   };
 }
@@ -53,7 +54,7 @@ describe('hosted web server', () => {
     root = await mkdtemp(path.join(os.tmpdir(), 'cw-web-'));
     await writeFile(path.join(root, 'index.html'), '<!doctype html><title>Counterweight</title>');
     await writeFile(path.join(root, 'maple-row-tiny.csv'), 'decision_id,promotion\nd1,bakery\n');
-    server = await createHostedServer({ port: 0, token, staticRoot: root, demoFolder: root });
+    server = await createHostedServer({ port: 0, token, staticRoot: root, demoFolder: root, logFolders: [root] });
   });
 
   afterAll(async () => {
@@ -69,11 +70,13 @@ describe('hosted web server', () => {
     expect(newToken()).not.toBe(token);
   });
 
-  it('prints a page URL that carries the socket address and the token', () => {
+  it('prints a page URL that carries the socket address and the token in its fragment, never in its query', () => {
     const url = new URL(server.url);
     expect(url.origin).toBe(server.origin);
-    expect(url.searchParams.get('host')).toBe(server.socketUrl);
-    expect(url.searchParams.get('token')).toBe(token);
+    expect(url.search).toBe('');
+    const fragment = new URLSearchParams(url.hash.slice(1));
+    expect(fragment.get('host')).toBe(server.socketUrl);
+    expect(fragment.get('token')).toBe(token);
     expect(server.origin).toBe(`http://127.0.0.1:${server.port}`);
   });
 
@@ -97,17 +100,17 @@ describe('hosted web server', () => {
     expect((await handshake(`ws://127.0.0.1:${server.port}/other?token=${token}`, server.origin)).outcome).toBe(404);
   });
 
-  it('accepts the served origin with the token, and answers a ping and `select 42` through the host protocol', async () => {
+  it('accepts the served origin with the token, and registers and profiles a log by its bare name', async () => {
     const result = await handshake(engineUrl(`?token=${token}`), server.origin);
     expect(result.outcome).toBe('open');
     if (result.outcome !== 'open') return;
     opened.push(result.ws);
     const engine = createHostEngine(clientTransport(result.ws));
-    expect(await engine.ping()).toBe(1);
-    const table = await engine.query('select 42 as answer');
-    expect(table.names).toEqual(['answer']);
-    expect(table.columns).toEqual([[42]]);
-    await expect(engine.query('select * from no_such_table')).rejects.toMatchObject({ code: 'sql' });
+    await engine.connect();
+    const { source, inputs } = await engine.register({ kind: 'path', paths: ['maple-row-tiny.csv'] });
+    expect(inputs.map((f) => [path.basename(f.path), f.bytes])).toEqual([['maple-row-tiny.csv', Buffer.byteLength('decision_id,promotion\nd1,bakery\n')]]);
+    expect((await engine.profile(source.relation)).rows).toBe(1);
+    await expect(engine.profile('"src_9"')).rejects.toMatchObject({ code: 'sql' });
   });
 
   it('answers a request sent in the same tick as the handshake, before the engine has opened', async () => {
@@ -116,7 +119,7 @@ describe('hosted web server', () => {
     opened.push(result.ws);
     const reply = new Promise<unknown>((resolve) => result.ws.once('message', (data) => resolve(JSON.parse(String(data)))));
     result.ws.send(JSON.stringify({ kind: 'ping', id: 9 }));
-    expect(await reply).toEqual({ kind: 'pong', id: 9, protocol: 1 });
+    expect(await reply).toEqual({ kind: 'pong', id: 9, protocol: 2 });
   });
 
   it('answers a malformed frame with a protocol error instead of dropping the socket', async () => {
