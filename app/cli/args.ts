@@ -1,8 +1,10 @@
 /**
- * A small hand-written parser for our flags. Each command declares its flags; anything else is a usage
- * error naming the flag and the command. Forms: `--flag value`, `--flag=value`, boolean `--flag`,
- * repeatable flags collect a list, `--` ends the flags.
+ * Our flags on node:util's parseArgs. Each command declares its flags; parseArgs splits the arguments
+ * into tokens (its `tokens` mode, not strict, so every problem is ours to word), and the tokens are
+ * checked here in order: anything undeclared is a usage error naming the flag and the command. Forms:
+ * `--flag value`, `--flag=value`, boolean `--flag`, repeatable flags collect a list, `--` ends the flags.
  */
+import { parseArgs as tokenize } from 'node:util';
 import { UsageError } from './errors.ts';
 
 export type FlagKind = 'string' | 'boolean' | 'list';
@@ -38,41 +40,27 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
   const flags: FlagValues = {};
   const positionals: string[] = [];
   const all = { ...COMMON_FLAGS, ...spec.flags };
-  let onlyPositionals = false;
-  for (let i = 0; i < argv.length; i++) {
-    const arg = argv[i] as string;
-    if (onlyPositionals || arg === '-' || !arg.startsWith('-')) {
-      positionals.push(arg);
+  const options = Object.fromEntries(Object.entries(all).map(([name, f]) => [name, f.kind === 'boolean' ? { type: 'boolean' as const, ...(name === 'help' ? { short: 'h' } : {}) } : { type: 'string' as const }]));
+  const { tokens } = tokenize({ args: [...argv], options, allowPositionals: true, strict: false, tokens: true });
+  for (const token of tokens) {
+    if (token.kind === 'positional') {
+      positionals.push(token.value);
       continue;
     }
-    if (arg === '--') {
-      onlyPositionals = true;
-      continue;
-    }
-    if (arg === '-h') {
-      flags.help = true;
-      continue;
-    }
-    if (!arg.startsWith('--')) throw new UsageError(`unknown option ${arg} for '${spec.name}' (options are long, like --json; see counterweight ${spec.name} --help)`);
-    const eq = arg.indexOf('=');
-    const name = arg.slice(2, eq < 0 ? undefined : eq);
-    const flag = all[name];
+    if (token.kind === 'option-terminator') continue;
+    const { name, rawName } = token;
+    if (!rawName.startsWith('--') && name !== 'help') throw new UsageError(`unknown option ${rawName} for '${spec.name}' (options are long, like --json; see counterweight ${spec.name} --help)`);
+    const flag = Object.hasOwn(all, name) ? all[name] : undefined;
     if (!flag) throw new UsageError(`unknown option --${name} for '${spec.name}'${suggest(name, Object.keys(all))} (see counterweight ${spec.name} --help)`);
     if (flag.kind === 'boolean') {
-      if (eq >= 0) throw new UsageError(`--${name} takes no value`);
+      if (token.inlineValue) throw new UsageError(`--${name} takes no value`);
       flags[name] = true;
       continue;
     }
-    let value: string;
-    if (eq >= 0) {
-      value = arg.slice(eq + 1);
-    } else {
-      const next = argv[i + 1];
-      if (next === undefined || (next.startsWith('--') && next.length > 2)) {
-        throw new UsageError(`--${name} needs a value${flag.value ? ` (${flag.value})` : ''}`);
-      }
-      value = next;
-      i++;
+    // parseArgs takes the next argument as the value whatever it is; a flag there means the value is missing.
+    const value = token.value;
+    if (value === undefined || (!token.inlineValue && value.startsWith('--') && value.length > 2)) {
+      throw new UsageError(`--${name} needs a value${flag.value ? ` (${flag.value})` : ''}`);
     }
     if (value === '') throw new UsageError(`--${name} needs a non-empty value${flag.value ? ` (${flag.value})` : ''}`);
     if (flag.choices && !flag.choices.includes(value)) {

@@ -3,6 +3,7 @@ import { readFileSync } from 'node:fs';
 import { parseArgs, helpText, type CommandSpec, type ParsedArgs } from './args.ts';
 import { EXIT, InterruptedError, isCancellation, isInputError, UsageError } from './errors.ts';
 import type { CliIo } from './io.ts';
+import { terminalText } from './terminal-text.ts';
 import { auditSpec, runAuditCommand } from './commands/audit.ts';
 import { inspectSpec, runInspect } from './commands/inspect.ts';
 import { keygenSpec, runKeygen } from './commands/keygen.ts';
@@ -75,11 +76,12 @@ export async function main(argv: readonly string[], io: CliIo): Promise<number> 
       return EXIT.interrupted;
     }
     if (isInputError(error)) {
-      io.stderr.write(`counterweight: ${error.message}\n`);
+      // Messages quote column names, values and file names from the input: one line, no control characters.
+      io.stderr.write(`counterweight: ${terminalText(error.message)}\n`);
       if (debug && error.stack) io.stderr.write(`${error.stack}\n`);
     } else {
       const message = error instanceof Error ? error.message : String(error);
-      io.stderr.write(`counterweight: unexpected error: ${message}\n`);
+      io.stderr.write(`counterweight: unexpected error: ${terminalText(message)}\n`);
       io.stderr.write(debug && error instanceof Error && error.stack ? `${error.stack}\n` : 'Run again with --debug for the stack trace.\n');
     }
     return EXIT.usage;

@@ -3,6 +3,7 @@ import type { Report, Status, Verdict } from '../core/model/report.ts';
 import { STATUS_LABELS } from '../charts/palette.ts';
 import { fmtInterval, fmtNumber, fmtShare } from '../report/format.ts';
 import type { ColumnInfo } from './sources.ts';
+import { terminalText as t_ } from './terminal-text.ts';
 
 const ANSI = { reset: '\x1b[0m', bold: '\x1b[1m', dim: '\x1b[2m', red: '\x1b[31m', yellow: '\x1b[33m', green: '\x1b[32m' };
 
@@ -31,11 +32,11 @@ const VERDICT_WORDS: Record<Verdict, string> = {
 
 export function formatSourceHeader(files: readonly string[], format: string, rows: number, columns: readonly ColumnInfo[], paint: Paint): string {
   const lines = [
-    paint.bold(`${files.length === 1 ? files[0] : `${files.length} files (${files[0]} …)`}`),
-    `${format} · ${rows.toLocaleString('en-US')} rows · ${columns.length} columns`,
+    paint.bold(t_(files.length === 1 ? files[0] : `${files.length} files (${files[0]} …)`)),
+    `${t_(format)} · ${rows.toLocaleString('en-US')} rows · ${columns.length} columns`,
   ];
-  const width = Math.max(0, ...columns.map((c) => c.name.length));
-  for (const c of columns) lines.push(`  ${c.name.padEnd(width)}  ${paint.dim(c.type)}`);
+  const width = Math.max(0, ...columns.map((c) => t_(c.name).length));
+  for (const c of columns) lines.push(`  ${t_(c.name).padEnd(width)}  ${paint.dim(t_(c.type))}`);
   return `${lines.join('\n')}\n`;
 }
 
@@ -43,23 +44,23 @@ export function formatAuditSummary(report: Report, columns: readonly ColumnInfo[
   const out: string[] = [];
   out.push(formatSourceHeader(report.input.files.map((f) => f.path), report.input.format, report.input.rows, columns, paint));
   out.push(`Verdict: ${paint.status(report.verdict, VERDICT_WORDS[report.verdict])}`);
-  for (const r of report.reasons) out.push(`  ${paint.status(r.status, STATUS_LABELS[r.status].text.padEnd(4))} ${r.check}: ${r.message}`);
+  for (const r of report.reasons) out.push(`  ${paint.status(r.status, STATUS_LABELS[r.status].text.padEnd(4))} ${t_(r.check)}: ${t_(r.message)}`);
   out.push('');
   out.push(paint.bold('Checks'));
   const idWidth = Math.max(...report.checks.map((c) => c.id.length), 0);
   for (const c of report.checks) {
     const label = STATUS_LABELS[c.status];
-    out.push(`  ${paint.status(c.status, `${label.icon} ${label.text.padEnd(7)}`)} ${c.id.padEnd(idWidth)}  ${c.summary}`);
+    out.push(`  ${paint.status(c.status, `${label.icon} ${label.text.padEnd(7)}`)} ${t_(c.id).padEnd(idWidth)}  ${t_(c.summary)}`);
   }
   if (report.targets.length > 0) {
     out.push('');
     out.push(paint.bold('Targets'));
-    const nameWidth = Math.max(...report.targets.map((t) => t.name.length));
+    const nameWidth = Math.max(...report.targets.map((t) => t_(t.name).length));
     for (const t of report.targets) {
-      out.push(`  ${t.name.padEnd(nameWidth)}  ESS ${fmtNumber(Math.round(t.ess))} (${fmtShare(t.ess_fraction)})  k̂ ${fmtNumber(t.khat)}  IPS ${fmtNumber(t.ips.value)} ${fmtInterval(t.ips.ci_low, t.ips.ci_high)}  SNIPS ${fmtNumber(t.snips.value)} ${fmtInterval(t.snips.ci_low, t.snips.ci_high)}`);
+      out.push(`  ${t_(t.name).padEnd(nameWidth)}  ESS ${fmtNumber(Math.round(t.ess))} (${fmtShare(t.ess_fraction)})  k̂ ${fmtNumber(t.khat)}  IPS ${fmtNumber(t.ips.value)} ${fmtInterval(t.ips.ci_low, t.ips.ci_high)}  SNIPS ${fmtNumber(t.snips.value)} ${fmtInterval(t.snips.ci_low, t.snips.ci_high)}`);
     }
   }
   out.push('');
-  for (const c of report.cautions) out.push(paint.dim(`Note: ${c}`));
+  for (const c of report.cautions) out.push(paint.dim(`Note: ${t_(c)}`));
   return `${out.join('\n')}\n`;
 }

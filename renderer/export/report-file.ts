@@ -1,7 +1,8 @@
 import type { Report, Signoff } from '../../app/core/model/report.ts';
 import { canonicalJson } from '../../app/report/canonical-json.ts';
 import { serializeReport } from '../../app/report/serialize.ts';
-import { Sha256 } from '../engine/sha256.ts';
+import { sha256 } from '@noble/hashes/sha2.js';
+import { bytesToHex } from '@noble/hashes/utils.js';
 
 /** The same JSON text the headless command writes. */
 export function reportJson(report: Report): string {
@@ -11,7 +12,7 @@ export function reportJson(report: Report): string {
 /** Digest as app/report/signoff.ts defines it: SHA-256 of the canonical JSON (RFC 8785) without `signoff`. */
 export function reportDigest(report: Report): string {
   const { signoff: _signoff, ...rest } = JSON.parse(reportJson(report)) as Record<string, unknown>;
-  return new Sha256().update(new TextEncoder().encode(canonicalJson(rest))).hex();
+  return bytesToHex(sha256(new TextEncoder().encode(canonicalJson(rest))));
 }
 
 export function signReport(report: Report, block: Pick<Signoff, 'reviewer' | 'decision' | 'note'>, now: Date = new Date()): Report {

@@ -3,6 +3,7 @@
  * headless command: the preview re-parses that text with the core's own parser, so the numbers shown for an
  * edit are the numbers an audit with the edited file would give.
  */
+import { neutraliseCell } from '../../app/core/targets/csv-cell.ts';
 import type { TargetPolicy } from '../../app/core/targets/targets.ts';
 
 export type TablePolicy = Extract<TargetPolicy, { kind: 'table' }>;
@@ -49,7 +50,9 @@ export function editProblems(edits: TableEdits, columns: readonly string[]): str
   return problems;
 }
 
-function csvField(value: string): string {
+/** One cell: neutralised against spreadsheet formulas (csv-cell.ts), then quoted as RFC 4180 needs. */
+function csvField(raw: string): string {
+  const value = neutraliseCell(raw);
   return /[",\r\n]/.test(value) || value !== value.trim() ? `"${value.replaceAll('"', '""')}"` : value;
 }
 

@@ -1,6 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { generateSigningKeys } from '../../report/signoff.ts';
+import { generateSigningKeys, loadPublicKey, publicKeyBase64 } from '../../report/signoff.ts';
+import { keyFingerprint } from '../../report/trusted-keys.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { stringFlag } from '../args.ts';
 import { UsageError } from '../errors.ts';
@@ -20,7 +21,9 @@ export function runKeygen(args: ParsedArgs, io: CliIo): number {
   const { privateKeyPem, publicKeyPem } = generateSigningKeys();
   write(keyFile, privateKeyPem, 0o600, io.cwd);
   write(pubFile, publicKeyPem, 0o644, io.cwd);
-  io.stdout.write(`Private key: ${keyFile} (keep it secret; mode 0600)\nPublic key:  ${pubFile} (share it with whoever verifies)\n`);
+  const spki = publicKeyBase64(loadPublicKey(publicKeyPem));
+  io.stdout.write(`Private key: ${keyFile} (keep it secret; mode 0600)\nPublic key:  ${pubFile} (share it with whoever verifies)\n`
+    + `Fingerprint: ${keyFingerprint(spki)}\nTrusted-keys line (verify --trusted-keys FILE; put the reviewer's name after the key):\n${spki} REVIEWER NAME\n`);
   return 0;
 }
 

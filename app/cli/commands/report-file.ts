@@ -1,10 +1,14 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Report } from '../../core/model/report.ts';
+import { parseStrictJson, StrictJsonError } from '../../report/strict-json.ts';
 import { parseReport, ReportContractError } from '../../report/validate.ts';
 import { UsageError } from '../errors.ts';
 
-/** Reads a report JSON file as plain data (signing and verifying work on what the file says). */
+/**
+ * Reads a report JSON file as plain data (signing and verifying work on what the file says), strictly:
+ * a duplicate key or a number no float can hold is refused before any digest is computed.
+ */
 export function readReportFile(file: string, cwd: string): Record<string, unknown> {
   let text: string;
   try {
@@ -15,9 +19,14 @@ export function readReportFile(file: string, cwd: string): Record<string, unknow
   }
   let value: unknown;
   try {
-    value = JSON.parse(text);
+    JSON.parse(text);
   } catch (error) {
     throw new UsageError(`${file} is not JSON: ${(error as Error).message}`);
+  }
+  try {
+    value = parseStrictJson(text);
+  } catch (error) {
+    throw new UsageError(`${file}: ${error instanceof StrictJsonError ? error.message : String(error)}`);
   }
   if (value === null || typeof value !== 'object' || Array.isArray(value) || typeof (value as { schema?: unknown }).schema !== 'string' || !String((value as { schema: string }).schema).startsWith('counterweight.report/')) {
     throw new UsageError(`${file} is not a Counterweight report (no "schema": "counterweight.report/…" key)`);

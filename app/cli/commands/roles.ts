@@ -1,6 +1,7 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import type { CliIo } from '../io.ts';
 import { ENGINE_FLAG, engineChoice, openEngine, registerSources } from '../sources.ts';
+import { terminalText } from '../terminal-text.ts';
 import { loadAuditCore } from './core.ts';
 
 export const rolesSpec: CommandSpec = {
@@ -21,12 +22,12 @@ export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
       return 0;
     }
     const roleWidth = Math.max(...suggestions.map((s) => s.role.length));
-    const colWidth = Math.max(...suggestions.map((s) => s.column.length));
+    const colWidth = Math.max(...suggestions.map((s) => terminalText(s.column).length));
     for (const s of suggestions) {
       const confidence = typeof s.confidence === 'number' ? s.confidence.toFixed(2) : s.confidence;
-      io.stdout.write(`${s.role.padEnd(roleWidth)}  ${s.column.padEnd(colWidth)}  ${confidence}  ${s.reason}\n`);
+      io.stdout.write(`${s.role.padEnd(roleWidth)}  ${terminalText(s.column).padEnd(colWidth)}  ${confidence}  ${terminalText(s.reason)}\n`);
     }
-    io.stdout.write(`\nOverride with: counterweight audit ${args.positionals.join(' ')} --role NAME=COLUMN\n`);
+    io.stdout.write(`\nOverride with: counterweight audit ${terminalText(args.positionals.join(' '))} --role NAME=COLUMN\n`);
     return 0;
   } finally {
     await engine.close();

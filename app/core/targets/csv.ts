@@ -1,4 +1,9 @@
-/** A small RFC 4180 CSV reader for target tables (quoted fields, doubled quotes, CRLF). */
+import { restoreCell } from './csv-cell.ts';
+
+/**
+ * A small RFC 4180 CSV reader for target tables (quoted fields, doubled quotes, CRLF). A cell written
+ * neutralised against spreadsheet formulas ('=..., '+..., csv-cell.ts) reads back as it was.
+ */
 export function parseCsv(text: string): { header: string[]; rows: string[][] } {
   const records: string[][] = [];
   let field = '';
@@ -37,6 +42,6 @@ export function parseCsv(text: string): { header: string[]; rows: string[][] } {
     record.push(field);
     records.push(record);
   }
-  const [header = [], ...rows] = records;
+  const [header = [], ...rows] = records.map((r) => r.map(restoreCell));
   return { header: header.map((h) => h.trim()), rows };
 }
