@@ -1,22 +1,8 @@
-/**
- * What a file's first bytes say it is, for error messages about a file that is not what its name says
- * (a CSV named .parquet, an image named .csv). Signatures: the formats' own specifications
- * (PNG §5.2, Parquet "PAR1", gzip RFC 1952 §2.3.1, zip APPNOTE 4.3.7, PDF 7.5.2, zstd RFC 8878 §3.1.1).
- */
+/** The file-kind hint of app/engine/file-signature.ts for a file named by path (Node engines). */
 import { closeSync, openSync, readSync } from 'node:fs';
-import { EngineError } from './types.ts';
+import type { EngineError } from './types.ts';
 import type { SourceFormat } from './types.ts';
-
-const SIGNATURES: readonly (readonly [string, number[]])[] = [
-  ['a Parquet file', [0x50, 0x41, 0x52, 0x31]],
-  ['a PNG image', [0x89, 0x50, 0x4e, 0x47]],
-  ['a JPEG image', [0xff, 0xd8, 0xff]],
-  ['a gzip-compressed file', [0x1f, 0x8b]],
-  ['a zstd-compressed file', [0x28, 0xb5, 0x2f, 0xfd]],
-  ['a zip archive (or an Excel workbook)', [0x50, 0x4b, 0x03, 0x04]],
-  ['a PDF document', [0x25, 0x50, 0x44, 0x46]],
-  ['a DuckDB database', [0, 0, 0, 0, 0, 0, 0, 0, 0x44, 0x55, 0x43, 0x4b]],
-];
+import { describeBytes, withKind } from './file-signature.ts';
 
 /** A plain description of the file's content from its first bytes, or null when it cannot be read. */
 export function describeFileStart(file: string): string | null {
@@ -32,19 +18,8 @@ export function describeFileStart(file: string): string | null {
   } catch {
     return null;
   }
-  if (head.length === 0) return 'empty (0 bytes)';
-  for (const [name, bytes] of SIGNATURES) if (bytes.every((b, i) => head[i] === b)) return name;
-  const text = head.toString('utf8');
-  const printable = [...text].filter((ch) => ch >= ' ' || ch === '\n' || ch === '\r' || ch === '\t').length;
-  if (printable >= 0.95 * [...text].length) return /^\s*[[{]/.test(text) ? 'JSON text' : 'plain text';
-  return null;
+  return describeBytes(head);
 }
-
-const EXPECTED: Record<SourceFormat, readonly string[]> = {
-  parquet: ['a Parquet file'],
-  csv: ['plain text', 'JSON text', 'a gzip-compressed file', 'a zstd-compressed file'],
-  ndjson: ['JSON text', 'a gzip-compressed file'],
-};
 
 /**
  * Adds what the file really looks like to an io error about a single file whose content does not match
@@ -53,13 +28,6 @@ const EXPECTED: Record<SourceFormat, readonly string[]> = {
 export function withFileKind(error: EngineError, files: readonly string[], format: SourceFormat | undefined): EngineError {
   if (error.code !== 'io' || files.length !== 1 || !format) return error;
   const file = files[0] as string;
-  const kind = describeFileStart(file);
-  if (!kind) return error;
-  const compressed = /\.(gz|zst)$/i.test(file);
-  if (compressed && (kind === 'plain text' || kind === 'JSON text')) {
-    return new EngineError('io', `${error.message} The file starts like ${kind}, so it is not compressed: drop the .gz/.zst from its name.`);
-  }
-  if (EXPECTED[format].includes(kind)) return error;
-  const hint = kind === 'a Parquet file' ? ' rename it to .parquet' : kind === 'plain text' ? ' rename it to .csv (or .ndjson)' : ' export the log as Parquet, CSV or NDJSON';
-  return new EngineError('io', `${error.message} The file starts like ${kind}, not like ${format === 'parquet' ? 'Parquet' : format === 'csv' ? 'CSV text' : 'NDJSON text'}: if it is a log,${hint}.`);
+  return withKind(error, file, describeFileStart(file), format);
 }
+

@@ -13,6 +13,9 @@ import { EngineError } from './types.ts';
 import type { Engine, RegisteredSource, SourceSpec } from './types.ts';
 import { createWasmCore } from './wasm-core.ts';
 import type { WasmEngineOptions } from './wasm-core.ts';
+import { describeBytes, withKind } from './file-signature.ts';
+import { parquetWasmDecoder } from './parquet/decoder.ts';
+import { DEFAULT_BUDGET_BYTES, loadParquet } from './parquet/load.ts';
 
 export interface WasmBrowserBundle {
   /** URL of duckdb-eh.wasm. */
@@ -24,6 +27,8 @@ export interface WasmBrowserBundle {
 export interface WasmBrowserEngineOptions extends WasmEngineOptions {
   /** Where the Wasm build lives; the Vite-served copy from node_modules when absent. */
   bundles?: WasmBrowserBundle;
+  /** Memory the loaded columns of a Parquet log may take, in bytes (app/engine/parquet/load.ts). */
+  parquetBudgetBytes?: number;
 }
 
 /**
@@ -78,10 +83,32 @@ export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions 
     const names = source.files.map((file) => `cw${++fileSequence}_${file.name.replace(/[^A-Za-z0-9._-]/g, '_')}`);
     const scan = buildScan({ paths: names, format: source.format, csv: source.csv });
     await core.ensureFormat(scan.format, options);
+    if (scan.format === 'parquet') return registerParquet(source.files, names, scan.sql);
     for (const [k, file] of source.files.entries()) {
       await db.registerFileHandle(names[k] as string, file, DuckDBDataProtocol.BROWSER_FILEREADER, true);
     }
     return core.createView(scan, names, names);
+  }
+
+  /**
+   * Parquet: the File is read by range (its footer, then one row group's columns at a time), decoded to
+   * Arrow on this thread by parquet-wasm and handed to the DuckDB worker, which takes the buffer over.
+   * Messages name the file as the user picked it.
+   */
+  async function registerParquet(files: readonly File[], names: readonly string[], scanSql: string): Promise<RegisteredSource> {
+    const { browserParquetModule } = await import('./parquet/browser-module.ts');
+    const decoder = parquetWasmDecoder(await browserParquetModule());
+    const parts = files.map((file) => ({ name: file.name, blob: file }));
+    try {
+      return await core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {
+        append: (table, ipc, create) => core.exclusive(() => db.insertArrowFromIPCStream(id, ipc, { name: table, create })),
+      }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning: false }).then((l) => l.selectSql), 'parquet', scanSql, names);
+    } catch (error) {
+      const e = error instanceof EngineError ? error : toEngineError(error);
+      if (files.length !== 1) throw e;
+      const file = files[0] as File;
+      return Promise.reject(withKind(e, file.name, describeBytes(new Uint8Array(await file.slice(0, 512).arrayBuffer())), 'parquet'));
+    }
   }
 
   const tablesQueue = serialQueue();

@@ -35,8 +35,8 @@ export interface WasmEngineOptions {
 
 const DEFAULT_EXTENSION_TIMEOUT_MS = 10_000;
 
+// Parquet needs no extension: it is decoded to Arrow and loaded row group by row group (app/engine/parquet/).
 const FORMAT_EXTENSIONS: Partial<Record<SourceFormat, { extension: string; label: string }>> = {
-  parquet: { extension: 'parquet', label: 'Parquet' },
   ndjson: { extension: 'json', label: 'NDJSON' },
 };
 
@@ -77,6 +77,13 @@ export interface WasmCore {
   ensureFormat(format: SourceFormat, options: WasmEngineOptions): Promise<void>;
   /** Creates the view over a built scan and records it; `files` are as the engine sees them. */
   createView(scan: Scan, files: readonly string[], errorFiles: readonly string[]): Promise<RegisteredSource>;
+  /**
+   * Registers a relation over tables the caller loads itself (Parquet through Arrow): `load` gets a table-name
+   * prefix of its own and answers the SELECT the view wraps; `scanSql` is recorded as the equivalent scan.
+   */
+  createLoadedView(load: (tablePrefix: string) => Promise<string>, format: SourceFormat, scanSql: string, files: readonly string[]): Promise<RegisteredSource>;
+  /** Runs work between queries, never during one (loading tables on the engine's connection). */
+  exclusive<T>(work: () => Promise<T>): Promise<T>;
   ensureOpen(): void;
 }
 
@@ -202,6 +209,24 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     return { relation, format: scan.format, files, scanSql: scan.sql };
   }
 
+  async function createLoadedView(load: (tablePrefix: string) => Promise<string>, format: SourceFormat, scanSql: string, files: readonly string[]): Promise<RegisteredSource> {
+    const k = ++sequence;
+    const relation = relationName(k);
+    const selectSql = await load(`src_${k}_part`);
+    await runCounted(`CREATE OR REPLACE VIEW ${relation} AS ${selectSql}`, {}, false, files);
+    relations.add(relation);
+    return { relation, format, files, scanSql };
+  }
+
+  const exclusive = <T>(work: () => Promise<T>): Promise<T> => serial(async () => {
+    ensureOpen();
+    try {
+      return await work();
+    } catch (error) {
+      throw asWasmError(error, undefined);
+    }
+  });
+
   return {
     engine: {
       kind: parts.kind,
@@ -221,6 +246,8 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     run,
     ensureFormat,
     createView,
+    createLoadedView,
+    exclusive,
     ensureOpen,
   };
 }

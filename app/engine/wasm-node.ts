@@ -4,6 +4,7 @@
  * runtime then opens it with fs.openSync and serves DuckDB's reads with fs.readSync into Wasm memory,
  * range by range; nothing is copied whole into JS memory.
  */
+import { openAsBlob } from 'node:fs';
 import { createRequire } from 'node:module';
 import type * as DuckDBBlocking from '@duckdb/duckdb-wasm/blocking';
 import { toEngineError } from './errors.ts';
@@ -14,10 +15,17 @@ import { EngineError } from './types.ts';
 import type { Engine, RegisteredSource, SourceSpec } from './types.ts';
 import { createWasmCore } from './wasm-core.ts';
 import type { WasmEngineOptions } from './wasm-core.ts';
+import { parquetWasmDecoder } from './parquet/decoder.ts';
+import type { ParquetWasmModule } from './parquet/decoder.ts';
+import { DEFAULT_BUDGET_BYTES, loadParquet } from './parquet/load.ts';
+import type { ParquetPart } from './parquet/load.ts';
 
 const require = createRequire(import.meta.url);
 
-export type WasmNodeEngineOptions = WasmEngineOptions;
+export interface WasmNodeEngineOptions extends WasmEngineOptions {
+  /** Memory the loaded columns of a Parquet log may take, in bytes (app/engine/parquet/load.ts). */
+  parquetBudgetBytes?: number;
+}
 
 export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}): Promise<Engine & { readonly kind: 'wasm-node' }> {
   const duckdb = require('@duckdb/duckdb-wasm/dist/duckdb-node-blocking.cjs') as typeof DuckDBBlocking;
@@ -59,8 +67,15 @@ export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}):
   async function register(source: SourceSpec): Promise<RegisteredSource> {
     core.ensureOpen();
     if (source.kind !== 'path') throw new EngineError('unsupported-format', 'This engine reads files by path; use the browser engine for a picked or dropped file.');
-    const scan = buildScan({ paths: source.paths, folders: foldersAmong(source.paths), format: source.format, csv: source.csv, hivePartitioning: source.hivePartitioning });
+    const folders = foldersAmong(source.paths);
+    const scan = buildScan({ paths: source.paths, folders, format: source.format, csv: source.csv, hivePartitioning: source.hivePartitioning });
     await core.ensureFormat(scan.format, options);
+    if (scan.format === 'parquet') {
+      const hive = source.hivePartitioning ?? folders.length > 0;
+      return registerParquet(source.paths, scan, hive).catch((error: unknown) => {
+        throw error instanceof EngineError ? withFileKind(error, source.paths, scan.format) : error;
+      });
+    }
     const listed = await core.run(globSql(scan.patterns));
     const files = (listed.columns[0] ?? []).map(String);
     for (const file of files) {
@@ -72,6 +87,28 @@ export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}):
       return await core.createView(scan, files, source.paths);
     } catch (error) {
       throw error instanceof EngineError ? withFileKind(error, source.paths, scan.format) : error;
+    }
+  }
+
+  /**
+   * Parquet: the files behind the scan are listed as DuckDB would (its glob), opened as lazy Blobs
+   * (fs.openAsBlob reads by range), and loaded row group by row group through Arrow.
+   */
+  async function registerParquet(paths: readonly string[], scan: ReturnType<typeof buildScan>, hivePartitioning: boolean): Promise<RegisteredSource> {
+    const files = await listFiles(scan.patterns, paths);
+    const decoder = parquetWasmDecoder(require('parquet-wasm') as ParquetWasmModule);
+    const parts: ParquetPart[] = [];
+    for (const file of files) parts.push({ name: file, blob: await openAsBlob(file) });
+    return core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {
+      append: (table, ipc, create) => core.exclusive(async () => { conn.insertArrowFromIPCStream(ipc, { name: table, create }); }),
+    }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning }).then((l) => l.selectSql), 'parquet', scan.sql, files);
+  }
+
+  async function listFiles(patterns: readonly string[], paths: readonly string[]): Promise<string[]> {
+    try {
+      return ((await core.run(globSql(patterns))).columns[0] ?? []).map(String);
+    } catch (error) {
+      throw toEngineError(error, { files: paths });
     }
   }
 

@@ -24,7 +24,7 @@ export interface ModeTraits {
 
 export function traitsOf(mode: PageMode): ModeTraits {
   switch (mode.kind) {
-    case 'web': return { description: 'Engine: DuckDB-Wasm in this browser tab', opensBy: 'files', readsParquet: false };
+    case 'web': return { description: 'Engine: DuckDB-Wasm in this browser tab', opensBy: 'files', readsParquet: true };
     case 'hosted': return { description: 'Engine: native DuckDB on this computer (local host)', opensBy: 'paths', readsParquet: true };
     case 'desktop': return { description: 'Engine: native DuckDB (desktop)', opensBy: 'paths', readsParquet: true };
   }

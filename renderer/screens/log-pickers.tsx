@@ -2,7 +2,7 @@ import { useRef, useState, type DragEvent } from 'react';
 import { ACCEPTED_EXTENSIONS } from '../engine/source-files.ts';
 
 /** Web mode: a hidden file input behind a button, and a drop zone; the files are read lazily by the engine. */
-const WEB_HINT = 'CSV or TSV with a header row; several parts of one log are read together as one table. Parquet logs open in the desktop app.';
+const WEB_HINT = 'Parquet, or CSV or TSV with a header row; several parts of one log are read together as one table.';
 
 export function FilePicker({ busy, onFiles, hint = WEB_HINT }: { busy: boolean; onFiles: (files: File[]) => void; hint?: string }) {
   const input = useRef<HTMLInputElement>(null);

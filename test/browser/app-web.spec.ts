@@ -5,7 +5,6 @@ import { validateReport } from '../../app/report/json.ts';
 import { reportDigest } from '../../app/report/signoff.ts';
 
 const DEMO_CSV = 'sample-data/maple-row-demo.csv';
-const DEMO_PARQUET = 'sample-data/maple-row-demo.parquet';
 const V9_POLICY = 'sample-data/maple-row-v9-policy.csv';
 // What the generator planted (sample-data/maple-row-demo.manifest.json): each defect names the check that should catch it.
 const manifest = JSON.parse(readFileSync('sample-data/maple-row-demo.manifest.json', 'utf8')) as { defects: { kind: string }[] };
@@ -131,16 +130,6 @@ test('a log chosen with the file picker opens on the roles screen with the demo 
   await page.goto('/');
   await page.getByTestId('log-file-input').setInputFiles(DEMO_CSV);
   await expectDemoRoles(page);
-});
-
-test('a Parquet log gets a plain message pointing to the desktop app and the headless command', async ({ page }) => {
-  await page.goto('/');
-  await page.getByTestId('log-file-input').setInputFiles(DEMO_PARQUET);
-  const alert = page.getByRole('alert');
-  await expect(alert).toContainText('desktop app');
-  await expect(alert).toContainText('counterweight audit');
-  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
-  await screen(page, '14-parquet-message');
 });
 
 test('cancelling a running audit returns to the settings with the log still open', async ({ page }) => {

@@ -71,14 +71,14 @@ export const CASES: readonly CorpusCase[] = [
   { id: 'gzip-cut', file: 'truncated.csv.gz', what: 'a gzip CSV cut at 60% of its bytes', expect: { error: { code: 'io', words: [/truncated\.csv\.gz/, /line 1790 has 1/, /cut short/] } } },
   { id: 'not-gzip', file: 'not-gzip.csv.gz', what: 'plain CSV named .csv.gz', expect: { error: { code: 'io', words: [/not a GZIP stream/, /not compressed/] } } },
   { id: 'png-as-csv', file: 'png-named.csv', what: 'a PNG image named .csv', expect: { error: { code: 'io', words: [/png-named\.csv/, /does not read as CSV/, /PNG image/] } } },
-  { id: 'csv-as-parquet', file: 'csv-named.parquet', what: 'CSV text named .parquet', expect: { error: { code: 'io', words: [/csv-named\.parquet/, /not a complete Parquet file/, /plain text/, /rename it to \.csv/] } }, wasm: 'extension-unavailable' },
-  { id: 'parquet-cut', file: 'truncated.parquet', what: 'a Parquet file cut in half', expect: { error: { code: 'io', words: [/truncated\.parquet/, /not a complete Parquet file/, /cut short/] } }, wasm: 'extension-unavailable' },
-  { id: 'parquet-magic-only', file: 'parquet-header-only.parquet', what: 'only the 4 magic bytes of a Parquet file', expect: { error: { code: 'io', words: [/not a complete Parquet file/] } }, wasm: 'extension-unavailable' },
+  { id: 'csv-as-parquet', file: 'csv-named.parquet', what: 'CSV text named .parquet', expect: { error: { code: 'io', words: [/csv-named\.parquet/, /not a complete Parquet file/, /plain text/, /rename it to \.csv/] } } },
+  { id: 'parquet-cut', file: 'truncated.parquet', what: 'a Parquet file cut in half', expect: { error: { code: 'io', words: [/truncated\.parquet/, /not a complete Parquet file/, /cut short/] } } },
+  { id: 'parquet-magic-only', file: 'parquet-header-only.parquet', what: 'only the 4 magic bytes of a Parquet file', expect: { error: { code: 'io', words: [/not a complete Parquet file/] } } },
   { id: 'unknown-extension', file: 'log.txt', what: 'a log named .txt', expect: { error: { code: 'unsupported-format', words: [/Cannot tell the format/, /log\.txt/, /\.csv/] } } },
-  { id: 'parquet', file: 'good.parquet', what: 'a sound Parquet log (Wasm must refuse it plainly)', expect: { audit: { rows: 400, checks: { 'schema.roles': 'pass', 'propensity.range': 'pass' } } }, wasm: 'extension-unavailable' },
+  { id: 'parquet', file: 'good.parquet', what: 'a sound Parquet log', expect: { audit: { rows: 400, checks: { 'schema.roles': 'pass', 'propensity.range': 'pass' } } } },
   { id: 'ndjson', file: 'good.ndjson', what: 'a sound NDJSON log (Wasm must refuse it plainly)', expect: { audit: { rows: 30, checks: { 'schema.roles': 'pass' } } }, wasm: 'extension-unavailable' },
   { id: 'ndjson-broken', file: 'broken.ndjson', what: 'NDJSON with an unterminated string', expect: { error: { code: 'io', words: [/broken\.ndjson/, /Malformed JSON/, /byte 41/] } }, wasm: 'extension-unavailable' },
-  { id: 'mixed-schema', file: 'mixed-schema', what: 'a folder of Parquet parts with different columns', expect: { error: { code: 'io', words: [/do not share one schema/, /"logged_at"/, /part-2\.parquet/, /same columns together/] } }, wasm: 'extension-unavailable' },
+  { id: 'mixed-schema', file: 'mixed-schema', what: 'a folder of Parquet parts with different columns', expect: { error: { code: 'io', words: [/do not share one schema/, /"logged_at"/, /part-2\.parquet/, /same columns together/] } } },
 ];
 
 /** Generated at test time (76 MB; not committed): 10^6 rows, each with its own segment value. */

@@ -1,0 +1,91 @@
+/**
+ * Standalone web mode reads Parquet itself (app/engine/parquet/: the File read by range, row group by row
+ * group through Arrow into DuckDB-Wasm): the demo Parquet log, picked and dropped, audits to the report the
+ * headless command's engine (native DuckDB, in this Node process) gives for the same file and target.
+ */
+import { readFileSync } from 'node:fs';
+import { expect, test, type Page } from '@playwright/test';
+import { runAudit } from '../../app/core/audit.ts';
+import type { Report } from '../../app/core/model/report.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
+import { firstDifference } from '../core/audit-helpers.ts';
+
+const DEMO_PARQUET = 'sample-data/maple-row-demo.parquet';
+const V9_POLICY = 'sample-data/maple-row-v9-policy.csv';
+// The tolerance of test/core/engine-agreement.test.ts.
+const TOLERANCE = 1e-12;
+
+let headless: Report;
+test.beforeAll(async () => {
+  const engine = await createNativeEngine();
+  try {
+    const source = await engine.register({ kind: 'path', paths: [DEMO_PARQUET] });
+    headless = await runAudit((sql) => engine.query(sql), {
+      relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind,
+      // Named as the page names a table it was given as a File (no folder).
+      targets: [{ spec: 'table:maple-row-v9-policy.csv', tableText: readFileSync(V9_POLICY, 'utf8') }],
+    });
+  } finally {
+    await engine.close();
+  }
+});
+
+async function dropDemoParquet(page: Page): Promise<void> {
+  // Built in the page from the served file, as a file manager's drop hands a File over.
+  const dataTransfer = await page.evaluateHandle(async () => {
+    const blob = await (await fetch('/sample-data/maple-row-demo.parquet')).blob();
+    const dt = new DataTransfer();
+    dt.items.add(new File([blob], 'maple-row-demo.parquet', { type: 'application/vnd.apache.parquet' }));
+    return dt;
+  });
+  const zone = page.getByTestId('log-drop-zone');
+  await zone.dispatchEvent('dragover', { dataTransfer });
+  await zone.dispatchEvent('drop', { dataTransfer });
+}
+
+async function auditAndExport(page: Page): Promise<Report> {
+  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
+  await expect(page.locator('#role-action')).toHaveValue('promotion');
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await page.locator('#target-table').setInputFiles(V9_POLICY);
+  await expect(page.getByText('Policy table from maple-row-v9-policy.csv')).toBeVisible();
+  await page.getByRole('button', { name: 'Run the audit' }).click();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 120_000 });
+  await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Sign-off' }).click();
+  const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export report JSON' }).click()]);
+  return JSON.parse(readFileSync(await download.path(), 'utf8')) as Report;
+}
+
+function expectSameAudit(web: Report): void {
+  expect(web.input.format).toBe('parquet');
+  expect(web.input.rows).toBe(headless.input.rows);
+  expect(web.run.engine).toBe('wasm-browser');
+  expect(web.verdict).toBe(headless.verdict);
+  expect(web.checks.map((c) => [c.id, c.status])).toEqual(headless.checks.map((c) => [c.id, c.status]));
+  // Every target number: ESS, k̂, support deficit, IPS / SNIPS / DR with their intervals.
+  expect(firstDifference(web.targets, headless.targets, TOLERANCE)).toBeNull();
+  expect(web.targets.length).toBeGreaterThan(0);
+}
+
+test('the demo Parquet log chosen with the picker audits to the headless command\'s verdict, statuses and target numbers', async ({ page }) => {
+  test.setTimeout(240_000);
+  await page.goto('/');
+  await expect(page.getByText('Parquet, or CSV or TSV')).toBeVisible();
+  await page.getByTestId('log-file-input').setInputFiles(DEMO_PARQUET);
+  expectSameAudit(await auditAndExport(page));
+});
+
+test('the demo Parquet log dropped on the page audits to the same report', async ({ page }) => {
+  test.setTimeout(240_000);
+  await page.goto('/');
+  await dropDemoParquet(page);
+  expectSameAudit(await auditAndExport(page));
+});
+
+test('a truncated Parquet file gets the native engine\'s message on the open screen', async ({ page }) => {
+  await page.goto('/');
+  await page.getByTestId('log-file-input').setInputFiles('test/corpus/files/truncated.parquet');
+  const alert = page.getByRole('alert');
+  await expect(alert).toContainText('"truncated.parquet": it is not a complete Parquet file');
+  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
+});
