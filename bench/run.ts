@@ -5,7 +5,7 @@
  * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
  *
  *   npm run bench -- [--sizes 1m,10m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
- *                    [--kinds floor,cube,audit] [--smoke] [--out FILE] [--memory-limit 2GB]
+ *                    [--kinds floor,cube,audit] [--formats parquet,csv,arrow] [--smoke] [--out FILE] [--memory-limit 2GB]
  * (--memory-limit: DuckDB's memory_limit for the native engine, which then spills to bench/cache/spill;
  * use with --out to keep those results apart)
  */
@@ -56,13 +56,15 @@ export interface Options {
   memoryLimit?: string;
   /** measure only these of floor, cube, audit */
   kinds?: Kind[];
+  /** measure only logs in these formats (parquet, csv, arrow) */
+  formats?: Row['format'][];
   log: (line: string) => void;
 }
 
 export function parseOptions(argv: readonly string[]): Options {
   const { values } = parseArgs({
     args: [...argv],
-    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, kinds: { type: 'string' } },
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, kinds: { type: 'string' }, formats: { type: 'string' } },
     strict: true,
   });
   const smoke = values.smoke ?? false;
@@ -74,9 +76,11 @@ export function parseOptions(argv: readonly string[]): Options {
   if (!Number.isInteger(runs) || runs < 1) throw new Error(`--runs must be a whole number of at least 1, got "${values.runs}"`);
   const kinds = values.kinds?.split(',').map((k) => k.trim()) as Kind[] | undefined;
   for (const k of kinds ?? []) if (!['floor', 'cube', 'audit'].includes(k)) throw new Error(`--kinds takes floor, cube, audit, got "${k}"`);
+  const formats = values.formats?.split(',').map((f) => f.trim()) as Row['format'][] | undefined;
+  for (const f of formats ?? []) if (!['parquet', 'csv', 'arrow'].includes(f)) throw new Error(`--formats takes parquet, csv, arrow, got "${f}"`);
   const memoryLimit = values['memory-limit'];
   if (memoryLimit !== undefined && !/^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i.test(memoryLimit)) throw new Error(`--memory-limit takes a size such as 2GB, got "${memoryLimit}"`);
-  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), ...(formats ? { formats } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
 }
 
 const dirOf = (size: string) => join(CACHE, `rows-${size}`);
@@ -146,7 +150,7 @@ async function measureInChild(spec: MeasureSpec): Promise<MeasureResult & { time
 
 interface Plan { size: string; engine: EngineName; format: Row['format']; kind: Kind }
 
-export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke' | 'kinds'>): Plan[] {
+export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke' | 'kinds' | 'formats'>): Plan[] {
   const out: Plan[] = [];
   const kinds: Kind[] = ['floor', 'cube', 'audit'];
   // The smoke run proves the harness on every engine in well under a minute: the full audit everywhere,
@@ -162,11 +166,14 @@ export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke' | 'kin
       // The host takes named requests only (no SQL), so its audit is measured and not its floor or cube query.
       if (engine === 'host') out.push({ size, engine, format: 'parquet', kind: 'audit' });
       if (engine === 'wasm' && small) for (const kind of others) out.push({ size, engine, format: 'csv', kind });
-      if (engine === 'browser' && size === '10m') out.push({ size, engine, format: 'csv', kind: 'audit' });
+      // Parquet on DuckDB-Wasm: the audit, with the load of the log into DuckDB-Wasm's memory counted in it.
+      if (engine === 'wasm' && small) out.push({ size, engine, format: 'parquet', kind: 'audit' });
+      if (engine === 'browser' && size === '10m') out.push({ size, engine, format: 'csv', kind: 'audit' }, { size, engine, format: 'parquet', kind: 'audit' });
       if (engine === 'baseline' && small) out.push({ size, engine, format: 'arrow', kind: 'audit' });
     }
   }
-  return options.kinds ? out.filter((p) => options.kinds!.includes(p.kind)) : out;
+  const kept = options.kinds ? out.filter((p) => options.kinds!.includes(p.kind)) : out;
+  return options.formats ? kept.filter((p) => options.formats!.includes(p.format)) : kept;
 }
 
 async function machine(): Promise<Record<string, string | number>> {

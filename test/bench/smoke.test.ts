@@ -8,14 +8,14 @@ import { readFile } from 'node:fs/promises';
 import { expect, it } from 'vitest';
 import { bench, parseOptions, type Row } from '../../bench/run.ts';
 
-it('the smoke benchmark measures native, host, Wasm and the baseline, and they agree', async () => {
+it('the smoke benchmark measures native, host, Wasm (CSV and Parquet) and the baseline, and they agree', async () => {
   const lines: string[] = [];
   const options = { ...parseOptions(['--smoke']), log: (line: string) => lines.push(line) };
   const { rows, file } = await bench(options);
   const failed = rows.filter((r) => r.error);
   expect(failed.map((r) => `${r.engine}/${r.format}/${r.kind}: ${r.error}`)).toEqual([]);
   const audits = rows.filter((r) => r.kind === 'audit');
-  expect(audits.map((r) => `${r.engine}/${r.format}`).sort()).toEqual(['baseline/arrow', 'host/parquet', 'native/csv', 'native/parquet', 'wasm/csv']);
+  expect(audits.map((r) => `${r.engine}/${r.format}`).sort()).toEqual(['baseline/arrow', 'host/parquet', 'native/csv', 'native/parquet', 'wasm/csv', 'wasm/parquet']);
   for (const r of rows) {
     expect(r.seconds).toBeGreaterThan(0);
     expect(r.peakRssMb).toBeGreaterThan(10);

@@ -126,12 +126,20 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
       if (footer.row_groups.length === 0 || partColumns.length === 0) {
         throw new EngineError('io', `Cannot read "${part.name}": the Parquet file has no columns or no row groups.`);
       }
+      // The next row group is decoded while the engine appends the one before (in the browser they run on
+      // two threads); so at most two row groups' Arrow exist at once.
+      let appending: Promise<void> | null = null;
       for (const [index, group] of footer.row_groups.entries()) {
         const ipc = await decodeRowGroup(reader, part, index, partColumns, Number(group.num_rows));
-        await sink.append(table.slice(1, -1), ipc, index === 0);
-        loaded += Number(group.num_rows);
-        options.onRowGroup?.(loaded, rows);
+        if (appending) await appending;
+        appending = sink.append(table.slice(1, -1), ipc, index === 0).then(() => {
+          loaded += Number(group.num_rows);
+          options.onRowGroup?.(loaded, rows);
+        });
+        // A failed append is awaited (and thrown) in turn; it must not go unobserved meanwhile.
+        appending.catch(() => undefined);
       }
+      await appending;
     } finally {
       reader.close();
     }
