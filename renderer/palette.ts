@@ -7,7 +7,7 @@ import { OKABE_ITO, STATUS_COLOURS, STATUS_LABELS } from '../app/charts/palette.
 
 export { OKABE_ITO };
 
-export type StatusKey = 'pass' | 'warn' | 'fail' | 'skipped' | 'info';
+export type StatusKey = 'pass' | 'warn' | 'fail' | 'skipped' | 'error' | 'info';
 
 export interface StatusStyle {
   readonly colour: string;
@@ -20,5 +20,6 @@ export const STATUS_STYLE: Record<StatusKey, StatusStyle> = {
   warn: { colour: STATUS_COLOURS.warn, icon: STATUS_LABELS.warn.icon, word: 'Warning' },
   fail: { colour: STATUS_COLOURS.fail, icon: STATUS_LABELS.fail.icon, word: 'Fail' },
   skipped: { colour: STATUS_COLOURS.skipped, icon: STATUS_LABELS.skipped.icon, word: 'Skipped' },
+  error: { colour: STATUS_COLOURS.error, icon: STATUS_LABELS.error.icon, word: 'Error' },
   info: { colour: OKABE_ITO.blue, icon: 'i', word: 'Info' },
 };

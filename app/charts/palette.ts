@@ -19,13 +19,14 @@ export const SERIES_COLOURS: readonly string[] = [
   OKABE_ITO.reddishPurple, OKABE_ITO.skyBlue, OKABE_ITO.black, OKABE_ITO.yellow,
 ];
 
-export type StatusName = 'pass' | 'warn' | 'fail' | 'skipped';
+export type StatusName = 'pass' | 'warn' | 'fail' | 'skipped' | 'error';
 
 export const STATUS_COLOURS: Record<StatusName, string> = {
   pass: OKABE_ITO.bluishGreen,
   warn: OKABE_ITO.orange,
   fail: OKABE_ITO.vermillion,
   skipped: '#7F7F7F',
+  error: OKABE_ITO.reddishPurple,
 };
 
 /** Text and symbol shown with every status, so it reads in greyscale print and without colour vision. */
@@ -34,6 +35,7 @@ export const STATUS_LABELS: Record<StatusName, { text: string; icon: string }> =
   warn: { text: 'WARN', icon: '!' },
   fail: { text: 'FAIL', icon: '✕' },
   skipped: { text: 'SKIPPED', icon: '–' },
+  error: { text: 'ERROR', icon: '⚠' },
 };
 
 /** Sequential single-hue ramp, ColorBrewer "Blues" (Brewer, colorbrewer2.org) ending in Okabe–Ito blue: ordered by lightness, so it survives greyscale. */

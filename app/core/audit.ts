@@ -3,8 +3,8 @@
  * query per target), then pure checks over their results (DEVELOPERS.md, "The scans of one audit"). The only thing it needs
  * from an engine is `run(sql) -> Table`.
  */
-import { CHECKS } from './checks/index.ts';
-import { skipped, type AuditContext, type DraftFinding, type TargetTail } from './checks/context.ts';
+import { CHECKS } from './checks/registry.ts';
+import { type AuditContext, type DraftFinding, type TargetTail } from './checks/context.ts';
 import { essSummary } from './checks/weights-ess.ts';
 import { tailSummary } from './checks/weights-tail.ts';
 import { estimatesFor } from './checks/estimate-preview.ts';
@@ -172,15 +172,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   progress('checks');
   const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
-  const drafts = CHECKS.map((check) => {
-    try {
-      return check(ctx);
-    } catch (e) {
-      // a check that cannot run on this log says why instead of taking the audit down
-      const r = skipped(check === CHECKS[0] ? 'schema.roles' : idOf(check), `could not run: ${(e as Error).message}`);
-      return r;
-    }
-  });
+  const drafts = runChecks(ctx);
   const checks = await attachExamples(run, record, relation, view, drafts, settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
   progress('checks', true);
   const { verdict, reasons } = verdictOf(checks);
@@ -214,9 +206,18 @@ function implicitActions(cells: readonly CubeCell[], actions: readonly string[],
   return [...actions].sort((a, b) => (rows.get(b) ?? 0) - (rows.get(a) ?? 0) || (a < b ? -1 : a > b ? 1 : 0)).slice(0, cap).sort();
 }
 
-const CHECK_IDS = ['schema.roles', 'identity.duplicates', 'time.coverage', 'propensity.range', 'propensity.exploration', 'support.floor', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview'] as const;
-function idOf(check: (typeof CHECKS)[number]): (typeof CHECK_IDS)[number] {
-  return CHECK_IDS[CHECKS.indexOf(check)] ?? 'schema.roles';
+/**
+ * Every check over one context, in registry order. A check that throws becomes status `error` with its
+ * message, instead of taking the audit down; the verdict treats an erroring blocking check as a fail.
+ */
+export function runChecks(ctx: AuditContext): CheckResult[] {
+  return CHECKS.map((check): CheckResult => {
+    try {
+      return check.run(ctx);
+    } catch (e) {
+      return { id: check.id, title: check.title, status: 'error', summary: `Could not run: ${(e as Error).message}.`, metrics: {}, findings: [], settings_used: [...check.settings] };
+    }
+  });
 }
 
 /**

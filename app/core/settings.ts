@@ -11,7 +11,7 @@ export interface SettingSpec {
 }
 
 export const SETTINGS = {
-  'identity.duplicates.fail_share': { default: 0.01, source: 'common practice', description: 'fail when duplicated rows exceed this share of rows (warn on any)', min: 0, max: 1 },
+  'identity.duplicates.fail_share': { default: 0.01, source: 'common practice', description: 'fail, and block the verdict, when duplicated rows exceed this share of rows (warn on any)', min: 0, max: 1 },
   'time.bucket': { default: 'auto', source: 'common practice', description: "time bucket width: 'auto', or one of 1h, 6h, 1d, 7d, or a number of seconds" },
   'time.max_buckets': { default: 60, source: 'common practice', description: "largest number of time buckets 'auto' may choose", min: 2, max: 1000 },
   'propensity.range.fail_share': { default: 0.001, source: 'common practice', description: 'fail when invalid propensities (null, NaN, <= 0, > 1) exceed this share of rows (warn on any)', min: 0, max: 1 },

@@ -1,29 +1,32 @@
 /** The verdict (README.md, "What the audit checks") and the per-segment readiness table. */
-import type { CheckId, CheckResult, Reason, SegmentReadiness, Verdict } from './model/report.ts';
+import type { CheckResult, Reason, SegmentReadiness, Verdict } from './model/report.ts';
+import { BLOCKING } from './checks/registry.ts';
 import { describeSegment, segmentRecord, type AuditContext } from './checks/context.ts';
 import { explorationBySegment } from './checks/propensity-exploration.ts';
 import { kishEss } from './stats/ess.ts';
 import type { TargetAnalysis } from './targets/analysis.ts';
 
-/** A fail in any of these makes the log unable to support the estimate. */
-export const BLOCKING: readonly CheckId[] = ['schema.roles', 'propensity.range', 'propensity.exploration', 'support.target', 'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity'];
+export { BLOCKING };
+
+const RANK = { fail: 0, error: 1, warn: 2 } as const;
 
 export function verdictOf(checks: readonly CheckResult[]): { verdict: Verdict; reasons: Reason[] } {
   const reasons: Reason[] = [];
   let blocked = false;
   let caveats = false;
   for (const c of checks) {
-    if (c.status === 'fail') {
-      const blocking = BLOCKING.includes(c.id);
+    if (c.status === 'fail' || c.status === 'error') {
+      // a check that could not run cannot vouch for the log: when it decides the verdict, it blocks
+      const blocking = BLOCKING.has(c.id);
       blocked ||= blocking;
       caveats ||= !blocking;
-      reasons.push({ check: c.id, status: 'fail', message: `${c.title}: ${c.summary}` });
+      reasons.push({ check: c.id, status: c.status, message: `${c.title}: ${c.summary}` });
     } else if (c.status === 'warn') {
       caveats = true;
       reasons.push({ check: c.id, status: 'warn', message: `${c.title}: ${c.summary}` });
     }
   }
-  reasons.sort((a, b) => (a.status === b.status ? 0 : a.status === 'fail' ? -1 : 1));
+  reasons.sort((a, b) => RANK[a.status] - RANK[b.status]);
   return { verdict: blocked ? 'not-supported' : caveats ? 'supported-with-caveats' : 'supported', reasons };
 }
 

@@ -18,6 +18,7 @@ td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: now
 .status-warn { color: #8a5d00; border-color: var(--warn); }
 .status-fail { color: #a34400; border-color: var(--fail); }
 .status-skipped { color: #555; border-color: var(--skip); }
+.status-error { color: #8a3a6b; border-color: #CC79A7; }
 .verdict { border: 3px solid; border-radius: 8px; padding: 14px 18px; margin: 18px 0; }
 .verdict-supported { border-color: var(--pass); }
 .verdict-supported-with-caveats { border-color: var(--warn); }

@@ -1,4 +1,5 @@
 import type { CheckId, Report } from '../../app/core/model/report.ts';
+import { checksOnPanel } from '../../app/core/checks/registry.ts';
 import { CheckSection } from './CheckSection.tsx';
 
 export function DriftPanel({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
@@ -9,7 +10,7 @@ export function DriftPanel({ report, onOpenCheck }: { report: Report; onOpenChec
         Whether rewards changed within a segment and action (so a policy change is not mistaken for reward drift),
         and whether the logging policy's action mix moved, with or without its logged propensities.
       </p>
-      {(['drift.reward', 'drift.policy', 'time.coverage', 'reward.validity'] as const).map((id) => (
+      {checksOnPanel('drift').map((id) => (
         <CheckSection key={id} report={report} id={id} onOpenCheck={onOpenCheck} />
       ))}
     </section>

@@ -1,5 +1,6 @@
 import type { CheckId, Report } from '../../app/core/model/report.ts';
 import { formatShare, formatValue } from '../format.ts';
+import { checksOnPanel } from '../../app/core/checks/registry.ts';
 import { CheckSection } from './CheckSection.tsx';
 
 export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
@@ -34,7 +35,7 @@ export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCh
           </tbody>
         </table>
       </div>
-      {(['weights.ess', 'weights.tail', 'support.target', 'support.floor', 'balance.weights'] as const).map((id) => (
+      {checksOnPanel('weights').map((id) => (
         <CheckSection key={id} report={report} id={id} onOpenCheck={onOpenCheck} />
       ))}
     </section>

@@ -19,7 +19,7 @@ function withoutTitle(message: string, title: string): string {
 }
 
 export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
-  const counts = { fail: 0, warn: 0, pass: 0, skipped: 0 };
+  const counts = { fail: 0, error: 0, warn: 0, pass: 0, skipped: 0 };
   for (const c of report.checks) counts[c.status]++;
   return (
     <section aria-labelledby="overview-title" className="screen">
@@ -29,7 +29,7 @@ export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpen
         <p>{VERDICT_SENTENCE[report.verdict]}</p>
         <p className="muted">
           {report.input.rows.toLocaleString('en')} rows from {report.input.files.map((f) => f.path).join(', ')} ·
-          {' '}{counts.fail} failed, {counts.warn} warnings, {counts.pass} passed, {counts.skipped} skipped ·
+          {' '}{counts.fail} failed, {counts.error ? `${counts.error} could not run, ` : ''}{counts.warn} warnings, {counts.pass} passed, {counts.skipped} skipped ·
           {' '}engine {report.run.engine}, {report.run.seconds.toFixed(1)} s
         </p>
         {report.reasons.length > 0 && (

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { pairKeys, SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
 import { literal } from '../sql/quote.ts';
@@ -192,3 +193,12 @@ function versionSpans(ctx: AuditContext): Map<string, { from: string; to: string
   for (const [v, [a, b]] of span) out.set(v, bucketWindow(ctx.buckets, a, b + 1));
   return out;
 }
+
+export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck({
+  id: 'balance.weights',
+  title: 'Weight balance',
+  blocking: true,
+  panel: 'weights',
+  settings: ['balance.q', 'balance.min_effect', 'support.floor.epsilon'],
+  run: checkBalance,
+});

@@ -41,25 +41,6 @@ export interface AuditContext {
 /** A finding plus the predicate that selects its rows from the source (turned into `sql` and examples). */
 export type DraftFinding = Finding & { readonly where?: string };
 
-export type Check = (ctx: AuditContext) => CheckResult;
-
-export const TITLES: Record<CheckId, string> = {
-  'schema.roles': 'Column roles',
-  'identity.duplicates': 'Duplicate decision ids',
-  'time.coverage': 'Time coverage',
-  'propensity.range': 'Propensity values',
-  'propensity.exploration': 'Exploration by segment',
-  'support.floor': 'Propensity floor',
-  'support.target': 'Support for each target',
-  'balance.weights': 'Weight balance',
-  'weights.ess': 'Effective sample size',
-  'weights.tail': 'Weight tail (PSIS k̂)',
-  'reward.validity': 'Reward values',
-  'drift.reward': 'Reward drift',
-  'drift.policy': 'Logging-policy drift',
-  'estimate.preview': 'Estimate preview',
-};
-
 export function result(
   id: CheckId,
   status: Status,
@@ -69,14 +50,15 @@ export function result(
   settingsUsed: readonly SettingKey[],
   series?: readonly Series[],
 ): CheckResult {
-  return { id, title: TITLES[id], status, summary, metrics, findings, settings_used: settingsUsed, ...(series && series.length ? { series } : {}) };
+  // the title is the definition's, stamped by defineCheck's run (./define.ts)
+  return { id, title: id, status, summary, metrics, findings, settings_used: settingsUsed, ...(series && series.length ? { series } : {}) };
 }
 
 export function skipped(id: CheckId, why: string, settingsUsed: readonly SettingKey[] = []): CheckResult {
   return result(id, 'skipped', `Skipped: ${why}.`, {}, [], settingsUsed);
 }
 
-/** The worst of several statuses (skipped counts as pass). */
+/** The worst of several statuses (skipped counts as pass; error is handled by the verdict). */
 export function worst(...statuses: Status[]): Status {
   if (statuses.includes('fail')) return 'fail';
   if (statuses.includes('warn')) return 'warn';

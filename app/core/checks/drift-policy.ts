@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
 import { weightBalance } from '../stats/balance.ts';
@@ -210,3 +211,12 @@ export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   };
   return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'balance.min_effect', 'balance.q', 'support.floor.epsilon'], [mix]);
 }
+
+export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck({
+  id: 'drift.policy',
+  title: 'Logging-policy drift',
+  blocking: false,
+  panel: 'drift',
+  settings: ['drift.policy.q', 'drift.policy.psi_warn', 'balance.q', 'balance.min_effect', 'support.floor.epsilon'],
+  run: checkPolicyDrift,
+});

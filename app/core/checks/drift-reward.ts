@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
 import { literal } from '../sql/quote.ts';
@@ -204,3 +205,12 @@ function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number): Ser
     unit: t.change ? `change at ${isoUs(originUs + t.change.index * widthUs)}` : 'reward',
   };
 }
+
+export const driftReward: CheckDefinition<'drift.reward'> = defineCheck({
+  id: 'drift.reward',
+  title: 'Reward drift',
+  blocking: false,
+  panel: 'drift',
+  settings: ['drift.reward.q', 'drift.reward.min_relative_change'],
+  run: checkRewardDrift,
+});

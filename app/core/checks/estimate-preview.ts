@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Estimate as ModelEstimate, Status } from '../model/report.ts';
 import { doublyRobust, ips, minimumDetectableDifference, onPolicyValue, snips, type Estimate } from '../stats/estimators.ts';
 import { fmt, pct, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
@@ -80,3 +81,12 @@ export function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   }).join('; ') + '.';
   return result('estimate.preview', status, summary, metrics, findings, ['estimate.preview.max_relative_halfwidth']);
 }
+
+export const estimatePreview: CheckDefinition<'estimate.preview'> = defineCheck({
+  id: 'estimate.preview',
+  title: 'Estimate preview',
+  blocking: false,
+  panel: 'estimates',
+  settings: ['estimate.preview.max_relative_halfwidth'],
+  run: checkEstimates,
+});

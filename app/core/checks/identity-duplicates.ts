@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { literal } from '../sql/quote.ts';
 import { pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 
@@ -23,3 +24,12 @@ export function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
   const summary = d.ids === 0 ? `All ${ctx.profile.rows} decision ids are unique.` : `${d.ids} duplicated decision ids: ${d.extraRows} extra rows (${pct(share, 2)} of rows; fail above ${pct(failAt)}).`;
   return result('identity.duplicates', status, summary, { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share }, findings, ['identity.duplicates.fail_share']);
 }
+
+export const identityDuplicates: CheckDefinition<'identity.duplicates'> = defineCheck({
+  id: 'identity.duplicates',
+  title: 'Duplicate decision ids',
+  blocking: true,
+  panel: 'data',
+  settings: ['identity.duplicates.fail_share'],
+  run: checkDuplicates,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { segmentKey } from '../cube/rollup.ts';
 import { cellHeatmap, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
@@ -83,3 +84,12 @@ export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
     [cellHeatmap(ctx, 'rows by segment and action', 'rows', (t) => t.n, 0)],
   );
 }
+
+export const propensityExploration: CheckDefinition<'propensity.exploration'> = defineCheck({
+  id: 'propensity.exploration',
+  title: 'Exploration by segment',
+  blocking: true,
+  panel: 'data',
+  settings: ['propensity.exploration.top_action_share', 'propensity.exploration.min_segment_share'],
+  run: checkExploration,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { concentrate } from './locate.ts';
 import { and, segmentPredicate, validPropensity, windowPredicate } from './predicates.ts';
@@ -32,3 +33,12 @@ export function checkPropensityRange(ctx: AuditContext): ReturnType<typeof resul
 function opt(where: string | undefined): { where?: string } {
   return where ? { where } : {};
 }
+
+export const propensityRange: CheckDefinition<'propensity.range'> = defineCheck({
+  id: 'propensity.range',
+  title: 'Propensity values',
+  blocking: true,
+  panel: 'data',
+  settings: ['propensity.range.fail_share'],
+  run: checkPropensityRange,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
 import { and, finiteReward, windowPredicate } from './predicates.ts';
@@ -63,3 +64,12 @@ export function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result
     b ? [{ name: 'missing reward share per bucket', kind: 'bars', x: perBucket.map((_, i) => isoUs(b.originUs + i * b.widthUs)), values: [perBucket.map((g) => (g.n ? g.miss / g.n : null))], labels: ['missing share'], unit: 'share' }] : [],
   );
 }
+
+export const rewardValidity: CheckDefinition<'reward.validity'> = defineCheck({
+  id: 'reward.validity',
+  title: 'Reward values',
+  blocking: true,
+  panel: 'drift',
+  settings: ['reward.validity.warn_null', 'reward.validity.fail_null'],
+  run: checkRewardValidity,
+});

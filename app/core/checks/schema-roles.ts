@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Metrics } from '../model/report.ts';
 import { REQUIRED_ROLES, SINGLE_ROLES } from '../roles/roles.ts';
 import { pct, result, type AuditContext, type DraftFinding } from './context.ts';
@@ -29,3 +30,12 @@ export function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
       : `${mapped}; ${roles.segments.length} segment column(s)${roles.segments.length ? ` (${roles.segments.join(', ')})` : ''}; largest null share among required roles ${pct(worstNull)}.`;
   return result('schema.roles', status, summary, metrics, findings, []);
 }
+
+export const schemaRoles: CheckDefinition<'schema.roles'> = defineCheck({
+  id: 'schema.roles',
+  title: 'Column roles',
+  blocking: true,
+  panel: 'data',
+  settings: [],
+  run: checkSchemaRoles,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { double, literal } from '../sql/quote.ts';
 import { cellHeatmap, describeSegment, fmt, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
@@ -46,3 +47,12 @@ export function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> 
     [cellHeatmap(ctx, 'minimum propensity by segment and action', 'propensity', (t) => t.minP, null)],
   );
 }
+
+export const supportFloor: CheckDefinition<'support.floor'> = defineCheck({
+  id: 'support.floor',
+  title: 'Propensity floor',
+  blocking: false,
+  panel: 'weights',
+  settings: ['support.floor.epsilon', 'support.floor.max_share'],
+  run: checkSupportFloor,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { segmentKey } from '../cube/rollup.ts';
 import type { Status } from '../model/report.ts';
 import { describeSegment, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
@@ -51,3 +52,12 @@ export function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result>
   const summary = primaries.map((t) => `${t.target.name}: ${pct(t.supportDeficit, 2)} of its mass is unsupported`).join('; ') + ` (warn above ${pct(warnAt)}, fail above ${pct(failAt)}).`;
   return result('support.target', status, summary, metrics, findings, ['support.target.warn', 'support.target.fail']);
 }
+
+export const supportTarget: CheckDefinition<'support.target'> = defineCheck({
+  id: 'support.target',
+  title: 'Support for each target',
+  blocking: true,
+  panel: 'weights',
+  settings: ['support.target.warn', 'support.target.fail'],
+  run: checkSupportTarget,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
 
@@ -46,3 +47,12 @@ export function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> 
     [{ name: 'rows per bucket', kind: 'bars', x: perBucket.map((_, b) => isoUs(buckets.originUs + b * buckets.widthUs)), values: [perBucket], labels: ['rows'], unit: 'rows' }],
   );
 }
+
+export const timeCoverage: CheckDefinition<'time.coverage'> = defineCheck({
+  id: 'time.coverage',
+  title: 'Time coverage',
+  blocking: false,
+  panel: 'drift',
+  settings: ['time.bucket', 'time.max_buckets'],
+  run: checkTimeCoverage,
+});

@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Series, Status } from '../model/report.ts';
 import { kishEss } from '../stats/ess.ts';
 import { describeSegment, fmt, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
@@ -77,3 +78,12 @@ export function checkEss(ctx: AuditContext): ReturnType<typeof result> {
   }
   return result('weights.ess', status, summary, metrics, findings, ['weights.ess.warn_fraction', 'weights.ess.fail_min'], series);
 }
+
+export const weightsEss: CheckDefinition<'weights.ess'> = defineCheck({
+  id: 'weights.ess',
+  title: 'Effective sample size',
+  blocking: true,
+  panel: 'weights',
+  settings: ['weights.ess.warn_fraction', 'weights.ess.fail_min'],
+  run: checkEss,
+});

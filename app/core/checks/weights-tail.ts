@@ -1,3 +1,4 @@
+import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Status } from '../model/report.ts';
 import { paretoKThreshold, psisKhatFromTail, psisTailLength } from '../stats/psis.ts';
 import { finite, fmt, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
@@ -50,3 +51,12 @@ export function checkTail(ctx: AuditContext): ReturnType<typeof result> {
   }).join('; ') + ` (warn above ${warnK}, fail above min(1 − 1/log10 n, 0.7)).`;
   return result('weights.tail', status, summary, metrics, findings, ['weights.tail.warn_khat']);
 }
+
+export const weightsTail: CheckDefinition<'weights.tail'> = defineCheck({
+  id: 'weights.tail',
+  title: 'Weight tail (PSIS k̂)',
+  blocking: true,
+  panel: 'weights',
+  settings: ['weights.tail.warn_khat'],
+  run: checkTail,
+});

@@ -10,40 +10,27 @@
 import { z } from 'zod';
 import type { Cell } from '../table.ts';
 import { REPORT_SCHEMA_ID } from './contract-ids.ts';
+import { CHECK_IDS, type CheckId as RegisteredCheckId } from '../checks/registry.ts';
 
 export { REPORT_SCHEMA_ID };
 
 // ---- vocabularies ---------------------------------------------------------------------------------
 
-export const STATUSES = ['pass', 'warn', 'fail', 'skipped'] as const;
+/** `error`: the check could not run on this log (it threw); a blocking check that errors blocks the verdict. */
+export const STATUSES = ['pass', 'warn', 'fail', 'skipped', 'error'] as const;
 export const VERDICTS = ['supported', 'supported-with-caveats', 'not-supported'] as const;
-/** Stable check ids, in audit order. */
-export const CHECK_IDS = [
-  'schema.roles',
-  'identity.duplicates',
-  'time.coverage',
-  'propensity.range',
-  'propensity.exploration',
-  'support.floor',
-  'support.target',
-  'balance.weights',
-  'weights.ess',
-  'weights.tail',
-  'reward.validity',
-  'drift.reward',
-  'drift.policy',
-  'estimate.preview',
-] as const;
+/** Stable check ids, in audit order: the check registry's (app/core/checks/registry.ts), where each check is declared once. */
+export { CHECK_IDS };
 
 export const StatusSchema = z.enum(STATUSES);
 export const VerdictSchema = z.enum(VERDICTS);
-export const CheckIdSchema = z.enum(CHECK_IDS).meta({ id: 'checkId' });
+export const CheckIdSchema = z.enum(CHECK_IDS as unknown as readonly [RegisteredCheckId, ...RegisteredCheckId[]]).meta({ id: 'checkId' });
 /** A finding or a segment is never "skipped". */
 const OutcomeSchema = z.enum(['pass', 'warn', 'fail']);
 
 export type Status = z.infer<typeof StatusSchema>;
 export type Verdict = z.infer<typeof VerdictSchema>;
-export type CheckId = z.infer<typeof CheckIdSchema>;
+export type CheckId = RegisteredCheckId;
 
 // ---- building blocks ------------------------------------------------------------------------------
 
@@ -153,7 +140,7 @@ export type SegmentReadiness = z.infer<typeof SegmentReadinessSchema>;
 
 export const ReasonSchema = record({
   check: CheckIdSchema,
-  status: z.enum(['warn', 'fail']),
+  status: z.enum(['warn', 'fail', 'error']),
   message: z.string(),
 });
 export type Reason = z.infer<typeof ReasonSchema>;
