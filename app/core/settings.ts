@@ -22,6 +22,7 @@ export const SETTINGS = {
   'support.target.warn': { default: 0.01, source: 'Sachdeva, Su & Joachims 2020 (deficient support); threshold common practice', description: "warn when this share of a target's probability mass falls on (segment, action) cells the log never covers", min: 0, max: 1 },
   'support.target.fail': { default: 0.05, source: 'Sachdeva, Su & Joachims 2020 (deficient support); threshold common practice', description: 'fail above this unsupported mass', min: 0, max: 1 },
   'balance.q': { default: 0.01, source: 'Benjamini & Hochberg 1995 (false discovery rate level)', description: 'false discovery rate for the weight-balance tests', min: 0, max: 1 },
+  'balance.min_expected': { default: 10, source: 'common practice (the normal approximation to a binomial count is usual from about 10 expected events)', description: 'below this many expected events of an action in a group, its balance test is the exact binomial test; at or above it, the normal test', min: 0 },
   'balance.min_effect': { default: 0.1, source: 'common practice', description: 'fail only when |B − 1| also exceeds this', min: 0 },
   'weights.ess.warn_fraction': { default: 0.1, source: 'common practice', description: 'warn when ESS / n is below this', min: 0, max: 1 },
   'weights.ess.fail_min': { default: 100, source: 'common practice', description: 'fail when the Kish effective sample size is below this', min: 0 },

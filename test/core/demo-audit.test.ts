@@ -70,6 +70,7 @@ describe('clean log', () => {
   it('is supported with no failing or warning check', () => {
     expect(clean.checks.filter((c) => c.status === 'fail' || c.status === 'warn').map((c) => `${c.id}: ${c.summary}`)).toEqual([]);
     expect(clean.verdict).toBe('supported');
+    expect(clean.checks.find((c) => c.id === 'balance.weights')!.metrics.failing).toBe(0);
   });
 
   it('the doubly robust, SNIPS and IPS intervals of the v9 target overlap', () => {

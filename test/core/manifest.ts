@@ -12,7 +12,7 @@ export function readManifest(path: string): { defects: PlantedDefect[] } {
 const overlaps = (a: { from: string; to: string }, b: { from: string; to: string }) => Date.parse(a.from) < Date.parse(b.to) && Date.parse(b.from) < Date.parse(a.to);
 
 /** A finding matches a planted defect when it names every planted segment value, the planted action
- * (when both name one) and a window overlapping the planted one (when both have one). */
+ * whenever the defect has one, and a window overlapping the planted one whenever the defect has one. */
 export function matchingFindings(report: Report, defect: PlantedDefect): Finding[] {
   const check = report.checks.find((c) => c.id === defect.kind);
   if (!check) return [];
@@ -20,7 +20,7 @@ export function matchingFindings(report: Report, defect: PlantedDefect): Finding
     (f) =>
       f.status !== 'pass' &&
       Object.entries(defect.segment).every(([k, v]) => f.segment[k] === v) &&
-      (!defect.action || !f.action || f.action === defect.action) &&
-      (!defect.window || !f.window || overlaps(f.window, defect.window)),
+      (!defect.action || f.action === defect.action) &&
+      (!defect.window || (!!f.window && overlaps(f.window, defect.window))),
   );
 }

@@ -1,14 +1,16 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import { pairKeys, SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
+import type { Series } from '../model/report.ts';
 import { literal } from '../sql/quote.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
-import { neverLoggedBalance, weightBalance } from '../stats/balance.ts';
-import { bucketWindow, describeSegment, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { countBalance } from '../stats/balance.ts';
+import { bucketWindow, describeSegment, finite, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
 
-const MIN_ROWS = 50;
 const MAX_FINDINGS = 25;
+/** groups of the tests left out near the floor named in one finding, per action */
+const MAX_LISTED = 40;
 
 interface Test {
   readonly scope: 'action' | 'segment value' | 'segment' | 'time bucket' | 'policy version';
@@ -21,8 +23,41 @@ interface Test {
   readonly se: number;
   readonly z: number;
   readonly p: number;
+  /** logged rows of the action in the group, and the count the logged propensities lead one to expect */
+  readonly count: number;
+  readonly expected: number;
+  readonly method: 'exact binomial' | 'normal';
+  /** the group holds a row of this action with a valid propensity below the floor: the test is left out */
+  readonly belowFloor: boolean;
   /** indexes (ascending) of the cells of the test's group, all actions */
   readonly members: readonly number[];
+}
+
+/** Actions never logged in the segment of cube cell i (the full segment: all segment columns). */
+type Ineligible = (i: number) => readonly string[];
+
+function ineligibility(cells: readonly CubeCell[], segmentKeyOf: (c: CubeCell) => string, actions: readonly string[]): Ineligible {
+  const logged = new Map<string, Set<string>>();
+  for (const c of cells) {
+    const k = segmentKeyOf(c);
+    let set = logged.get(k);
+    if (!set) logged.set(k, (set = new Set()));
+    if (c.nP > 0) set.add(c.action);
+  }
+  const missing = new Map<string, readonly string[]>();
+  for (const [k, set] of logged) missing.set(k, actions.filter((a) => !set.has(a)));
+  const keys = cells.map((c) => missing.get(segmentKeyOf(c)) ?? []);
+  return (i) => keys[i] ?? [];
+}
+
+/** An action with no logged row in a group of rows: support / eligibility information, not a balance test. */
+interface NeverLogged {
+  readonly scope: Test['scope'];
+  readonly segment: Record<string, string>;
+  readonly action: string;
+  readonly bucket?: number;
+  readonly version?: string;
+  readonly n: number;
 }
 
 interface GroupMeta {
@@ -32,30 +67,41 @@ interface GroupMeta {
 }
 
 /**
- * Groups rows, then for every action a in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1).
- * `key` names a cell's group (null: in none); `meta` describes a group from its first cell.
+ * Groups rows, then for every action a logged in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1), tested
+ * by countBalance (exact binomial below `minExpected` expected events, normal above). Actions not logged
+ * in the group go to `never`. `key` names a cell's group (null: in none); `meta` describes a group from its first cell.
  */
-function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, key: (c: CubeCell, i: number) => string | null, meta: (c: CubeCell) => GroupMeta, actions: readonly string[]): Test[] {
-  const groups = new Map<string, { meta: GroupMeta; nP: number; byAction: Map<string, { s1: number; s2: number }>; members: number[] }>();
+function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, minExpected: number, key: (c: CubeCell, i: number) => string | null, meta: (c: CubeCell) => GroupMeta, actions: readonly string[], ineligible: Ineligible, never: NeverLogged[]): Test[] {
+  const groups = new Map<string, { meta: GroupMeta; nP: number; outside: Map<string, number>; byAction: Map<string, { c: number; s1: number; s2: number; low: boolean }>; members: number[] }>();
   cells.forEach((c, i) => {
     const k = key(c, i);
     if (k === null) return;
     let e = groups.get(k);
-    if (!e) groups.set(k, (e = { meta: meta(c), nP: 0, byAction: new Map(), members: [] }));
+    if (!e) groups.set(k, (e = { meta: meta(c), nP: 0, outside: new Map(), byAction: new Map(), members: [] }));
     e.members.push(i);
     e.nP += c.nP;
+    for (const a of ineligible(i)) e.outside.set(a, (e.outside.get(a) ?? 0) + c.nP);
     let a = e.byAction.get(c.action);
-    if (!a) e.byAction.set(c.action, (a = { s1: 0, s2: 0 }));
+    if (!a) e.byAction.set(c.action, (a = { c: 0, s1: 0, s2: 0, low: false }));
+    a.c += c.nP;
     a.s1 += c.sumInvP;
     a.s2 += c.sumInvP2;
+    a.low ||= c.minP !== null && c.minP < floor;
   });
   const out: Test[] = [];
   for (const e of groups.values()) {
-    if (e.nP < MIN_ROWS) continue;
+    const where = { segment: e.meta.segment, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}) };
     for (const action of actions) {
-      const s = e.byAction.get(action) ?? { s1: 0, s2: 0 };
-      const wb = s.s1 > 0 ? weightBalance(e.nP, s.s1, s.s2) : neverLoggedBalance(e.nP, floor);
-      out.push({ scope, segment: e.meta.segment, action, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}), n: e.nP, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, members: e.members });
+      const s = e.byAction.get(action);
+      // rows of segments where the action was never logged are outside its support: not part of its test
+      const n = e.nP - (e.outside.get(action) ?? 0);
+      if (!s || s.c === 0) {
+        if (n === e.nP || scope === 'segment' || scope === 'segment value') never.push({ scope, ...where, action, n: e.nP });
+        continue;
+      }
+      if (n < 2) continue;
+      const wb = countBalance(n, s.c, s.s1, s.s2, minExpected);
+      out.push({ scope, ...where, action, n, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, count: s.c, expected: wb.expected, method: wb.method, belowFloor: s.low, members: e.members });
     }
   }
   return out;
@@ -68,28 +114,31 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const actions = ctx.view.actions;
   const cells = ctx.cells.filter((c) => c.action !== '(null)');
   const floor = ctx.settings['support.floor.epsilon'];
+  const minExpected = ctx.settings['balance.min_expected'];
+  const never: NeverLogged[] = [];
+  const ineligible = ineligibility(cells, ctx.view.segmentKeyOf, actions);
   const tests: Test[] = [
-    ...testsFor('action', cells, floor, () => 'all', () => ({ segment: {} }), actions),
-    ...cols.flatMap((col, j) => testsFor('segment value', cells, floor, (c) => c.segment[j] as string, (c) => ({ segment: { [col]: c.segment[j] as string } }), actions)),
-    ...(cols.length > 1 ? testsFor('segment', cells, floor, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions) : []),
-    ...(ctx.buckets ? testsFor('time bucket', cells, floor, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions) : []),
+    ...testsFor('action', cells, floor, minExpected, () => 'all', () => ({ segment: {} }), actions, ineligible, never),
+    ...cols.flatMap((col, j) => testsFor('segment value', cells, floor, minExpected, (c) => c.segment[j] as string, (c) => ({ segment: { [col]: c.segment[j] as string } }), actions, ineligible, never)),
+    ...(cols.length > 1 ? testsFor('segment', cells, floor, minExpected, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions, ineligible, never) : []),
+    ...(ctx.buckets ? testsFor('time bucket', cells, floor, minExpected, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions, ineligible, never) : []),
     ...(ctx.roles.policy_version
       ? cols.flatMap((col, j) => {
         const key = pairKeys((v, version) => `${v}${SEP}${version}`);
-        return testsFor('policy version', cells, floor, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions);
+        return testsFor('policy version', cells, floor, minExpected, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions, ineligible, never);
       })
       : []),
   ];
   const q = ctx.settings['balance.q'];
   const minEffect = ctx.settings['balance.min_effect'];
-  // Where an action's propensity drops below the floor somewhere in a group's segment, its few huge
-  // weights dominate B and are often absent from a given bucket, so B and its SE are unreliable there;
-  // support.floor reports those cells. Tests of an action never logged in the group stay.
-  const low = lowFloorIndex(cells, cols, floor);
-  const tested = tests.filter((t) => Number.isNaN(t.z) || !low.has(`${JSON.stringify(t.segment)}|${t.action}`));
+  // Where a group holds a row of the action with a propensity below the floor, a few huge weights
+  // dominate B, so the test is unreliable there; it is left out of that group only (support.floor
+  // reports those cells), listed in a finding, and the check warns.
+  const tested = tests.filter((t) => !t.belowFloor);
+  const leftOut = tests.filter((t) => t.belowFloor);
   const bh = benjaminiHochberg(tested.map((t) => t.p), q);
   const significant = tested.map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean })).filter((x) => x.rejected && Math.abs(x.t.balance - 1) > minEffect);
-  const flagged = explainAway(significant, cells, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), floor);
+  const flagged = explainAway(significant, cells, ineligible, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
   const versionWindows = versionSpans(ctx);
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj }) => {
     const win = t.bucket !== undefined && ctx.buckets ? bucketWindow(ctx.buckets, t.bucket, t.bucket + 1) : t.version !== undefined ? versionWindows.get(t.version) : undefined;
@@ -101,8 +150,8 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
       action: t.action,
       ...(win ? { window: win } : {}),
       status: 'fail' as const,
-      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, ...(t.version !== undefined ? { version: t.version } : {}) },
-      message: `${t.action} in ${scope}: ${Number.isNaN(t.z) ? `never logged in ${t.n} rows (p ≤ (1 − ε)^n)` : `B = ${fmt(t.balance)} (expected 1; z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}`}, BH-adjusted p = ${fmt(adj, 2)}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
+      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, ...(t.version !== undefined ? { version: t.version } : {}) },
+      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
       ...(where ? { where } : {}),
     };
   });
@@ -112,21 +161,25 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
     s1 += c.sumInvP;
   }
   const meanInvP = nP > 0 ? s1 / nP : null;
-  const status = flagged.length ? 'fail' : 'pass';
+  findings.push(...leftOutFindings(leftOut, floor));
+  const status = flagged.length ? 'fail' : leftOut.length ? 'warn' : 'pass';
   const overall = tests.filter((t) => t.scope === 'action');
+  const neverSegments = never.filter((x) => x.scope === (cols.length > 1 ? 'segment' : 'segment value'));
+  const neverNote = neverSegments.length ? ` ${neverSegments.length} segment × action cell(s) were never logged: support information (support.target weighs them against each target), not a balance test.` : '';
+  const leftNote = leftOut.length ? ` ${leftOut.length} test(s) left out where their own group holds a propensity below ε = ${floor}.` : '';
   const summary = flagged.length
-    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, |B − 1| > ${minEffect}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.`
-    : `All ${tested.length} balance tests hold (BH q = ${q}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.`;
+    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, |B − 1| > ${minEffect}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}`
+    : `All ${tested.length} balance tests hold (BH q = ${q}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.${leftNote}${neverNote}`;
   return result(
     'balance.weights',
     status,
     summary,
-    { tests: tested.length, skipped_below_floor: tests.length - tested.length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length },
+    { tests: tested.length, skipped_below_floor: leftOut.length, exact_tests: tested.filter((t) => t.method === 'exact binomial').length, never_logged: never.length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length },
     findings,
-    ['balance.q', 'balance.min_effect'],
+    ['balance.q', 'balance.min_effect', 'balance.min_expected', 'support.floor.epsilon'],
     [
       { name: 'balance B by action', kind: 'bars', x: overall.map((t) => t.action), values: [overall.map((t) => t.balance)], labels: ['B'], unit: 'B (expected 1)' },
-      balanceHeatmap(tests.filter((t) => t.scope === (cols.length > 1 ? 'segment' : 'segment value')), cols, actions),
+      balanceHeatmap(tests.filter((t) => t.scope === (cols.length > 1 ? 'segment' : 'segment value')), neverSegments, cols, actions),
     ],
   );
 }
@@ -136,23 +189,24 @@ export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
  * is kept only if it still fails once the rows of groups already reported are left out (so a
  * mis-logged region does not also show up as every device and tenure that contains it).
  */
-function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readonly CubeCell[], minEffect: number, pCut: number, floor: number): T[] {
+function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readonly CubeCell[], ineligible: Ineligible, minEffect: number, pCut: number, minExpected: number): T[] {
   const order = [...flagged].sort((a, b) => Math.abs(b.t.balance - 1) - Math.abs(a.t.balance - 1) || b.t.n - a.t.n);
   const kept: T[] = [];
   const covered = new Uint8Array(cells.length);
   for (const x of order) {
-    let nP = 0, s1 = 0, s2 = 0;
+    let nP = 0, k = 0, s1 = 0, s2 = 0;
     for (const i of x.t.members) {
       if (covered[i]) continue;
       const c = cells[i] as CubeCell;
-      nP += c.nP;
+      if (!ineligible(i).includes(x.t.action)) nP += c.nP;
       if (c.action === x.t.action) {
+        k += c.nP;
         s1 += c.sumInvP;
         s2 += c.sumInvP2;
       }
     }
-    if (nP < MIN_ROWS) continue;
-    const wb = s1 > 0 ? weightBalance(nP, s1, s2) : neverLoggedBalance(nP, floor);
+    if (nP < 2 || k === 0) continue;
+    const wb = countBalance(nP, k, s1, s2, minExpected);
     if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) {
       kept.push(x);
       for (const i of x.t.members) covered[i] = 1;
@@ -161,23 +215,42 @@ function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readon
   return kept;
 }
 
-/** Keys `${JSON.stringify(segment)}|action` of (segment pattern, action) pairs with a propensity below the floor. */
-function lowFloorIndex(cells: readonly CubeCell[], cols: readonly string[], floor: number): Set<string> {
-  const out = new Set<string>();
-  for (const c of cells) {
-    if (c.minP === null || c.minP >= floor) continue;
-    out.add(`${JSON.stringify({})}|${c.action}`);
-    cols.forEach((col, j) => out.add(`${JSON.stringify({ [col]: c.segment[j] })}|${c.action}`));
-    out.add(`${JSON.stringify(segmentRecord(cols, c.segment))}|${c.action}`);
-  }
-  return out;
+/** One warning per action listing the tests left out because their own group holds a below-floor propensity. */
+function leftOutFindings(leftOut: readonly Test[], floor: number): DraftFinding[] {
+  const byAction = new Map<string, Test[]>();
+  for (const t of leftOut) byAction.set(t.action, [...(byAction.get(t.action) ?? []), t]);
+  return [...byAction].map(([action, list]) => {
+    const names = list.map((t) => `${t.scope} ${describeSegment(t.segment)}${t.bucket !== undefined ? ` bucket ${t.bucket}` : ''}${t.version !== undefined ? ` version ${t.version}` : ''}`);
+    const shown = names.slice(0, MAX_LISTED).join('; ') + (names.length > MAX_LISTED ? `; and ${names.length - MAX_LISTED} more` : '');
+    return {
+      segment: {},
+      action,
+      status: 'warn' as const,
+      metrics: { left_out: list.length, ...Object.fromEntries(['action', 'segment value', 'segment', 'time bucket', 'policy version'].map((s) => [`left_out.${s}`, list.filter((t) => t.scope === s).length])) },
+      message: `${list.length} balance test(s) of ${action} left out because their group holds a propensity below ε = ${floor} (a few huge weights make B unreliable there; support.floor lists the cells): ${shown}`,
+    };
+  });
 }
 
-function balanceHeatmap(tests: readonly Test[], cols: readonly string[], actions: readonly string[]) {
+/**
+ * z by segment × action. Cells without a z are null, with the reason beside them in `null_reasons`: an
+ * action never logged in the segment (support information), or a segment too small to test.
+ */
+function balanceHeatmap(tests: readonly Test[], never: readonly NeverLogged[], cols: readonly string[], actions: readonly string[]): Series {
   const label = (s: Record<string, string>) => cols.map((c) => s[c]).filter((x) => x !== undefined).join(' · ');
-  const segs = [...new Set(tests.map((t) => label(t.segment)))].sort();
-  const idx = new Map(tests.map((t) => [`${label(t.segment)}|${t.action}`, Number.isFinite(t.z) ? t.z : Number.isNaN(t.z) ? -99 : t.z > 0 ? 99 : -99]));
-  return { name: 'balance z by segment and action', kind: 'heatmap' as const, x: actions, y: segs, values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? null)), unit: 'z' };
+  const segs = [...new Set([...tests, ...never].map((t) => label(t.segment)))].sort();
+  const idx = new Map(tests.map((t) => [`${label(t.segment)}|${t.action}`, finite(t.z)]));
+  const unlogged = new Set(never.map((t) => `${label(t.segment)}|${t.action}`));
+  const reason = (k: string) => (unlogged.has(k) ? 'never logged' : 'not tested');
+  return {
+    name: 'balance z by segment and action',
+    kind: 'heatmap',
+    x: actions,
+    y: segs,
+    values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? null)),
+    null_reasons: segs.map((s) => actions.map((a) => (idx.get(`${s}|${a}`) ?? null) === null ? reason(`${s}|${a}`) : null)),
+    unit: 'z',
+  };
 }
 
 /** Time span of each policy version, from the buckets it appears in. */
@@ -199,6 +272,6 @@ export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck({
   title: 'Weight balance',
   blocking: true,
   panel: 'weights',
-  settings: ['balance.q', 'balance.min_effect', 'support.floor.epsilon'],
+  settings: ['balance.q', 'balance.min_effect', 'balance.min_expected', 'support.floor.epsilon'],
   run: checkBalance,
 });

@@ -1,6 +1,6 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Estimate as ModelEstimate, Status } from '../model/report.ts';
-import { doublyRobust, ips, minimumDetectableDifference, onPolicyValue, snips, type Estimate } from '../stats/estimators.ts';
+import { doublyRobust, DR_MODEL, ips, minimumDetectableDifference, onPolicyValue, snips, type Estimate } from '../stats/estimators.ts';
 import { fmt, pct, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
 
@@ -55,7 +55,7 @@ export function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   const rewarded = ctx.cells.filter((c) => c.action !== '(null)').reduce((s, c) => s + c.nRw, 0);
   const findings: DraftFinding[] = [];
   const statuses: Status[] = [];
-  const metrics: Record<string, number | null> = { on_policy_value: onPolicy.value, on_policy_ci_low: onPolicy.ci_low, on_policy_ci_high: onPolicy.ci_high, rewarded_rows: rewarded };
+  const metrics: Record<string, number | string | null> = { on_policy_value: onPolicy.value, on_policy_ci_low: onPolicy.ci_low, on_policy_ci_high: onPolicy.ci_high, rewarded_rows: rewarded, dr_model: DR_MODEL };
   for (const ta of ctx.targets) {
     const e = estimatesFor(ta, rewarded);
     const primary = ctx.primaryTargets.includes(ta);

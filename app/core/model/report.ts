@@ -84,6 +84,8 @@ export const SeriesSchema = record({
   values: list(list(nullable(z.number()))),
   labels: list(z.string()).optional(),
   unit: z.string().optional(),
+  /** heatmaps: beside each null value, why it is null (e.g. "never logged"); null where a value is present */
+  null_reasons: list(list(nullable(z.string()))).optional(),
 }).meta({ id: 'series' });
 export type Series = z.infer<typeof SeriesSchema>;
 

@@ -1,4 +1,5 @@
-import { twoSidedNormalP } from './distributions.ts';
+import { binomialTwoSidedP } from './binomial.ts';
+import { normalQuantile, twoSidedNormalP } from './distributions.ts';
 import { requireCount, requireNonNegative } from './validate.ts';
 
 export interface WeightBalance {
@@ -42,4 +43,38 @@ export function neverLoggedBalance(n: number, floor: number): WeightBalance {
   requireCount('rows in group', n);
   if (!(floor > 0 && floor < 1)) throw new RangeError(`floor must lie in (0, 1), got ${floor}`);
   return { balance: 0, se: 0, z: Number.NaN, pValue: Math.pow(1 - floor, n) };
+}
+
+export interface CountBalance extends WeightBalance {
+  /** expected count of the action under the logged propensities, n · p̄ with p̄ = c / Σ_{A=a} 1/p */
+  readonly expected: number;
+  readonly method: 'exact binomial' | 'normal';
+}
+
+/**
+ * Weight balance for an action logged c ≥ 1 times among n rows, valid at every count: B = S1/n with
+ * S1 = Σ_{A=a} 1/p; the count c is compared with Binomial(n, p̄), p̄ = c/S1 (exact when p is constant in
+ * the group, and conservative when it varies, since a Poisson-binomial count has a smaller variance than
+ * the binomial of the same mean; Hoeffding 1956). The exact two-sided test is used where the expected
+ * count n·p̄ (or of the other actions, n − n·p̄) is below `minExpected`, the normal test of B (weightBalance) otherwise. z is the
+ * normal-equivalent deviate of the p-value, signed like B − 1, so both methods read on one scale.
+ */
+export function countBalance(n: number, count: number, sumInvP: number, sumInvP2: number, minExpected: number): CountBalance {
+  requireCount('rows in group', n);
+  requireCount('rows of the action', count);
+  if (count < 1 || count > n) throw new RangeError(`the action must be logged between 1 and ${n} times, got ${count}`);
+  if (!(sumInvP >= count)) throw new RangeError(`sum of 1/p (${sumInvP}) must be at least the count (${count}), since p ≤ 1`);
+  const balance = sumInvP / n;
+  const pBar = count / sumInvP;
+  const expected = n * pBar;
+  // the normal test needs many expected events and many expected non-events (np, n(1 − p) ≥ minExpected)
+  if (expected >= minExpected && n - expected >= minExpected && n >= 2) {
+    const w = weightBalance(n, sumInvP, sumInvP2);
+    return { ...w, expected, method: 'normal' };
+  }
+  const pValue = binomialTwoSidedP(count, n, pBar);
+  const z = balance === 1 ? 0 : Math.sign(balance - 1) * normalQuantile(1 - Math.max(pValue, 1e-300) / 2);
+  // the standard error of B implied by the binomial: sqrt(n p̄ (1 − p̄)) / (n p̄)
+  const se = Math.sqrt((1 - pBar) / expected);
+  return { balance, se, z, pValue, expected, method: 'exact binomial' };
 }

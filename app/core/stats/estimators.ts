@@ -128,20 +128,25 @@ function addTo(map: Map<string, RewardSums>, key: string, n: number, sumR: numbe
 const meanOf = (sums: RewardSums | undefined): number | undefined =>
   sums !== undefined && sums.n > 0 ? sums.sumR / sums.n : undefined;
 
+/** How doublyRobust fits its reward model, stated in the report beside the estimate. */
+export const DR_MODEL = 'leave-one-out segment × action mean rewards; cells with fewer than 2 rows use the action\'s mean over other segments';
+
 /**
- * Doubly robust estimate with a segment × action mean-reward model:
- *   DRᵢ = D(sᵢ) + wᵢ(rᵢ − r̂(sᵢ, aᵢ)),  D(s) = Σₐ π(a|s)·r̂(s, a).
- * r̂(s, a) is the mean reward of the logged rows in (s, a); for a pair the log never has, the action's
- * mean over all segments, and for an action the log never has, the mean reward of the whole log.
- * The model is fitted on the same rows (no cross-fitting), and the SE treats it as fixed.
+ * Doubly robust estimate with a leave-one-out segment × action mean-reward model:
+ *   DRᵢ = D₋ᵢ(sᵢ) + wᵢ(rᵢ − r̂₋ᵢ(sᵢ, aᵢ)),  D₋ᵢ(s) = Σₐ π(a|s)·r̂₋ᵢ(s, a),
+ * where r̂₋ᵢ(s, a) is the mean reward of the other logged rows of (s, a), so no row's correction uses a
+ * model fitted on itself (cross-fitting in its leave-one-out form; Chernozhukov et al. 2018, Econometrics
+ * Journal 21(1), C1–C68). A cell with fewer than 2 rows uses the action's mean over the other segments
+ * (else the mean of every other row), fixed; an unlogged pair the action's mean, an unlogged action the log's.
  *
- * Per cell c = (s, a) with target q, model r̂ = r̂(s, a), D = D(s) and n_c rows, the row sums expand to
- *   Σ DRᵢ  = n_c·D + q·(ΣrInvP − r̂·ΣinvP)
- *   Σ DRᵢ² = n_c·D² + 2·D·q·(ΣrInvP − r̂·ΣinvP) + q²·(Σr²InvP² − 2·r̂·ΣrInvP² + r̂²·ΣinvP²)
- * using Σw(r − r̂) = q(ΣrInvP − r̂ΣinvP) and Σw²(r − r̂)² = q²(Σr²InvP² − 2r̂ΣrInvP² + r̂²ΣinvP²).
- * V̂ = mean of DRᵢ over all rows in the cells; SE = sample sd of DRᵢ / √n.
- * Every rewarded row contributes D(sᵢ), so the cells must cover the whole log, q = 0 cells included,
- * and `target` must give probabilities over all `actions` that sum to 1 in every segment.
+ * With δᵢ = rᵢ − r̂ (r̂ the full cell mean, n the cell's rows, q = π(a|s)): r̂₋ᵢ = r̂ − δᵢ/(n − 1), so
+ *   DRᵢ = D(s) + (q/(n − 1))·δᵢ·(n/pᵢ − 1),
+ * and the row sums follow from the cube's sums: Σδ/p = ΣrInvP − r̂ΣinvP, Σδ²/p² = Σr²InvP² − 2r̂ΣrInvP² + r̂²ΣinvP²,
+ * Σδ² = Σr² − n r̂², and Σδ²/p = Σr²/p − 2r̂ΣrInvP + r̂²ΣinvP, where Σr²/p = ΣrInvP for a 0/1 reward (Σr² = Σr);
+ * the cube has no Σr²/p otherwise, and Σδ²/p ≥ Σδ² (p ≤ 1) is used, which can only widen the interval.
+ * V̂ = mean of DRᵢ; SE = sample sd of DRᵢ / √n. Every rewarded row contributes D(sᵢ), so the cells must
+ * cover the whole log, q = 0 cells included, and `target` must give probabilities over all `actions`
+ * that sum to 1 in every segment.
  * Source: Dudík, Langford & Li (2011), ICML, "Doubly robust policy evaluation and learning", eq. (2).
  */
 export function doublyRobust(
@@ -172,8 +177,18 @@ export function doublyRobust(
     sumRAll += c.sumR;
   });
   const overallMean = sumRAll / rows;
-  const model = (segmentKey: string, action: string): number =>
-    meanOf(byCell.get(cellKey(segmentKey, action))) ?? meanOf(byAction.get(action)) ?? overallMean;
+  /** the model of a cell with fewer than 2 rows: the action's mean over the other cells, else every other row's */
+  const outOfCell = (own: RewardSums, action: string): number => {
+    const a = byAction.get(action) as RewardSums;
+    if (a.n > own.n) return (a.sumR - own.sumR) / (a.n - own.n);
+    return rows > own.n ? (sumRAll - own.sumR) / (rows - own.n) : overallMean;
+  };
+  const model = (segmentKey: string, action: string): number => {
+    const own = byCell.get(cellKey(segmentKey, action));
+    if (own !== undefined && own.n >= 2) return own.sumR / own.n;
+    if (own !== undefined && own.n > 0) return outOfCell(own, action);
+    return meanOf(byAction.get(action)) ?? overallMean;
+  };
 
   const directValue = new Map<string, number>();
   for (const segmentKey of new Set(cells.map((c) => c.segmentKey))) {
@@ -198,12 +213,29 @@ export function doublyRobust(
   let sumDR = 0;
   let sumDR2 = 0;
   for (const c of cells) {
+    if (c.n === 0) continue;
     const d = directValue.get(c.segmentKey) ?? 0;
+    const own = byCell.get(cellKey(c.segmentKey, c.action)) as RewardSums;
     const rHat = model(c.segmentKey, c.action);
-    const correction = c.q * (c.sumRInvP - rHat * c.sumInvP);
-    const correctionSq = c.q * c.q * (c.sumR2InvP2 - 2 * rHat * c.sumRInvP2 + rHat * rHat * c.sumInvP2);
+    const dInvP = c.sumRInvP - rHat * c.sumInvP;
+    const d2InvP2 = c.sumR2InvP2 - 2 * rHat * c.sumRInvP2 + rHat * rHat * c.sumInvP2;
+    if (own.n < 2) {
+      // a fixed out-of-cell model: DRᵢ = D(s) + wᵢ(rᵢ − r̂)
+      const correction = c.q * dInvP;
+      sumDR += c.n * d + correction;
+      sumDR2 += c.n * d * d + 2 * d * correction + c.q * c.q * d2InvP2;
+      continue;
+    }
+    // the cell's own rows: n and the δ sums are over the whole (segment, action) pair, which c may be a part of
+    const n = own.n;
+    const k = c.q / (n - 1);
+    const dSum = c.sumR - c.n * rHat;
+    const d2 = Math.max(0, c.sumR2 - 2 * rHat * c.sumR + c.n * rHat * rHat);
+    const binary = c.sumR2 === c.sumR;
+    const d2InvP = binary ? c.sumRInvP - 2 * rHat * c.sumRInvP + rHat * rHat * c.sumInvP : d2;
+    const correction = k * (n * dInvP - dSum);
     sumDR += c.n * d + correction;
-    sumDR2 += c.n * d * d + 2 * d * correction + correctionSq;
+    sumDR2 += c.n * d * d + 2 * d * correction + k * k * (n * n * d2InvP2 - 2 * n * d2InvP + d2);
   }
   return withInterval(sumDR / rows, seOfMean(rows, sumDR, sumDR2));
 }
