@@ -30,6 +30,24 @@ describe('balance.weights', () => {
     }
   });
 
+  it('normal test above 10 expected events: z from the sample SD of 1[A = a]/p (by hand: z = 0.2 / sqrt(3360/999/1000) = 3.449)', () => {
+    // 1000 rows; a logged 300 times at p = 0.25 (X = 4), b 700 times at 0.75. B = 1200/1000 = 1.2;
+    // Σ(X − B)² = 300·16 − 1000·1.44 = 3360. Expected count 250, so the normal test applies.
+    const r = run([{ action: 'a', p: 0.25, count: 300 }, { action: 'b', p: 0.75, count: 700 }]);
+    const f = r.findings.find((x) => x.action === 'a')!;
+    expect(f.metrics.test).toBe('normal');
+    expect(f.metrics.z as number).toBeCloseTo(0.2 / Math.sqrt(3360 / 999 / 1000), 9);
+  });
+
+  it('one unusual segment among 50 is within chance once the tests are adjusted (Benjamini–Hochberg), though its raw p = 0.0063 < q', () => {
+    // 49 segments log a 8 times in 500 rows at p = 0.016 (B = 1); one logs it once: scipy.stats.binomtest(1, 500, 0.016) = 0.0063.
+    // 102 tests (2 overall, 2 per segment); BH-adjusted p of the pair = 0.0063 · 102 / 2 = 0.32 > q = 0.01.
+    const rows: Rows[] = Array.from({ length: 50 }, (_, i) => [{ segment: [`s${i}`], action: 'a', p: 0.016, count: i === 0 ? 1 : 8 }, { segment: [`s${i}`], action: 'b', p: 0.984, count: i === 0 ? 499 : 492 }]).flat();
+    const r = run(rows);
+    expect(r.metrics.tests).toBe(102);
+    expect(r.status).toBe('pass');
+  });
+
   it('honest counts in many small segments (expected count 2 each) hold: no test is dropped for its row count', () => {
     const segments = Array.from({ length: 200 }, (_, i) => [`s${i}`]);
     const r = run(grid(segments, ['a', 'b'], (_s, a) => (a === 'a' ? 0.05 : 0.95), (_s, a) => (a === 'a' ? 2 : 38)));
