@@ -5,6 +5,7 @@ import { EXIT, InterruptedError, isCancellation, isInputError, UsageError } from
 import type { CliIo } from './io.ts';
 import { terminalText } from './terminal-text.ts';
 import { auditSpec, runAuditCommand } from './commands/audit.ts';
+import { compareSpec, runCompare } from './commands/compare.ts';
 import { inspectSpec, runInspect } from './commands/inspect.ts';
 import { keygenSpec, runKeygen } from './commands/keygen.ts';
 import { renderSpec, runRender } from './commands/render.ts';
@@ -20,6 +21,7 @@ interface Command {
 
 const COMMANDS: Command[] = [
   { spec: auditSpec, run: runAuditCommand },
+  { spec: compareSpec, run: runCompare },
   { spec: inspectSpec, run: runInspect },
   { spec: rolesSpec, run: runRoles },
   { spec: schemaSpec, run: (_a, io) => runSchema(io) },
@@ -45,7 +47,7 @@ function topHelp(): string {
     ...COMMANDS.map((c) => `  ${c.spec.name.padEnd(width)}${c.spec.summary.split('\n')[0]}`),
     '',
     'Run counterweight <command> --help for its options.',
-    'Exit status: 0 supported, 1 supported with caveats (only with --fail-on warn), 2 not supported or verification failed, 3 usage or input error, 130 interrupted.',
+    'Exit status: 0 supported, 1 supported with caveats (only with --fail-on warn), 2 not supported, verification failed or (compare) a regression, 3 usage or input error, 130 interrupted.',
     '',
   ].join('\n');
 }

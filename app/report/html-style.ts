@@ -1,3 +1,6 @@
+/** The reports' Content-Security-Policy: no script, no fetch; inline styles and data: images only. */
+export const REPORT_CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'";
+
 /** Inline stylesheet of the HTML report (no external resources; the CSP allows inline styles only). */
 export const REPORT_CSS = `
 :root { --pass: #009E73; --warn: #E69F00; --fail: #D55E00; --skip: #7F7F7F; --ink: #1d1d1f; --muted: #5a5a5f; --rule: #d9d9de; }

@@ -8,10 +8,10 @@ import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../
 import type { ChartOption } from '../charts/types.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
 import { html, trustedSvg, type SafeHtml } from './html-template.ts';
-import { REPORT_CSS } from './html-style.ts';
+import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
 import { renderSvg } from './svg.ts';
 
-export const REPORT_CSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:; base-uri 'none'; form-action 'none'";
+export { REPORT_CSP } from './html-style.ts';
 
 const CHART_WIDTH = 960;
 const MAX_FINDINGS = 200;

@@ -12,7 +12,9 @@ import { useColour, type CliIo } from '../io.ts';
 import { ProgressLine, type RowProgress } from '../progress.ts';
 import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, openEngine, registerSources } from '../sources.ts';
 import { formatAuditSummary, painter } from '../summary.ts';
+import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
 import { loadAuditCore } from './core.ts';
+import { readReport } from './report-file.ts';
 
 export const auditSpec: CommandSpec = {
   name: 'audit',
@@ -28,6 +30,10 @@ export const auditSpec: CommandSpec = {
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
     'fail-on': { kind: 'string', value: 'warn|fail', choices: ['warn', 'fail'], help: "exit non-zero on 'fail' (default: exit 2 when not supported) or also on 'warn' (exit 1)" },
     quiet: { kind: 'boolean', help: 'no progress line and no summary' },
+    baseline: { kind: 'string', value: 'REPORT.json', help: 'also compare with this earlier report; the exit status is then the comparison\'s (0 no regression, 2 regression)' },
+    'comparison-json': { kind: 'string', value: 'FILE|-', help: 'with --baseline: write the comparison JSON' },
+    'comparison-html': { kind: 'string', value: 'FILE', help: 'with --baseline: write the HTML comparison' },
+    'fail-on-change': { ...FAIL_ON_CHANGE, help: 'with --baseline: ' + FAIL_ON_CHANGE.help },
   },
 };
 
@@ -50,6 +56,13 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const failOn = (stringFlag(flags, 'fail-on') ?? 'fail') as 'warn' | 'fail';
   const engineChoice = engineChoiceOf(flags);
   const quiet = flags.quiet === true;
+  const baselineFile = stringFlag(flags, 'baseline');
+  if (!baselineFile && (flags['comparison-json'] !== undefined || flags['comparison-html'] !== undefined || flags['fail-on-change'] !== undefined)) {
+    throw new UsageError('--comparison-json, --comparison-html and --fail-on-change need --baseline REPORT.json');
+  }
+  if (baselineFile && jsonOut === '-' && stringFlag(flags, 'comparison-json') === '-') throw new UsageError('only one of --json and --comparison-json can write to stdout');
+  // Read before the audit runs, so a bad baseline fails at once.
+  const baseline = baselineFile ? readReport(baselineFile, io.cwd) : undefined;
   const core = await loadAuditCore();
 
   let engine: Engine | undefined;
@@ -66,7 +79,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     engine = await openEngine(engineChoice);
     stopIfInterrupted();
     const source = await registerSources(engine, positionals, io.cwd);
-    guardOutputs([jsonOut, htmlOut], source.files, io.cwd);
+    guardOutputs([jsonOut, htmlOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
     progress.stage('fingerprinting input files');
     const files = await fingerprintFiles(source.files, io.cwd);
     stopIfInterrupted();
@@ -90,6 +103,13 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       summaryStream.write(formatAuditSummary(report, columns, painter(useColour(summaryStream, io.env))));
       const written = [jsonOut && jsonOut !== '-' ? `JSON report: ${jsonOut}` : '', htmlOut ? `HTML report: ${htmlOut}` : ''].filter(Boolean);
       if (written.length) summaryStream.write(`${written.join('\n')}\n`);
+    }
+    if (baseline && baselineFile) {
+      const comparisonJson = stringFlag(flags, 'comparison-json');
+      const comparisonHtml = stringFlag(flags, 'comparison-html');
+      const failOnChange = stringFlag(flags, 'fail-on-change') === 'any-change' ? 'any-change' : 'regression';
+      if (!quiet) (jsonOut === '-' || comparisonJson === '-' ? io.stderr : io.stdout).write('\n');
+      return await emitComparison(baseline, report, { baseline: baselineFile, current: positionals.join(', ') }, { json: comparisonJson, html: comparisonHtml, failOn: failOnChange, quiet, summaryOnStderr: jsonOut === '-' }, io);
     }
     return exitCodeFor(report.verdict, failOn);
   } finally {

@@ -3,6 +3,7 @@
  * files are this function's output (`npm run schemas`); test/unit/report/contract.test.ts holds them equal.
  */
 import { z } from 'zod';
+import { COMPARISON_SCHEMA_ID, ComparisonSchema } from '../compare/contract.ts';
 import { REPORT_SCHEMA_ID, ReportSchema } from './report.ts';
 
 export interface JsonSchemaHeader {
@@ -29,6 +30,13 @@ export function reportJsonSchema(): Record<string, unknown> {
   });
 }
 
+export function comparisonJsonSchema(): Record<string, unknown> {
+  return contractJsonSchema(ComparisonSchema, {
+    id: 'https://counterweight.invalid/schema/comparison-1.json',
+    title: `Counterweight comparison of two audit reports, contract ${COMPARISON_SCHEMA_ID}`,
+  });
+}
+
 /** The text of a committed schema file. */
 export function schemaText(schema: Record<string, unknown>): string {
   return `${JSON.stringify(schema, null, 2)}\n`;
@@ -37,4 +45,5 @@ export function schemaText(schema: Record<string, unknown>): string {
 /** Every committed schema file in app/core/model/ and the function that generates it. */
 export const GENERATED_SCHEMAS: readonly { readonly file: string; readonly schema: () => Record<string, unknown> }[] = [
   { file: 'report.schema.json', schema: reportJsonSchema },
+  { file: 'comparison.schema.json', schema: comparisonJsonSchema },
 ];
