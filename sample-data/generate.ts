@@ -1,6 +1,6 @@
 /**
- * Writes the Maple Row Market sample data (sample-data/README.md): the demo and clean decision logs as CSV and
- * Parquet, their manifests, and the candidate policy table v9.
+ * Writes the Maple Row Market sample data (sample-data/README.md): the demo and clean decision logs and the week
+ * after the demo (`next`) as CSV and Parquet, their manifests, and the candidate policy table v9.
  *
  *   node --import tsx sample-data/generate.ts [--rows N] [--out DIR] [--seed S] [--formats parquet,csv]
  *                                             [--clean-only | --demo-only]
@@ -161,7 +161,7 @@ export function parseCommandLine(argv: readonly string[]): GenerateOptions {
     throw new UsageError(`--formats takes a comma-separated subset of parquet,csv, got "${v.formats ?? ''}"`);
   }
   if (v['clean-only'] && v['demo-only']) throw new UsageError('--clean-only and --demo-only exclude each other');
-  const logs: LogKind[] = v['clean-only'] ? ['clean'] : v['demo-only'] ? ['demo'] : ['demo', 'clean'];
+  const logs: LogKind[] = v['clean-only'] ? ['clean'] : v['demo-only'] ? ['demo'] : ['demo', 'clean', 'next'];
   return { decisions, seed, out: v.out ?? SAMPLE_DATA_DIR, formats: [...new Set(formats)] as OutputFormat[], logs };
 }
 

@@ -5,16 +5,17 @@
  * demo and clean logs built from one seed share each decision's time, context and reward draws and
  * differ only where a defect was planted.
  */
-import { DEMO_POLICY_DEFECTS, LoggingPolicy, NO_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8 } from './policy.ts';
+import { DEMO_POLICY_DEFECTS, LoggingPolicy, NEXT_POLICY_DEFECTS, NO_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8, V8_1 } from './policy.ts';
 import { Xoshiro128 } from './prng.ts';
 import { BASKET_SIGMA, basketLogMedians, orderProbabilities, standardNormal } from './rewards.ts';
 import {
   DAY_MS, DAYS, DEVICE_WEIGHTS, DEVICES, END_MS, HOUR_MS, HOURLY_TRAFFIC, N_ACTIONS, PROMOTIONS, REGION_WEIGHTS, REGIONS,
   START_MS, TENURE_WEIGHTS, TENURES, V8_FROM_MS, WEEKDAY_TRAFFIC, dayStartMs, deviceIndex, hourBand, regionIndex,
-  segmentIndex, tenureIndex,
+  segmentIndex, tenureIndex, action as actionIndex,
 } from './scenario.ts';
 
-export type LogKind = 'demo' | 'clean';
+/** `next` is the week after the demo log, for comparing audits over time (sample-data/README.md). */
+export type LogKind = 'demo' | 'clean' | 'next';
 
 export const LOG_COLUMNS: readonly { name: string; type: string }[] = [
   { name: 'decision_id', type: 'VARCHAR' },
@@ -44,6 +45,26 @@ export const DEMO_PLAN = {
   missingRewardFromMs: END_MS - 36 * HOUR_MS,
 } as const;
 
+/** The week after the demo log: 2026-04-01 to 2026-04-08 (sample-data/README.md, "The week after"). */
+export const NEXT_DAYS = 7;
+export const NEXT_START_MS = END_MS;
+export const NEXT_END_MS = NEXT_START_MS + NEXT_DAYS * DAY_MS;
+export const NEXT_PLAN = {
+  /** Day 4 of the week: v8.1 replaces v8. */
+  v81FromMs: NEXT_START_MS + 3 * DAY_MS,
+  /** v8.1 logs half the probability with which recipe-kit was drawn. */
+  misloggedAction: actionIndex('recipe-kit'),
+  misloggedFactor: 0.5,
+  staleRegion: regionIndex('riverside'),
+  driftTenure: tenureIndex('lapsed'),
+  driftFactor: 0.5,
+  duplicateShare: 0.003,
+  // The feedback pipeline now lags 12 hours (36 in the demo log), so the missing share stays near the demo's.
+  missingRewardFromMs: NEXT_END_MS - 12 * HOUR_MS,
+  /** The week's decisions come from a different stream than the demo log's. */
+  seedOffset: 0x9e3779b9,
+} as const;
+
 /** Late writes: a row reaches the log up to this long after its decision, so logged_at is only nearly sorted. */
 const MAX_DELAY_MS = 60_000;
 const CHUNK_ROWS = 16_384;
@@ -65,6 +86,11 @@ export interface LogTally {
   duplicateRows: number;
   missingRewardRows: number;
   floorRows: number;
+  /** The week after: rows in the second greedy segment, and the mis-logged v8.1 rows with Σ 1/p over them. */
+  alsoGreedyRows: number;
+  misloggedRows: number;
+  misloggedInverseSum: number;
+  versionRows: Record<string, number>;
 }
 
 function newTally(): LogTally {
@@ -72,6 +98,7 @@ function newTally(): LogTally {
     rows: 0, decisions: 0, greedyRows: 0, rangeRows: 0, rangeNullRows: 0, rangeZeroRows: 0, staleRows: 0,
     staleInverseSums: new Array<number>(N_ACTIONS).fill(0), driftBefore: { rows: 0, ordered: 0 },
     driftAfter: { rows: 0, ordered: 0 }, driftRows: 0, duplicateRows: 0, missingRewardRows: 0, floorRows: 0,
+    alsoGreedyRows: 0, misloggedRows: 0, misloggedInverseSum: 0, versionRows: {},
   };
 }
 
@@ -98,9 +125,9 @@ class ArrivalClock {
   private readonly edges: Float64Array;
   private bucket = 0;
 
-  constructor(seed: number) {
+  constructor(seed: number, private readonly startMs: number = START_MS, days: number = DAYS) {
     const wobble = new Xoshiro128((seed ^ 0x5bd1e995) >>> 0);
-    const hours = DAYS * 24;
+    const hours = days * 24;
     this.edges = new Float64Array(hours + 1);
     for (let h = 0; h < hours; h++) {
       const weekday = Math.floor(h / 24) % 7;
@@ -115,15 +142,15 @@ class ArrivalClock {
     while (this.bucket < this.edges.length - 2 && target >= this.edges[this.bucket + 1]!) this.bucket++;
     const lo = this.edges[this.bucket]!;
     const frac = (target - lo) / (this.edges[this.bucket + 1]! - lo);
-    return START_MS + (this.bucket + frac) * HOUR_MS;
+    return this.startMs + (this.bucket + frac) * HOUR_MS;
   }
 }
 
 const pad2 = (n: number): string => (n < 10 ? `0${n}` : String(n));
 
-function timestampTexts(): { days: string[]; clock: string[] } {
+function timestampTexts(startMs: number, dayCount: number): { days: string[]; clock: string[] } {
   const days: string[] = [];
-  for (let d = 0; d <= DAYS; d++) days.push(`${new Date(START_MS + d * DAY_MS).toISOString().slice(0, 10)} `);
+  for (let d = 0; d <= dayCount; d++) days.push(`${new Date(startMs + d * DAY_MS).toISOString().slice(0, 10)} `);
   const clock: string[] = [];
   for (let s = 0; s < 86_400; s++) clock.push(`${pad2(Math.floor(s / 3600))}:${pad2(Math.floor(s / 60) % 60)}:${pad2(s % 60)}`);
   return { days, clock };
@@ -141,21 +168,27 @@ export interface LogOptions {
 export async function writeLogCsv(options: LogOptions): Promise<LogTally> {
   const { kind, decisions: n, seed, write } = options;
   const demo = kind === 'demo';
-  const defects = demo ? DEMO_POLICY_DEFECTS : NO_POLICY_DEFECTS;
-  const policies = [new LoggingPolicy(V7, defects), new LoggingPolicy(V8, defects)] as const;
+  const next = kind === 'next';
+  const defects = demo ? DEMO_POLICY_DEFECTS : next ? NEXT_POLICY_DEFECTS : NO_POLICY_DEFECTS;
+  const policies = [new LoggingPolicy(V7, defects), new LoggingPolicy(V8, defects), ...(next ? [new LoggingPolicy(V8_1, defects)] : [])];
+  const startMs = next ? NEXT_START_MS : START_MS;
+  const days = next ? NEXT_DAYS : DAYS;
+  const nextPlan = NEXT_PLAN;
+  const alsoGreedy = NEXT_POLICY_DEFECTS.alsoGreedy!;
   const orderP = orderProbabilities();
   const basketMu = basketLogMedians();
   const regionCdf = cumulative(REGION_WEIGHTS);
   const deviceCdfs = DEVICE_WEIGHTS.map(cumulative);
   const tenureCdf = cumulative(TENURE_WEIGHTS);
-  const rng = new Xoshiro128(seed);
-  const clock = new ArrivalClock(seed);
-  const texts = timestampTexts();
+  const streamSeed = next ? (seed ^ nextPlan.seedOffset) >>> 0 : seed;
+  const rng = new Xoshiro128(streamSeed);
+  const clock = new ArrivalClock(streamSeed, startMs, days);
+  const texts = timestampTexts(startMs, days);
   const idWidth = Math.max(8, String(n).length);
   const greedy = DEMO_POLICY_DEFECTS.greedy!;
   const floor = DEMO_POLICY_DEFECTS.floor!;
   const plan = DEMO_PLAN;
-  const duplicateTarget = demo ? Math.round(plan.duplicateShare * n) : 0;
+  const duplicateTarget = demo || next ? Math.round((next ? nextPlan.duplicateShare : plan.duplicateShare) * n) : 0;
   let duplicatesChosen = 0;
   const tally = newTally();
   tally.decisions = n;
@@ -177,8 +210,8 @@ export async function writeLogCsv(options: LogOptions): Promise<LogTally> {
 
     const arrival = clock.at((j + 0.5) / n);
     const delay = uDelay * uDelay * uDelay * MAX_DELAY_MS;
-    const t = Math.max(START_MS, Math.floor((arrival - delay) / 1000) * 1000);
-    const sinceStart = t - START_MS;
+    const t = Math.max(startMs, Math.floor((arrival - delay) / 1000) * 1000);
+    const sinceStart = t - startMs;
     const dayOffset = Math.floor(sinceStart / DAY_MS);
     const secondOfDay = (sinceStart - dayOffset * DAY_MS) / 1000;
     const band = hourBand(Math.floor(secondOfDay / 3600));
@@ -187,23 +220,29 @@ export async function writeLogCsv(options: LogOptions): Promise<LogTally> {
     const device = pick(deviceCdfs[region]!, uDevice);
     const tenure = pick(tenureCdf, uTenure);
     const segment = segmentIndex(region, device, tenure);
-    const version = t >= V8_FROM_MS ? 1 : 0;
-    const acting = policies[version];
+    const version = next ? (t >= nextPlan.v81FromMs ? 2 : 1) : t >= V8_FROM_MS ? 1 : 0;
+    const acting = policies[version]!;
     const cell = acting.cell(segment, band);
     const a = acting.draw(cell, Math.floor(uAction * PROBABILITY_UNITS));
 
-    const stale = demo && version === 1 && region === plan.staleRegion;
-    const logging = stale ? policies[0] : acting;
+    const stale = (demo || next) && version >= 1 && region === plan.staleRegion;
+    const logging = stale ? policies[0]! : acting;
     let propensity: number | null = logging.propensity[cell + a]!;
     let propensityText = logging.propensityText[cell + a]!;
+    const mislogged = next && version === 2 && !stale && a === nextPlan.misloggedAction;
+    if (mislogged) {
+      propensity = propensity * nextPlan.misloggedFactor;
+      propensityText = String(propensity);
+    }
     const inRange = demo && device === plan.rangeDevice && t >= plan.rangeFromMs && t < plan.rangeToMs;
     if (inRange) {
       propensity = uNull < plan.rangeNullShare ? null : 0;
       propensityText = propensity === null ? '' : '0';
     }
 
-    const missing = demo && t >= plan.missingRewardFromMs;
-    const drifted = demo && tenure === plan.driftTenure && t >= plan.driftFromMs;
+    const missing = (demo && t >= plan.missingRewardFromMs) || (next && t >= nextPlan.missingRewardFromMs);
+    // In the week after, lapsed customers keep the halved order rate all week (the change happened in the demo log).
+    const drifted = (demo && tenure === plan.driftTenure && t >= plan.driftFromMs) || (next && tenure === nextPlan.driftTenure);
     let ordered = 0;
     let orderedText = '';
     let basketText = '';
@@ -229,8 +268,16 @@ export async function writeLogCsv(options: LogOptions): Promise<LogTally> {
 
     tally.rows += copies;
     if (duplicated) tally.duplicateRows++;
-    if (!demo) continue;
+    if (!demo && !next) continue;
     if (region === greedy.region && device === greedy.device) tally.greedyRows += copies;
+    if (next) {
+      tally.versionRows[acting.version] = (tally.versionRows[acting.version] ?? 0) + copies;
+      if (region === alsoGreedy.region && device === alsoGreedy.device) tally.alsoGreedyRows += copies;
+      if (mislogged) {
+        tally.misloggedRows += copies;
+        tally.misloggedInverseSum += copies / propensity!;
+      }
+    }
     if (inRange) {
       tally.rangeRows += copies;
       if (propensity === null) tally.rangeNullRows += copies;

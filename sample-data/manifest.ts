@@ -1,7 +1,7 @@
 /** The manifest written beside each sample log: how it was made and every defect planted in it. */
 import type { LogKind, LogTally } from './log.ts';
-import { DEMO_PLAN, LOG_COLUMNS } from './log.ts';
-import { DEMO_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8 } from './policy.ts';
+import { DEMO_PLAN, LOG_COLUMNS, NEXT_DAYS, NEXT_END_MS, NEXT_PLAN, NEXT_START_MS } from './log.ts';
+import { DEMO_POLICY_DEFECTS, NEXT_POLICY_DEFECTS, PROBABILITY_UNITS, V7, V8, V8_1 } from './policy.ts';
 import { DAYS, DEVICES, END_MS, PROMOTIONS, REGIONS, START_MS, TENURES, V8_FROM_MS } from './scenario.ts';
 
 export interface PlantedDefect {
@@ -27,6 +27,25 @@ export interface SampleManifest {
   policy_versions: { version: string; from: string; to: string; softmax_scale: number; epsilon: number }[];
   policy_switch_at: string;
   defects: PlantedDefect[];
+  /** The week after only: what changed since the demo log, as an audit comparison should report it. */
+  changes_since?: ChangesSince;
+}
+
+/** Where a comparison with the baseline should see one planted change (or a direct consequence of one). */
+export interface PlantedChange {
+  /** A check-level change of one of these checks is this change. */
+  checks: string[];
+  /** A finding or segment change is this change when its check is listed here, its segment contains these values and its action (if given) is this one. */
+  where: { checks: string[]; segment: Record<string, string>; action?: string }[];
+  description: string;
+}
+
+export interface ChangesSince {
+  baseline_log: string;
+  /** Each must be reported as a regression; every regression must be one of these. */
+  worse: PlantedChange[];
+  /** Each must be reported as resolved or better. */
+  better: PlantedChange[];
 }
 
 const iso = (ms: number): string => new Date(ms).toISOString();
@@ -34,6 +53,7 @@ const iso = (ms: number): string => new Date(ms).toISOString();
 const round6 = (x: number): number => Number(x.toPrecision(6));
 
 export function buildManifest(kind: LogKind, seed: number, tally: LogTally): SampleManifest {
+  if (kind === 'next') return nextManifest(seed, tally);
   return {
     schema: 'counterweight.sample-manifest/1',
     scenario: 'Maple Row Market',
@@ -138,4 +158,115 @@ function demoDefects(t: LogTally): PlantedDefect[] {
         + '(rows of android on days 9-10 carry NULL/0 instead).',
     },
   ];
+}
+
+/** The week after the demo log (sample-data/README.md, "The week after"). */
+function nextManifest(seed: number, t: LogTally): SampleManifest {
+  const share = (rows: number): number => round6(rows / t.rows);
+  const greedy = DEMO_POLICY_DEFECTS.greedy!;
+  const also = NEXT_POLICY_DEFECTS.alsoGreedy!;
+  const floor = DEMO_POLICY_DEFECTS.floor!;
+  const p = NEXT_PLAN;
+  const recipe = PROMOTIONS[p.misloggedAction]!;
+  const week = { from: iso(NEXT_START_MS), to: iso(NEXT_END_MS) };
+  const v81 = { from: iso(p.v81FromMs), to: iso(NEXT_END_MS) };
+  return {
+    schema: 'counterweight.sample-manifest/1',
+    scenario: 'Maple Row Market',
+    log: 'next',
+    generator: {
+      seed, decisions: t.decisions, rows: t.rows,
+      prng: 'xoshiro128** 1.1 seeded through mulberry32 (seed xor 0x9e3779b9)', probability_units: PROBABILITY_UNITS,
+    },
+    columns: LOG_COLUMNS.map((c) => ({ ...c })),
+    time: {
+      start: iso(NEXT_START_MS), end: iso(NEXT_END_MS), days: NEXT_DAYS,
+      day_numbering: 'day d (1-based) covers [start + (d-1)*24h, start + d*24h); windows are half-open [from, to)',
+    },
+    policy_versions: [
+      { version: V8.version, from: iso(NEXT_START_MS), to: iso(p.v81FromMs), softmax_scale: V8.scale, epsilon: V8.epsilon },
+      { version: V8_1.version, from: iso(p.v81FromMs), to: iso(NEXT_END_MS), softmax_scale: V8_1.scale, epsilon: V8_1.epsilon },
+    ],
+    policy_switch_at: iso(p.v81FromMs),
+    defects: [
+      {
+        kind: 'propensity.exploration', also_detected_by: ['support.target', 'balance.weights'],
+        segment: { region: REGIONS[also.region]!, device: DEVICES[also.device]! }, action: PROMOTIONS[also.action]!,
+        magnitude: { propensity: 1, share_of_rows: share(t.alsoGreedyRows) }, rows_affected: t.alsoGreedyRows,
+        description: 'New this week: the policy is greedy in east-ridge on ios for the whole week (every tenure and hour), always produce-box with propensity 1.',
+      },
+      {
+        kind: 'balance.weights', also_detected_by: ['drift.policy'],
+        segment: {}, action: recipe, window: v81,
+        magnitude: { factor: p.misloggedFactor, share_of_rows: share(t.misloggedRows), mean_inverse_propensity: round6(t.misloggedInverseSum / Math.max(1, t.misloggedRows)) },
+        rows_affected: t.misloggedRows,
+        description: `New this week: from day 4 policy v8.1 (v8's probabilities, unchanged) logs half the probability with which ${recipe} was drawn, everywhere but riverside (whose rows still log v7's propensity).`,
+      },
+      {
+        kind: 'propensity.exploration', also_detected_by: ['support.target'],
+        segment: { region: REGIONS[greedy.region]!, device: DEVICES[greedy.device]! }, action: PROMOTIONS[greedy.action]!,
+        magnitude: { propensity: 1, share_of_rows: share(t.greedyRows) }, rows_affected: t.greedyRows,
+        description: 'As in the demo log: greedy in old-town on web, always free-delivery with propensity 1.',
+      },
+      {
+        kind: 'balance.weights', also_detected_by: ['drift.policy'],
+        segment: { region: REGIONS[p.staleRegion]! }, window: week,
+        magnitude: { share_of_rows: share(t.staleRows) }, rows_affected: t.staleRows,
+        description: 'As in the demo log: riverside rows log v7\'s propensity while v8 (then v8.1) draws the action.',
+      },
+      {
+        kind: 'identity.duplicates', also_detected_by: [], segment: {},
+        magnitude: { duplicated_ids: t.duplicateRows, extra_rows: t.duplicateRows, share_of_rows: share(t.duplicateRows) },
+        rows_affected: t.duplicateRows, description: 'As in the demo log: 0.3% of decisions written twice.',
+      },
+      {
+        kind: 'reward.validity', also_detected_by: ['drift.reward'], segment: {},
+        window: { from: iso(p.missingRewardFromMs), to: iso(NEXT_END_MS) },
+        magnitude: { hours: 12, share_of_rows: share(t.missingRewardRows) }, rows_affected: t.missingRewardRows,
+        description: 'As in the demo log, the latest feedback has not arrived; the lag is 12 hours this week (36 in the demo log).',
+      },
+      {
+        kind: 'support.floor', also_detected_by: ['weights.tail'],
+        segment: { tenure: TENURES[floor.tenure]! }, action: PROMOTIONS[floor.action]!,
+        magnitude: { propensity: floor.probability, floor: 0.01, share_of_rows: share(t.floorRows) }, rows_affected: t.floorRows,
+        description: 'As in the demo log: household gets exactly 0.002 among new customers.',
+      },
+    ],
+    changes_since: {
+      baseline_log: 'maple-row-demo',
+      worse: [
+        {
+          checks: ['propensity.exploration', 'support.target'],
+          where: [
+            { checks: ['propensity.exploration', 'balance.weights', 'support.target', 'weights.ess', 'segments'], segment: { region: REGIONS[also.region]!, device: DEVICES[also.device]! } },
+            { checks: ['support.target'], segment: { region: REGIONS[greedy.region]!, device: DEVICES[greedy.device]! } },
+          ],
+          description: 'Exploration lapsed in east-ridge on ios: a new failing exploration finding, its segments no longer ready, the '
+            + 'promotions never shown there fail the balance test, and the v9 target\'s unsupported mass now passes the fail '
+            + 'threshold, which turns the support check and its old-town/web findings from warn to fail.',
+        },
+        {
+          checks: [],
+          where: [{ checks: ['balance.weights'], segment: {}, action: recipe }],
+          description: `Policy v8.1 mis-logs the propensity of ${recipe}: new failing balance findings for ${recipe} (by action, time, version and segment).`,
+        },
+        {
+          checks: [],
+          where: [{ checks: ['balance.weights'], segment: { region: REGIONS[p.staleRegion]! } }],
+          description: 'A consequence of a persisting defect: riverside\'s stale v7 propensities now cover the whole log instead of '
+            + 'its second half, so balance tests by segment within riverside fail too (in the demo log only the test by policy version did).',
+        },
+      ],
+      better: [
+        {
+          checks: ['propensity.range'], where: [{ checks: ['propensity.range'], segment: { device: 'android' } }],
+          description: 'Fixed: android propensities are logged again (the demo log lost them on days 9-10).',
+        },
+        {
+          checks: [], where: [{ checks: ['drift.reward'], segment: { tenure: 'lapsed' } }],
+          description: 'Not a fix: lapsed customers order at the halved rate all week, so there is no drift within this week to report; the level change happened in the demo log.',
+        },
+      ],
+    },
+  };
 }

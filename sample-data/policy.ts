@@ -109,6 +109,8 @@ export function quantize(shares: readonly number[], total: number): number[] {
 export interface PolicyDefects {
   /** In (region, device) the policy is greedy: this promotion with probability 1. */
   readonly greedy: { readonly region: number; readonly device: number; readonly action: number } | null;
+  /** A second greedy (region, device), for the week after the demo log (exploration lapsed there too). */
+  readonly alsoGreedy?: { readonly region: number; readonly device: number; readonly action: number } | null;
   /** Among this tenure the policy gives this promotion exactly `probability` and rescales the rest. */
   readonly floor: { readonly tenure: number; readonly action: number; readonly probability: number } | null;
 }
@@ -118,6 +120,14 @@ export const DEMO_POLICY_DEFECTS: PolicyDefects = {
   greedy: { region: regionIndex('old-town'), device: deviceIndex('web'), action: action('free-delivery') },
   floor: { tenure: tenureIndex('new'), action: action('household'), probability: 0.002 },
 };
+/** The week after the demo log: the demo's policy defects persist, and exploration lapses in east-ridge on ios. */
+export const NEXT_POLICY_DEFECTS: PolicyDefects = {
+  ...DEMO_POLICY_DEFECTS,
+  alsoGreedy: { region: regionIndex('east-ridge'), device: deviceIndex('ios'), action: action('produce-box') },
+};
+
+/** v8.1: v8's policy unchanged, released in the week after the demo log with a logging bug for one promotion. */
+export const V8_1: PolicyCoefficients = { ...V8, version: 'v8.1' };
 
 /**
  * A logging policy as served: for each (segment, hour band), integer counts per action out of
@@ -172,8 +182,8 @@ export class LoggingPolicy {
 
 function servedCounts(c: PolicyCoefficients, defects: PolicyDefects, segment: number, band: number): number[] {
   const { region, device, tenure } = segmentParts(segment);
-  const g = defects.greedy;
-  if (g && g.region === region && g.device === device) return Array.from({ length: N_ACTIONS }, (_, a) => (a === g.action ? PROBABILITY_UNITS : 0));
+  const g = [defects.greedy, defects.alsoGreedy].find((x) => x && x.region === region && x.device === device);
+  if (g) return Array.from({ length: N_ACTIONS }, (_, a) => (a === g.action ? PROBABILITY_UNITS : 0));
   const p = policyProbabilities(c, segment, band);
   const f = defects.floor;
   if (f && f.tenure === tenure) {

@@ -6,6 +6,7 @@ import type { CliIo } from './io.ts';
 import { terminalText } from './terminal-text.ts';
 import { auditSpec, runAuditCommand } from './commands/audit.ts';
 import { compareSpec, runCompare } from './commands/compare.ts';
+import { historySpec, runHistory } from './commands/history.ts';
 import { inspectSpec, runInspect } from './commands/inspect.ts';
 import { keygenSpec, runKeygen } from './commands/keygen.ts';
 import { renderSpec, runRender } from './commands/render.ts';
@@ -22,9 +23,10 @@ interface Command {
 const COMMANDS: Command[] = [
   { spec: auditSpec, run: runAuditCommand },
   { spec: compareSpec, run: runCompare },
+  { spec: historySpec, run: runHistory },
   { spec: inspectSpec, run: runInspect },
   { spec: rolesSpec, run: runRoles },
-  { spec: schemaSpec, run: (_a, io) => runSchema(io) },
+  { spec: schemaSpec, run: (a, io) => runSchema(io, a) },
   { spec: signSpec, run: runSign },
   { spec: verifySpec, run: runVerify },
   { spec: keygenSpec, run: runKeygen },

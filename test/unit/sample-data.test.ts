@@ -67,9 +67,9 @@ async function balance(from: string, where: string, groupBy = ''): Promise<Row[]
 
 beforeAll(async () => {
   regenerated = await mkdtemp(join(tmpdir(), 'cw-sample-'));
-  await generateSampleData({ decisions: DEFAULT_DECISIONS, out: regenerated, seed: DEFAULT_SEED, formats: ['csv', 'parquet'], logs: ['demo', 'clean'] });
+  await generateSampleData({ decisions: DEFAULT_DECISIONS, out: regenerated, seed: DEFAULT_SEED, formats: ['csv', 'parquet'], logs: ['demo', 'clean', 'next'] });
   duck = await openOfflineDuckDB();
-  for (const kind of ['demo', 'clean'] as const) {
+  for (const kind of ['demo', 'clean', 'next'] as const) {
     manifests[kind] = JSON.parse(await readFile(join(SAMPLE_DATA_DIR, logFileName(kind, 'manifest.json')), 'utf8')) as SampleManifest;
   }
 });
@@ -81,7 +81,7 @@ afterAll(async () => {
 
 describe('sample data is deterministic', () => {
   it.each([
-    ['demo', 'parquet'], ['demo', 'csv'], ['clean', 'parquet'], ['clean', 'csv'],
+    ['demo', 'parquet'], ['demo', 'csv'], ['clean', 'parquet'], ['clean', 'csv'], ['next', 'parquet'], ['next', 'csv'],
   ] as const)('regenerating the %s log (%s) with the default seed reproduces the committed content', async (kind, format) => {
     const fresh = await contentDigest(source(regenerated, kind, format));
     const kept = await contentDigest(source(SAMPLE_DATA_DIR, kind, format));
@@ -89,19 +89,50 @@ describe('sample data is deterministic', () => {
     expect(fresh).toEqual(kept);
   });
 
-  it.each(['demo', 'clean'] as const)('the committed %s CSV and Parquet hold the same values', async (kind) => {
+  it.each(['demo', 'clean', 'next'] as const)('the committed %s CSV and Parquet hold the same values', async (kind) => {
     expect(await contentDigest(source(SAMPLE_DATA_DIR, kind, 'csv'))).toEqual(await contentDigest(source(SAMPLE_DATA_DIR, kind, 'parquet')));
   });
 
-  it.each([logFileName('demo', 'manifest.json'), logFileName('clean', 'manifest.json'), TARGET_POLICY_FILE])(
+  it.each([logFileName('demo', 'manifest.json'), logFileName('clean', 'manifest.json'), logFileName('next', 'manifest.json'), TARGET_POLICY_FILE])(
     'regenerating reproduces %s byte for byte', async (name) => {
       expect(await readFile(join(regenerated, name), 'utf8')).toBe(await readFile(join(SAMPLE_DATA_DIR, name), 'utf8'));
     },
   );
 
-  it.each(['demo', 'clean'] as const)('the %s Parquet file has the manifest column names and types', async (kind) => {
+  it.each(['demo', 'clean', 'next'] as const)('the %s Parquet file has the manifest column names and types', async (kind) => {
     const described = await rows(`DESCRIBE SELECT * FROM ${committed(kind)}`);
     expect(described.map((r) => ({ name: r.column_name, type: r.column_type }))).toEqual(manifests[kind]!.columns);
+  });
+});
+
+describe('the week after the demo log matches its manifest', () => {
+  const next = (): string => committed('next');
+  const planted = (kind: string, region?: string): PlantedDefect => {
+    const found = manifests.next!.defects.find((d) => d.kind === kind && (region === undefined || d.segment.region === region));
+    if (!found) throw new Error(`next manifest has no ${kind} defect`);
+    return found;
+  };
+
+  it('covers the seven days after the demo log and switches to v8.1 on day 4', async () => {
+    const r = await one(`SELECT strftime(min(logged_at), '%Y-%m-%d') AS lo, strftime(max(logged_at), '%Y-%m-%d') AS hi, strftime(min(logged_at) FILTER (WHERE policy_version = 'v8.1'), '%Y-%m-%d') AS v81 FROM ${next()}`);
+    expect(String(r.lo)).toMatch(/^2026-04-01/);
+    expect(String(r.hi)).toMatch(/^2026-04-07/);
+    expect(String(r.v81)).toMatch(/^2026-04-04/);
+  });
+
+  it('is greedy in east-ridge on ios, as planted', async () => {
+    const d = planted('propensity.exploration', 'east-ridge');
+    const r = await one(`SELECT count(*) FILTER (WHERE promotion = 'produce-box' AND propensity = 1) AS greedy, count(*) AS n FROM ${next()} WHERE region = 'east-ridge' AND device = 'ios'`);
+    expect(num(r.greedy)).toBe(d.rows_affected);
+    expect(num(r.n)).toBe(d.rows_affected);
+  });
+
+  it('v8.1 logs half the probability of recipe-kit: B is near 2 for it and near 1 for the others (Horvitz-Thompson)', async () => {
+    const b = await balance(next(), "policy_version = 'v8.1' AND region <> 'riverside' AND NOT (region = 'old-town' AND device = 'web') AND NOT (region = 'east-ridge' AND device = 'ios')");
+    for (const row of b) {
+      const expected = row.a === 'recipe-kit' ? 2 : 1;
+      expect(Math.abs(num(row.b) - expected), String(row.a)).toBeLessThan(4 * num(row.se) + 1e-9);
+    }
   });
 });
 
@@ -310,9 +341,9 @@ describe('generator options', () => {
     expect(() => parseCommandLine(argv)).toThrow(message);
   });
 
-  it('defaults to both logs, both formats and the committed folder', () => {
+  it('defaults to every log, both formats and the committed folder', () => {
     expect(parseCommandLine([])).toEqual({
-      decisions: DEFAULT_DECISIONS, seed: DEFAULT_SEED, out: SAMPLE_DATA_DIR, formats: ['parquet', 'csv'], logs: ['demo', 'clean'],
+      decisions: DEFAULT_DECISIONS, seed: DEFAULT_SEED, out: SAMPLE_DATA_DIR, formats: ['parquet', 'csv'], logs: ['demo', 'clean', 'next'],
     });
   });
 

@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { COMPARISON_SCHEMA_ID, ComparisonSchema } from '../compare/contract.ts';
+import { HISTORY_SCHEMA_ID, HistorySchema } from '../compare/history.ts';
 import { REPORT_SCHEMA_ID, ReportSchema } from './report.ts';
 
 export interface JsonSchemaHeader {
@@ -37,6 +38,13 @@ export function comparisonJsonSchema(): Record<string, unknown> {
   });
 }
 
+export function historyJsonSchema(): Record<string, unknown> {
+  return contractJsonSchema(HistorySchema, {
+    id: 'https://counterweight.invalid/schema/history-1.json',
+    title: `Counterweight history of a folder of audit reports, contract ${HISTORY_SCHEMA_ID}`,
+  });
+}
+
 /** The text of a committed schema file. */
 export function schemaText(schema: Record<string, unknown>): string {
   return `${JSON.stringify(schema, null, 2)}\n`;
@@ -46,4 +54,5 @@ export function schemaText(schema: Record<string, unknown>): string {
 export const GENERATED_SCHEMAS: readonly { readonly file: string; readonly schema: () => Record<string, unknown> }[] = [
   { file: 'report.schema.json', schema: reportJsonSchema },
   { file: 'comparison.schema.json', schema: comparisonJsonSchema },
+  { file: 'history.schema.json', schema: historyJsonSchema },
 ];
