@@ -15,6 +15,8 @@ import { DriftPanel } from './panels/DriftPanel.tsx';
 import { EstimatesPanel } from './panels/EstimatesPanel.tsx';
 import { SignoffPanel } from './panels/SignoffPanel.tsx';
 import { TargetEditor } from './screens/TargetEditor.tsx';
+import { CompareScreen } from './screens/CompareScreen.tsx';
+import type { Baseline } from './state/comparison.ts';
 import { draftFromSuggestions } from './state/from-suggestions.ts';
 import { EMPTY_DRAFT, type AuditDraft } from './state/draft.ts';
 import { forgetRecent, loadRecent, rememberAudit, type RecentAudit } from './state/recent.ts';
@@ -26,6 +28,7 @@ export function App() {
   const [draft, setDraft] = useState<AuditDraft>(EMPTY_DRAFT);
   const [report, setReport] = useState<Report | null>(null);
   const [recent, setRecent] = useState<RecentAudit[]>(() => loadRecent());
+  const [baseline, setBaseline] = useState<Baseline | null>(null);
   const source = sourceOf(status);
 
   useEffect(() => {
@@ -65,7 +68,7 @@ export function App() {
     }
     if (!report) return null;
     switch (view.screen) {
-      case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} />;
+      case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} onCompare={() => setView({ screen: 'compare' })} />;
       case 'check': {
         const check = report.checks.find((c) => c.id === view.id);
         return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} /> : null;
@@ -83,6 +86,7 @@ export function App() {
           />
         );
       case 'signoff': return <SignoffPanel report={report} onSigned={setReport} />;
+      case 'compare': return <CompareScreen report={report} baseline={baseline} recent={recent} onBaseline={setBaseline} onOpenCheck={openCheck} />;
     }
   })();
 

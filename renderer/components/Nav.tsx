@@ -2,7 +2,7 @@ import type { CheckId, CheckResult } from '../../app/core/model/report.ts';
 import { STATUS_STYLE } from '../palette.ts';
 
 export type View =
-  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' }
+  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' | 'compare' }
   | { readonly screen: 'check'; readonly id: CheckId };
 
 interface Props {
@@ -29,6 +29,7 @@ const RESULTS = [
   { screen: 'estimates', label: 'Estimates' },
   { screen: 'edit', label: 'Edit a target' },
   { screen: 'signoff', label: 'Sign-off' },
+  { screen: 'compare', label: 'Compare' },
 ] as const;
 
 export function Nav({ view, onGo, hasSource, hasReport, running, checks }: Props) {

@@ -18,7 +18,7 @@ function withoutTitle(message: string, title: string): string {
   return message.startsWith(`${title}: `) ? message.slice(title.length + 2) : message;
 }
 
-export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
+export function OverviewScreen({ report, onOpenCheck, onCompare }: { report: Report; onOpenCheck: (id: CheckId) => void; onCompare?: () => void }) {
   const counts = { fail: 0, error: 0, warn: 0, pass: 0, skipped: 0 };
   for (const c of report.checks) counts[c.status]++;
   return (
@@ -32,6 +32,7 @@ export function OverviewScreen({ report, onOpenCheck }: { report: Report; onOpen
           {' '}{counts.fail} failed, {counts.error ? `${counts.error} could not run, ` : ''}{counts.warn} warnings, {counts.pass} passed, {counts.skipped} skipped ·
           {' '}engine {report.run.engine}, {report.run.seconds.toFixed(1)} s
         </p>
+        {onCompare && <button type="button" className="button small" onClick={onCompare}>Compare with…</button>}
         {report.reasons.length > 0 && (
           <>
             <h2>What decides it</h2>
