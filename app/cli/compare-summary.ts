@@ -1,12 +1,10 @@
 /** The terminal summary of a comparison: what makes the two incomparable first, then what got worse, then the rest. */
 import type { Comparison } from '../core/compare/contract.ts';
 import type { Paint } from './summary.ts';
+import { terminalText } from './terminal-text.ts';
 
-/** Values from a log reach the terminal without control characters (no escape sequences from a log). */
-export function plain(text: string): string {
-  // eslint-disable-next-line no-control-regex
-  return text.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\x${c.charCodeAt(0).toString(16).padStart(2, '0')}`);
-}
+/** Values from a log or a report reach the terminal through the one escaping helper. */
+export const plain = (text: string): string => terminalText(text);
 
 const VERDICT_WORDS: Record<string, string> = { supported: 'SUPPORTED', 'supported-with-caveats': 'SUPPORTED WITH CAVEATS', 'not-supported': 'NOT SUPPORTED' };
 
