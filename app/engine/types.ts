@@ -27,7 +27,7 @@ export interface QueryOptions {
 }
 
 export interface Engine {
-  readonly kind: 'native' | 'wasm-node' | 'wasm-browser' | 'host';
+  readonly kind: 'native' | 'wasm-node' | 'wasm-browser' | 'host' | 'clickhouse';
   register(source: SourceSpec): Promise<RegisteredSource>;
   query(sql: string, options?: QueryOptions): Promise<Table>;
   /** Interrupts the running query, if any; the pending query rejects with EngineError code 'cancelled'. */
@@ -37,8 +37,11 @@ export interface Engine {
   close(): Promise<void>;
 }
 
-/** 'too-large': a result past the row or byte cap of one answer. */
-export const ENGINE_ERROR_CODES = ['cancelled', 'sql', 'io', 'unsupported-format', 'extension-unavailable', 'out-of-memory', 'too-large', 'closed', 'internal'] as const;
+/**
+ * 'too-large': a result past the row or byte cap of one answer. 'unreachable', 'auth', 'timeout': a database
+ * server that cannot be reached, refuses the credentials, or does not answer in time.
+ */
+export const ENGINE_ERROR_CODES = ['cancelled', 'sql', 'io', 'unsupported-format', 'extension-unavailable', 'out-of-memory', 'too-large', 'closed', 'internal', 'unreachable', 'auth', 'timeout'] as const;
 export type EngineErrorCode = (typeof ENGINE_ERROR_CODES)[number];
 
 export class EngineError extends Error {
