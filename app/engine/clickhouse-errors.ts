@@ -58,6 +58,8 @@ export function serverError(body: string, context: { server: string; user: strin
 export function networkError(error: unknown, server: string): EngineError {
   const cause = (error as { cause?: { code?: string; message?: string } }).cause;
   const code = cause?.code ?? (error as { code?: string }).code;
+  // Node's fetch waits at most 300 s for the response head; ClickHouse sends it with the first rows
+  if (code === 'UND_ERR_HEADERS_TIMEOUT') return new EngineError('timeout', `ClickHouse at ${server} sent no answer within 300 s (the longest this client waits for the first rows).`);
   const why = code === 'ECONNREFUSED' ? 'the connection was refused (is the server running, and is that its HTTP port?)'
     : code === 'ENOTFOUND' || code === 'EAI_AGAIN' ? 'no such host'
     : code === 'ECONNRESET' || code === 'UND_ERR_SOCKET' ? 'the server closed the connection'

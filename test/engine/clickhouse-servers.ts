@@ -25,7 +25,7 @@ export interface LocalServer {
 export interface LocalShards {
   readonly servers: readonly LocalServer[];
   /** SQL run as the default user (no password) on one server: the harness's own loader, not the adapter. */
-  admin(server: number, sql: string, body?: string): Promise<string>;
+  admin(server: number, sql: string, body?: string | Uint8Array): Promise<string>;
   stop(): Promise<void>;
 }
 
@@ -194,7 +194,7 @@ export async function startLocalShards(count = 2, timeoutMs = 90_000): Promise<L
       const s = servers[server];
       if (!s) throw new Error(`no server ${server}`);
       const url = body === undefined ? `${s.url}/` : `${s.url}/?query=${encodeURIComponent(sql)}`;
-      const r = await fetch(url, { method: 'POST', body: body ?? sql, signal: AbortSignal.timeout(120_000) });
+      const r = await fetch(url, { method: 'POST', body: (body ?? sql) as BodyInit, signal: AbortSignal.timeout(120_000) });
       const text = await r.text();
       if (!r.ok) throw new Error(`ClickHouse ${s.httpPort}: ${text.trim()}\n(statement: ${sql.slice(0, 200)})`);
       return text;

@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { credentialsFromEnv, parseTableAddress } from '../../../app/engine/clickhouse-address.ts';
 import { exceptionText, serverError } from '../../../app/engine/clickhouse-errors.ts';
 import { columnType, tsvReader, unescapeTsv } from '../../../app/engine/clickhouse-tsv.ts';
-import { ident, literal } from '../../../app/core/sql/quote-clickhouse.ts';
+import { double, ident, literal } from '../../../app/core/sql/quote-clickhouse.ts';
 
 describe('clickhouse:// addresses', () => {
   it.each([
@@ -34,6 +34,11 @@ describe('credentials', () => {
 
 describe('ClickHouse quoting', () => {
   it.each([['a', '`a`'], ['we`ird', '`we\\`ird`'], ['back\\slash', '`back\\\\slash`']])('ident %s', (n, q) => expect(ident(n)).toBe(q));
+  it('double refuses what 18.16 cannot parse', () => {
+    expect(double(0.01)).toBe('toFloat64(0.01)');
+    expect(double(0)).toBe('toFloat64(0)');
+    expect(() => double(5e-324)).toThrow(/outside the normal range/);
+  });
   it.each([["it's", "'it\\'s'"], ['a\\b', "'a\\\\b'"], ['nul\0', "'nul\\0'"]])('literal %s', (v, q) => expect(literal(v)).toBe(q));
 });
 

@@ -1,0 +1,26 @@
+/** The DuckDB dialect: today's spellings of the scan builders (app/core/sql/quote.ts quotes). */
+import type { Dialect } from './dialect.ts';
+import { double, ident, integer, literal } from './quote.ts';
+
+const NULL_MARK = literal('\u0001null');
+
+export const duckdb: Dialect = {
+  name: 'duckdb',
+  ident,
+  literal,
+  double,
+  integer,
+  toDouble: (x) => `CAST(${x} AS DOUBLE)`,
+  tryDouble: (x) => `TRY_CAST(${x} AS DOUBLE)`,
+  toText: (x) => `CAST(${x} AS VARCHAR)`,
+  isNaN: (x) => `isnan(${x})`,
+  isFinite: (x) => `isfinite(${x})`,
+  countIf: (cond) => `count(*) FILTER (WHERE ${cond})::DOUBLE`,
+  sumIf: (x, cond) => `coalesce(sum(${x}) FILTER (WHERE ${cond}), 0)::DOUBLE`,
+  minIf: (x, cond) => `min(${x}) FILTER (WHERE ${cond})`,
+  maxIf: (x, cond) => `max(${x}) FILTER (WHERE ${cond})`,
+  epochUs: (x) => `epoch_us(CAST(${x} AS TIMESTAMP))`,
+  // hash() is a UBIGINT; the HUGEINT sum is exact, and reduced modulo 2^64 it is the same in any row order
+  rowHashSum: (values) => `(sum(hash(${values.map((v) => `coalesce(CAST(${v} AS VARCHAR), ${NULL_MARK})`).join(', ')})::HUGEINT) % 18446744073709551616)::UBIGINT`,
+  fingerprintHash: 'duckdb hash() of the values as text, summed modulo 2^64',
+};
