@@ -10,7 +10,8 @@ import { tailSummary } from './checks/weights-tail.ts';
 import { estimatesFor } from './checks/estimate-preview.ts';
 import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
-import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
+import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
+import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
 import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
@@ -20,7 +21,7 @@ import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './
 import { ident } from './sql/quote.ts';
 import type { Cell, RunQuery, Table } from './table.ts';
 import { analyseTarget, cubeView, type CubeView, type TargetAnalysis } from './targets/analysis.ts';
-import { resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
+import { checkTargetActions, resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
 import { psisTailLength } from './stats/psis.ts';
 import { verdictOf, readiness } from './verdict.ts';
 import { TOOL_VERSION } from './version.ts';
@@ -74,10 +75,26 @@ export interface AuditResult {
 }
 
 
-/** Suggested roles with reasons, from one profile scan. */
+/** Suggested roles with reasons: the profile, then the weight-balance evidence over the log's first rows. */
 export async function suggestRoles(run: RunQuery, relation: string): Promise<RoleSuggestion[]> {
-  return suggestFromProfile(await profileLog(run, relation));
+  return (await inspectRoles(run, relation)).suggestions;
 }
+
+export interface RoleInspection {
+  readonly profile: Profile;
+  readonly evidence: RoleEvidence;
+  readonly suggestions: RoleSuggestion[];
+}
+
+/** What opening a log needs to propose roles: its profile, the role evidence, and the suggestions from both. */
+export async function inspectRoles(run: RunQuery, relation: string): Promise<RoleInspection> {
+  const profile = await profileLog(run, relation);
+  const evidence = await gatherRoleEvidence(run, relation, profile);
+  return { profile, evidence, suggestions: suggestFromProfile(profile, evidence) };
+}
+
+/** The evidence is read only when the action is not mapped by hand (it decides the action suggestion). */
+const needsEvidence = (roles: RoleOverrides | undefined) => !roles?.action;
 
 /** JSON carries no bigint, NaN or Infinity: example values are made JSON-safe here, once. */
 export function jsonCell(v: Cell): Cell {
@@ -113,8 +130,9 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const profile = await profileLog(run, relation, record);
   if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
   progress('profile', true);
-  const roles = resolveRoles(profile, request.roles);
-  const roleProblems = validateRoles(profile, roles);
+  const evidence = needsEvidence(request.roles) ? await gatherRoleEvidence(run, relation, profile, record) : undefined;
+  const roles = resolveRoles(profile, request.roles, evidence);
+  const roleProblems = validateRoles(profile, roles, evidence);
   const logColumns = profile.columns.map((c) => c.name);
   const explicit: TargetPolicy[] = (request.targets ?? []).map((t) => parseTarget(t, { actionColumn: roles.action ?? 'action', logColumns, targetColumn: roles.target_propensity }));
   const usable = roleProblems.every((p) => p.severity !== 'fail' || (p.role !== 'action' && p.role !== 'propensity' && p.role !== 'reward')) && !!roles.action && !!roles.propensity && !!roles.reward;
@@ -154,6 +172,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     progress('cube', true);
   }
   const view = cubeView(cells, segmentColumns);
+  if (rowsExpr) checkTargetActions(explicit, view.actions);
   guard();
   progress('tails');
   if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));

@@ -1,8 +1,6 @@
-import { runAuditDetailed, type AuditRequest } from '../../app/core/audit.ts';
+import { inspectRoles, runAuditDetailed, type AuditRequest } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
-import { suggestRoles } from '../../app/core/roles/roles.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
-import { profileLog } from '../../app/core/scan/profile.ts';
 import type { RunQuery } from '../../app/core/table.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import { cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
@@ -88,7 +86,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       const digests = describe(input.files);
       digests.catch(() => undefined);
       const registered = await engine.register({ kind: 'file', files: [...input.files], format: choice.format, ...csv });
-      const profile = await profileLog(run, registered.relation);
+      const { profile, evidence, suggestions } = await inspectRoles(run, registered.relation);
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
@@ -96,7 +94,8 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
         format: registered.format,
         files: await digests,
         profile,
-        suggestions: suggestRoles(profile),
+        evidence,
+        suggestions,
       };
     },
 

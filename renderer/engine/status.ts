@@ -1,6 +1,6 @@
 import type { Report, InputFile } from '../../app/core/model/report.ts';
 import type { SourceFormat } from '../../app/engine/types.ts';
-import type { RoleSuggestion } from '../../app/core/roles/roles.ts';
+import type { RoleEvidence, RoleSuggestion } from '../../app/core/roles/roles.ts';
 import type { Profile } from '../../app/core/scan/profile.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import type { TargetInput } from '../../app/core/targets/targets.ts';
@@ -19,6 +19,8 @@ export interface OpenedSource {
   readonly files: readonly InputFile[];
   /** The core's profile (scan/profile.ts profileLog): rows, types, distinct values per column (exact, or over the first rows where labelled). */
   readonly profile: Profile;
+  /** Weight-balance evidence per candidate action column (app/core/roles/evidence.ts); absent for a source opened without it. */
+  readonly evidence?: RoleEvidence;
   readonly suggestions: readonly RoleSuggestion[];
 }
 

@@ -2,7 +2,7 @@ import { distinctText } from '../../app/core/roles/roles.ts';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import type { OpenedSource } from '../engine/status.ts';
 import { reasonFor } from '../state/from-suggestions.ts';
-import { REQUIRED_ROLES, ROLE_LABELS, roleProblems, SINGLE_ROLES, type AuditDraft, type SingleRole } from '../state/draft.ts';
+import { REQUIRED_ROLES, ROLE_LABELS, roleProblems, SINGLE_ROLES, weakSuggestionProblems, type AuditDraft, type SingleRole } from '../state/draft.ts';
 
 interface Props {
   readonly source: OpenedSource;
@@ -14,7 +14,7 @@ interface Props {
 const RARE_ROLES: readonly SingleRole[] = ['target_propensity', 'propensity_vector', 'action_set_size'];
 
 export function RolesScreen({ source, draft, onChange, onNext }: Props) {
-  const problems = roleProblems(draft, source.profile);
+  const problems = [...roleProblems(draft, source.profile, source.evidence), ...weakSuggestionProblems(draft, source.suggestions)];
   const blocking = problems.some((p) => p.severity === 'fail');
   const columns = source.profile.columns;
   const roleOf = new Map(SINGLE_ROLES.filter((r) => draft.roles[r]).map((r) => [draft.roles[r] as string, ROLE_LABELS[r].label.toLowerCase()]));
@@ -55,7 +55,7 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
       <h1 id="roles-title">Which column is which?</h1>
       <p className="lead">
         {source.label}: {source.profile.rows.toLocaleString('en')} rows, {columns.length} columns ({source.format.toUpperCase()}).
-        The choices below are suggestions from the column names and values; change any that are wrong.
+        The choices below are suggestions from the column values (the action is the column whose values balance the propensities: {'(1/n) Σ 1{A=a}/p ≈ 1'} for every action) and, where values cannot decide, the names. Change any that are wrong.
       </p>
 
       <div className="roles-layout">

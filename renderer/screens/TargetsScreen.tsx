@@ -1,6 +1,6 @@
 import { useState } from 'react';
 import type { OpenedSource } from '../engine/status.ts';
-import { targetProblems, type AuditDraft, type TargetDraft } from '../state/draft.ts';
+import { knownActions, targetProblems, type AuditDraft, type TargetDraft } from '../state/draft.ts';
 import { SettingsEditor, settingsProblem } from './SettingsEditor.tsx';
 
 interface Props {
@@ -24,7 +24,8 @@ export function TargetsScreen({ source, draft, onChange, onRun }: Props) {
   const [fileError, setFileError] = useState<string | null>(null);
   const add = (t: TargetDraft) => onChange({ ...draft, targets: [...draft.targets.filter((x) => x.spec !== t.spec), t] });
   const remove = (spec: string) => onChange({ ...draft, targets: draft.targets.filter((t) => t.spec !== spec) });
-  const problems = [...targetProblems(draft.targets), ...[settingsProblem(draft.settings)].filter((p): p is string => p !== null)];
+  const actions = knownActions(source.profile, source.evidence, draft);
+  const problems = [...targetProblems(draft.targets, actions), ...[settingsProblem(draft.settings)].filter((p): p is string => p !== null)];
 
   const onTable = async (file: File | undefined) => {
     setFileError(null);
@@ -60,8 +61,16 @@ export function TargetsScreen({ source, draft, onChange, onRun }: Props) {
 
           <label className="label" htmlFor="always-action">Always one action</label>
           <span className="inline-form">
-            <input id="always-action" value={action} onChange={(e) => setAction(e.target.value)} placeholder="action value, e.g. bakery" />
+            {actions ? (
+              <select id="always-action" value={action} onChange={(e) => setAction(e.target.value)}>
+                <option value="">— choose an action of “{draft.roles.action}” —</option>
+                {actions.values.map((a) => <option key={a} value={a}>{a}</option>)}
+              </select>
+            ) : (
+              <input id="always-action" value={action} onChange={(e) => setAction(e.target.value)} placeholder="an action value of the log" />
+            )}
             <button type="button" className="button" disabled={!action.trim()} onClick={() => { add({ spec: `always:${action.trim()}` }); setAction(''); }}>Add</button>
+            {actions && !actions.complete && <span className="help">actions seen in the log’s first rows; the audit refuses an action the whole log lacks</span>}
           </span>
 
           <label className="label" htmlFor="target-table">Policy table file</label>

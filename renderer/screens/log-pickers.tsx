@@ -27,6 +27,7 @@ export function FilePicker({ busy, onFiles, hint = WEB_HINT }: { busy: boolean; 
         ref={input}
         id="log-files"
         data-testid="log-file-input"
+        aria-label="Log files"
         type="file"
         multiple
         accept={ACCEPTED_EXTENSIONS.join(',')}

@@ -1,5 +1,5 @@
 /** What the user has chosen for the next audit: roles, target policies, settings overrides. */
-import { REQUIRED_ROLES, resolveRoles, SINGLE_ROLES, validateRoles, type SingleRole } from '../../app/core/roles/roles.ts';
+import { REQUIRED_ROLES, resolveRoles, SINGLE_ROLES, validateRoles, type RoleEvidence, type SingleRole } from '../../app/core/roles/roles.ts';
 import type { Profile } from '../../app/core/scan/profile.ts';
 
 export { REQUIRED_ROLES, SINGLE_ROLES, type SingleRole };
@@ -42,17 +42,17 @@ export interface DraftProblem {
 }
 
 /** Problems with a mapping: ours in plain words for missing or reused columns, then the core's type checks. */
-export function roleProblems(draft: AuditDraft, profile: Profile): DraftProblem[] {
+export function roleProblems(draft: AuditDraft, profile: Profile, evidence?: RoleEvidence): DraftProblem[] {
   const own = basicRoleProblems(draft).map((message) => ({ severity: 'fail' as const, message }));
   if (own.length > 0) return own;
   try {
-    const resolved = resolveRoles(profile, { ...draft.roles, segments: draft.segments });
+    const resolved = resolveRoles(profile, { ...draft.roles, segments: draft.segments }, evidence);
     // The core fills an unmapped role from its suggestion, so "none" cannot switch a suggested role off.
     const refilled = SINGLE_ROLES.filter((r) => !draft.roles[r] && resolved[r]).map((r) => ({
       severity: 'warn' as const,
       message: `${ROLE_LABELS[r].label} is set to none, but the audit will still use the suggested column "${resolved[r]}".`,
     }));
-    return [...refilled, ...validateRoles(profile, resolved).map((p) => ({ severity: p.severity, message: p.message }))];
+    return [...refilled, ...validateRoles(profile, resolved, evidence).map((p) => ({ severity: p.severity, message: p.message }))];
   } catch (error) {
     return [{ severity: 'fail', message: error instanceof Error ? error.message : String(error) }];
   }
@@ -73,8 +73,29 @@ function basicRoleProblems(draft: AuditDraft): string[] {
   return problems;
 }
 
-export function targetProblems(targets: readonly TargetDraft[]): string[] {
+/** The action values the Targets screen offers: from the role evidence over the log's first rows, for the mapped action column. */
+export interface KnownActions {
+  readonly values: readonly string[];
+  /** every value of the column is listed (its whole-log distinct count equals the list's length) */
+  readonly complete: boolean;
+}
+
+export function knownActions(profile: Profile, evidence: RoleEvidence | undefined, draft: AuditDraft): KnownActions | null {
+  const column = draft.roles.action;
+  if (!column || !evidence) return null;
+  const fit = evidence.fits.find((f) => f.column === column);
+  if (!fit) return null;
+  const values = fit.values.map((v) => v.value).filter((v): v is string => v !== null).sort();
+  const c = profile.columns.find((x) => x.name === column);
+  return { values, complete: !!c && c.distinctBasis === 'all rows' && Math.round(c.distinct) === values.length };
+}
+
+export function targetProblems(targets: readonly TargetDraft[], actions?: KnownActions | null): string[] {
   const problems: string[] = [];
+  if (actions?.complete) {
+    const unknown = targets.filter((t) => t.spec.startsWith('always:') && t.spec.length > 7 && !actions.values.includes(t.spec.slice(7)));
+    if (unknown.length > 0) problems.push(`The log has no action ${unknown.map((t) => `“${t.spec.slice(7)}”`).join(', ')}; its actions are ${actions.values.map((a) => `“${a}”`).join(', ')}. Remove the target or choose another action.`);
+  }
   const seen = new Set<string>();
   for (const t of targets) {
     if (seen.has(t.spec)) problems.push(`The target ${t.spec} is listed twice.`);
@@ -84,4 +105,15 @@ export function targetProblems(targets: readonly TargetDraft[]): string[] {
     if (t.spec === 'column:') problems.push('A column target needs a column.');
   }
   return problems;
+}
+
+/** Confidence below which a suggestion is shown as weak evidence on the Columns screen. */
+export const WEAK_CONFIDENCE = 0.5;
+
+/** Roles still mapped to a suggestion whose evidence is weak: the person should look before running. */
+export function weakSuggestionProblems(draft: AuditDraft, suggestions: readonly { role: string; column: string; reason: string; confidence: number }[]): DraftProblem[] {
+  return SINGLE_ROLES.flatMap((role) => {
+    const s = suggestions.find((x) => x.role === role && x.column === draft.roles[role]);
+    return s && s.confidence < WEAK_CONFIDENCE ? [{ severity: 'warn' as const, message: `${ROLE_LABELS[role].label} "${s.column}" is a guess on weak evidence (${s.reason}). Check it.` }] : [];
+  });
 }

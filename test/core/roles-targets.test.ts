@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { suggestRoles } from '../../app/core/audit.ts';
 import { resolveRoles, RoleError, validateRoles } from '../../app/core/roles/roles.ts';
 import { parseDescribe, parseProfile, profileSql, describeSql } from '../../app/core/scan/profile.ts';
-import { parseTarget, TargetError } from '../../app/core/targets/targets.ts';
+import { checkTargetActions, parseTarget, TargetError } from '../../app/core/targets/targets.ts';
 import { resolveSettings, SettingsError } from '../../app/core/settings.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
@@ -58,6 +58,16 @@ describe('role suggestion', () => {
     const p = await profileOf(`SELECT 'x' AS colour, 3 AS size`);
     const problems = validateRoles(p, resolveRoles(p));
     expect(problems.filter((x) => x.severity === 'fail').map((x) => x.role).sort()).toEqual(['action', 'propensity', 'reward']);
+  });
+});
+
+describe('always targets', () => {
+  it('an action the log does not hold is an input error that lists the actions', () => {
+    const ctx = { actionColumn: 'offer', logColumns: ['offer'], targetColumn: null };
+    const t = parseTarget({ spec: 'always:o-wfi' }, ctx);
+    expect(() => checkTargetActions([t], ['o-wifi', 'o-park'])).toThrow(TargetError);
+    expect(() => checkTargetActions([t], ['o-wifi', 'o-park'])).toThrow('target always:o-wfi: the log has no action "o-wfi"; its 2 actions are "o-wifi", "o-park"');
+    expect(() => checkTargetActions([parseTarget({ spec: 'always:o-park' }, ctx)], ['o-wifi', 'o-park'])).not.toThrow();
   });
 });
 

@@ -80,6 +80,13 @@ describe('target list problems', () => {
       'The table target table:v9.csv has no file contents.',
     ]);
   });
+  it('refuses an always target whose action the log does not hold, listing the actions', () => {
+    const actions = { values: ['arm-a', 'arm-b'], complete: true };
+    expect(targetProblems([{ spec: 'always:arm-a' }], actions)).toEqual([]);
+    expect(targetProblems([{ spec: 'always:arm-c' }], actions)).toEqual(['The log has no action “arm-c”; its actions are “arm-a”, “arm-b”. Remove the target or choose another action.']);
+    // a list read from the first rows only cannot refuse: the audit decides over the whole log
+    expect(targetProblems([{ spec: 'always:arm-c' }], { ...actions, complete: false })).toEqual([]);
+  });
 });
 
 class MemoryStorage {

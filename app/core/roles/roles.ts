@@ -3,6 +3,9 @@
  * and validation with specific messages.
  */
 import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
+import { fitText, ID_REFUSE_SHARE, ID_SUGGEST_SHARE, uniqueness, type BalanceFit, type RoleEvidence } from './evidence.ts';
+
+export type { RoleEvidence } from './evidence.ts';
 
 export const SINGLE_ROLES = ['decision_id', 'time', 'action', 'propensity', 'reward', 'policy_version', 'target_propensity', 'propensity_vector', 'action_set_size'] as const;
 export type SingleRole = (typeof SINGLE_ROLES)[number];
@@ -134,13 +137,14 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
       return null;
     }
     case 'decision_id': {
-      const counted = c.distinctRows;
-      const unique = rows > 0 && counted > 0 && c.distinct >= 0.9 * counted;
-      const share = pct(Math.min(1, c.distinct / Math.max(1, counted)));
-      const of = c.distinctBasis === 'all rows' ? 'values' : `the first ${counted.toLocaleString('en')} values`;
-      if (named && unique) return { role, column: c.name, reason: `named like an identifier; ${share} of ${of} distinct`, confidence: 0.95 };
-      if (named && c.kind !== 'numeric') return { role, column: c.name, reason: 'named like an identifier', confidence: 0.5 };
-      return null;
+      if (c.kind !== 'text' && !(c.kind === 'numeric' && c.nonInteger === 0) && c.kind !== 'other') return null;
+      if (rows === 0 || c.distinctRows === 0) return null;
+      const u = uniqueness(c);
+      // an identifier must be nearly unique, whatever its name; an unnamed integer column must be unique to the row
+      if (u.share < ID_SUGGEST_SHARE) return null;
+      if (named) return { role, column: c.name, reason: `${u.text}; named like an identifier`, confidence: 0.95 };
+      if (c.kind === 'numeric' && u.share < 0.99) return null;
+      return { role, column: c.name, reason: `${u.text}, nearly one per row`, confidence: c.kind === 'text' ? 0.8 : 0.6 };
     }
     case 'time': {
       const enc = timeEncodingOf(c);
@@ -158,16 +162,75 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
   }
 }
 
-/** Suggested roles, best candidate per role, each column used at most once; then segment columns. */
-export function suggestRoles(profile: Profile): RoleSuggestion[] {
+const isNamedAction = (column: string) => NAME_HINTS.action.test(column);
+
+/**
+ * The action from the weight-balance evidence: the candidate for which the identity holds, names breaking
+ * ties; where it holds for no column, the column named like an action, with the evidence against it.
+ */
+function actionFromEvidence(profile: Profile, evidence: RoleEvidence, propensity: string | undefined, taken: ReadonlySet<string>): RoleSuggestion | null {
+  if (!propensity) return null;
+  const fits = evidence.fits.filter((f) => f.propensity === propensity && !taken.has(f.column));
+  if (fits.length === 0) return null;
+  const byFit = (a: BalanceFit, b: BalanceFit) => a.maxDeviation - b.maxDeviation;
+  const holding = fits.filter((f) => f.holds).sort((a, b) => Number(isNamedAction(b.column)) - Number(isNamedAction(a.column)) || byFit(a, b));
+  const others = fits.filter((f) => !f.holds).sort(byFit);
+  const distinct = (col: string) => {
+    const c = profile.columns.find((x) => x.name === col);
+    return c ? `; ${distinctText(c)}` : '';
+  };
+  const best = holding[0];
+  if (best) {
+    const named = isNamedAction(best.column) ? '; named like an action' : '';
+    const rest = holding.slice(1);
+    if (rest.length === 0) {
+      const next = others[0];
+      return { role: 'action', column: best.column, reason: `weight balance holds: ${fitText(best)}${named}${distinct(best.column)}${next ? `; next closest '${next.column}': ${fitText(next)}` : ''}`, confidence: 0.95 };
+    }
+    const also = rest.map((f) => `'${f.column}'`).join(', ');
+    const tieBroken = isNamedAction(best.column) && !rest.some((f) => isNamedAction(f.column));
+    return {
+      role: 'action',
+      column: best.column,
+      reason: `weight balance holds: ${fitText(best)}${named}${distinct(best.column)}; it also holds for ${also}, so the evidence is weak${tieBroken ? ' (the name decided)' : ' (the closest fit decided)'}`,
+      confidence: tieBroken ? 0.7 : 0.45,
+    };
+  }
+  const named = others.find((f) => isNamedAction(f.column));
+  const pick = named ?? others[0];
+  if (!pick) return null;
+  return {
+    role: 'action',
+    column: pick.column,
+    reason: `weight balance holds for no column (${named ? 'named like an action' : 'closest'} '${pick.column}': ${fitText(pick)}); check the action and propensity columns`,
+    confidence: named ? 0.35 : 0.2,
+  };
+}
+
+/**
+ * Suggested roles, best candidate per role, each column used at most once; then segment columns. With
+ * evidence (gatherRoleEvidence), the action is the column for which weight balance holds, and a
+ * propensity column that balances some action column is preferred.
+ */
+export function suggestRoles(profile: Profile, evidence?: RoleEvidence): RoleSuggestion[] {
   const taken = new Set<string>();
   const out: RoleSuggestion[] = [];
   const order: SingleRole[] = ['propensity', 'target_propensity', 'time', 'decision_id', 'action', 'reward', 'policy_version', 'propensity_vector', 'action_set_size'];
+  const balances = (p: string) => !!evidence?.fits.some((f) => f.propensity === p && f.holds);
   for (const role of order) {
+    if (role === 'action' && evidence && evidence.fits.length > 0) {
+      const s = actionFromEvidence(profile, evidence, out.find((x) => x.role === 'propensity')?.column, taken);
+      if (s) {
+        out.push(s);
+        taken.add(s.column);
+        continue;
+      }
+    }
     const cands = profile.columns
       .filter((c) => !taken.has(c.name))
       .map((c) => candidatesFor(role, c, profile.rows))
       .filter((c): c is Candidate => c !== null)
+      .map((c) => (role === 'propensity' && balances(c.column) ? { ...c, reason: `${c.reason}; weight balance holds for an action column with it`, confidence: Math.min(1, c.confidence + 0.3) } : c))
       .sort((a, b) => b.confidence - a.confidence);
     const best = cands[0];
     if (best) {
@@ -181,7 +244,7 @@ export function suggestRoles(profile: Profile): RoleSuggestion[] {
       .sort((a, b) => a.distinct - b.distinct)
       .pop();
     if (fallback) {
-      out.push({ role: 'action', column: fallback.name, reason: `text column with ${distinctText(fallback)} (no column is named like an action)`, confidence: 0.3 });
+      out.push({ role: 'action', column: fallback.name, reason: `text column with ${distinctText(fallback)} (no column is named like an action, and no weight-balance evidence was read)`, confidence: 0.2 });
       taken.add(fallback.name);
     }
   }
@@ -203,12 +266,12 @@ export class RoleError extends Error {
 }
 
 /** Overrides always win; otherwise the suggestion. Unknown columns in overrides are errors. */
-export function resolveRoles(profile: Profile, overrides: RoleOverrides = {}): ResolvedRoles {
+export function resolveRoles(profile: Profile, overrides: RoleOverrides = {}, evidence?: RoleEvidence): ResolvedRoles {
   const names = new Set(profile.columns.map((c) => c.name));
   const check = (role: string, col: string) => {
     if (!names.has(col)) throw new RoleError(`role ${role}: column "${col}" does not exist; columns are ${profile.columns.map((c) => `"${c.name}"`).join(', ')}`);
   };
-  const suggestions = suggestRoles(profile);
+  const suggestions = suggestRoles(profile, evidence);
   const reasons: Record<string, string> = {};
   const single: Record<string, string | null> = {};
   const overridden = new Set<string>();
@@ -273,7 +336,7 @@ function whyNotTaken(role: SingleRole, c: ColumnProfile): string | null {
 }
 
 /** Specific messages about the mapping; 'fail' problems stop the audit's dependent checks. */
-export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProblem[] {
+export function validateRoles(profile: Profile, roles: ResolvedRoles, evidence?: RoleEvidence): RoleProblem[] {
   const problems: RoleProblem[] = [];
   const byName = new Map(profile.columns.map((c) => [c.name, c]));
   for (const role of REQUIRED_ROLES) {
@@ -306,6 +369,19 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles): RoleProbl
   const a = roles.action ? byName.get(roles.action) : undefined;
   if (a && a.kind === 'other') problems.push({ role: 'action', severity: 'fail', message: `action column '${a.name}' is ${a.type}; an action must be a scalar value` });
   if (a && a.distinct < 2) problems.push({ role: 'action', severity: 'warn', message: `action column '${a.name}' has ${distinctText(a)}; a log needs at least two actions to evaluate another policy` });
+  if (a && evidence && roles.propensity) {
+    const fit = evidence.fits.find((f) => f.column === a.name && f.propensity === roles.propensity);
+    const better = evidence.fits.filter((f) => f.propensity === roles.propensity && f.holds && f.column !== a.name).map((f) => `'${f.column}'`);
+    if (fit && !fit.holds) {
+      problems.push({ role: 'action', severity: 'warn', message: `weight balance does not hold for action column '${a.name}' with propensity '${roles.propensity}': ${fitText(fit)}${better.length ? `; it holds for ${better.join(', ')}, which may be the action` : '; either the propensities are mis-logged or the action is another column'}` });
+    }
+  }
+  const id = roles.decision_id ? byName.get(roles.decision_id) : undefined;
+  if (id && id.distinctRows > 0) {
+    const u = uniqueness(id);
+    if (u.share < ID_REFUSE_SHARE) problems.push({ role: 'decision_id', severity: 'fail', message: `decision id column '${id.name}' is far from unique: ${u.text}; a decision id names one decision, so choose another column or none` });
+    else if (u.share < ID_SUGGEST_SHARE) problems.push({ role: 'decision_id', severity: 'warn', message: `decision id column '${id.name}' is not nearly unique: ${u.text}; duplicates will be counted against it` });
+  }
   const t = roles.time ? byName.get(roles.time) : undefined;
   if (t && !roles.timeEncoding) {
     const mixed = t.kind === 'text' && t.nonNull > 0 && t.parsedAsTime > 0;

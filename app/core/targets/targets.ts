@@ -138,3 +138,18 @@ export function resolveTargets(inputs: readonly TargetInput[], ctx: TargetContex
     ...observedActions.map((a): TargetPolicy => ({ kind: 'always', name: `always:${a}`, spec: `always:${a}`, action: a, implicit: true })),
   ];
 }
+
+/** A list of action values in words, the first `max` of them. */
+export function actionList(actions: readonly string[], max = 40): string {
+  const shown = actions.slice(0, max).map((a) => JSON.stringify(a)).join(', ');
+  return actions.length > max ? `${shown} and ${actions.length - max} more` : shown;
+}
+
+/** An always:<action> target must name an action the log contains; the error lists the log's actions. */
+export function checkTargetActions(targets: readonly TargetPolicy[], actions: readonly string[]): void {
+  const known = new Set(actions);
+  const unknown = targets.filter((t): t is Extract<TargetPolicy, { kind: 'always' }> => t.kind === 'always' && !t.implicit && !known.has(t.action));
+  if (unknown.length === 0) return;
+  const names = unknown.map((t) => JSON.stringify(t.action)).join(', ');
+  throw new TargetError(`target ${unknown.map((t) => t.spec).join(', ')}: the log has no action ${names}; its ${actions.length} action${actions.length === 1 ? ' is' : 's are'} ${actionList(actions)}`);
+}

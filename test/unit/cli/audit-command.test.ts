@@ -83,6 +83,8 @@ describe.skipIf(!haveLogs)('counterweight audit (spawned)', () => {
       [['audit', 'sample-data/no-such-log.parquet'], 'no such file or folder: sample-data/no-such-log.parquet'],
       [['audit', DEMO, '--role', 'reward=no_such_column', '--quiet'], 'no_such_column'],
       [['audit', DEMO, '--json', DEMO], 'refusing to write a report over the input file'],
+      // DESIGN of the demo (sample-data/README.md): seven promotions; a typo is an input error that lists them
+      [['audit', DEMO, '--target', 'always:bakry', '--quiet'], 'target always:bakry: the log has no action "bakry"; its 7 actions are "bakery", "free-delivery", "household", "no-banner", "pantry-restock", "produce-box", "recipe-kit"'],
     ] as const) {
       const r = cli([...args]);
       expect(r.code, args.join(' ')).toBe(3);

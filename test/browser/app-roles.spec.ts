@@ -1,0 +1,65 @@
+/**
+ * Standalone web mode on a generated log whose columns are named its own way (an invented room-booking app,
+ * test/fixtures/role-logs.ts): the suggested roles must be right with no edits, the Targets screen offers the
+ * log's actions to choose from, and every screen passes an axe accessibility run with no serious violations.
+ */
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import AxeBuilder from '@axe-core/playwright';
+import { expect, test, type Page } from '@playwright/test';
+import { BOOKING_SPEC, roleLog } from '../fixtures/role-logs.ts';
+
+const dir = mkdtempSync(path.join(tmpdir(), 'cw-booking-'));
+const LOG = path.join(dir, 'harbour-stays.csv');
+writeFileSync(LOG, roleLog(BOOKING_SPEC, 30_000, 21).csv);
+
+async function noSeriousViolations(page: Page, screen: string): Promise<void> {
+  const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'wcag22aa']).analyze();
+  const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+  expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);
+}
+
+test('a booking log with unseen column names: roles right with no edits, actions picked from the log, accessible screens', async ({ page }) => {
+  test.setTimeout(180_000);
+  await page.setViewportSize({ width: 1280, height: 800 });
+  await page.goto('/');
+  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
+  await noSeriousViolations(page, 'open');
+  await page.getByTestId('log-file-input').setInputFiles(LOG);
+  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
+  // the generator's ground truth: offer_id is the action (named like an id, 5 values), evt the opaque event id
+  await expect(page.locator('#role-action')).toHaveValue('offer_id');
+  await expect(page.locator('#role-decision_id')).toHaveValue('evt');
+  await expect(page.locator('#role-propensity')).toHaveValue('shown_chance');
+  await expect(page.locator('#role-reward')).toHaveValue('tapped');
+  await expect(page.locator('#role-time')).toHaveValue('happened');
+  await expect(page.locator('#role-policy_version')).toHaveValue('policy_tag');
+  for (const segment of ['city_zone', 'guest_kind', 'platform']) await expect(page.locator(`#segment-${segment}`)).toBeChecked();
+  await expect(page.getByText(/weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/)).toBeVisible();
+  await noSeriousViolations(page, 'columns');
+
+  // an id column far from unique is refused
+  await page.locator('#role-decision_id').selectOption('city_zone');
+  await expect(page.getByText(/decision id column 'city_zone' is far from unique/)).toBeVisible();
+  await expect(page.getByRole('button', { name: 'Next: targets and thresholds' })).toBeDisabled();
+  await page.locator('#role-decision_id').selectOption('evt');
+  await page.locator('#segment-city_zone').check();
+
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await expect(page.getByRole('heading', { name: 'Target policies and settings' })).toBeVisible();
+  const offered = await page.locator('#always-action option').allTextContents();
+  expect(offered.slice(1).sort()).toEqual([...BOOKING_SPEC.action.values].map(String).sort());
+  await page.locator('#always-action').selectOption('upgrade');
+  await page.getByRole('button', { name: 'Add', exact: true }).first().click();
+  await expect(page.getByText('Always choose “upgrade”')).toBeVisible();
+  await noSeriousViolations(page, 'targets');
+  await page.getByRole('button', { name: 'Run the audit' }).click();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 90_000 });
+  await noSeriousViolations(page, 'overview');
+  const nav = page.getByRole('navigation', { name: 'Steps and results' });
+  for (const name of ['Segment map', 'Weights & support', 'Drift', 'Estimates', 'Edit a target', 'Sign-off']) {
+    await nav.getByRole('button', { name }).click();
+    await noSeriousViolations(page, name);
+  }
+});

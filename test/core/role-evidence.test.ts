@@ -1,0 +1,118 @@
+/**
+ * Role inference from the data on generated logs named each their own way (test/fixtures/role-logs.ts):
+ * the action is the column for which weight balance (1/n) Σ 1{A=a}/p ≈ 1 holds (Horvitz & Thompson 1952,
+ * E[1{A=a}/p] = 1 under the logging policy), the decision id is the nearly unique column.
+ */
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { inspectRoles } from '../../app/core/audit.ts';
+import { balanceFit, FIT_TOLERANCE } from '../../app/core/roles/evidence.ts';
+import { resolveRoles, validateRoles } from '../../app/core/roles/roles.ts';
+import { actionEvidenceSql } from '../../app/core/scan/role-evidence.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
+import type { Engine } from '../../app/engine/types.ts';
+import { AD_SPEC, BOOKING_SPEC, roleLog, TUTOR_SPEC, type RoleLogSpec } from '../fixtures/role-logs.ts';
+
+let engine: Engine;
+const dir = mkdtempSync(join(tmpdir(), 'cw-roles-'));
+beforeAll(async () => {
+  engine = await createNativeEngine();
+});
+afterAll(async () => engine?.close());
+
+async function inspect(spec: RoleLogSpec, rows: number, seed: number) {
+  const path = join(dir, `${spec.action.name}-${seed}.csv`);
+  writeFileSync(path, roleLog(spec, rows, seed).csv);
+  const src = await engine.register({ kind: 'path', paths: [path] });
+  return { ...(await inspectRoles((q) => engine.query(q), src.relation)), relation: src.relation };
+}
+
+const roleOf = (s: { role: string; column: string }[], role: string) => s.filter((x) => x.role === role).map((x) => x.column);
+
+describe('balanceFit (the identity on hand-made groups)', () => {
+  it('is exactly 1 for every action when each row carries its true probability', () => {
+    // two actions at p = 0.5 and 0.25/0.75 rows: B(a) = (1/n) Σ 1{A=a}/p computed by hand below
+    const groups = [
+      { value: 'x', rows: 1, valid: [1], sumInv: [1 / 0.25], sumInv2: [1 / 0.0625] },
+      { value: 'y', rows: 3, valid: [3], sumInv: [3 / 0.75], sumInv2: [3 / 0.5625] },
+    ];
+    const f = balanceFit('a', 'p', groups, 0);
+    expect(f.values.map((v) => v.b)).toEqual([1, 1]);
+    expect(f.maxDeviation).toBe(0);
+    // 4 rows are fewer than FIT_MIN_ROWS: the identity fits but is not evidence enough
+    expect(f.holds).toBe(false);
+  });
+  it('for a segment, B is the share times the number of actions offered (here 0.5 × 2 = 1 and 0.5 × 4 = 2)', () => {
+    const groups = [
+      { value: 's1', rows: 500, valid: [500], sumInv: [500 * 2], sumInv2: [500 * 4] },
+      { value: 's2', rows: 500, valid: [500], sumInv: [500 * 4], sumInv2: [500 * 16] },
+    ];
+    const f = balanceFit('seg', 'p', groups, 0);
+    expect(f.values.map((v) => v.b)).toEqual([1, 2]);
+    expect(f.maxDeviation).toBe(1);
+    expect(f.holds).toBe(false);
+  });
+});
+
+describe('role inference on generated logs', () => {
+  it('the booking log: the offer column named like an id is the action, the opaque event id is the id', async () => {
+    const r = await inspect(BOOKING_SPEC, 20_000, 11);
+    expect(roleOf(r.suggestions, 'action')).toEqual(['offer_id']);
+    expect(roleOf(r.suggestions, 'decision_id')).toEqual(['evt']);
+    expect(roleOf(r.suggestions, 'propensity')).toEqual(['shown_chance']);
+    expect(roleOf(r.suggestions, 'reward')).toEqual(['tapped']);
+    expect(roleOf(r.suggestions, 'time')).toEqual(['happened']);
+    expect(roleOf(r.suggestions, 'policy_version')).toEqual(['policy_tag']);
+    expect(roleOf(r.suggestions, 'segments')).toEqual(['city_zone', 'guest_kind', 'platform']);
+    const action = r.suggestions.find((s) => s.role === 'action');
+    expect(action?.reason).toMatch(/^weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/);
+    expect(action?.confidence).toBeGreaterThanOrEqual(0.9);
+    const fit = r.evidence.fits.find((f) => f.column === 'offer_id');
+    expect(fit?.maxDeviation).toBeLessThan(FIT_TOLERANCE);
+    // every other categorical column is far from balance: B = share × number of actions offered (all 5 everywhere)
+    for (const f of r.evidence.fits.filter((x) => x.column !== 'offer_id')) expect(f.holds).toBe(false);
+    const platform = r.evidence.fits.find((f) => f.column === 'platform');
+    expect(platform?.values.every((v) => Math.abs(v.b - (5 * v.rows) / platform.rows) < 0.15)).toBe(true);
+  });
+
+  it('the ad log: integer arms with no action-like name, a named integer key', async () => {
+    const r = await inspect(AD_SPEC, 20_000, 12);
+    expect(roleOf(r.suggestions, 'action')).toEqual(['creative']);
+    expect(roleOf(r.suggestions, 'decision_id')).toEqual(['request_key']);
+    expect(roleOf(r.suggestions, 'propensity')).toEqual(['pscore']);
+    expect(roleOf(r.suggestions, 'time')).toEqual(['event_time_ms']);
+    expect(roleOf(r.suggestions, 'reward')).toEqual(['converted']);
+  });
+
+  it('the tutoring log: a segment with as many equally likely values as actions also balances, so the evidence is called weak', async () => {
+    const r = await inspect(TUTOR_SPEC, 20_000, 13);
+    const action = r.suggestions.find((s) => s.role === 'action');
+    // grade_band: 4 values at 1/4 each × 4 actions offered everywhere = 1, the coincidence the identity cannot rule out
+    expect(r.evidence.fits.filter((f) => f.holds).map((f) => f.column).sort()).toEqual(['grade_band', 'hint_style']);
+    expect(action?.reason).toMatch(/also holds for/);
+    expect(action?.confidence).toBeLessThan(0.5);
+    expect(roleOf(r.suggestions, 'decision_id')).toEqual(['session_ref']);
+  });
+
+  it('warns when the chosen action does not balance and refuses an id far from unique', async () => {
+    const r = await inspect(BOOKING_SPEC, 5_000, 14);
+    const profile = r.profile;
+    const roles = resolveRoles(profile, { action: 'city_zone', decision_id: 'offer_id', segments: ['guest_kind'] }, r.evidence);
+    const problems = validateRoles(profile, roles, r.evidence);
+    const action = problems.find((p) => p.role === 'action');
+    expect(action?.severity).toBe('warn');
+    expect(action?.message).toMatch(/weight balance does not hold for action column 'city_zone'.*it holds for 'offer_id'/);
+    const id = problems.find((p) => p.role === 'decision_id');
+    expect(id?.severity).toBe('fail');
+    expect(id?.message).toMatch(/far from unique: 5 distinct values in 5,000 rows/);
+  });
+
+  it('builds one aggregate per candidate over the first rows only', () => {
+    const sql = actionEvidenceSql('"log"', 'offer', ['p', 'q']);
+    expect(sql).toContain('LIMIT 100000');
+    expect(sql).toContain('GROUP BY 1');
+    expect(sql.match(/sum\(1\.0 \//g)?.length).toBe(4);
+  });
+});
