@@ -55,10 +55,10 @@ describe('demo log', () => {
     expect(rows.columns[0]![0]).toBe(f.metrics.invalid_rows);
   });
 
-  it('scans the source at most 5 times plus once per target, one of them its first rows only', () => {
+  it('scans the source at most 5 times plus once per target, and its first rows twice (the profile, and the role evidence when the action is not mapped)', () => {
     expect(demo.run.source_scans).toBe(demoScans);
-    expect(demoScans).toBeLessThanOrEqual(5 + demo.targets.length);
-    expect(demo.queries.filter((q) => q.scans_source && /\bLIMIT 100000\)/.test(q.sql)).map((q) => q.name)).toEqual(['profile (first rows)']);
+    expect(demoScans).toBeLessThanOrEqual(5 + 1 + demo.targets.length);
+    expect(demo.queries.filter((q) => q.scans_source && /\bLIMIT 100000\)/.test(q.sql)).map((q) => q.name)).toEqual(['profile (first rows)', 'role evidence']);
   });
 
   it('reports uniform and every always:<action> target when none is given', () => {

@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { inspectRoles } from '../../app/core/audit.ts';
 import { balanceFit, FIT_TOLERANCE } from '../../app/core/roles/evidence.ts';
 import { resolveRoles, validateRoles } from '../../app/core/roles/roles.ts';
-import { actionEvidenceSql } from '../../app/core/scan/role-evidence.ts';
+import { actionEvidenceSql, parseActionEvidence } from '../../app/core/scan/role-evidence.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { AD_SPEC, BOOKING_SPEC, roleLog, TUTOR_SPEC, type RoleLogSpec } from '../fixtures/role-logs.ts';
@@ -109,10 +109,15 @@ describe('role inference on generated logs', () => {
     expect(id?.message).toMatch(/far from unique: 5 distinct values in 5,000 rows/);
   });
 
-  it('builds one aggregate per candidate over the first rows only', () => {
-    const sql = actionEvidenceSql('"log"', 'offer', ['p', 'q']);
+  it('builds one aggregate per candidate, as grouping sets of one read of the first rows', async () => {
+    const sql = actionEvidenceSql('"log"', ['offer', 'zone'], ['p', 'q']);
     expect(sql).toContain('LIMIT 100000');
-    expect(sql).toContain('GROUP BY 1');
+    expect(sql).toContain('GROUP BY GROUPING SETS ((k0), (k1))');
     expect(sql.match(/sum\(1\.0 \//g)?.length).toBe(4);
+    // against a hand-computed table: offer a (p 0.5, 0.5) and b (p 0.25): Σ1/p = 4 and 4; zone z1 holds rows 1 and 3
+    await engine.query(`CREATE OR REPLACE TABLE hand AS SELECT * FROM (VALUES ('a', 'z1', 0.5, 0.5), ('a', 'z2', 0.5, 0.5), ('b', 'z1', 0.25, 0.5)) t(offer, zone, p, q)`);
+    const groups = parseActionEvidence(await engine.query(sql.replace('"log"', 'hand')), 2, 2);
+    expect(groups[0]?.map((g) => [g.value, g.rows, g.sumInv[0], g.sumInv[1]])).toEqual([['a', 2, 4, 4], ['b', 1, 4, 2]]);
+    expect(groups[1]?.map((g) => [g.value, g.rows, g.sumInv[0]])).toEqual([['z1', 2, 6], ['z2', 1, 2]]);
   });
 });

@@ -21,6 +21,8 @@ export const ID_SUGGEST_SHARE = 0.9;
 /** Below this share of distinct values a decision id is refused: most ids would be shared by several rows. */
 export const ID_REFUSE_SHARE = 0.5;
 
+const EVIDENCE_CHUNK = 30;
+
 export interface ValueBalance {
   readonly value: string | null;
   readonly rows: number;
@@ -68,6 +70,12 @@ export function balanceFit(column: string, propensity: string, groups: readonly 
   return { column, propensity, rows: n, values, maxDeviation, worst, holds: !tooManyValues && n >= FIT_MIN_ROWS && deciding.length >= 2 && maxDeviation <= FIT_TOLERANCE, tooManyValues };
 }
 
+/** The data speak against the column as the action: enough rows, and its worst value is off by more than the tolerance and by over 3 standard errors. */
+export function contradicts(f: BalanceFit): boolean {
+  const w = f.worst;
+  return !f.holds && !!w && f.rows >= FIT_MIN_ROWS && Math.abs(w.b - 1) > FIT_TOLERANCE && Math.abs(w.b - 1) > 3 * w.se;
+}
+
 function isProbabilityLike(c: ColumnProfile): boolean {
   return (c.kind === 'numeric' || (c.kind === 'text' && c.parsedAsNumber > 0.9 * c.nonNull)) && c.min !== null && c.max !== null && c.min >= 0 && c.max <= 1 && c.nonBinary > 0;
 }
@@ -85,16 +93,24 @@ export function actionCandidates(profile: Profile): string[] {
     .map((c) => c.name);
 }
 
-/** The identity for every (action candidate, propensity candidate) pair: one aggregate per action candidate. */
+/** The identity for every (action candidate, propensity candidate) pair: one aggregate per action candidate, in one read of the first rows. */
 export async function gatherRoleEvidence(run: RunQuery, relation: string, profile: Profile, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql): Promise<RoleEvidence> {
   const props = propensityCandidates(profile);
   const fits: BalanceFit[] = [];
   if (props.length === 0) return { rowsRead: 0, fits };
+  const candidates = actionCandidates(profile).filter((c) => !props.includes(c));
+  if (candidates.length === 0) return { rowsRead: 0, fits };
   let rowsRead = 0;
-  for (const col of actionCandidates(profile).filter((c) => !props.includes(c))) {
-    const groups = parseActionEvidence(await run(record(`role evidence (${col})`, actionEvidenceSql(relation, col, props), true)), props.length);
-    rowsRead = Math.max(rowsRead, groups.reduce((s, g) => s + g.rows, 0));
-    props.forEach((p, j) => fits.push(balanceFit(col, p, groups, j)));
+  // GROUPING() packs one bit per candidate into an integer: a very wide log is read in chunks of EVIDENCE_CHUNK candidates
+  for (let start = 0; start < candidates.length; start += EVIDENCE_CHUNK) {
+    const chunk = candidates.slice(start, start + EVIDENCE_CHUNK);
+    const table = await run(record(start === 0 ? 'role evidence' : `role evidence (${start + 1}-${start + chunk.length})`, actionEvidenceSql(relation, chunk, props), true));
+    const groups = parseActionEvidence(table, chunk.length, props.length);
+    chunk.forEach((col, i) => {
+      const g = groups[i] ?? [];
+      rowsRead = Math.max(rowsRead, g.reduce((s, x) => s + x.rows, 0));
+      props.forEach((p, j) => fits.push(balanceFit(col, p, g, j)));
+    });
   }
   return { rowsRead, fits };
 }

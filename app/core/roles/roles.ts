@@ -3,7 +3,7 @@
  * and validation with specific messages.
  */
 import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
-import { fitText, ID_REFUSE_SHARE, ID_SUGGEST_SHARE, uniqueness, type BalanceFit, type RoleEvidence } from './evidence.ts';
+import { contradicts, fitText, ID_REFUSE_SHARE, ID_SUGGEST_SHARE, uniqueness, type BalanceFit, type RoleEvidence } from './evidence.ts';
 
 export type { RoleEvidence } from './evidence.ts';
 
@@ -196,14 +196,14 @@ function actionFromEvidence(profile: Profile, evidence: RoleEvidence, propensity
       confidence: tieBroken ? 0.7 : 0.45,
     };
   }
+  // balance holds for no column: the evidence speaks against the named column, or cannot pick one
   const named = others.find((f) => isNamedAction(f.column));
-  const pick = named ?? others[0];
-  if (!pick) return null;
+  if (!named) return null;
   return {
     role: 'action',
-    column: pick.column,
-    reason: `weight balance holds for no column (${named ? 'named like an action' : 'closest'} '${pick.column}': ${fitText(pick)}); check the action and propensity columns`,
-    confidence: named ? 0.35 : 0.2,
+    column: named.column,
+    reason: `named like an action, but weight balance does not hold for it (${fitText(named)}) nor for any other column; check the action and propensity columns`,
+    confidence: 0.35,
   };
 }
 
@@ -372,7 +372,7 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles, evidence?:
   if (a && evidence && roles.propensity) {
     const fit = evidence.fits.find((f) => f.column === a.name && f.propensity === roles.propensity);
     const better = evidence.fits.filter((f) => f.propensity === roles.propensity && f.holds && f.column !== a.name).map((f) => `'${f.column}'`);
-    if (fit && !fit.holds) {
+    if (fit && contradicts(fit)) {
       problems.push({ role: 'action', severity: 'warn', message: `weight balance does not hold for action column '${a.name}' with propensity '${roles.propensity}': ${fitText(fit)}${better.length ? `; it holds for ${better.join(', ')}, which may be the action` : '; either the propensities are mis-logged or the action is another column'}` });
     }
   }

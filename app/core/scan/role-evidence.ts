@@ -16,18 +16,28 @@ export const EVIDENCE_MAX_VALUES = 1000;
 const pExpr = (p: string) => `TRY_CAST(${ident(p)} AS DOUBLE)`;
 const valid = (p: string) => `(${pExpr(p)} > 0 AND ${pExpr(p)} <= 1 AND NOT isnan(${pExpr(p)}))`;
 
-/** The aggregate for one candidate action column against every candidate propensity column. */
-export function actionEvidenceSql(relation: string, candidate: string, propensities: readonly string[], rows = PREFIX_ROWS): string {
-  if (propensities.length === 0) throw new Error('action evidence needs at least one propensity column');
+/**
+ * One aggregate per candidate action column against every candidate propensity column, all of them
+ * grouping sets of one statement so the first rows are read once. Column `g` says which candidate a row
+ * belongs to (its index in `candidates`).
+ */
+export function actionEvidenceSql(relation: string, candidates: readonly string[], propensities: readonly string[], rows = PREFIX_ROWS): string {
+  if (propensities.length === 0 || candidates.length === 0) throw new Error('action evidence needs at least one candidate and one propensity column');
   const sums = propensities.flatMap((p, j) => [
     `count(*) FILTER (WHERE ${valid(p)}) AS n${j}`,
     `sum(1.0 / ${pExpr(p)}) FILTER (WHERE ${valid(p)}) AS s${j}`,
     `sum(1.0 / (${pExpr(p)} * ${pExpr(p)})) FILTER (WHERE ${valid(p)}) AS q${j}`,
   ]);
+  const keys = candidates.map((c, i) => `CAST(${ident(c)} AS VARCHAR) AS k${i}`);
+  const sets = candidates.map((_, i) => `(k${i})`).join(', ');
+  // GROUPING(k0, k1, ...) has bit (n-1-i) clear for candidate i's grouping set
+  const which = candidates.length === 1 ? '0' : `${integer(candidates.length - 1)} - CAST(log2(${integer(2 ** candidates.length - 1)} - GROUPING(${candidates.map((_, i) => `k${i}`).join(', ')})) AS INTEGER)`;
+  const value = candidates.length === 1 ? 'k0' : `CASE ${candidates.map((_, i) => `WHEN GROUPING(k${i}) = 0 THEN k${i}`).join(' ')} END`;
   return [
-    `SELECT CAST(${ident(candidate)} AS VARCHAR) AS value, count(*) AS rows, ${sums.join(', ')}`,
-    `FROM (SELECT * FROM ${relation} LIMIT ${integer(rows)})`,
-    `GROUP BY 1 ORDER BY 1 NULLS LAST LIMIT ${integer(EVIDENCE_MAX_VALUES + 1)}`,
+    `SELECT ${which} AS g, ${value} AS value, count(*) AS rows, ${sums.join(', ')}`,
+    `FROM (SELECT ${keys.join(', ')}, ${propensities.map(ident).join(', ')} FROM ${relation} LIMIT ${integer(rows)})`,
+    `GROUP BY GROUPING SETS (${sets})`,
+    'ORDER BY g, value NULLS LAST',
   ].join('\n');
 }
 
@@ -43,7 +53,19 @@ export interface EvidenceGroup {
 
 const toNumber = (v: Cell | undefined): number => (typeof v === 'number' ? v : typeof v === 'bigint' ? Number(v) : 0);
 
-export function parseActionEvidence(table: Table, propensities: number): EvidenceGroup[] {
+/** The groups of each candidate, in the order given to the builder; more than EVIDENCE_MAX_VALUES + 1 are cut there. */
+export function parseActionEvidence(table: Table, candidates: number, propensities: number): EvidenceGroup[][] {
+  const which = column(table, 'g');
+  const all = parseGroups(table, propensities);
+  const out: EvidenceGroup[][] = Array.from({ length: candidates }, () => []);
+  all.forEach((g, i) => {
+    const list = out[toNumber(which[i])];
+    if (list && list.length <= EVIDENCE_MAX_VALUES) list.push(g);
+  });
+  return out;
+}
+
+function parseGroups(table: Table, propensities: number): EvidenceGroup[] {
   const values = column(table, 'value');
   const rows = column(table, 'rows');
   const per = (prefix: string) => Array.from({ length: propensities }, (_, j) => column(table, `${prefix}${j}`));
