@@ -41,7 +41,7 @@ export function createHostBackend(engine: HostEngine, options: { readonly cubeTa
         const problem = sizeMismatch(input.files, inputs);
         if (problem) throw new Error(problem);
       }
-      const profile = await engine.profile(registered.relation);
+      const { profile, evidence } = await engine.inspect(registered.relation);
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
@@ -49,7 +49,8 @@ export function createHostBackend(engine: HostEngine, options: { readonly cubeTa
         format: registered.format,
         files: [...inputs],
         profile,
-        suggestions: suggestRoles(profile),
+        ...(evidence ? { evidence } : {}),
+        suggestions: suggestRoles(profile, evidence),
       };
     },
 

@@ -6,11 +6,12 @@ import type { AuditStage } from '../../core/audit.ts';
 import type { InputFile, Report } from '../../core/model/report.ts';
 import type { DrillRoles, DrillSelection, PageRequest } from '../../core/scan/drill.ts';
 import type { Profile } from '../../core/scan/profile.ts';
+import type { RoleEvidence } from '../../core/roles/evidence.ts';
 import type { Table } from '../../core/table.ts';
 import { parseReport } from '../../report/validate.ts';
 import { EngineError } from '../types.ts';
 import type { RegisteredSource } from '../types.ts';
-import { decodeProfile, decodeReport, decodeTable, encodeCell } from './codec.ts';
+import { decodeCell, decodeProfile, decodeReport, decodeTable, encodeCell } from './codec.ts';
 import { PROTOCOL_VERSION, type HostReply, type HostRequest, type WireAuditRequest, type WireDrillSelection, type WirePathSource } from './messages.ts';
 import { parseHostReply } from './replies.ts';
 import type { Transport } from './transport.ts';
@@ -55,6 +56,8 @@ export interface HostEngine {
   connect(): Promise<void>;
   register(source: WirePathSource): Promise<HostRegistration>;
   profile(relation: string): Promise<Profile>;
+  /** The same request: the profile and the role evidence the host read with it. */
+  inspect(relation: string): Promise<{ profile: Profile; evidence?: RoleEvidence }>;
   /** The whole audit in one request: the host runs it next to the log and sends the report and the cube. */
   audit(request: HostAuditRequest, onProgress?: (p: AuditProgress) => void, signal?: AbortSignal): Promise<HostAuditResult>;
   drillPage(drill: HostDrill, page: PageRequest, signal?: AbortSignal): Promise<Table>;
@@ -156,6 +159,10 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
     },
     async profile(relation) {
       return decodeProfile(expect(await request({ kind: 'profile', source: relation }), 'profiled').profile);
+    },
+    async inspect(relation) {
+      const reply = expect(await request({ kind: 'profile', source: relation }), 'profiled');
+      return { profile: decodeProfile(reply.profile), ...(reply.evidence === undefined ? {} : { evidence: decodeCell(reply.evidence) as unknown as RoleEvidence }) };
     },
     async audit(auditRequest, onProgress, signal) {
       if (signal?.aborted) throw new EngineError('cancelled', 'The audit was cancelled.');

@@ -140,7 +140,7 @@ export const hostReply = z.discriminatedUnion('kind', [
     /** Size, time and SHA-256 of each file, computed by the host while it reads them (fingerprint.ts). */
     inputs: z.array(inputFile),
   }),
-  z.strictObject({ kind: z.literal('profiled'), id, profile: wireCell }),
+  z.strictObject({ kind: z.literal('profiled'), id, profile: wireCell, evidence: wireCell.optional() }),
   z.strictObject({ kind: z.literal('audit-progress'), id, stage: z.enum(AUDIT_STAGES), done: z.literal(true).optional() }),
   /** The report in the cell wire form (lossless) and the cube as Arrow IPC bytes (app/engine/cube-arrow.ts). */
   z.strictObject({ kind: z.literal('audit-result'), id, report: wireReport, cube: z.custom<Uint8Array>((v) => v instanceof Uint8Array, 'must be the bytes of the cube') }),

@@ -5,17 +5,17 @@
  * reads of registered files only, one SELECT per statement). Cancel and ping are answered at once; the
  * rest run on the engine in arrival order (the engine serialises them).
  */
-import { AuditCancelled, runAuditDetailed } from '../../core/audit.ts';
+import { AuditCancelled, inspectRoles, runAuditDetailed } from '../../core/audit.ts';
 import type { InputFile } from '../../core/model/report.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../core/scan/drill.ts';
-import { describeSql, parseDescribe, profileLog } from '../../core/scan/profile.ts';
+import { describeSql, parseDescribe } from '../../core/scan/profile.ts';
 import { cubeToArrowIpc } from '../cube-arrow.ts';
 import { toEngineError } from '../errors.ts';
 import type { NativeEngine } from '../native.ts';
 import { serialQueue } from '../serial.ts';
 import { EngineError } from '../types.ts';
 import type { RegisteredSource } from '../types.ts';
-import { decodeCell, encodeProfile, encodeReport, encodeTable, findingsWithRows } from './codec.ts';
+import { decodeCell, encodeProfile, encodeReport, encodeTable, encodeValue, findingsWithRows } from './codec.ts';
 import { fingerprintFiles } from './fingerprint.ts';
 import { MAX_REPLY_BYTES, PROTOCOL_VERSION, type HostReply, type HostRequest } from './messages.ts';
 import { ProtocolError } from './protocol-error.ts';
@@ -127,7 +127,9 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
       }
       case 'profile': {
         sourceOf(request.source);
-        reply({ kind: 'profiled', id: request.id, profile: encodeProfile(await profileLog((sql) => engine.query(sql), request.source)) });
+        // the role evidence (app/core/roles/evidence.ts) is one more read of the first rows, next to the log
+        const { profile, evidence } = await inspectRoles((sql) => engine.query(sql), request.source);
+        reply({ kind: 'profiled', id: request.id, profile: encodeProfile(profile), evidence: encodeValue(evidence) });
         return;
       }
       case 'audit':
