@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useState } from 'react';
+import { useCallback, useEffect, useRef, useState } from 'react';
 import type { CheckId, Report } from '../app/core/model/report.ts';
 import { useEngine } from './engine/EngineProvider.tsx';
 import { sourceOf } from './engine/status.ts';
@@ -24,7 +24,19 @@ import { forgetRecent, loadRecent, rememberAudit, type RecentAudit } from './sta
 export function App() {
   const engine = useEngine();
   const { status } = engine;
-  const [view, setView] = useState<View>({ screen: 'open' });
+  const [view, setViewState] = useState<View>({ screen: 'open' });
+  const viewRef = useRef<View>(view);
+  // The screen lives in the URL (#/overview, #/check/balance.weights), so back and forward move between screens.
+  const setView = useCallback((next: View) => {
+    if (hashOf(next) !== hashOf(viewRef.current)) window.history.pushState(null, '', hashOf(next));
+    viewRef.current = next;
+    setViewState(next);
+  }, []);
+  const showView = useCallback((next: View) => {
+    viewRef.current = next;
+    setViewState(next);
+  }, []);
+  const restoring = useRef<View | null>(null);
   const [draft, setDraft] = useState<AuditDraft>(EMPTY_DRAFT);
   const [report, setReport] = useState<Report | null>(null);
   const [recent, setRecent] = useState<RecentAudit[]>(() => loadRecent());
@@ -32,7 +44,28 @@ export function App() {
   const source = sourceOf(status);
 
   useEffect(() => {
+    const onPop = () => {
+      const next = viewOfHash(window.location.hash);
+      if (next) showView(next);
+    };
+    window.addEventListener('popstate', onPop);
+    // A reload on a results screen shows the last finished audit again, from the report this browser kept.
+    const wanted = viewOfHash(window.location.hash);
+    const last = loadRecent()[0]?.report;
+    if (wanted && RESULT_SCREENS.has(wanted.screen) && last) {
+      restoring.current = wanted;
+      engine.showReport(last);
+    } else {
+      window.history.replaceState(null, '', hashOf({ screen: 'open' }));
+    }
+    return () => window.removeEventListener('popstate', onPop);
+    // once, at start
+  }, []);
+
+  useEffect(() => {
     if (status.kind === 'ready' && view.screen === 'open') {
+      // another log was opened: the previous audit gives way to it
+      setReport(null);
       setDraft(draftFromSuggestions(status.source.suggestions));
       setView({ screen: 'roles' });
     } else if (status.kind === 'running') {
@@ -40,7 +73,9 @@ export function App() {
     } else if (status.kind === 'done') {
       setReport(status.report);
       if (status.source) setRecent(rememberAudit(status.source.label, status.report));
-      setView({ screen: 'overview' });
+      const restored = restoring.current;
+      restoring.current = null;
+      if (restored) showView(restored); else setView({ screen: 'overview' });
     } else if (status.kind === 'ready' && view.screen === 'run') {
       setView({ screen: 'targets' });
     }
@@ -48,15 +83,20 @@ export function App() {
   }, [status]);
 
   const openCheck = useCallback((id: CheckId) => setView({ screen: 'check', id }), []);
-  const go = useCallback((next: View) => {
-    if (next.screen === 'open') engine.reset();
-    setView(next);
-  }, [engine]);
+  // Going back to "Open a log" keeps the current audit: it is replaced only when another log is opened.
+  const go = useCallback((next: View) => setView(next), [setView]);
 
   const main = (() => {
     switch (view.screen) {
       case 'open':
-        return <OpenScreen recent={recent} onShowReport={engine.showReport} onForgetRecent={() => { forgetRecent(); setRecent([]); }} />;
+        return (
+          <OpenScreen
+            recent={recent}
+            onShowReport={engine.showReport}
+            onForgetRecent={() => { forgetRecent(); setRecent([]); }}
+            current={report ? { label: source?.label ?? report.input.files.map((f) => f.path.split(/[\\/]/).pop()).join(', '), onContinue: () => setView({ screen: 'overview' }) } : source ? { label: source.label, onContinue: () => setView({ screen: 'roles' }) } : null}
+          />
+        );
       case 'roles':
         return source ? <RolesScreen source={source} draft={draft} onChange={setDraft} onNext={() => setView({ screen: 'targets' })} /> : null;
       case 'targets':
@@ -107,6 +147,20 @@ export function App() {
       </main>
     </div>
   );
+}
+
+const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'weights', 'drift', 'estimates', 'edit', 'signoff', 'check']);
+const ALL_SCREENS: ReadonlySet<string> = new Set(['open', 'roles', 'targets', 'run', ...RESULT_SCREENS]);
+
+function hashOf(view: View): string {
+  return view.screen === 'check' ? `#/check/${view.id}` : `#/${view.screen}`;
+}
+
+function viewOfHash(hash: string): View | null {
+  const m = /^#\/([a-z]+)(?:\/([a-z.]+))?$/.exec(hash);
+  if (!m || !ALL_SCREENS.has(m[1] as string)) return null;
+  if (m[1] === 'check') return m[2] ? { screen: 'check', id: m[2] as CheckId } : null;
+  return { screen: m[1] } as View;
 }
 
 function Logo() {

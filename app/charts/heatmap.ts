@@ -6,7 +6,49 @@ import { SEQUENTIAL_RAMP } from './palette.ts';
  * Segments × actions: y holds the segment labels, x the actions, values[i][j] the cell for (y[i], x[j]).
  * Each cell prints its value, so the map reads without colour; empty cells (null) are left blank.
  */
+/** A z map (unit "z") is drawn on a diverging scale centred on 0; a cell with no rows is its own hatched category. */
+const isZMap = (series: ChartSeries) => series.unit === 'z';
+/** Older reports wrote never-logged cells of the z map as ±99. */
+const NEVER_LOGGED_SENTINEL = 99;
+/** Diverging ramp ColorBrewer "RdBu" (Brewer, colorbrewer2.org), 7 classes: red below 0, blue above, white at 0. */
+export const DIVERGING_RAMP: readonly string[] = ['#b2182b', '#ef8a62', '#fddbc7', '#f7f7f7', '#d1e5f0', '#67a9cf', '#2166ac'];
+const HATCH = { symbol: 'rect', symbolSize: 1, dashArrayX: [1, 0], dashArrayY: [2, 4], rotation: -Math.PI / 4, color: '#5c6167' };
+
+function zMapOption(series: ChartSeries): ChartOption {
+  const ys = series.y ?? series.values.map((_, i) => String(i + 1));
+  const data: [number, number, number][] = [];
+  const never: [number, number, number][] = [];
+  let extent = 0;
+  series.values.forEach((row, i) => {
+    series.x.forEach((_, j) => {
+      const v = row[j];
+      if (v === undefined || v === null || !Number.isFinite(v) || Math.abs(v) >= NEVER_LOGGED_SENTINEL) never.push([j, i, 0]);
+      else { data.push([j, i, v]); extent = Math.max(extent, Math.abs(v)); }
+    });
+  });
+  const bound = Math.max(3, Math.ceil(Math.min(extent, 20)));
+  const cellLabels = series.x.length * ys.length <= 800;
+  return {
+    ...baseOption(seriesTitle(series)),
+    grid: { left: 140, right: 24, top: 48, bottom: 110, containLabel: true },
+    legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false },
+    xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
+    yAxis: { type: 'category', data: categoryLabels(ys), axisLabel: { interval: 0 }, splitArea: { show: true } },
+    visualMap: { type: 'continuous', seriesIndex: 0, min: -bound, max: bound, calculable: false, orient: 'horizontal', left: 'center', bottom: 24, inRange: { color: [...DIVERGING_RAMP] }, text: [`z ≥ +${bound} (more weight than expected)`, `z ≤ −${bound} (less)`] },
+    series: [
+      {
+        type: 'heatmap', name: series.name, data,
+        label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number] }) => formatValue(p.value[2]) },
+        itemStyle: { borderColor: '#ffffff', borderWidth: 1 },
+      },
+      { type: 'heatmap', name: 'never logged', data: never, itemStyle: { color: '#ffffff', borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } },
+    ],
+    aria: { enabled: true, decal: { show: false } },
+  };
+}
+
 export function heatmapOption(series: ChartSeries): ChartOption {
+  if (isZMap(series)) return zMapOption(series);
   const ys = series.y ?? series.values.map((_, i) => String(i + 1));
   const data: [number, number, number | null][] = [];
   let min = Infinity;

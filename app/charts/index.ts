@@ -1,5 +1,5 @@
 import type { ChartOption, ChartSeries } from './types.ts';
-import { barsOption } from './bars.ts';
+import { barsOption, rankedHeight } from './bars.ts';
 import { linesOption } from './lines.ts';
 import { heatmapOption } from './heatmap.ts';
 import { histogramOption } from './histogram.ts';
@@ -27,5 +27,5 @@ export function chartForSeries(series: ChartSeries): ChartOption | null {
 /** Height that fits the chart's categories (heatmaps grow with their segment rows). */
 export function chartHeight(series: ChartSeries): number {
   if (series.kind === 'heatmap') return Math.min(1800, 170 + 18 * (series.y?.length ?? series.values.length));
-  return 300;
+  return rankedHeight(series) ?? 300;
 }

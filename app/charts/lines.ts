@@ -9,6 +9,27 @@ import { seriesColour } from './palette.ts';
  * height (high − low), the usual ECharts confidence-band construction. Rows labelled plainly "ci_low" and
  * "ci_high" belong to the first line.
  */
+/** A series whose unit says "change at <x>" marks that x with a labelled vertical line. */
+export function changePoint(series: ChartSeries): string | null {
+  const m = /^change at (.+)$/.exec(series.unit ?? '');
+  if (!m) return null;
+  const at = m[1] as string;
+  return series.x.map(String).includes(at) ? at : null;
+}
+
+function changeMark(series: ChartSeries): Record<string, unknown> {
+  const at = changePoint(series);
+  if (at === null) return {};
+  return {
+    markLine: {
+      symbol: 'none', silent: true,
+      lineStyle: { color: '#000000', type: 'dashed', width: 1.5 },
+      label: { formatter: `change point ${at.slice(0, 10)}`, position: 'insideEndTop', color: '#000000' },
+      data: [{ xAxis: at }],
+    },
+  };
+}
+
 export function linesOption(series: ChartSeries): ChartOption {
   const labels = series.values.map((_, i) => labelOf(series, i));
   const isBound = (l: string) => l.endsWith(CI_LOW_SUFFIX) || l.endsWith(CI_HIGH_SUFFIX) || l === 'ci_low' || l === 'ci_high';
@@ -30,13 +51,13 @@ export function linesOption(series: ChartSeries): ChartOption {
         data: hi.map((h, j) => { const b = lo[j]; return h === null || b === null || b === undefined ? null : h - b; }),
       });
     }
-    out.push({ type: 'line', name: l, data: rowOf(series, i), color: colour, symbolSize: 5, lineStyle: { width: 2 } });
+    out.push({ type: 'line', name: l, data: rowOf(series, i), color: colour, symbolSize: 5, lineStyle: { width: 2 }, ...(k === 0 ? changeMark(series) : {}) });
   });
   return {
     ...baseOption(seriesTitle(series)),
     legend: legendFor(lineIndexes.map(({ l }) => l)),
     xAxis: { type: 'category', data: categoryLabels(series.x), boundaryGap: false, axisLabel: { rotate: series.x.length > 10 ? 40 : 0 } },
-    yAxis: { type: 'value', name: series.unit ?? '', scale: true },
+    yAxis: { type: 'value', name: changePoint(series) ? 'reward' : (series.unit ?? ''), scale: true },
     series: out,
   };
 }

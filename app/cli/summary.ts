@@ -1,6 +1,7 @@
 /** The terminal summary of an audit: header (rows, columns), verdict first, then each check. */
 import type { Report, Status, Verdict } from '../core/model/report.ts';
 import { STATUS_LABELS } from '../charts/palette.ts';
+import { SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
 import { fmtInterval, fmtNumber, fmtShare } from '../report/format.ts';
 import type { ColumnInfo } from './sources.ts';
 import { terminalText as t_ } from './terminal-text.ts';
@@ -49,7 +50,7 @@ export function formatAuditSummary(report: Report, columns: readonly ColumnInfo[
   out.push(paint.bold('Checks'));
   const idWidth = Math.max(...report.checks.map((c) => c.id.length), 0);
   for (const c of report.checks) {
-    const label = STATUS_LABELS[c.status];
+    const label = SHOWN_STATUS[shownStatus(c)];
     out.push(`  ${paint.status(c.status, `${label.icon} ${label.text.padEnd(7)}`)} ${t_(c.id).padEnd(idWidth)}  ${t_(c.summary)}`);
   }
   if (report.targets.length > 0) {

@@ -5,6 +5,7 @@
  */
 import type { CheckResult, Estimate, Finding, Metrics, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
+import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
 import type { ChartOption } from '../charts/types.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
 import { html, trustedSvg, type SafeHtml } from './html-template.ts';
@@ -90,6 +91,14 @@ function statusBadge(status: Status): SafeHtml {
   return html`<span class="status status-${status}"><span aria-hidden="true">${label.icon}</span> ${label.text}</span>`;
 }
 
+/** A check's status in the one vocabulary of the UI, terminal and report (app/charts/labels.ts). */
+function checkBadge(check: CheckResult): SafeHtml {
+  const shown = shownStatus(check);
+  const label = SHOWN_STATUS[shown];
+  const css = shown === 'not-applicable' || shown === 'not-run' || shown === 'informational' ? 'skipped' : shown;
+  return html`<span class="status status-${css}" title="${label.explain}"><span aria-hidden="true">${label.icon}</span> ${label.text}</span>`;
+}
+
 function verdictSection(report: Report): SafeHtml {
   const v = VERDICT_TEXT[report.verdict];
   return html`
@@ -117,7 +126,7 @@ function tocBlock(report: Report): SafeHtml {
 function overviewSection(checks: readonly CheckResult[]): SafeHtml {
   return html`<h2 id="overview">Checks at a glance</h2>
 <table><thead><tr><th>Check</th><th>Status</th><th>Summary</th></tr></thead><tbody>
-${checks.map((c) => html`<tr><td><a href="#check-${c.id}">${c.title}</a><br><code class="small">${c.id}</code></td><td>${statusBadge(c.status)}</td><td>${c.summary}</td></tr>`)}
+${checks.map((c) => html`<tr><td><a href="#check-${c.id}">${c.title}</a><br><code class="small">${c.id}</code></td><td>${checkBadge(c)}</td><td>${c.summary}</td></tr>`)}
 </tbody></table>`;
 }
 
@@ -153,11 +162,12 @@ ${segments.length > shown.length ? html`<p class="muted">${segments.length - sho
 function metricsTable(metrics: Metrics): SafeHtml {
   const entries = Object.entries(metrics);
   if (entries.length === 0) return html``;
-  return html`<table class="kv"><tbody>${entries.map(([k, v]) => html`<tr><td>${k}</td><td>${fmtCell(v)}</td></tr>`)}</tbody></table>`;
+  // the label, with its plain explanation and source on hover (title) and in print as the small line under it
+  return html`<table class="kv"><tbody>${entries.map(([k, v]) => { const w = metricWords(k); return html`<tr><td title="${w.explain}${w.source ? ` Source: ${w.source}.` : ''}">${w.label}<br><span class="muted small">${w.explain}</span></td><td>${fmtCell(v)}</td></tr>`; })}</tbody></table>`;
 }
 
 function inlineMetrics(metrics: Metrics): string {
-  return Object.entries(metrics).map(([k, v]) => `${k}=${fmtCell(v)}`).join('; ');
+  return Object.entries(metrics).map(([k, v]) => `${metricWords(k).label}: ${fmtCell(v)}`).join('; ');
 }
 
 function findingRow(f: Finding): SafeHtml {
@@ -172,7 +182,7 @@ ${f.sql ? html`<pre>${f.sql}</pre>` : ''}</td></tr>`;
 function checkSection(check: CheckResult, chart: ChartFn): SafeHtml {
   const findings = check.findings.slice(0, MAX_FINDINGS);
   return html`<section class="check" id="check-${check.id}">
-<h3>${check.title} <code class="small">${check.id}</code> ${statusBadge(check.status)}</h3>
+<h3>${check.title} <code class="small">${check.id}</code> ${checkBadge(check)}</h3>
 <p>${check.summary}</p>
 ${metricsTable(check.metrics)}
 ${findings.length > 0 ? html`<table class="findings"><colgroup><col class="c-status"><col class="c-segment"><col class="c-action"><col class="c-window"><col class="c-target"><col></colgroup><thead><tr><th>Status</th><th>Segment</th><th>Action</th><th>Window</th><th>Target</th><th>Finding</th></tr></thead><tbody>${findings.map(findingRow)}</tbody></table>` : html`<p class="muted">No findings.</p>`}

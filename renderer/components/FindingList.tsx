@@ -2,6 +2,7 @@ import type { Finding } from '../../app/core/model/report.ts';
 import { formatValue, segmentLabel } from '../format.ts';
 import { StatusBadge } from './StatusBadge.tsx';
 import { SqlBlock } from './SqlBlock.tsx';
+import { Term } from './Term.tsx';
 
 function FindingItem({ finding }: { finding: Finding }) {
   const examples = finding.examples ?? [];
@@ -20,7 +21,7 @@ function FindingItem({ finding }: { finding: Finding }) {
       <p>{finding.message}</p>
       {Object.keys(finding.metrics).length > 0 && (
         <dl className="finding-metrics">
-          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt>{k}</dt><dd>{formatValue(v)}</dd></div>)}
+          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt><Term metric={k} /></dt><dd>{formatValue(v)}</dd></div>)}
         </dl>
       )}
       {examples.length > 0 && (

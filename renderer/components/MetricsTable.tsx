@@ -1,5 +1,6 @@
 import type { Metrics } from '../../app/core/model/report.ts';
 import { formatValue } from '../format.ts';
+import { Term } from './Term.tsx';
 
 export function MetricsTable({ metrics, caption }: { metrics: Metrics; caption: string }) {
   const entries = Object.entries(metrics);
@@ -8,7 +9,7 @@ export function MetricsTable({ metrics, caption }: { metrics: Metrics; caption: 
     <table className="metrics">
       <caption>{caption}</caption>
       <tbody>
-        {entries.map(([k, v]) => <tr key={k}><th scope="row"><code>{k}</code></th><td>{formatValue(v)}</td></tr>)}
+        {entries.map(([k, v]) => <tr key={k}><th scope="row"><Term metric={k} /></th><td>{formatValue(v)}</td></tr>)}
       </tbody>
     </table>
   );

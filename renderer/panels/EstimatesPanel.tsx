@@ -4,6 +4,7 @@ import { chartForEstimates } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
 import { formatValue } from '../format.ts';
 import { CheckSection } from './CheckSection.tsx';
+import { Term } from '../components/Term.tsx';
 
 function onPolicyValue(report: Report): number | null {
   const metrics = report.checks.find((c) => c.id === 'estimate.preview')?.metrics ?? {};
@@ -47,7 +48,7 @@ export function EstimatesPanel({ report, onOpenCheck }: { report: Report; onOpen
         <table className="estimates-table">
           <caption>Estimates by target (95% intervals)</caption>
           <thead>
-            <tr><th scope="col">Target</th><th scope="col">IPS</th><th scope="col">IPS interval</th><th scope="col">SNIPS</th><th scope="col">SNIPS interval</th><th scope="col">Doubly robust</th><th scope="col">DR interval</th><th scope="col">Smallest detectable difference</th></tr>
+            <tr><th scope="col">Target</th><th scope="col"><Term metric="ips" label="IPS" /></th><th scope="col">IPS interval</th><th scope="col"><Term metric="snips" label="SNIPS" /></th><th scope="col">SNIPS interval</th><th scope="col"><Term metric="dr" label="Doubly robust" /></th><th scope="col">DR interval</th><th scope="col"><Term metric="detectable_difference" label="Smallest detectable difference" /><br /><span className="help">at 5% two-sided, 80% power</span></th></tr>
           </thead>
           <tbody>
             {report.targets.map((t) => (

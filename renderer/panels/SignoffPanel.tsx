@@ -3,6 +3,7 @@ import type { Report, Signoff } from '../../app/core/model/report.ts';
 import { Cautions } from '../components/Cautions.tsx';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { downloadText, reportJson, signReport } from '../export/report-file.ts';
+import { renderHtmlReport } from '../../app/report/html.ts';
 
 const DECISIONS: readonly { value: Signoff['decision']; words: string }[] = [
   { value: 'approve', words: 'Approve: the log supports the evaluation' },
@@ -29,7 +30,7 @@ export function SignoffPanel({ report, onSigned }: { report: Report; onSigned: (
 
   return (
     <section className="screen" aria-labelledby="signoff-title">
-      <h1 id="signoff-title">Sign-off</h1>
+      <h1 id="signoff-title">Sign-off: your decision on this log</h1>
       <p className="lead">The tool's verdict is <VerdictBadge verdict={report.verdict} compact />. The decision below is yours.</p>
       <form className="card signoff-form" onSubmit={(e) => { e.preventDefault(); sign(); }}>
         <label htmlFor="reviewer">Reviewer</label>
@@ -49,11 +50,12 @@ export function SignoffPanel({ report, onSigned }: { report: Report; onSigned: (
         <div className="actions">
           <button type="submit" className="button primary">Record the sign-off</button>
           <button type="button" className="button" onClick={() => downloadText(reportJson(report), fileName(report))}>{report.signoff ? 'Export signed report JSON' : 'Export report JSON'}</button>
+          <button type="button" className="button" onClick={() => downloadText(renderHtmlReport(report), fileName(report).replace(/\.json$/, '.html'), 'text/html')}>Export HTML report</button>
         </div>
       </form>
       {report.signoff && (
         <div className="card" role="status">
-          <h2>Signed</h2>
+          <h2>{report.signoff.signature ? 'Sign-off recorded and signed (Ed25519)' : 'Sign-off recorded (not cryptographically signed)'}</h2>
           <p>{report.signoff.reviewer} — <strong>{report.signoff.decision}</strong> at {report.signoff.signed_at}</p>
           <p className="muted">Report digest (SHA-256 of the canonical report without the sign-off): <code className="digest">{report.signoff.digest}</code></p>
           <p className="muted">Recorded, not cryptographically signed: to add an Ed25519 signature, export the JSON and run <code>counterweight sign</code> with <code>--key</code>.</p>

@@ -3,12 +3,13 @@ import { FindingList } from '../components/FindingList.tsx';
 import { MetricsTable } from '../components/MetricsTable.tsx';
 import { SeriesView } from '../components/SeriesView.tsx';
 import { StatusBadge } from '../components/StatusBadge.tsx';
+import { shownStatus } from '../../app/charts/labels.ts';
 
 export function CheckScreen({ check, onBack }: { check: CheckResult; onBack: () => void }) {
   return (
     <section aria-labelledby="check-title" className="screen">
       <button type="button" className="button link" onClick={onBack}>← Overview</button>
-      <h1 id="check-title">{check.title} <StatusBadge status={check.status} /></h1>
+      <h1 id="check-title">{check.title} <StatusBadge status={shownStatus(check)} /></h1>
       <p className="lead"><code>{check.id}</code> — {check.summary}</p>
       <div className="detail-grid">
         <MetricsTable metrics={check.metrics} caption="Numbers behind the status" />

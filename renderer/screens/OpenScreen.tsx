@@ -10,9 +10,11 @@ interface Props {
   readonly recent: readonly RecentAudit[];
   readonly onShowReport: (report: Report) => void;
   readonly onForgetRecent: () => void;
+  /** The log or audit still open: opening another log replaces it. */
+  readonly current?: { readonly label: string; readonly onContinue: () => void } | null;
 }
 
-export function OpenScreen({ recent, onShowReport, onForgetRecent }: Props) {
+export function OpenScreen({ recent, onShowReport, onForgetRecent, current }: Props) {
   const { open, openDemo, status, traits, mode } = useEngine();
   const busy = status.kind === 'loading';
 
@@ -24,6 +26,12 @@ export function OpenScreen({ recent, onShowReport, onForgetRecent }: Props) {
         and the reward that followed — can support an off-policy estimate. Nothing leaves this computer.
       </p>
 
+      {current && (
+        <p className="notice" role="status">
+          Still open: <strong>{current.label}</strong>. It stays until you open another log.{' '}
+          <button type="button" className="button small" onClick={current.onContinue}>Back to it</button>
+        </p>
+      )}
       <div className="open-grid">
         {traits.opensBy === 'files' ? (
           <FilePicker busy={busy} onFiles={(files) => open({ kind: 'files', files })} />

@@ -1,5 +1,6 @@
 import type { CheckId, Report } from '../../app/core/model/report.ts';
 import { StatusBadge } from '../components/StatusBadge.tsx';
+import { shownStatus } from '../../app/charts/labels.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { Cautions } from '../components/Cautions.tsx';
 
@@ -55,7 +56,7 @@ export function OverviewScreen({ report, onOpenCheck, onCompare }: { report: Rep
         <tbody>
           {report.checks.map((c) => (
             <tr key={c.id} data-check={c.id}>
-              <td><StatusBadge status={c.status} /></td>
+              <td><StatusBadge status={shownStatus(c)} /></td>
               <td><strong>{c.title}</strong><div className="muted"><code>{c.id}</code></div></td>
               <td>{c.summary}</td>
               <td><button type="button" className="button small" onClick={() => onOpenCheck(c.id)} aria-label={`Details of ${c.title}`}>Details</button></td>

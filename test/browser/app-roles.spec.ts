@@ -62,4 +62,30 @@ test('a booking log with unseen column names: roles right with no edits, actions
     await nav.getByRole('button', { name }).click();
     await noSeriousViolations(page, name);
   }
+  await expect(page.getByRole('heading', { name: 'Sign-off: your decision on this log' })).toBeVisible();
+
+  // the HTML report is exported from the page
+  const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export HTML report' }).click()]);
+  expect(download.suggestedFilename()).toMatch(/\.html$/);
+
+  // browser back and forward move between screens; the screen is in the URL
+  await page.goBack();
+  expect(page.url()).toMatch(/#\/edit$/);
+  await expect(page.getByRole('heading', { name: 'Edit a target policy' })).toBeVisible();
+  await page.goBack();
+  await expect(page.getByRole('heading', { name: 'Estimate preview', level: 1 })).toBeVisible();
+  await page.goForward();
+  await expect(page.getByRole('heading', { name: 'Edit a target policy' })).toBeVisible();
+  expect(page.url()).toMatch(/#\/edit$/);
+
+  // going back to "Open a log" keeps the audit
+  await nav.getByRole('button', { name: 'Open a log' }).click();
+  await expect(page.getByText(/Still open: harbour-stays\.csv/)).toBeVisible();
+  await noSeriousViolations(page, 'open with an audit');
+  await page.getByRole('button', { name: 'Back to it' }).click();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible();
+
+});
+  await nav.getByRole('button', { name: 'Overview' }).click();
+  await expect(page.locator('[data-check="balance.weights"]')).toBeVisible();
 });

@@ -1,4 +1,5 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
+import { wilsonInterval } from '../stats/wilson.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
 import { literal } from '../sql/quote.ts';
@@ -123,7 +124,7 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
       ...(where ? { where } : {}),
     };
   });
-  const series: Series[] = flagged.slice(0, MAX_SERIES).map(({ t }) => driftSeries(t, b.originUs, b.widthUs));
+  const series: Series[] = flagged.slice(0, MAX_SERIES).map(({ t }) => driftSeries(t, b.originUs, b.widthUs, binary));
   const status = flagged.length ? 'warn' : 'pass';
   const bySegment = new Map<string, number>();
   for (const f of findings) bySegment.set(describeSegment(f.segment), (bySegment.get(describeSegment(f.segment)) ?? 0) + 1);
@@ -189,18 +190,26 @@ function stratifiedTests(groups: ReturnType<typeof groupsOf>): RewardDriftTest[]
   return out;
 }
 
-function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number): Series {
+/** The mean per bucket with a 95% band: Wilson score intervals for a 0/1 reward (inside [0, 1]), normal ones otherwise. */
+function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number, binary: boolean): Series {
   const mean = t.buckets.map((m) => (m.n > 0 ? m.sum / m.n : null));
-  const half = t.buckets.map((m) => {
+  const band = t.buckets.map((m): [number, number] | null => {
+    if (binary) {
+      if (m.n < 1) return null;
+      const ci = wilsonInterval(Math.round(m.sum), m.n, Z95);
+      return [ci.low, ci.high];
+    }
     if (m.n < 2) return null;
     const v = Math.max(0, (m.sumSq - (m.sum * m.sum) / m.n) / (m.n - 1));
-    return Z95 * Math.sqrt(v / m.n);
+    const half = Z95 * Math.sqrt(v / m.n);
+    const mu = m.sum / m.n;
+    return [mu - half, mu + half];
   });
   return {
     name: `reward: ${t.action === '*' ? 'all actions' : t.action} in ${describeSegment(t.segment)}`,
     kind: 'lines',
     x: t.buckets.map((_, i) => isoUs(originUs + i * widthUs)),
-    values: [mean, mean.map((m, i) => (m === null || half[i] === null ? null : m - (half[i] as number))), mean.map((m, i) => (m === null || half[i] === null ? null : m + (half[i] as number)))],
+    values: [mean, band.map((x) => (x ? x[0] : null)), band.map((x) => (x ? x[1] : null))],
     labels: ['mean', 'ci_low', 'ci_high'],
     unit: t.change ? `change at ${isoUs(originUs + t.change.index * widthUs)}` : 'reward',
   };
