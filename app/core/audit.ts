@@ -13,7 +13,7 @@ import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputF
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
-import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube } from './scan/cube.ts';
+import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
@@ -163,7 +163,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   guard();
   if (rowsExpr) {
     progress('cube');
-    const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity }), true));
+    const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward: rewardShift(profile.columns.find((c) => c.name === roles.reward)), rowCount: profile.rows }), true));
     cells = parseCube(cube, segmentColumns.length);
     for (const [i, distinct] of parseCappedDistinct(cube, capped)) {
       const c = segmentColumns[i] as string;

@@ -42,7 +42,8 @@ export interface RewardDriftTest {
   readonly change: ChangePoint | null;
 }
 
-type Moments = { n: number; sum: number; sumSq: number };
+/** Reward moments of one bucket; `centred` holds the same over d = r − shift (the cube's centred sums), for variances. */
+type Moments = { n: number; sum: number; sumSq: number; centred: { n: number; sum: number; sumSq: number } };
 type RewardGroup = { segment: Record<string, string>; action: string; buckets: Moments[] };
 
 /** Per (all rows | one segment value) × action: reward moments per time bucket, groups in first-seen order. */
@@ -52,7 +53,7 @@ function groupsOf(ctx: AuditContext): RewardGroup[] {
   const out = new Map<string, RewardGroup>();
   const open = (key: string, segment: () => Record<string, string>, action: string): RewardGroup => {
     let g = out.get(key);
-    if (!g) out.set(key, (g = { segment: segment(), action, buckets: Array.from({ length: b.count }, () => ({ n: 0, sum: 0, sumSq: 0 })) }));
+    if (!g) out.set(key, (g = { segment: segment(), action, buckets: Array.from({ length: b.count }, () => ({ n: 0, sum: 0, sumSq: 0, centred: { n: 0, sum: 0, sumSq: 0 } })) }));
     return g;
   };
   // the group of each (column, value, action) is looked up by its key once, then by small integer ids
@@ -70,6 +71,9 @@ function groupsOf(ctx: AuditContext): RewardGroup[] {
     m.n += c.nRAll;
     m.sum += c.sumRAll;
     m.sumSq += c.sumR2All;
+    m.centred.n += c.nRAll;
+    m.centred.sum += c.sumDAll;
+    m.centred.sumSq += c.sumD2All;
   };
   for (const c of ctx.cells) {
     if (c.bucket < 0 || c.bucket >= b.count || c.action === '(null)') continue;
@@ -96,7 +100,8 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
     const used = g.buckets.map((m, i) => ({ m, i })).filter(({ m }) => m.n > 0);
     const windows = coarsen(g.buckets, TEST_WINDOWS).filter((m) => m.n >= MIN_BUCKET_ROWS);
     if (used.length < 2 || windows.length < 2) continue;
-    const p = binary ? chiSquareHomogeneity(windows.map((m) => [m.sum, m.n - m.sum])).pValue : oneWayAnova(windows).pValue;
+    // ANOVA is invariant to a common shift, so it reads the centred sums, whose within-group squares do not cancel
+    const p = binary ? chiSquareHomogeneity(windows.map((m) => [m.sum, m.n - m.sum])).pValue : oneWayAnova(coarsen(g.buckets.map((m) => m.centred), TEST_WINDOWS).filter((m) => m.n >= MIN_BUCKET_ROWS)).pValue;
     const cp = bestChangePoint(used.map(({ m }) => m));
     const change = cp ? { ...cp, index: (used[cp.index] as { i: number }).i } : null;
     tests.push({ segment: g.segment, action: g.action, buckets: g.buckets, p, change });

@@ -50,7 +50,7 @@ export function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('estimate.preview', 'the propensity, action or reward role is missing');
   const t = ctx.view.total;
   if (t.nRAll < 2) return skipped('estimate.preview', 'fewer than 2 rows have a reward');
-  const onPolicy = model(onPolicyValue(t.nRAll, t.sumRAll, t.sumR2All));
+  const onPolicy = model(onPolicyValue(t.nRAll, t.sumRAll, t.sumR2All, { sumD: t.sumDAll, sumD2: t.sumD2All }));
   const maxRel = ctx.settings['estimate.preview.max_relative_halfwidth'];
   const rewarded = ctx.cells.filter((c) => c.action !== '(null)').reduce((s, c) => s + c.nRw, 0);
   const findings: DraftFinding[] = [];

@@ -22,18 +22,29 @@ export interface MeasureContext {
   readonly floor: number;
 }
 
+/**
+ * One aggregate, written as its term and filter so that the cube query can sum it exactly
+ * (app/core/scan/cube.ts): `integral` sums add whole numbers only (counts), which doubles add exactly
+ * in any order; every other sum is accumulated in fixed point.
+ */
+export type Aggregate =
+  | { readonly sum: string; readonly where?: string; readonly integral?: boolean }
+  | { readonly min: string; readonly where: string }
+  | { readonly max: string; readonly where: string };
+
 export interface Measure<F extends string = string, M extends Merge = Merge> {
   readonly field: F;
   /** column name in the cube query's result */
   readonly column: string;
   readonly merge: M;
-  /** aggregate over the rows (columns p, r and q of the cube's base projection) */
-  readonly rows: (x: MeasureContext) => string;
+  /** aggregate over the rows (columns p, r, d = r − shift and q of the cube's base projection) */
+  readonly rows: (x: MeasureContext) => Aggregate;
   /**
    * the same aggregate over groups of rows sharing (cell keys, p), with c = rows, c_r = rows with a
-   * finite reward, s_r / s_r2 = their Σr / Σr²: Σ_rows f(p) = Σ_g c·f(p) and Σ_rows r·f(p) = Σ_g s_r·f(p)
+   * finite reward, s_r / s_r2 = their Σr / Σr², s_d / s_d2 = their Σd / Σd²: Σ_rows f(p) = Σ_g c·f(p)
+   * and Σ_rows r·f(p) = Σ_g s_r·f(p)
    */
-  readonly groups: (x: MeasureContext) => string;
+  readonly groups: (x: MeasureContext) => Aggregate;
 }
 
 const PV = VALID_P;
@@ -42,63 +53,72 @@ const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
 const QV = `${PV} AND ${VALID_Q}`;
 const QRW = `${RW} AND ${VALID_Q}`;
 
-const rowCount = (where: string) => `count(*) FILTER (WHERE ${where})::DOUBLE`;
-const groupCount = (where: string) => `coalesce(sum(c) FILTER (WHERE ${where}), 0)::DOUBLE`;
-const rowSum = (x: string, where: string) => `coalesce(sum(${x}) FILTER (WHERE ${where}), 0)::DOUBLE`;
-const groupSum = (x: string, where?: string) => `coalesce(sum(${x})${where ? ` FILTER (WHERE ${where})` : ''}, 0)::DOUBLE`;
+/** rows where `where` holds: over rows a count, over groups a sum of group sizes */
+const rowCount = (where?: string): Aggregate => ({ sum: '1', integral: true, ...(where ? { where } : {}) });
+const groupCount = (where?: string): Aggregate => ({ sum: 'c', integral: true, ...(where ? { where } : {}) });
+const sum = (term: string, where?: string): Aggregate => ({ sum: term, ...(where ? { where } : {}) });
 
 /** A count of rows satisfying `where` (a condition on p only, so it holds for a whole (keys, p) group). */
-function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string): Measure<F, 'sum'> {
+function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string | undefined): Measure<F, 'sum'> {
   return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)) };
 }
 
-function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: string, groups: string): Measure<F, M> {
+function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: Aggregate, groups: Aggregate): Measure<F, M> {
   return { field, column, merge, rows: () => rows, groups: () => groups };
 }
 
 /** The measures of every cell, in the cube query's column order. */
 export const CELL_MEASURES = [
-  measure('n', 'n', 'sum', 'count(*)::DOUBLE', 'sum(c)::DOUBLE'),
+  count('n', 'n', () => undefined),
   count('nPNull', 'n_p_null', () => 'p IS NULL'),
   count('nPNaN', 'n_p_nan', () => 'isnan(p)'),
   count('nPNonPositive', 'n_p_nonpos', () => 'p <= 0'),
   count('nPAboveOne', 'n_p_above', () => 'p > 1 AND NOT isnan(p)'),
   count('nPOne', 'n_p_one', () => 'p = 1'),
   count('nPBelowFloor', 'n_p_floor', (x) => `${PV} AND p < ${double(x.floor)}`),
-  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), groupSum('c - c_r')),
+  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), { sum: 'c - c_r', integral: true }),
   count('nP', 'n_p', () => PV),
-  measure('sumInvP', 's_ip', 'sum', rowSum('1 / p', PV), groupSum('c / p', PV)),
-  measure('sumInvP2', 's_ip2', 'sum', rowSum('1 / (p * p)', PV), groupSum('c / (p * p)', PV)),
-  measure('minP', 'min_p', 'min', `min(p) FILTER (WHERE ${PV})`, `min(p) FILTER (WHERE ${PV})`),
-  measure('maxP', 'max_p', 'max', `max(p) FILTER (WHERE ${PV})`, `max(p) FILTER (WHERE ${PV})`),
-  measure('nRw', 'n_rw', 'sum', rowCount(RW), groupSum('c_r', PV)),
-  measure('sumInvPRw', 's_ip_rw', 'sum', rowSum('1 / p', RW), groupSum('c_r / p', PV)),
-  measure('sumInvP2Rw', 's_ip2_rw', 'sum', rowSum('1 / (p * p)', RW), groupSum('c_r / (p * p)', PV)),
-  measure('sumR', 's_r', 'sum', rowSum('r', RW), groupSum('s_r', PV)),
-  measure('sumR2', 's_r2', 'sum', rowSum('r * r', RW), groupSum('s_r2', PV)),
-  measure('sumRInvP', 's_rip', 'sum', rowSum('r / p', RW), groupSum('s_r / p', PV)),
-  measure('sumRInvP2', 's_rip2', 'sum', rowSum('r / (p * p)', RW), groupSum('s_r / (p * p)', PV)),
-  measure('sumR2InvP2', 's_r2ip2', 'sum', rowSum('r * r / (p * p)', RW), groupSum('s_r2 / (p * p)', PV)),
-  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), groupSum('c_r')),
-  measure('sumRAll', 's_rall', 'sum', rowSum('r', VALID_R), groupSum('s_r')),
-  measure('sumR2All', 's_r2all', 'sum', rowSum('r * r', VALID_R), groupSum('s_r2')),
+  measure('sumInvP', 's_ip', 'sum', sum('1 / p', PV), sum('c / p', PV)),
+  measure('sumInvP2', 's_ip2', 'sum', sum('1 / (p * p)', PV), sum('c / (p * p)', PV)),
+  measure('minP', 'min_p', 'min', { min: 'p', where: PV }, { min: 'p', where: PV }),
+  measure('maxP', 'max_p', 'max', { max: 'p', where: PV }, { max: 'p', where: PV }),
+  measure('nRw', 'n_rw', 'sum', rowCount(RW), { sum: 'c_r', where: PV, integral: true }),
+  measure('sumInvPRw', 's_ip_rw', 'sum', sum('1 / p', RW), sum('c_r / p', PV)),
+  measure('sumInvP2Rw', 's_ip2_rw', 'sum', sum('1 / (p * p)', RW), sum('c_r / (p * p)', PV)),
+  measure('sumR', 's_r', 'sum', sum('r', RW), sum('s_r', PV)),
+  measure('sumR2', 's_r2', 'sum', sum('r * r', RW), sum('s_r2', PV)),
+  measure('sumRInvP', 's_rip', 'sum', sum('r / p', RW), sum('s_r / p', PV)),
+  measure('sumRInvP2', 's_rip2', 'sum', sum('r / (p * p)', RW), sum('s_r / (p * p)', PV)),
+  measure('sumR2InvP2', 's_r2ip2', 'sum', sum('r * r / (p * p)', RW), sum('s_r2 / (p * p)', PV)),
+  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), { sum: 'c_r', integral: true }),
+  measure('sumRAll', 's_rall', 'sum', sum('r', VALID_R), sum('s_r')),
+  measure('sumR2All', 's_r2all', 'sum', sum('r * r', VALID_R), sum('s_r2')),
+  /**
+   * Centred reward sums, d = r − shift with the cube's one shift (the middle of the reward's range):
+   * a variance formed from them, Σd² − (Σd)²/n, does not cancel as Σr² − (Σr)²/n does when the mean is
+   * large against the spread (Chan, Golub & LeVeque 1983, "Algorithms for computing the sample variance").
+   */
+  measure('sumD', 's_d', 'sum', sum('d', RW), sum('s_d', PV)),
+  measure('sumD2', 's_d2', 'sum', sum('d * d', RW), sum('s_d2', PV)),
+  measure('sumDAll', 's_dall', 'sum', sum('d', VALID_R), sum('s_d')),
+  measure('sumD2All', 's_d2all', 'sum', sum('d * d', VALID_R), sum('s_d2')),
 ] as const;
 
 /** Row-level only: a target-propensity column makes the cube read every row. */
-const rowsOnly = <F extends string>(field: F, column: string, rows: string): Measure<F, 'sum'> => ({
+const rowsOnly = <F extends string>(field: F, column: string, rows: Aggregate): Measure<F, 'sum'> => ({
   field, column, merge: 'sum', rows: () => rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
 });
 
 /** Sums for a mapped target_propensity column q (row weight q/p), same row sets; on cell.target. */
 export const TARGET_MEASURES = [
   rowsOnly('nInvalid', 't_n_invalid', rowCount(`NOT coalesce(${VALID_Q}, false)`)),
-  rowsOnly('sumW', 't_sw', rowSum('q / p', QV)),
-  rowsOnly('sumW2', 't_sw2', rowSum('q * q / (p * p)', QV)),
-  rowsOnly('sumWRw', 't_sw_rw', rowSum('q / p', QRW)),
-  rowsOnly('sumW2Rw', 't_sw2_rw', rowSum('q * q / (p * p)', QRW)),
-  rowsOnly('sumWR', 't_swr', rowSum('q * r / p', QRW)),
-  rowsOnly('sumW2R', 't_sw2r', rowSum('q * q * r / (p * p)', QRW)),
-  rowsOnly('sumW2R2', 't_sw2r2', rowSum('q * q * r * r / (p * p)', QRW)),
+  rowsOnly('sumW', 't_sw', sum('q / p', QV)),
+  rowsOnly('sumW2', 't_sw2', sum('q * q / (p * p)', QV)),
+  rowsOnly('sumWRw', 't_sw_rw', sum('q / p', QRW)),
+  rowsOnly('sumW2Rw', 't_sw2_rw', sum('q * q / (p * p)', QRW)),
+  rowsOnly('sumWR', 't_swr', sum('q * r / p', QRW)),
+  rowsOnly('sumW2R', 't_sw2r', sum('q * q * r / (p * p)', QRW)),
+  rowsOnly('sumW2R2', 't_sw2r2', sum('q * q * r * r / (p * p)', QRW)),
 ] as const;
 
 /** Fields computed from other fields of the same cell when it is parsed; they merge as sums. */

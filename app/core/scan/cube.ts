@@ -4,9 +4,9 @@
  * fold the rest into "(other)" inside the same statement, by merging cells (sums add, mins and
  * maxes combine), so capping costs no extra scan.
  */
-import { blankCell, blankTargetSums, CELL_MEASURES, DERIVED_MEASURES, TARGET_MEASURES, type Measure, type Merge } from '../cube/measures.ts';
+import { blankCell, blankTargetSums, CELL_MEASURES, DERIVED_MEASURES, TARGET_MEASURES, type Aggregate, type Measure, type Merge } from '../cube/measures.ts';
 import type { CubeCell } from '../cube/types.ts';
-import { integer, literal } from '../sql/quote.ts';
+import { double, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { ColumnProfile } from './profile.ts';
 import { NULL_LABEL, OTHER_LABEL, VALID_R, type RowExpressions } from './expressions.ts';
@@ -24,6 +24,10 @@ export interface CubeSpec {
    * of two dozen). Ignored when a target-propensity column is mapped.
    */
   readonly byPropensity?: boolean;
+  /** The reward's shift for the centred sums and a bound on |r − shift| (rewardShift); none: shift 0. */
+  readonly reward?: RewardShift | null;
+  /** Rows of the log (the profile's count), which bounds the row-level fixed-point sums. */
+  readonly rowCount?: number;
 }
 
 /** Propensity-level grouping pays off while the distinct propensities stay this few. */
@@ -38,23 +42,87 @@ export function groupsByPropensity(propensity: ColumnProfile | undefined): boole
   return !!propensity && propensity.distinctBasis === 'all rows' && propensity.distinct <= BY_PROPENSITY_MAX_DISTINCT;
 }
 
-/** [alias, aggregate over the base rows, how cells merge], from the measures table */
-function aggregates(spec: CubeSpec): [string, string, Merge][] {
-  const x = { floor: spec.floor };
-  const measures: readonly Measure[] = spec.rows.targetPropensity ? [...CELL_MEASURES, ...TARGET_MEASURES] : CELL_MEASURES;
-  return measures.map((m) => [m.column, m.rows(x), m.merge]);
+/**
+ * The reward's shift for the centred sums (d = r − shift) and a bound on |d|, from the profile's range of
+ * the reward column over every row. Null when the profile has no finite range (rewards parsed from text):
+ * the shift is then 0 and the row-level reward sums are plain floating-point sums.
+ */
+export interface RewardShift {
+  readonly shift: number;
+  readonly halfRange: number;
 }
 
-/** The same aggregates over groups of rows sharing (cell keys, p) (Measure.groups). */
-function byPropensityAggregates(spec: CubeSpec): [string, string][] {
+export function rewardShift(reward: ColumnProfile | undefined): RewardShift | null {
+  if (reward?.kind === 'boolean') return { shift: 0.5, halfRange: 0.5 };
+  if (!reward || reward.min === null || reward.max === null || !Number.isFinite(reward.min) || !Number.isFinite(reward.max)) return null;
+  const shift = reward.min / 2 + reward.max / 2;
+  const halfRange = Math.max(reward.max - shift, shift - reward.min);
+  return Number.isFinite(halfRange) ? { shift, halfRange } : null;
+}
+
+/*
+ * Exact sums. Every non-integral sum is accumulated in fixed point: each term x becomes the integer
+ * x·2^s (HUGEINT) and the integers are added, which is exact and so independent of the order in which
+ * threads, row groups, files or engines deliver the rows; the total is turned back into a double once.
+ * 2^s is the largest power of two that keeps (count + 1)·max|x|·2^s below 2^124, so nothing overflows;
+ * a term is represented exactly when it is at least 2^(52−s) (for the largest term, about 2^-72 of it or
+ * better), and smaller terms are rounded to a multiple of 2^-s. A term that is not finite makes its sum
+ * a plain floating-point sum (that sum is then ±∞ or NaN anyway).
+ */
+const HEADROOM = 124;
+
+/** 2^s for a sum of terms bounded by `bound` over `count` rows, as SQL over the scale's source. */
+function scaleSql(bound: string, count: string): string {
+  return `CASE WHEN isfinite(${bound}) THEN CAST(pow(2, least(1000, greatest(-1000, floor(${HEADROOM} - log2(${count} + 1) - log2(greatest(${bound}, 1e-300)))))) AS DOUBLE) END`;
+}
+
+/** The same power of two computed here, for a bound known before the query (the reward's range). */
+function scaleLiteral(bound: number, count: number): string {
+  const s = Math.min(1000, Math.max(-1000, Math.floor(HEADROOM - Math.log2(count + 1) - Math.log2(Math.max(bound, 1e-300)))));
+  return double(2 ** s);
+}
+
+const filtered = (where: string | undefined) => (where ? ` FILTER (WHERE ${where})` : '');
+
+/** An aggregate as SQL; a non-integral sum reads its scale from column `k_<alias>` of the scale CTE. */
+function aggregateSql(agg: Aggregate, alias: string): string {
+  if ('min' in agg) return `min(${agg.min})${filtered(agg.where)}`;
+  if ('max' in agg) return `max(${agg.max})${filtered(agg.where)}`;
+  if (agg.integral) return agg.sum === '1' ? `count(*)${filtered(agg.where)}::DOUBLE` : `coalesce(sum(${agg.sum})${filtered(agg.where)}, 0)::DOUBLE`;
+  const k = `k_${alias}`;
+  const term = agg.where ? `CASE WHEN ${agg.where} THEN (${agg.sum}) * ${k} END` : `(${agg.sum}) * ${k}`;
+  return `coalesce(CAST(sum(CAST(${term} AS HUGEINT)) AS DOUBLE) / max(${k}), sum(${agg.sum})${filtered(agg.where)}, 0)::DOUBLE`;
+}
+
+/** The scale CTE's column for one non-integral sum (null for every other aggregate). */
+function scaleColumn(agg: Aggregate, alias: string): string | null {
+  if (!('sum' in agg) || agg.integral) return null;
+  return `${scaleSql(`coalesce(max(abs(${agg.sum}))${filtered(agg.where)}, 0)`, 'count(*)')} AS k_${alias}`;
+}
+
+/** The SELECT list of an aggregation, and the scale CTE over its source (null when nothing needs one). */
+function aggregation(list: readonly (readonly [string, Aggregate])[], source: string, scaleName: string): { selects: string[]; scale: string | null } {
+  const scales = list.map(([alias, agg]) => scaleColumn(agg, alias)).filter((x): x is string => x !== null);
+  return {
+    selects: list.map(([alias, agg]) => `${aggregateSql(agg, alias)} AS ${alias}`),
+    scale: scales.length ? `${scaleName} AS (\n  SELECT ${scales.join(',\n    ')}\n  FROM ${source}\n)` : null,
+  };
+}
+
+/** The measures over rows or over (keys, p) groups, from the measures table. */
+function measureList(spec: CubeSpec, grouped: boolean): [string, Aggregate, Merge][] {
   const x = { floor: spec.floor };
-  return CELL_MEASURES.map((m) => [m.column, m.groups(x)]);
+  const measures: readonly Measure[] = !grouped && spec.rows.targetPropensity ? [...CELL_MEASURES, ...TARGET_MEASURES] : CELL_MEASURES;
+  return measures.map((m) => [m.column, grouped ? m.groups(x) : m.rows(x), m.merge]);
 }
 
 export function cubeSql(spec: CubeSpec): string {
   const { rows } = spec;
   const segs = rows.segments.map((_, i) => `s${i}`);
   const keys = [...segs, 'a', 'v', 'b'];
+  const groupKeys = keys.join(', ');
+  const reward = spec.reward ?? null;
+  const shift = double(reward?.shift ?? 0);
   const base = [
     ...rows.segments.map((e, i) => `${e} AS s${i}`),
     `${rows.action} AS a`,
@@ -64,17 +132,33 @@ export function cubeSql(spec: CubeSpec): string {
     `${rows.reward} AS r`,
     ...(rows.targetPropensity ? [`${rows.targetPropensity} AS q`] : []),
   ];
-  const aggs = aggregates(spec);
-  const ctes = [`base AS (\n  SELECT ${base.join(', ')}\n  FROM ${spec.relation}\n)`];
-  if (spec.byPropensity && !rows.targetPropensity) {
-    const fine = byPropensityAggregates(spec);
+  const grouped = !!spec.byPropensity && !rows.targetPropensity;
+  const list = measureList(spec, grouped);
+  const ctes: string[] = [];
+  if (grouped) {
+    ctes.push(`base AS (\n  SELECT ${base.join(', ')}\n  FROM ${spec.relation}\n)`);
+    // Σd and Σd² of each (keys, p) group are row-level sums: fixed point, scaled by the reward's range
+    const rowCount = spec.rowCount ?? 2 ** 40;
+    const rowSum = (x: string, bound: number | null) => {
+      if (bound === null) return `coalesce(sum(${x}), 0)::DOUBLE`;
+      const k = scaleLiteral(bound, rowCount);
+      return `coalesce(CAST(sum(CAST(${x} * ${k} AS HUGEINT)) AS DOUBLE) / ${k}, 0)::DOUBLE`;
+    };
+    // twice the half range: r − shift may round a little past it
+    const h = reward ? 2 * reward.halfRange : null;
     ctes.push(
-      `by_p AS (\n  SELECT ${keys.join(', ')}, p, count(*)::DOUBLE AS c, count(rr)::DOUBLE AS c_r, coalesce(sum(rr), 0)::DOUBLE AS s_r, coalesce(sum(rr * rr), 0)::DOUBLE AS s_r2\n`
-        + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r END AS rr FROM base) GROUP BY ${keys.join(', ')}, p\n)`,
-      `raw AS (\n  SELECT ${keys.join(', ')},\n    ${fine.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM by_p GROUP BY ${keys.join(', ')}\n)`,
+      `by_p AS (\n  SELECT ${groupKeys}, p, count(*)::DOUBLE AS c, count(dd)::DOUBLE AS c_r, ${rowSum('dd', h)} AS s_d, ${rowSum('dd * dd', h === null ? null : h * h)} AS s_d2\n`
+        + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r - ${shift} END AS dd FROM base) GROUP BY ${groupKeys}, p\n)`,
+      `g AS (SELECT *, s_d + ${shift} * c_r AS s_r, s_d2 + 2 * ${shift} * s_d + ${shift} * ${shift} * c_r AS s_r2 FROM by_p)`,
     );
+    const { selects, scale } = aggregation(list.map(([a, agg]) => [a, agg] as const), 'g', 'k_g');
+    if (scale) ctes.push(scale);
+    ctes.push(`raw AS (\n  SELECT ${groupKeys},\n    ${selects.join(',\n    ')}\n  FROM g${scale ? ', k_g' : ''} GROUP BY ${groupKeys}\n)`);
   } else {
-    ctes.push(`raw AS (\n  SELECT ${keys.join(', ')},\n    ${aggs.map(([alias, expr]) => `${expr} AS ${alias}`).join(',\n    ')}\n  FROM base GROUP BY ${keys.join(', ')}\n)`);
+    ctes.push(`base AS (\n  SELECT ${[...base, `r - ${shift} AS d`].join(', ')}\n  FROM ${spec.relation}\n)`);
+    const { selects, scale } = aggregation(list.map(([a, agg]) => [a, agg] as const), 'base', 'k_rows');
+    if (scale) ctes.push(scale);
+    ctes.push(`raw AS (\n  SELECT ${groupKeys},\n    ${selects.join(',\n    ')}\n  FROM base${scale ? ', k_rows' : ''} GROUP BY ${groupKeys}\n)`);
   }
   if (spec.capped.length > 0) {
     for (const i of spec.capped) {
@@ -84,14 +168,21 @@ export function cubeSql(spec: CubeSpec): string {
       const i = segs.indexOf(k);
       return spec.capped.includes(i) ? `CASE WHEN s${i} IN (SELECT s${i} FROM top_s${i}) THEN s${i} ELSE ${literal(OTHER_LABEL)} END AS s${i}` : k;
     });
-    ctes.push(`capped AS (\n  SELECT ${capKeys.join(', ')}, ${aggs.map(([a]) => a).join(', ')} FROM raw\n)`);
-    const merged = aggs.map(([a, , how]) => `${how}(${a}) AS ${a}`);
-    ctes.push(`merged AS (\n  SELECT ${keys.join(', ')}, ${merged.join(', ')} FROM capped GROUP BY ${keys.join(', ')}\n)`);
+    ctes.push(`capped AS (\n  SELECT ${capKeys.join(', ')}, ${list.map(([a]) => a).join(', ')} FROM raw\n)`);
+    // merging cells: counts add exactly, other sums in fixed point again, minima and maxima combine
+    const merge = list.map(([a, agg, how]): readonly [string, Aggregate] => {
+      if (how === 'min') return [a, { min: a, where: 'true' }];
+      if (how === 'max') return [a, { max: a, where: 'true' }];
+      return [a, 'sum' in agg && agg.integral ? { sum: a, integral: true } : { sum: a }];
+    });
+    const { selects, scale } = aggregation(merge, 'capped', 'k_capped');
+    if (scale) ctes.push(scale);
+    ctes.push(`merged AS (\n  SELECT ${groupKeys}, ${selects.join(', ')} FROM capped${scale ? ', k_capped' : ''} GROUP BY ${groupKeys}\n)`);
     // the distinct values a capped column had before capping, counted exactly from the uncapped cells
     const counts = spec.capped.map((i) => `(SELECT count(DISTINCT s${i}) FILTER (WHERE s${i} <> ${literal(NULL_LABEL)}) FROM raw)::DOUBLE AS d_s${i}`);
-    return `WITH ${ctes.join(',\n')}\nSELECT *, ${counts.join(', ')} FROM merged\nORDER BY ${keys.join(', ')}`;
+    return `WITH ${ctes.join(',\n')}\nSELECT *, ${counts.join(', ')} FROM merged\nORDER BY ${groupKeys}`;
   }
-  return `WITH ${ctes.join(',\n')}\nSELECT * FROM raw\nORDER BY ${keys.join(', ')}`;
+  return `WITH ${ctes.join(',\n')}\nSELECT * FROM raw\nORDER BY ${groupKeys}`;
 }
 
 function nums(table: Table, name: string): readonly (number | null)[] {

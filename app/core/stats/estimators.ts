@@ -244,13 +244,14 @@ export function doublyRobust(
  * The logging policy's own value: mean logged reward, SE = sample sd / √n, normal 95% interval.
  * Source: the central limit theorem for a sample mean (common practice).
  */
-export function onPolicyValue(n: number, sumR: number, sumR2: number): Estimate {
+export function onPolicyValue(n: number, sumR: number, sumR2: number, centred?: { readonly sumD: number; readonly sumD2: number }): Estimate {
   if (!Number.isInteger(n)) throw new RangeError(`onPolicyValue: n must be an integer, got ${n}`);
   checkRowCount('onPolicyValue', n);
   if (!Number.isFinite(sumR) || !Number.isFinite(sumR2) || sumR2 < 0) {
     throw new RangeError('onPolicyValue: Σr and Σr² must be finite, Σr² non-negative');
   }
-  return withInterval(sumR / n, seOfMean(n, sumR, sumR2));
+  // the SE is invariant to a shift of r; sums of d = r − c with c near the mean do not cancel (Chan, Golub & LeVeque 1983)
+  return withInterval(sumR / n, centred ? seOfMean(n, centred.sumD, centred.sumD2) : seOfMean(n, sumR, sumR2));
 }
 
 /**
