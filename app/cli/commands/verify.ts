@@ -1,6 +1,6 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
-import type { InputFile } from '../../core/model/report.ts';
+import type { InputFile, Report } from '../../core/model/report.ts';
 import { sha256File } from '../../report/fingerprint.ts';
 import { checkSignoff, loadPublicKey, publicKeyBase64, type SignoffProblem } from '../../report/signoff.ts';
 import { keyFingerprint, parseTrustedKeys, TrustedKeysError, type TrustedKey } from '../../report/trusted-keys.ts';
@@ -10,6 +10,7 @@ import { listFlag, stringFlag } from '../args.ts';
 import { EXIT, UsageError } from '../errors.ts';
 import type { CliIo } from '../io.ts';
 import { readReportFile, readTextFile } from './report-file.ts';
+import { reaudit } from '../reaudit.ts';
 
 export const verifySpec: CommandSpec = {
   name: 'verify',
@@ -22,6 +23,7 @@ export const verifySpec: CommandSpec = {
     'public-key': { kind: 'string', value: 'FILE', help: "the signer's SPKI PEM public key; the signature must be by this key" },
     'trusted-keys': { kind: 'string', value: 'FILE', help: 'reviewers\' public keys, one "<key> <reviewer name>" per line (keygen prints the line); names the signer or says the key is unknown' },
     source: { kind: 'list', value: 'FILE', help: 'where an input file lives now (matched to the report by path, then by file name)' },
+    reaudit: { kind: 'boolean', help: 'also run the recorded audit again on the input files and check that the report body is the same' },
   },
 };
 
@@ -130,6 +132,7 @@ export async function runVerify(args: ParsedArgs, io: CliIo): Promise<number> {
   const recorded = Array.isArray(input?.files) ? input.files : [];
   const sources = listFlag(args.flags, 'source');
   for (const s of sources) if (!existsSync(path.resolve(io.cwd, s))) throw new UsageError(`--source ${s}: no such file`);
+  const present: string[] = [];
   for (const check of locateFiles(recorded, sources, io.cwd, path.dirname(path.resolve(io.cwd, file)))) {
     const { recorded: entry, located } = check;
     if (located === null) {
@@ -143,9 +146,15 @@ export async function runVerify(args: ParsedArgs, io: CliIo): Promise<number> {
       lines.push(`FAIL  input file ${t_(entry.path)} changed: expected sha256 ${t_(entry.sha256)}, actual ${actual} (${t_(path.relative(io.cwd, located) || located)})`);
     } else {
       lines.push(`ok    input file ${t_(entry.path)} hashes the same (${t_(entry.sha256.slice(0, 16))}…)`);
+      present.push(located);
     }
   }
-  lines.push(failed ? (problems.length === 0 && lines.every((l) => !l.startsWith('FAIL  input')) && !trust.authenticated ? 'Not verified: who signed is not established.' : 'Verification FAILED.') : 'Verified.');
+  if (args.flags.reaudit === true) {
+    const outcome = present.length === recorded.length && recorded.length > 0 ? await reaudit(report as unknown as Report, present, io.cwd, path.dirname(path.resolve(io.cwd, file))) : { same: false, lines: ['FAIL  re-audit: needs every input file, unchanged'] };
+    lines.push(...outcome.lines);
+    failed ||= !outcome.same;
+  }
+  lines.push(failed ? (problems.length === 0 && lines.every((l) => !l.startsWith('FAIL  input') && !l.startsWith('FAIL  re-audit')) && !trust.authenticated ? 'Not verified: who signed is not established.' : 'Verification FAILED.') : 'Verified.');
   io.stdout.write(`${lines.join('\n')}\n`);
   return failed ? EXIT.verifyFailed : 0;
 }
