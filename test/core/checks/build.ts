@@ -34,7 +34,7 @@ export const FLOOR = 0.01;
 /** One cube cell from rows that all share (segment, action, bucket, version): the sums the cube's SQL forms. */
 export function cellOf(rows: readonly Rows[], floor = FLOOR): CubeCell {
   const first = rows[0] as Rows;
-  const z = { n: 0, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0, nPInvalid: 0, nPOne: 0, nRNull: 0, nP: 0, sumInvP: 0, sumInvP2: 0, nRw: 0, sumInvPRw: 0, sumInvP2Rw: 0, sumR: 0, sumR2: 0, sumRInvP: 0, sumRInvP2: 0, sumR2InvP2: 0, nRAll: 0, sumRAll: 0, sumR2All: 0 };
+  const z = { n: 0, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0, nPInvalid: 0, nPOne: 0, nRNull: 0, nP: 0, sumInvP: 0, sumInvP2: 0, nRw: 0, sumInvPRw: 0, sumInvP2Rw: 0, sumR: 0, sumR2: 0, sumRInvP: 0, sumRInvP2: 0, sumR2InvP2: 0, nRAll: 0, sumRAll: 0, sumR2All: 0, sumD: 0, sumD2: 0, sumDAll: 0, sumD2All: 0 };
   let minP: number | null = null;
   let maxP: number | null = null;
   for (const g of rows) {
@@ -54,6 +54,9 @@ export function cellOf(rows: readonly Rows[], floor = FLOOR): CubeCell {
       z.nRAll += k;
       z.sumRAll += k * r;
       z.sumR2All += k * r * r;
+      // the cube's centred sums with shift 0 (any constant shift is valid)
+      z.sumDAll += k * r;
+      z.sumD2All += k * r * r;
     }
     if (!valid) continue;
     if (p === 1) z.nPOne += k;
@@ -69,6 +72,8 @@ export function cellOf(rows: readonly Rows[], floor = FLOOR): CubeCell {
     z.sumInvP2Rw += k / (p * p);
     z.sumR += k * r;
     z.sumR2 += k * r * r;
+    z.sumD += k * r;
+    z.sumD2 += k * r * r;
     z.sumRInvP += (k * r) / p;
     z.sumRInvP2 += (k * r) / (p * p);
     z.sumR2InvP2 += (k * r * r) / (p * p);
