@@ -5,6 +5,10 @@
  * and 8 DuckDB threads, the rows shuffled into many small row groups, the same log as CSV, the log split
  * into three part files, and DuckDB-Wasm against native DuckDB. Before exact sums, the 1M-row benchmark
  * log gave four different bodies in four runs at 1, 2, 8 and 2 threads (bench/NOTES.md).
+ *
+ * The roles are given, as a re-audit gives them (app/cli/reaudit.ts): role *suggestions* quote counts read
+ * from the log's first rows (app/core/scan/profile.ts), so their reason texts follow the file's row order,
+ * which is the one part of a report that does.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -21,6 +25,8 @@ import { createHash } from 'node:crypto';
 import { firstDifference, FIXED_NOW, SAMPLE, v9Target } from './audit-helpers.ts';
 
 const DEMO = `${SAMPLE}maple-row-demo.parquet`;
+/** The demo's roles (sample-data/README.md). */
+const DEMO_ROLES = { decision_id: 'decision_id', time: 'logged_at', action: 'promotion', propensity: 'propensity', reward: 'ordered', policy_version: 'policy_version', segments: ['region', 'device', 'tenure'] };
 let dir = '';
 const file = (name: string) => join(dir, name);
 
@@ -42,7 +48,7 @@ afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
 async function audit(engine: Engine, paths: string[]): Promise<Report> {
   try {
     const src = await engine.register({ kind: 'path', paths });
-    return await runAudit((sql) => engine.query(sql), { relation: src.relation, input: { files: [], format: src.format }, engine: engine.kind, now: FIXED_NOW, targets: [v9Target()] });
+    return await runAudit((sql) => engine.query(sql), { relation: src.relation, input: { files: [], format: src.format }, engine: engine.kind, now: FIXED_NOW, targets: [v9Target()], roles: DEMO_ROLES });
   } finally {
     await engine.close();
   }
