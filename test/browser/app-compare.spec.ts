@@ -64,9 +64,12 @@ async function auditAndCompare(page: Page, mode: string): Promise<void> {
   expect(headless.code, headless.stderr).toBe(2);
   expect(ui).toBe(headless.stdout);
 
-  // And the same changes as the headless audit of the same log with --baseline (engine and paths aside).
+  // And the same changes as the headless audit of the same log with --baseline (engine and paths aside). The app
+  // sends the roles the Columns screen confirmed, so the command is given the same roles (sample-data/README.md);
+  // role evidence, and its schema.roles warning, is read only for roles the audit has to suggest.
   const oneGo = path.join(tmp, `one-go-${mode}.json`);
-  cli(['audit', path.join(SAMPLE, mode === 'hosted' ? 'maple-row-next.parquet' : 'maple-row-next.csv'), '--target', `table:${V9_POLICY}`, '--baseline', BASELINE, '--comparison-json', oneGo, '--quiet']);
+  const roles = ['decision_id=decision_id', 'time=logged_at', 'action=promotion', 'propensity=propensity', 'reward=ordered', 'policy_version=policy_version', 'segments=region,device,tenure'].flatMap((r) => ['--role', r]);
+  cli(['audit', path.join(SAMPLE, mode === 'hosted' ? 'maple-row-next.parquet' : 'maple-row-next.csv'), ...roles, '--target', `table:${V9_POLICY}`, '--baseline', BASELINE, '--comparison-json', oneGo, '--quiet']);
   expect(shape(JSON.parse(ui) as ComparisonJson)).toEqual(shape(JSON.parse(readFileSync(oneGo, 'utf8')) as ComparisonJson));
 
   // A click through to the rows behind a new finding opens its check in the current log.
