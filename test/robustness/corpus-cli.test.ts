@@ -16,7 +16,7 @@ const BIN = path.resolve('bin/counterweight.mjs');
 
 interface Run { code: number | null; stdout: string; stderr: string; ms: number }
 
-function cli(args: readonly string[], timeoutMs = 60_000): Promise<Run> {
+function cli(args: readonly string[], timeoutMs = 180_000): Promise<Run> {
   return new Promise((resolve) => {
     const started = Date.now();
     const child = spawn(process.execPath, [BIN, ...args], { env: { ...process.env, NO_COLOR: '1' }, stdio: ['ignore', 'pipe', 'pipe'] });
@@ -53,7 +53,7 @@ describe('counterweight audit on the corpus (spawned)', () => {
   beforeAll(async () => {
     const results = await inPairs(CASES, (c) => cli(['audit', path.join(FILES, c.file), '--json', '-', '--quiet', ...roleFlags(c)]));
     CASES.forEach((c, i) => runs.set(c.id, results[i] as Run));
-  }, 240_000);
+  }, 600_000);
 
   it.each(CASES.map((c) => [c.id, c] as const))('%s', (_id, c) => {
     const r = runs.get(c.id) as Run;
