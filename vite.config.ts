@@ -24,8 +24,10 @@ export default defineConfig({
   build: {
     outDir: '../dist/renderer',
     emptyOutDir: true,
+    // Only the app ships. The engine harness (renderer/engine-harness.html) is a test page: the Vite dev server
+    // serves it to the browser tests and the benchmark, and the production build leaves it out.
     rollupOptions: {
-      input: { index: page('index.html'), 'engine-harness': page('engine-harness.html') },
+      input: { index: page('index.html') },
     },
   },
 });
