@@ -4,7 +4,7 @@
  */
 import { rollup, SEP } from './cube/rollup.ts';
 import type { CubeCell } from './cube/types.ts';
-import type { Series } from './model/report.ts';
+import type { SegmentKeys, SegmentPart, Series } from './model/report.ts';
 import { NULL_LABEL } from './scan/expressions.ts';
 import { weightBalance } from './stats/balance.ts';
 
@@ -12,6 +12,8 @@ import { weightBalance } from './stats/balance.ts';
 export interface GroupActionTotals {
   /** The group's segment values joined with " · ", or "all rows" when grouped by nothing. */
   readonly group: string;
+  /** The group's values, in the order of the columns grouped by. */
+  readonly values: readonly string[];
   readonly action: string;
   readonly n: number;
   readonly nP: number;
@@ -24,11 +26,35 @@ export function groupLabel(values: readonly string[]): string {
   return values.length ? values.join(' · ') : 'all rows';
 }
 
+/** A segment as column/value pairs, from its values in the order of `columns`. */
+export function segmentParts(columns: readonly string[], values: readonly string[]): SegmentPart[] {
+  return columns.map((column, i) => ({ column, value: values[i] as string }));
+}
+
+/** How checks label a segment on a chart axis: its values in segment-column order, joined with " · ". */
+export function segmentText(segment: readonly SegmentPart[]): string {
+  return segment.map((p) => p.value).join(' · ');
+}
+
+/**
+ * A chart's segment axis: each distinct segment once, in the order of its label, and the key that says
+ * which segment each label stands for (the report's `segment_keys`).
+ */
+export function segmentAxis(axis: SegmentKeys['axis'], segments: readonly (readonly SegmentPart[])[], label: (segment: readonly SegmentPart[]) => string = segmentText): { labels: string[]; keys: SegmentKeys } {
+  const byLabel = new Map<string, readonly SegmentPart[]>();
+  for (const segment of segments) {
+    const text = label(segment);
+    if (!byLabel.has(text)) byLabel.set(text, segment);
+  }
+  const labels = [...byLabel.keys()].sort();
+  return { labels, keys: { axis, segments: labels.map((l) => [...(byLabel.get(l) as readonly SegmentPart[])]) } };
+}
+
 export function segmentMap(cells: readonly CubeCell[], segmentColumns: readonly string[], groupBy: readonly string[]): Series[] {
   const idx = groupBy.map((c) => segmentColumns.indexOf(c));
   if (idx.some((i) => i < 0)) throw new Error(`cannot group by ${groupBy.filter((_, k) => (idx[k] as number) < 0).join(', ')}: not a segment column of this audit`);
   const label = (c: CubeCell) => groupLabel(idx.map((i) => c.segment[i] as string));
-  const totals = rollup(cells, (c) => `${label(c)}${SEP}${c.action}`, (c) => ({ group: label(c), action: c.action })).map(({ meta, totals: t }) => ({
+  const totals = rollup(cells, (c) => `${label(c)}${SEP}${c.action}`, (c) => ({ group: label(c), values: idx.map((i) => c.segment[i] as string), action: c.action })).map(({ meta, totals: t }) => ({
     ...meta, n: t.n, nP: t.nP, sumInvP: t.sumInvP, sumInvP2: t.sumInvP2, minP: t.minP,
   }));
   return segmentMapSeries(totals, groupBy);
@@ -40,7 +66,7 @@ export function segmentMapSeries(totals: readonly GroupActionTotals[], groupBy: 
   const byCell = new Map(totals.map((t) => [`${t.group}${SEP}${t.action}`, t]));
   const groupRows = new Map<string, number>();
   for (const t of totals) groupRows.set(t.group, (groupRows.get(t.group) ?? 0) + t.nP);
-  const groups = [...groupRows.keys()].sort();
+  const { labels: groups, keys } = segmentAxis('y', totals.map((t) => segmentParts(groupBy, t.values)), (segment) => groupLabel(segment.map((p) => p.value)));
   const grid = (f: (g: string, a: string) => number | null) => groups.map((g) => actions.map((a) => f(g, a)));
   const z = (g: string, a: string): number | null => {
     const n = groupRows.get(g) ?? 0;
@@ -51,8 +77,8 @@ export function segmentMapSeries(totals: readonly GroupActionTotals[], groupBy: 
   };
   const by = groupBy.length ? groupBy.join(' × ') : 'all rows';
   return [
-    { name: `rows by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.n ?? 0), unit: 'rows' },
-    { name: `minimum propensity by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.minP ?? null), unit: 'propensity' },
-    { name: `balance z by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid(z), unit: 'z (B − 1)/SE; blank where the action is never logged' },
+    { name: `rows by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.n ?? 0), unit: 'rows', segment_keys: keys },
+    { name: `minimum propensity by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.minP ?? null), unit: 'propensity', segment_keys: keys },
+    { name: `balance z by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid(z), unit: 'z (B − 1)/SE; blank where the action is never logged', segment_keys: keys },
   ];
 }

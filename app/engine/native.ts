@@ -39,17 +39,8 @@ export interface NativeEngineOptions {
 /** Far above any audit query's answer (cube cells are capped by segments.cap); a drill page is 200 rows. */
 export const MAX_RESULT_ROWS = 2_000_000;
 
-export interface QueryProgress {
-  /** Percent done as DuckDB estimates it, or -1 when it cannot tell. */
-  percentage: number;
-  rowsProcessed: number;
-  totalRows: number;
-}
-
 export interface NativeEngine extends Engine {
   readonly kind: 'native';
-  /** Progress of the running query (DuckDB's query progress), for the engine host's progress events. */
-  progress(): QueryProgress;
 }
 
 export async function createNativeEngine(options: NativeEngineOptions = {}): Promise<NativeEngine> {
@@ -70,8 +61,8 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     const db = await DuckDBInstance.create(':memory:', config);
     const conn = await db.connect();
     try {
-      // Progress is tracked for the host's progress events; printing it to the terminal stays off.
-      await conn.run('SET enable_progress_bar = true; SET enable_progress_bar_print = false; SET progress_bar_time = 100');
+      // No query progress is read (the host sends none), and nothing may print to the terminal.
+      await conn.run('SET enable_progress_bar = false');
       if (restricted) await conn.run(lockDownSql(files));
       for (const [relation, scanSql] of views) await conn.run(createViewSql(relation, scanSql));
     } catch (error) {
@@ -209,11 +200,6 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       if (running && !closed) connection.interrupt();
     },
     get sourceScans() { return scans; },
-    progress() {
-      if (!running || closed) return { percentage: -1, rowsProcessed: 0, totalRows: 0 };
-      const p = connection.progress;
-      return { percentage: p.percentage, rowsProcessed: Number(p.rows_processed), totalRows: Number(p.total_rows_to_process) };
-    },
     async close() {
       if (closed) return;
       if (running) connection.interrupt();

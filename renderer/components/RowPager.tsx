@@ -1,17 +1,9 @@
 import { useEffect, useLayoutEffect, useRef, useState, type ReactNode } from 'react';
-import { DRILL_PAGE_ROWS, type DrillCursor, type PageRequest } from '../../app/core/scan/drill.ts';
+import type { DrillCursor } from '../../app/core/scan/drill.ts';
 import type { Cell, Table } from '../../app/core/table.ts';
 import { errorMessage } from '../engine/backend.ts';
+import type { RowFeed } from '../engine/row-feed.ts';
 import { formatValue } from '../format.ts';
-
-/** Where a pager's rows come from; a new `key` means another selection, and the pager starts over. */
-export interface RowFeed {
-  readonly key: string;
-  count(): Promise<number>;
-  page(request: PageRequest): Promise<Table>;
-  /** The cursor after a fetched page (cursorAfter in app/core/scan/drill.ts). */
-  next(page: Table, before: DrillCursor | null, offset: number): DrillCursor | null;
-}
 
 const ROW_PX = 28;
 const HEADER_PX = 30;
@@ -72,7 +64,7 @@ interface Cache {
  * order they come into view; a page scrolled past before its turn is never requested, and a response for
  * a selection no longer shown is dropped.
  */
-export function RowPager({ feed, label, order, pageRows = DRILL_PAGE_ROWS }: { feed: RowFeed; label: string; order?: string; pageRows?: number }) {
+export function RowPager({ feed, label, order, pageRows = feed.pageRows }: { feed: RowFeed; label: string; order?: string; pageRows?: number }) {
   const feedRef = useRef(feed);
   feedRef.current = feed;
   const cache = useRef<Cache>({ pages: new Map(), cursors: new Map(), inFlight: null });

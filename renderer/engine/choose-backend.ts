@@ -4,7 +4,7 @@ import type { CounterweightApi } from '../../app/main/ipc-contract.ts';
 import type { AuditBackend, LogInput } from './backend.ts';
 import { createEngineBackend } from './engine-backend.ts';
 import { createHostBackend } from './host-backend.ts';
-import { detectMode, traitsOf, type PageMode } from './mode.ts';
+import { detectMode, type PageMode } from './mode.ts';
 
 declare global {
   interface Window {
@@ -32,13 +32,12 @@ export function pageMode(): PageMode {
 
 /** Starts the engine this page was opened for. */
 export async function createBackend(mode: PageMode): Promise<AuditBackend> {
-  const { readsParquet } = traitsOf(mode);
   switch (mode.kind) {
     case 'web': {
       const { createWasmBrowserEngine } = await import('../../app/engine/wasm-browser.ts');
       const engine = await createWasmBrowserEngine();
       // The worker that scans the log also holds the cube.
-      return createEngineBackend(engine, { readsParquet, cubeTables: async () => engine.tables });
+      return createEngineBackend(engine, { cubeTables: async () => engine.tables });
     }
     case 'hosted': {
       const { connectHostEngine } = await import('./ws-transport.ts');

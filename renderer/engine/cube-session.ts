@@ -1,4 +1,5 @@
-import { parseRegroup, regroupSql, type CubeFilter } from '../../app/core/cube/regroup-sql.ts';
+import type { CubeFilter } from '../../app/core/cube/filter.ts';
+import { parseRegroup, regroupSql } from '../../app/core/cube/regroup-sql.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import type { Series } from '../../app/core/model/report.ts';
 import { segmentMapSeries } from '../../app/core/segment-map.ts';

@@ -10,11 +10,10 @@ import { loadCubeSession, type CubeSession } from './cube-session.ts';
 import type { AuditDraft } from '../state/draft.ts';
 import type { AuditBackend, AuditOutcome, LogInput, Progress, RowSelection, RowsRequest } from './backend.ts';
 import { describeFiles } from './digest.ts';
-import { chooseFormat, PARQUET_IN_BROWSER } from './source-files.ts';
+import { chooseFormat } from './source-files.ts';
 import type { OpenedSource } from './status.ts';
 
 export interface EngineBackendOptions {
-  readonly readsParquet: boolean;
   /** Hashes the files for the report; the browser default hashes them in a worker. */
   readonly describe?: (files: readonly File[]) => Promise<InputFile[]>;
   /** The page's DuckDB-Wasm worker the audit's cube is loaded into for interactive SQL. */
@@ -80,7 +79,6 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       const names = input.kind === 'paths' ? [...input.paths] : input.files.map((f) => f.name);
       const choice = chooseFormat(names);
       if ('error' in choice) throw new Error(choice.error);
-      if (choice.format === 'parquet' && !options.readsParquet) throw new EngineError('unsupported-format', PARQUET_IN_BROWSER);
       const csv = choice.csv ? { csv: choice.csv } : {};
       if (input.kind !== 'files') throw new EngineError('unsupported-format', 'The page\'s own engine reads picked or dropped files; it cannot open a path.');
       const digests = describe(input.files);

@@ -19,13 +19,12 @@ export interface ModeTraits {
   readonly description: string;
   /** Logs are named by File handles (picker, drop) or by host paths. */
   readonly opensBy: 'files' | 'paths';
-  readonly readsParquet: boolean;
 }
 
 export function traitsOf(mode: PageMode): ModeTraits {
   switch (mode.kind) {
-    case 'web': return { description: 'Engine: DuckDB-Wasm in this browser tab', opensBy: 'files', readsParquet: true };
-    case 'hosted': return { description: 'Engine: native DuckDB on this computer (local host)', opensBy: 'paths', readsParquet: true };
-    case 'desktop': return { description: 'Engine: native DuckDB (desktop)', opensBy: 'paths', readsParquet: true };
+    case 'web': return { description: 'Engine: DuckDB-Wasm in this browser tab', opensBy: 'files' };
+    case 'hosted': return { description: 'Engine: native DuckDB on this computer (local host)', opensBy: 'paths' };
+    case 'desktop': return { description: 'Engine: native DuckDB (desktop)', opensBy: 'paths' };
   }
 }

@@ -1,4 +1,3 @@
-import { extensionUnavailableMessage } from '../../app/engine/wasm-core.ts';
 import type { CsvOptions, SourceFormat } from '../../app/engine/types.ts';
 
 export interface FileChoice {
@@ -39,6 +38,3 @@ export function chooseFormat(names: readonly string[]): FileChoice | { error: st
   }
   return first;
 }
-
-/** The engine's own words, so the message reads the same whether we stop early or the engine does. */
-export const PARQUET_IN_BROWSER = extensionUnavailableMessage('Parquet');

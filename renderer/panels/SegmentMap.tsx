@@ -1,18 +1,16 @@
 import { useCallback, useMemo, useState } from 'react';
 import type { Report } from '../../app/core/model/report.ts';
-import { cursorAfter, drillOrderColumns, findingWhere, type DrillSelection } from '../../app/core/scan/drill.ts';
-import { OTHER_LABEL } from '../../app/core/scan/expressions.ts';
 import type { AuditWorkspace } from '../engine/status.ts';
 import { useEngine } from '../engine/EngineProvider.tsx';
-import { drillSpecOf } from '../engine/engine-backend.ts';
-import { RowPager, type RowFeed } from '../components/RowPager.tsx';
+import { cellSelection, cellSql, findingSelection, rowFeed } from '../engine/row-feed.ts';
+import { RowPager } from '../components/RowPager.tsx';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
 import { SqlBlock } from '../components/SqlBlock.tsx';
 import { formatValue } from '../format.ts';
-import { cellSql, findingsForCell, segmentForLabel, segmentHeatmaps, type CellFinding } from './segment-cells.ts';
+import { findingsForCell, segmentHeatmaps, segmentOfRow, type CellFinding } from './segment-cells.ts';
 import { ReadinessTable } from './ReadinessTable.tsx';
 import { cubeVersions, regroupKey, useCubeRegroup } from './cube-regroup.ts';
 
@@ -80,8 +78,8 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
   const ys = series.y ?? [];
   const rowLabel = cell ? String(ys[cell.row] ?? '') : '';
   const action = cell ? String(series.x[cell.col] ?? '') : '';
-  const segment = cell ? (regrouped ? Object.fromEntries(groupBy.map((c, i) => [c, rowLabel.split(' · ')[i] as string])) : segmentForLabel(report, rowLabel)) : null;
-  const findings = cell ? findingsForCell(report, segment, rowLabel, action) : [];
+  const segment = cell ? segmentOfRow(series, cell.row) : null;
+  const findings = cell ? findingsForCell(report, segment, action) : [];
   const sql = cell ? cellSql(report, segment, action) : null;
 
   return (
@@ -167,18 +165,6 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
   );
 }
 
-/** For a capped segment column shown as "(other)", the values the cube kept; null when they are not known. */
-function keptValues(report: Report, workspace: AuditWorkspace | undefined, segment: Readonly<Record<string, string>>): Record<string, string[]> | null {
-  const kept: Record<string, string[]> = {};
-  for (const [column, value] of Object.entries(segment)) {
-    if (value !== OTHER_LABEL || !report.roles.caps[column]) continue;
-    const i = report.roles.segments.indexOf(column);
-    if (!workspace || i < 0) return null;
-    kept[column] = [...new Set(workspace.cells.map((c) => c.segment[i] as string))].filter((v) => v !== OTHER_LABEL);
-  }
-  return kept;
-}
-
 /** The rows behind the chosen cell, or behind one of its findings, paged from the engine on demand. */
 function CellRows({ report, workspace, segment: cellSegment, version, action, findings, title }: {
   report: Report; workspace: AuditWorkspace | undefined; segment: Readonly<Record<string, string>> | null; version: string | null; action: string; findings: readonly CellFinding[]; title: string;
@@ -189,11 +175,9 @@ function CellRows({ report, workspace, segment: cellSegment, version, action, fi
   const engine = useEngine();
   const source = engine.status.kind === 'done' ? engine.status.source : null;
   const [listed, setListed] = useState<number | null>(null);
-  const withRows = source ? findings.flatMap((f, i) => (findingWhere(f.finding.sql, source.relation) ? [i] : [])) : [];
-  const kept = segment ? keptValues(report, workspace, segment) : null;
+  const withRows = source ? findings.flatMap((f, i) => (findingSelection(f.finding, source) ? [i] : [])) : [];
   const chosen = listed === null ? null : findings[listed];
-  const where = chosen && source ? findingWhere(chosen.finding.sql, source.relation) : null;
-  const selection: DrillSelection | null = where ? { segment: {}, where } : segment && kept && report.roles.action ? { segment, action, kept } : null;
+  const selection = chosen && source ? findingSelection(chosen.finding, source) : cellSelection(report, workspace?.cells, segment, action);
   const roles = report.roles;
   const order = [roles.time, roles.decision_id].filter((c): c is string => !!c);
 
@@ -201,14 +185,7 @@ function CellRows({ report, workspace, segment: cellSegment, version, action, fi
   if (!source) body = <p className="muted">Rows are read from the open log: open it and run the audit to list them here.</p>;
   else if (!selection) body = <p className="muted">This cell&apos;s rows cannot be selected from the report alone (its segment label or a capped column&apos;s kept values are not known).</p>;
   else {
-    const request = { roles, selection };
-    const orderColumns = drillOrderColumns(drillSpecOf(source, request));
-    const feed: RowFeed = {
-      key: JSON.stringify([source.relation, selection]),
-      count: () => engine.rowCount(source, request),
-      page: (page) => engine.rows(source, { ...request, page }),
-      next: (t, before, offset) => cursorAfter(orderColumns, t, before, offset),
-    };
+    const feed = rowFeed(engine, source, { roles, selection });
     body = <RowPager feed={feed} label={`Rows behind ${chosen ? `the finding of ${chosen.check}` : title}`} order={order.length ? `${order.join(', ')}; identical rows in any order` : 'a hash of each row (no time or decision id is mapped)'} />;
   }
 

@@ -1,5 +1,5 @@
 import { useEffect, useMemo, useState } from 'react';
-import { filterCells, type CubeFilter } from '../../app/core/cube/regroup-sql.ts';
+import { filterCells, type CubeFilter } from '../../app/core/cube/filter.ts';
 import type { Series } from '../../app/core/model/report.ts';
 import { segmentMap } from '../../app/core/segment-map.ts';
 import { errorMessage } from '../engine/backend.ts';

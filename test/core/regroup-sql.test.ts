@@ -5,7 +5,8 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runAuditDetailed } from '../../app/core/audit.ts';
-import { filterCells, parseRegroup, regroupSql, type CubeFilter } from '../../app/core/cube/regroup-sql.ts';
+import { filterCells, type CubeFilter } from '../../app/core/cube/filter.ts';
+import { parseRegroup, regroupSql } from '../../app/core/cube/regroup-sql.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import type { Series } from '../../app/core/model/report.ts';
 import { segmentMap, segmentMapSeries } from '../../app/core/segment-map.ts';

@@ -43,3 +43,25 @@ it('shows the unexplored (old-town, web) group with no other action logged', () 
 it('refuses a column that is not a segment of the audit', () => {
   expect(() => segmentMap(audit.cells, audit.report.roles.segments, ['basket_value'])).toThrow(/not a segment column/);
 });
+
+it('keys every row of the map by its segment, and the key selects the rows the cell counts', async () => {
+  const reportMap = audit.report.checks.flatMap((c) => c.series ?? []).find((s) => s.kind === 'heatmap' && s.unit === 'rows');
+  const [regrouped] = segmentMap(audit.cells, audit.report.roles.segments, ['device', 'region']);
+  for (const series of [reportMap!, regrouped!]) {
+    const keys = series.segment_keys!;
+    expect(keys.axis).toBe('y');
+    expect(keys.segments.length).toBe(series.y!.length);
+    // Direct SQL over the log, by the key's columns and values (not by the label): it must count what the cell shows.
+    for (const r of [0, Math.floor(series.y!.length / 2), series.y!.length - 1]) {
+      const segment = keys.segments[r]!;
+      expect(segment.map((p) => p.value).join(' · ')).toBe(series.y![r]);
+      const where = segment.map((p) => `CAST("${p.column}" AS VARCHAR) = '${p.value.replace(/'/g, "''")}'`).join(' AND ');
+      const t = await engine.query(`SELECT promotion, count(*)::DOUBLE AS n FROM ${relation} WHERE ${where} GROUP BY ALL`);
+      for (let i = 0; i < t.rowCount; i++) {
+        const c = series.x.indexOf(String(t.columns[0]![i]));
+        if (c >= 0) expect(series.values[r]![c]).toBe(t.columns[1]![i]);
+      }
+    }
+  }
+  expect(regrouped!.segment_keys!.segments[0]!.map((p) => p.column)).toEqual(['device', 'region']);
+});

@@ -3,6 +3,7 @@ import { pairKeys, SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
 import { literal } from '../sql/quote.ts';
+import { segmentAxis, segmentText } from '../segment-map.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
 import { countBalance } from '../stats/balance.ts';
 import { bucketWindow, describeSegment, finite, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
@@ -237,8 +238,9 @@ function leftOutFindings(leftOut: readonly Test[], floor: number): DraftFinding[
  * action never logged in the segment (support information), or a segment too small to test.
  */
 function balanceHeatmap(tests: readonly Test[], never: readonly NeverLogged[], cols: readonly string[], actions: readonly string[]): Series {
-  const label = (s: Record<string, string>) => cols.map((c) => s[c]).filter((x) => x !== undefined).join(' · ');
-  const segs = [...new Set([...tests, ...never].map((t) => label(t.segment)))].sort();
+  const parts = (s: Record<string, string>) => cols.filter((c) => s[c] !== undefined).map((c) => ({ column: c, value: s[c] as string }));
+  const label = (s: Record<string, string>) => segmentText(parts(s));
+  const { labels: segs, keys } = segmentAxis('y', [...tests, ...never].map((t) => parts(t.segment)));
   const idx = new Map(tests.map((t) => [`${label(t.segment)}|${t.action}`, finite(t.z)]));
   const unlogged = new Set(never.map((t) => `${label(t.segment)}|${t.action}`));
   const reason = (k: string) => (unlogged.has(k) ? 'never logged' : 'not tested');
@@ -250,6 +252,7 @@ function balanceHeatmap(tests: readonly Test[], never: readonly NeverLogged[], c
     values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? null)),
     null_reasons: segs.map((s) => actions.map((a) => (idx.get(`${s}|${a}`) ?? null) === null ? reason(`${s}|${a}`) : null)),
     unit: 'z',
+    segment_keys: keys,
   };
 }
 

@@ -3,6 +3,7 @@ import type { CubeCell } from '../cube/types.ts';
 import type { CheckId, CheckResult, Finding, Metrics, Series, Status } from '../model/report.ts';
 import type { Totals } from '../cube/rollup.ts';
 import type { ResolvedRoles, RoleProblem } from '../roles/roles.ts';
+import { segmentAxis, segmentParts } from '../segment-map.ts';
 import type { RowExpressions, TimeBuckets } from '../scan/expressions.ts';
 import type { Profile } from '../scan/profile.ts';
 import type { Duplicates } from '../scan/rows.ts';
@@ -104,8 +105,8 @@ export function finite(x: number | null | undefined): number | null {
 /** A segment × action heatmap of one cube statistic (rows: full segments, columns: actions). */
 export function cellHeatmap(ctx: AuditContext, name: string, unit: string, value: (t: Totals) => number | null, empty: number | null): Series {
   const label = (segment: readonly string[]) => segment.join(' · ');
-  const segs = [...new Set(ctx.view.cells.map((c) => label(c.segment)))].sort();
+  const { labels: segs, keys } = segmentAxis('y', ctx.view.cells.map((c) => segmentParts(ctx.segmentColumns, c.segment)));
   const actions = ctx.view.actions;
   const idx = new Map(ctx.view.cells.map((c) => [`${label(c.segment)}|${c.action}`, value(c.totals)]));
-  return { name, kind: 'heatmap', x: actions, y: segs, values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? empty)), unit };
+  return { name, kind: 'heatmap', x: actions, y: segs, values: segs.map((s) => actions.map((a) => idx.get(`${s}|${a}`) ?? empty)), unit, segment_keys: keys };
 }

@@ -1,6 +1,7 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Series, Status } from '../model/report.ts';
 import { kishEss } from '../stats/ess.ts';
+import { segmentParts } from '../segment-map.ts';
 import { describeSegment, fmt, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
 
@@ -74,6 +75,7 @@ export function checkEss(ctx: AuditContext): ReturnType<typeof result> {
       values: [segs.map((s) => (s.sumW2 > 0 ? kishEss(s.sumW, s.sumW2) : 0)), segs.map((s) => s.n)],
       labels: ['ESS', 'rows'],
       unit: 'rows',
+      segment_keys: { axis: 'x', segments: segs.map((s) => segmentParts(ctx.segmentColumns, s.segment)) },
     });
   }
   return result('weights.ess', status, summary, metrics, findings, ['weights.ess.warn_fraction', 'weights.ess.fail_min'], series);

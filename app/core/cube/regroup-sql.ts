@@ -7,14 +7,7 @@ import type { GroupActionTotals } from '../segment-map.ts';
 import { groupLabel } from '../segment-map.ts';
 import { ident, integer, literal } from '../sql/quote.ts';
 import type { Cell, Table } from '../table.ts';
-import type { CubeCell } from './types.ts';
-
-/** Which cube cells the map is drawn from; an absent list keeps every value. */
-export interface CubeFilter {
-  /** Logged policy versions ("" is the version of every cell when no policy_version column was mapped). */
-  readonly versions?: readonly string[];
-  readonly actions?: readonly string[];
-}
+import type { CubeFilter } from './filter.ts';
 
 export interface RegroupSpec {
   /** Name of the cube table (unquoted). */
@@ -71,8 +64,10 @@ export function parseRegroup(table: Table, groupBy: readonly string[]): GroupAct
     return col;
   });
   for (let i = 0; i < table.rowCount; i++) {
+    const values = groupColumns.map((c) => String(c[i]));
     out.push({
-      group: groupLabel(groupColumns.map((c) => String(c[i]))),
+      group: groupLabel(values),
+      values,
       action: String(action[i]),
       n: numberAt(table, 'n', i) ?? 0,
       nP: numberAt(table, 'nP', i) ?? 0,
@@ -82,9 +77,4 @@ export function parseRegroup(table: Table, groupBy: readonly string[]): GroupAct
     });
   }
   return out;
-}
-
-/** The same filter over cells in memory: what the SQL's WHERE keeps. */
-export function filterCells(cells: readonly CubeCell[], filter: CubeFilter = {}): CubeCell[] {
-  return cells.filter((c) => (!filter.versions || filter.versions.includes(c.version)) && (!filter.actions || filter.actions.includes(c.action)));
 }

@@ -75,6 +75,21 @@ export const FindingSchema = record({
 }).meta({ id: 'finding' });
 export type Finding = z.infer<typeof FindingSchema>;
 
+/** One segment column's value, as the cube labels it ("(null)", a capped column's "(other)"). */
+export const SegmentPartSchema = record({ column: z.string(), value: z.string() }).meta({ id: 'segment_part' });
+export type SegmentPart = z.infer<typeof SegmentPartSchema>;
+
+/**
+ * Which segment each label of a series' segment axis stands for: `segments[i]` is the segment of label i of
+ * `axis` (y of a segments × actions heatmap, x of bars by segment), its columns in segment-column order; an
+ * empty list is all rows. The labels are for display only; readers take the segment from here.
+ */
+export const SegmentKeysSchema = record({
+  axis: z.enum(['x', 'y']),
+  segments: list(list(SegmentPartSchema)),
+}).meta({ id: 'segment_keys' });
+export type SegmentKeys = z.infer<typeof SegmentKeysSchema>;
+
 /** Chart-ready series a check exposes for app/charts (never recomputed by a view). */
 export const SeriesSchema = record({
   name: z.string(),
@@ -86,6 +101,8 @@ export const SeriesSchema = record({
   unit: z.string().optional(),
   /** heatmaps: beside each null value, why it is null (e.g. "never logged"); null where a value is present */
   null_reasons: list(list(nullable(z.string()))).optional(),
+  /** series over segments: the segment behind each label of the segment axis (absent in reports written before it) */
+  segment_keys: SegmentKeysSchema.optional(),
 }).meta({ id: 'series' });
 export type Series = z.infer<typeof SeriesSchema>;
 

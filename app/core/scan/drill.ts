@@ -263,3 +263,12 @@ export function findingWhere(sql: string | undefined, relation: string): string 
   const prefix = findingSqlPrefix(relation);
   return sql !== undefined && sql.startsWith(prefix) && sql.length > prefix.length ? sql.slice(prefix.length) : null;
 }
+
+/**
+ * A segment-map cell's rows as SQL for a reader to re-run against the log (called `log` here): the segment's
+ * values and the action, each column compared with its value as written.
+ */
+export function cellReaderSql(actionColumn: string, segment: Readonly<Record<string, string>>, action: string): string {
+  const where = [...Object.entries(segment).map(([k, v]) => `${ident(k)} = ${literal(v)}`), `${ident(actionColumn)} = ${literal(action)}`];
+  return `SELECT *\nFROM log\nWHERE ${where.join('\n  AND ')}`;
+}
