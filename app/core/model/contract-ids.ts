@@ -1,5 +1,6 @@
 /**
- * The contract names alone, without the schemas: a module that only needs to recognise a report (the
- * Electron main process, which bundles no npm package) imports this file rather than report.ts.
+ * The contract name alone, without the schemas: the engine host's wire messages (app/engine/host/messages.ts)
+ * recognise a report by it without loading report.ts, whose enums come from the check registry and so from
+ * every check.
  */
 export const REPORT_SCHEMA_ID = 'counterweight.report/1';
