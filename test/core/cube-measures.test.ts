@@ -84,3 +84,32 @@ describe('the cube measures table', () => {
     expect(() => cubeFromArrowIpc(tableToIPC(new Table(columns), 'stream'))).toThrow(/no column "sumR2InvP2"/);
   });
 });
+
+describe('each measure\'s in-memory term (the per-check test builder\'s) answers what its SQL answers', () => {
+  // Rows covering every row set: null, NaN, non-positive, > 1, below-floor and valid propensities, with missing,
+  // non-finite and finite rewards.
+  const ps = [null, Number.NaN, -0.1, 0, 0.005, 0.2, 0.5, 1, 1.2];
+  const rs = [null, Number.NaN, Infinity, 0, 1, 2.5, -3];
+  const rows = ps.flatMap((p) => rs.map((r) => ({ p, r, d: r })));
+  const x = { floor: 0.01 };
+  const lit = (v: number | null) => (v === null ? 'NULL' : Number.isNaN(v) ? "'NaN'::DOUBLE" : v === Infinity ? "'Infinity'::DOUBLE" : `${v}::DOUBLE`);
+  const values = rows.map((row) => `(${lit(row.p)}, ${lit(row.r)}, ${lit(row.d)})`).join(', ');
+
+  it.each(CELL_MEASURES.map((m) => [m.field, m] as const))('%s', async (_, m) => {
+    const { createNativeEngine } = await import('../../app/engine/native.ts');
+    const engine = await createNativeEngine();
+    try {
+      const a = m.rows(x);
+      const [fn, term] = 'sum' in a ? ['sum', a.sum] : 'min' in a ? ['min', a.min] : ['max', a.max];
+      const where = a.where ?? 'TRUE';
+      const t = await engine.query(`SELECT ${fn}((${term})::DOUBLE) FILTER (WHERE coalesce(${where}, false)) AS v FROM (VALUES ${values}) AS t(p, r, d)`);
+      const terms = rows.map((row) => m.term(row, x)).filter((v): v is number => v !== null);
+      const expected = terms.length === 0 ? null : m.merge === 'sum' ? terms.reduce((s, v) => s + v, 0) : m.merge === 'min' ? Math.min(...terms) : Math.max(...terms);
+      const got = t.columns[0]?.[0] ?? null;
+      if (expected === null || got === null) expect(got).toBe(m.merge === 'sum' && expected === null ? null : expected);
+      else expect(got as number).toBeCloseTo(expected, 9);
+    } finally {
+      await engine.close();
+    }
+  });
+});

@@ -45,6 +45,19 @@ export interface Measure<F extends string = string, M extends Merge = Merge> {
    * and Σ_rows r·f(p) = Σ_g s_r·f(p)
    */
   readonly groups: (x: MeasureContext) => Aggregate;
+  /**
+   * The same measure over one row held in memory: the term the row adds (the value it offers, for a
+   * minimum or maximum), or null when the row is outside the measure's row set. The per-check test builder
+   * (test/core/checks/build.ts) fills cells from it; test/core/cube-measures.test.ts holds it to the SQL.
+   */
+  readonly term: (row: MeasureRow, x: MeasureContext) => number | null;
+}
+
+/** One row as the cube's base projection reads it: p, r, and d = r − shift; null where the log holds none. */
+export interface MeasureRow {
+  readonly p: number | null;
+  readonly r: number | null;
+  readonly d: number | null;
 }
 
 const PV = VALID_P;
@@ -53,60 +66,71 @@ const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
 const QV = `${PV} AND ${VALID_Q}`;
 const QRW = `${RW} AND ${VALID_Q}`;
 
+// The row sets above, over a row in memory (VALID_P and VALID_R in app/core/scan/expressions.ts).
+const validP = (p: number | null): p is number => p !== null && p > 0 && p <= 1 && !Number.isNaN(p);
+const validR = (r: number | null): r is number => r !== null && Number.isFinite(r);
+/** `value` where the row's propensity is valid and (with `rewarded`) its reward finite, else null. */
+const onValid = (value: (p: number, r: number, d: number) => number, rewarded: boolean) => ({ p, r, d }: MeasureRow): number | null =>
+  validP(p) && (!rewarded || validR(r)) ? value(p, r as number, d as number) : null;
+/** `value` where the reward is finite, whatever the propensity. */
+const onReward = (value: (r: number, d: number) => number) => ({ r, d }: MeasureRow): number | null => (validR(r) ? value(r, d as number) : null);
+const when = (holds: (row: MeasureRow, x: MeasureContext) => boolean) => (row: MeasureRow, x: MeasureContext): number | null => (holds(row, x) ? 1 : null);
+
 /** rows where `where` holds: over rows a count, over groups a sum of group sizes */
 const rowCount = (where?: string): Aggregate => ({ sum: '1', integral: true, ...(where ? { where } : {}) });
 const groupCount = (where?: string): Aggregate => ({ sum: 'c', integral: true, ...(where ? { where } : {}) });
 const sum = (term: string, where?: string): Aggregate => ({ sum: term, ...(where ? { where } : {}) });
 
 /** A count of rows satisfying `where` (a condition on p only, so it holds for a whole (keys, p) group). */
-function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string | undefined): Measure<F, 'sum'> {
-  return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)) };
+function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string | undefined, holds: (row: MeasureRow, x: MeasureContext) => boolean): Measure<F, 'sum'> {
+  return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)), term: when(holds) };
 }
 
-function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: Aggregate, groups: Aggregate): Measure<F, M> {
-  return { field, column, merge, rows: () => rows, groups: () => groups };
+function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: Aggregate, groups: Aggregate, term: Measure['term']): Measure<F, M> {
+  return { field, column, merge, rows: () => rows, groups: () => groups, term };
 }
 
 /** The measures of every cell, in the cube query's column order. */
 export const CELL_MEASURES = [
-  count('n', 'n', () => undefined),
-  count('nPNull', 'n_p_null', () => 'p IS NULL'),
-  count('nPNaN', 'n_p_nan', () => 'isnan(p)'),
-  count('nPNonPositive', 'n_p_nonpos', () => 'p <= 0'),
-  count('nPAboveOne', 'n_p_above', () => 'p > 1 AND NOT isnan(p)'),
-  count('nPOne', 'n_p_one', () => 'p = 1'),
-  count('nPBelowFloor', 'n_p_floor', (x) => `${PV} AND p < ${double(x.floor)}`),
-  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), { sum: 'c - c_r', integral: true }),
-  count('nP', 'n_p', () => PV),
-  measure('sumInvP', 's_ip', 'sum', sum('1 / p', PV), sum('c / p', PV)),
-  measure('sumInvP2', 's_ip2', 'sum', sum('1 / (p * p)', PV), sum('c / (p * p)', PV)),
-  measure('minP', 'min_p', 'min', { min: 'p', where: PV }, { min: 'p', where: PV }),
-  measure('maxP', 'max_p', 'max', { max: 'p', where: PV }, { max: 'p', where: PV }),
-  measure('nRw', 'n_rw', 'sum', rowCount(RW), { sum: 'c_r', where: PV, integral: true }),
-  measure('sumInvPRw', 's_ip_rw', 'sum', sum('1 / p', RW), sum('c_r / p', PV)),
-  measure('sumInvP2Rw', 's_ip2_rw', 'sum', sum('1 / (p * p)', RW), sum('c_r / (p * p)', PV)),
-  measure('sumR', 's_r', 'sum', sum('r', RW), sum('s_r', PV)),
-  measure('sumR2', 's_r2', 'sum', sum('r * r', RW), sum('s_r2', PV)),
-  measure('sumRInvP', 's_rip', 'sum', sum('r / p', RW), sum('s_r / p', PV)),
-  measure('sumRInvP2', 's_rip2', 'sum', sum('r / (p * p)', RW), sum('s_r / (p * p)', PV)),
-  measure('sumR2InvP2', 's_r2ip2', 'sum', sum('r * r / (p * p)', RW), sum('s_r2 / (p * p)', PV)),
-  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), { sum: 'c_r', integral: true }),
-  measure('sumRAll', 's_rall', 'sum', sum('r', VALID_R), sum('s_r')),
-  measure('sumR2All', 's_r2all', 'sum', sum('r * r', VALID_R), sum('s_r2')),
+  count('n', 'n', () => undefined, () => true),
+  count('nPNull', 'n_p_null', () => 'p IS NULL', ({ p }) => p === null),
+  count('nPNaN', 'n_p_nan', () => 'isnan(p)', ({ p }) => p !== null && Number.isNaN(p)),
+  count('nPNonPositive', 'n_p_nonpos', () => 'p <= 0', ({ p }) => p !== null && p <= 0),
+  count('nPAboveOne', 'n_p_above', () => 'p > 1 AND NOT isnan(p)', ({ p }) => p !== null && p > 1),
+  count('nPOne', 'n_p_one', () => 'p = 1', ({ p }) => p === 1),
+  count('nPBelowFloor', 'n_p_floor', (x) => `${PV} AND p < ${double(x.floor)}`, ({ p }, x) => validP(p) && p < x.floor),
+  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), { sum: 'c - c_r', integral: true }, when(({ r }) => !validR(r))),
+  count('nP', 'n_p', () => PV, ({ p }) => validP(p)),
+  measure('sumInvP', 's_ip', 'sum', sum('1 / p', PV), sum('c / p', PV), onValid((p) => 1 / p, false)),
+  measure('sumInvP2', 's_ip2', 'sum', sum('1 / (p * p)', PV), sum('c / (p * p)', PV), onValid((p) => 1 / (p * p), false)),
+  measure('minP', 'min_p', 'min', { min: 'p', where: PV }, { min: 'p', where: PV }, onValid((p) => p, false)),
+  measure('maxP', 'max_p', 'max', { max: 'p', where: PV }, { max: 'p', where: PV }, onValid((p) => p, false)),
+  measure('nRw', 'n_rw', 'sum', rowCount(RW), { sum: 'c_r', where: PV, integral: true }, onValid(() => 1, true)),
+  measure('sumInvPRw', 's_ip_rw', 'sum', sum('1 / p', RW), sum('c_r / p', PV), onValid((p) => 1 / p, true)),
+  measure('sumInvP2Rw', 's_ip2_rw', 'sum', sum('1 / (p * p)', RW), sum('c_r / (p * p)', PV), onValid((p) => 1 / (p * p), true)),
+  measure('sumR', 's_r', 'sum', sum('r', RW), sum('s_r', PV), onValid((_, r) => r, true)),
+  measure('sumR2', 's_r2', 'sum', sum('r * r', RW), sum('s_r2', PV), onValid((_, r) => r * r, true)),
+  measure('sumRInvP', 's_rip', 'sum', sum('r / p', RW), sum('s_r / p', PV), onValid((p, r) => r / p, true)),
+  measure('sumRInvP2', 's_rip2', 'sum', sum('r / (p * p)', RW), sum('s_r / (p * p)', PV), onValid((p, r) => r / (p * p), true)),
+  measure('sumR2InvP2', 's_r2ip2', 'sum', sum('r * r / (p * p)', RW), sum('s_r2 / (p * p)', PV), onValid((p, r) => (r * r) / (p * p), true)),
+  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), { sum: 'c_r', integral: true }, onReward(() => 1)),
+  measure('sumRAll', 's_rall', 'sum', sum('r', VALID_R), sum('s_r'), onReward((r) => r)),
+  measure('sumR2All', 's_r2all', 'sum', sum('r * r', VALID_R), sum('s_r2'), onReward((r) => r * r)),
   /**
    * Centred reward sums, d = r − shift with the cube's one shift (the middle of the reward's range):
    * a variance formed from them, Σd² − (Σd)²/n, does not cancel as Σr² − (Σr)²/n does when the mean is
    * large against the spread (Chan, Golub & LeVeque 1983, "Algorithms for computing the sample variance").
    */
-  measure('sumD', 's_d', 'sum', sum('d', RW), sum('s_d', PV)),
-  measure('sumD2', 's_d2', 'sum', sum('d * d', RW), sum('s_d2', PV)),
-  measure('sumDAll', 's_dall', 'sum', sum('d', VALID_R), sum('s_d')),
-  measure('sumD2All', 's_d2all', 'sum', sum('d * d', VALID_R), sum('s_d2')),
+  measure('sumD', 's_d', 'sum', sum('d', RW), sum('s_d', PV), onValid((_, __, d) => d, true)),
+  measure('sumD2', 's_d2', 'sum', sum('d * d', RW), sum('s_d2', PV), onValid((_, __, d) => d * d, true)),
+  measure('sumDAll', 's_dall', 'sum', sum('d', VALID_R), sum('s_d'), onReward((_, d) => d)),
+  measure('sumD2All', 's_d2all', 'sum', sum('d * d', VALID_R), sum('s_d2'), onReward((_, d) => d * d)),
 ] as const;
 
 /** Row-level only: a target-propensity column makes the cube read every row. */
 const rowsOnly = <F extends string>(field: F, column: string, rows: Aggregate): Measure<F, 'sum'> => ({
   field, column, merge: 'sum', rows: () => rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
+  term: () => { throw new Error(`cube measure ${field} reads a target_propensity column, which rows in memory do not carry`); },
 });
 
 /** Sums for a mapped target_propensity column q (row weight q/p), same row sets; on cell.target. */

@@ -1,12 +1,13 @@
 /**
  * Audit contexts from hand-written rows, for per-check tests: no engine, no generator, no committed log.
  * A test lists groups of identical rows ({ segment, action, bucket, version, p, r, count }); the builder
- * sums them into cube cells (the cube's own cell type, one function `cellOf` to follow the cube's fields),
+ * sums them into cube cells (the cube's own cell type, each measure from the measures table's in-memory term),
  * rolls them up the way the audit does (cubeView, analyseTarget), and takes each target's weight tail
  * exactly from the rows. Everything else in the context (profile, roles, buckets) is the plainest value
  * that says what the rows say.
  */
 import type { AuditContext, TargetTail } from '../../../app/core/checks/context.ts';
+import { blankCell, CELL_MEASURES, DERIVED_MEASURES } from '../../../app/core/cube/measures.ts';
 import type { CubeCell } from '../../../app/core/cube/types.ts';
 import { SEP } from '../../../app/core/cube/rollup.ts';
 import type { ResolvedRoles } from '../../../app/core/roles/roles.ts';
@@ -31,54 +32,29 @@ export interface Rows {
 
 export const FLOOR = 0.01;
 
-/** One cube cell from rows that all share (segment, action, bucket, version): the sums the cube's SQL forms. */
+/**
+ * One cube cell from rows that all share (segment, action, bucket, version): each measure of the cube's table
+ * (app/core/cube/measures.ts) from its in-memory term, so a new measure needs nothing here. The centred sums
+ * use shift 0 (any constant shift is valid).
+ */
 export function cellOf(rows: readonly Rows[], floor = FLOOR): CubeCell {
   const first = rows[0] as Rows;
-  const z = { n: 0, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0, nPInvalid: 0, nPOne: 0, nRNull: 0, nP: 0, sumInvP: 0, sumInvP2: 0, nRw: 0, sumInvPRw: 0, sumInvP2Rw: 0, sumR: 0, sumR2: 0, sumRInvP: 0, sumRInvP2: 0, sumR2InvP2: 0, nRAll: 0, sumRAll: 0, sumR2All: 0, sumD: 0, sumD2: 0, sumDAll: 0, sumD2All: 0 };
-  let minP: number | null = null;
-  let maxP: number | null = null;
+  const cell = blankCell();
+  for (const m of CELL_MEASURES) cell[m.field] = m.merge === 'sum' ? 0 : null;
   for (const g of rows) {
     const k = g.count ?? 1;
-    const { p } = g;
     const r = g.r === undefined ? 0 : g.r;
-    z.n += k;
-    const valid = p !== null && Number.isFinite(p) && p > 0 && p <= 1;
-    if (p === null) z.nPNull += k;
-    else if (Number.isNaN(p)) z.nPNaN += k;
-    else if (p <= 0) z.nPNonPositive += k;
-    else if (p > 1) z.nPAboveOne += k;
-    if (!valid) z.nPInvalid += k;
-    const finiteR = r !== null && Number.isFinite(r);
-    if (!finiteR) z.nRNull += k;
-    else {
-      z.nRAll += k;
-      z.sumRAll += k * r;
-      z.sumR2All += k * r * r;
-      // the cube's centred sums with shift 0 (any constant shift is valid)
-      z.sumDAll += k * r;
-      z.sumD2All += k * r * r;
+    const row = { p: g.p, r, d: r };
+    for (const m of CELL_MEASURES) {
+      const v = m.term(row, { floor });
+      if (v === null) continue;
+      const now = cell[m.field] as number | null;
+      cell[m.field] = m.merge === 'sum' ? (now as number) + k * v : now === null ? v : m.merge === 'min' ? Math.min(now, v) : Math.max(now, v);
     }
-    if (!valid) continue;
-    if (p === 1) z.nPOne += k;
-    if (p < floor) z.nPBelowFloor += k;
-    z.nP += k;
-    z.sumInvP += k / p;
-    z.sumInvP2 += k / (p * p);
-    minP = minP === null ? p : Math.min(minP, p);
-    maxP = maxP === null ? p : Math.max(maxP, p);
-    if (!finiteR) continue;
-    z.nRw += k;
-    z.sumInvPRw += k / p;
-    z.sumInvP2Rw += k / (p * p);
-    z.sumR += k * r;
-    z.sumR2 += k * r * r;
-    z.sumD += k * r;
-    z.sumD2 += k * r * r;
-    z.sumRInvP += (k * r) / p;
-    z.sumRInvP2 += (k * r) / (p * p);
-    z.sumR2InvP2 += (k * r * r) / (p * p);
   }
-  return { segment: first.segment ?? [], action: first.action, bucket: first.bucket ?? 0, version: first.version ?? '', ...z, minP, maxP, target: null };
+  for (const d of DERIVED_MEASURES) cell[d.field] = d.of.reduce((sum, f) => sum + (cell[f] as number), 0);
+  Object.assign(cell, { segment: first.segment ?? [], action: first.action, bucket: first.bucket ?? 0, version: first.version ?? '', target: null });
+  return cell as unknown as CubeCell;
 }
 
 /** Rows grouped into cube cells by (segment, action, bucket, version). */
