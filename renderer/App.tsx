@@ -20,6 +20,7 @@ import type { Baseline } from './state/comparison.ts';
 import { draftFromSuggestions } from './state/from-suggestions.ts';
 import { EMPTY_DRAFT, type AuditDraft } from './state/draft.ts';
 import { forgetRecent, loadRecent, rememberAudit, type RecentAudit } from './state/recent.ts';
+import { forgetCurrentAudit, loadCurrentAudit, saveCurrentAudit } from './state/current-audit.ts';
 
 export function App() {
   const engine = useEngine();
@@ -37,6 +38,7 @@ export function App() {
     setViewState(next);
   }, []);
   const restoring = useRef<View | null>(null);
+  const restoredLabel = useRef<string | null>(null);
   const [draft, setDraft] = useState<AuditDraft>(EMPTY_DRAFT);
   const [report, setReport] = useState<Report | null>(null);
   const [recent, setRecent] = useState<RecentAudit[]>(() => loadRecent());
@@ -49,16 +51,25 @@ export function App() {
       if (next) showView(next);
     };
     window.addEventListener('popstate', onPop);
-    // A reload on a results screen shows the last finished audit again, from the report this browser kept.
+    // A reload on a results screen shows the audit that was on screen again, from the report this browser
+    // kept (state/current-audit.ts), on the screen the URL names.
     const wanted = viewOfHash(window.location.hash);
-    const last = loadRecent()[0]?.report;
-    if (wanted && RESULT_SCREENS.has(wanted.screen) && last) {
-      restoring.current = wanted;
-      engine.showReport(last);
+    let cancelled = false;
+    if (wanted && RESULT_SCREENS.has(wanted.screen)) {
+      void loadCurrentAudit().then((kept) => {
+        if (cancelled) return;
+        if (kept) {
+          restoring.current = wanted;
+          restoredLabel.current = kept.label;
+          engine.showReport(kept.report);
+        } else {
+          window.history.replaceState(null, '', hashOf({ screen: 'open' }));
+        }
+      });
     } else {
       window.history.replaceState(null, '', hashOf({ screen: 'open' }));
     }
-    return () => window.removeEventListener('popstate', onPop);
+    return () => { cancelled = true; window.removeEventListener('popstate', onPop); };
     // once, at start
   }, []);
 
@@ -66,6 +77,8 @@ export function App() {
     if (status.kind === 'ready' && view.screen === 'open') {
       // another log was opened: the previous audit gives way to it
       setReport(null);
+      restoredLabel.current = null;
+      void forgetCurrentAudit();
       setDraft(draftFromSuggestions(status.source.suggestions));
       setView({ screen: 'roles' });
     } else if (status.kind === 'running') {
@@ -73,6 +86,8 @@ export function App() {
     } else if (status.kind === 'done') {
       setReport(status.report);
       if (status.source) setRecent(rememberAudit(status.source.label, status.report));
+      if (status.source) restoredLabel.current = null;
+      void saveCurrentAudit({ label: labelOf(status.source?.label ?? restoredLabel.current, status.report), report: status.report });
       const restored = restoring.current;
       restoring.current = null;
       if (restored) showView(restored); else setView({ screen: 'overview' });
@@ -82,6 +97,10 @@ export function App() {
     // Screens follow engine transitions only; a view change alone must not re-run this.
   }, [status]);
 
+  const onSigned = useCallback((signed: Report) => {
+    setReport(signed);
+    void saveCurrentAudit({ label: labelOf(source?.label ?? restoredLabel.current, signed), report: signed });
+  }, [source]);
   const openCheck = useCallback((id: CheckId) => setView({ screen: 'check', id }), []);
   // Going back to "Open a log" keeps the current audit: it is replaced only when another log is opened.
   const go = useCallback((next: View) => setView(next), [setView]);
@@ -92,9 +111,9 @@ export function App() {
         return (
           <OpenScreen
             recent={recent}
-            onShowReport={engine.showReport}
+            onShowReport={(r) => { restoredLabel.current = null; engine.showReport(r); }}
             onForgetRecent={() => { forgetRecent(); setRecent([]); }}
-            current={report ? { label: source?.label ?? report.input.files.map((f) => f.path.split(/[\\/]/).pop()).join(', '), onContinue: () => setView({ screen: 'overview' }) } : source ? { label: source.label, onContinue: () => setView({ screen: 'roles' }) } : null}
+            current={report ? { label: labelOf(source?.label ?? restoredLabel.current, report), onContinue: () => setView({ screen: 'overview' }) } : source ? { label: source.label, onContinue: () => setView({ screen: 'roles' }) } : null}
           />
         );
       case 'roles':
@@ -125,7 +144,7 @@ export function App() {
             onUseTable={(t) => { setDraft((d) => ({ ...d, targets: [...d.targets.filter((x) => x.spec !== t.spec), t] })); setView({ screen: 'targets' }); }}
           />
         );
-      case 'signoff': return <SignoffPanel report={report} onSigned={setReport} />;
+      case 'signoff': return <SignoffPanel report={report} onSigned={onSigned} />;
       case 'compare': return <CompareScreen report={report} baseline={baseline} recent={recent} onBaseline={setBaseline} onOpenCheck={openCheck} />;
     }
   })();
@@ -149,7 +168,12 @@ export function App() {
   );
 }
 
-const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'weights', 'drift', 'estimates', 'edit', 'signoff', 'check']);
+const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'weights', 'drift', 'estimates', 'edit', 'signoff', 'compare', 'check']);
+
+/** What the audit is called on the Open screen: the log's label, or its files' names. */
+function labelOf(label: string | null, report: Report): string {
+  return label ?? report.input.files.map((f) => f.path.split(/[\\/]/).pop()).join(', ');
+}
 const ALL_SCREENS: ReadonlySet<string> = new Set(['open', 'roles', 'targets', 'run', ...RESULT_SCREENS]);
 
 function hashOf(view: View): string {

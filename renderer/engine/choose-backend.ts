@@ -26,7 +26,8 @@ let mode: PageMode | null = null;
 export function pageMode(): PageMode {
   if (mode) return mode;
   mode = detectMode(window.location.hash, window.counterweight?.kind === 'desktop');
-  if (window.location.hash) window.history.replaceState(null, '', `${window.location.pathname}${window.location.search}`);
+  // A screen's name (#/overview) stays: it is how a reload finds the screen again (App.tsx).
+  if (window.location.hash && !window.location.hash.startsWith('#/')) window.history.replaceState(null, '', `${window.location.pathname}${window.location.search}`);
   return mode;
 }
 

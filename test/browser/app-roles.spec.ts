@@ -84,4 +84,18 @@ test('a booking log with unseen column names: roles right with no edits, actions
   await noSeriousViolations(page, 'open with an audit');
   await page.getByRole('button', { name: 'Back to it' }).click();
   await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible();
+  const verdict = await page.locator('.verdict-line').first().innerText();
+
+  // a reload keeps the audit, on the screen the URL names
+  await page.reload();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 30_000 });
+  expect(page.url()).toMatch(/#\/overview$/);
+  expect(await page.locator('.verdict-line').first().innerText()).toBe(verdict);
+  await nav.getByRole('button', { name: 'Drift' }).click();
+  await page.reload();
+  await expect(page.getByRole('heading', { name: 'Drift over time', level: 1 })).toBeVisible({ timeout: 30_000 });
+  await page.goBack();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible();
+  await nav.getByRole('button', { name: 'Open a log' }).click();
+  await expect(page.getByText(/Still open: harbour-stays\.csv/)).toBeVisible();
 });

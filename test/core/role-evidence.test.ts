@@ -109,6 +109,25 @@ describe('role inference on generated logs', () => {
     expect(id?.message).toMatch(/far from unique: 5 distinct values in 5,000 rows/);
   });
 
+  it('leaves mis-logged propensities on the right action column to the balance check: it warns only where another column balances', async () => {
+    const r = await inspect(BOOKING_SPEC, 5_000, 15);
+    const roles = resolveRoles(r.profile, { action: 'offer_id', propensity: 'shown_chance' }, r.evidence);
+    // hand-made groups, 1,000 rows with p = 1/2: B('a') = 500·2/1000 = 1; for 'b' the logged p is 1/3.6, B('b') = 500·3.6/1000 = 1.8
+    const group = (value: string, inv: number) => ({ value, rows: 500, valid: [500], sumInv: [500 * inv], sumInv2: [500 * inv * inv] });
+    const misLogged = balanceFit('offer_id', 'shown_chance', [group('a', 2), group('b', 3.6)], 0);
+    expect(misLogged.values.map((v) => v.b)).toEqual([1, 1.8]);
+    const segment = balanceFit('city_zone', 'shown_chance', [group('north', 4), group('south', 2)], 0);
+    const balanced = balanceFit('guest_kind', 'shown_chance', [group('x', 2), group('y', 2)], 0);
+    expect([misLogged.holds, segment.holds, balanced.holds]).toEqual([false, false, true]);
+    const actionProblems = (fits: ReturnType<typeof balanceFit>[]) => validateRoles(r.profile, roles, { rowsRead: 1_000, fits }).filter((p) => p.role === 'action');
+    // no other column balances: the action column is right and its propensities are wrong, which balance.weights reports
+    expect(actionProblems([misLogged, segment])).toEqual([]);
+    // another column balances where the mapped one does not: the mapping itself is in doubt
+    const [problem] = actionProblems([misLogged, segment, balanced]);
+    expect(problem?.severity).toBe('warn');
+    expect(problem?.message).toMatch(/does not hold for action column 'offer_id'.*1\.80 for 'b'.*it holds for 'guest_kind'/);
+  });
+
   it('builds one aggregate per candidate, as grouping sets of one read of the first rows', async () => {
     const sql = actionEvidenceSql('"log"', ['offer', 'zone'], ['p', 'q']);
     expect(sql).toContain('LIMIT 100000');

@@ -372,8 +372,10 @@ export function validateRoles(profile: Profile, roles: ResolvedRoles, evidence?:
   if (a && evidence && roles.propensity) {
     const fit = evidence.fits.find((f) => f.column === a.name && f.propensity === roles.propensity);
     const better = evidence.fits.filter((f) => f.propensity === roles.propensity && f.holds && f.column !== a.name).map((f) => `'${f.column}'`);
-    if (fit && contradicts(fit)) {
-      problems.push({ role: 'action', severity: 'warn', message: `weight balance does not hold for action column '${a.name}' with propensity '${roles.propensity}': ${fitText(fit)}${better.length ? `; it holds for ${better.join(', ')}, which may be the action` : '; either the propensities are mis-logged or the action is another column'}` });
+    // Only another column that balances speaks for a wrong action column; a column for which no other balances
+    // either is the action with mis-logged propensities, which balance.weights locates by action, segment and time.
+    if (fit && contradicts(fit) && better.length > 0) {
+      problems.push({ role: 'action', severity: 'warn', message: `weight balance does not hold for action column '${a.name}' with propensity '${roles.propensity}' (${fitText(fit)}); it holds for ${better.join(', ')}, which may be the action` });
     }
   }
   const id = roles.decision_id ? byName.get(roles.decision_id) : undefined;
