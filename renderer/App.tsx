@@ -16,6 +16,8 @@ import { EstimatesPanel } from './panels/EstimatesPanel.tsx';
 import { SignoffPanel } from './panels/SignoffPanel.tsx';
 import { TargetEditor } from './screens/TargetEditor.tsx';
 import { CompareScreen } from './screens/CompareScreen.tsx';
+import { HistoryScreen } from './screens/HistoryScreen.tsx';
+import type { LabelledReport } from '../app/core/compare/history.ts';
 import type { Baseline } from './state/comparison.ts';
 import { draftFromSuggestions } from './state/from-suggestions.ts';
 import { EMPTY_DRAFT, type AuditDraft } from './state/draft.ts';
@@ -43,6 +45,7 @@ export function App() {
   const [report, setReport] = useState<Report | null>(null);
   const [recent, setRecent] = useState<RecentAudit[]>(() => loadRecent());
   const [baseline, setBaseline] = useState<Baseline | null>(null);
+  const [historyReports, setHistoryReports] = useState<LabelledReport[]>([]);
   const source = sourceOf(status);
 
   useEffect(() => {
@@ -122,6 +125,8 @@ export function App() {
         return source ? <TargetsScreen source={source} draft={draft} onChange={setDraft} onRun={() => engine.run(draft)} /> : null;
       case 'run':
         return <RunScreen onBack={() => setView({ screen: 'targets' })} />;
+      case 'history':
+        return <HistoryScreen reports={historyReports} onReports={setHistoryReports} recent={recent} current={report ? { label: `${labelOf(source?.label ?? restoredLabel.current, report)} (open audit)`, report } : null} />;
       default:
         break;
     }
@@ -174,7 +179,7 @@ const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'we
 function labelOf(label: string | null, report: Report): string {
   return label ?? report.input.files.map((f) => f.path.split(/[\\/]/).pop()).join(', ');
 }
-const ALL_SCREENS: ReadonlySet<string> = new Set(['open', 'roles', 'targets', 'run', ...RESULT_SCREENS]);
+const ALL_SCREENS: ReadonlySet<string> = new Set(['open', 'roles', 'targets', 'run', 'history', ...RESULT_SCREENS]);
 
 function hashOf(view: View): string {
   return view.screen === 'check' ? `#/check/${view.id}` : `#/${view.screen}`;

@@ -1,5 +1,6 @@
 import type { EChartsCoreOption } from 'echarts';
-import { chartForSeries as buildSeries, chartHeight, estimatesOption } from '../app/charts/index.ts';
+import { chartForSeries as buildSeries, chartHeight, estimatesOption, historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../app/charts/index.ts';
+import type { ChartHistorySegment, ChartHistoryTarget } from '../app/charts/types.ts';
 import type { Series, TargetSummary } from '../app/core/model/report.ts';
 import { formatValue } from './format.ts';
 
@@ -62,4 +63,13 @@ export function heightForSeries(series: Series): number {
 
 export function chartForEstimates(targets: readonly TargetSummary[], onPolicy: number | null): EChartsCoreOption {
   return withoutTitle(estimatesOption(targets, onPolicy));
+}
+
+/** A history's charts (app/charts/history.ts), as the HTML history draws them, without the options' own titles. */
+export function chartsForHistoryTarget(labels: readonly string[], target: ChartHistoryTarget): { estimate: EChartsCoreOption; weights: EChartsCoreOption } {
+  return { estimate: withoutTitle(historyEstimateOption(labels, target)), weights: withoutTitle(historyWeightsOption(labels, target)) };
+}
+
+export function chartForHistorySegments(labels: readonly string[], segments: readonly ChartHistorySegment[]): EChartsCoreOption {
+  return withoutTitle(historySegmentsOption(labels, segments));
 }

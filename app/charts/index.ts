@@ -29,3 +29,4 @@ export function chartHeight(series: ChartSeries): number {
   if (series.kind === 'heatmap') return Math.min(1800, 170 + 18 * (series.y?.length ?? series.values.length));
   return rankedHeight(series) ?? 300;
 }
+export { historyEstimateOption, historySegmentsHeight, historySegmentsOption, historyWeightsOption, segmentName } from './history.ts';

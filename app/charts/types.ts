@@ -37,3 +37,20 @@ export type ChartOption = Record<string, unknown>;
  */
 export const CI_LOW_SUFFIX = ':ci_low';
 export const CI_HIGH_SUFFIX = ':ci_high';
+
+/** One target's metrics over a history's reports (the history model's target rows, app/core/compare/history.ts). */
+export interface ChartHistoryTarget {
+  readonly name: string;
+  readonly ess_fraction: readonly (number | null)[];
+  readonly khat: readonly (number | null)[];
+  readonly support_deficit: readonly (number | null)[];
+  readonly snips: readonly (number | null)[];
+  readonly snips_ci_low: readonly (number | null)[];
+  readonly snips_ci_high: readonly (number | null)[];
+}
+
+/** One segment's readiness over a history's reports; null where a report does not hold the segment. */
+export interface ChartHistorySegment {
+  readonly segment: Readonly<Record<string, string>>;
+  readonly statuses: readonly (string | null)[];
+}

@@ -1,6 +1,7 @@
 import path from 'node:path';
 import { readFile, rename, stat, writeFile } from 'node:fs/promises';
-import type { LaunchLog, RecentLog, ReportFormat, SaveReportRequest, TargetTableFile } from './ipc-contract.ts';
+import type { LaunchLog, RecentLog, ReportFormat, ReportFileText, SaveReportRequest, TargetTableFile } from './ipc-contract.ts';
+import { MAX_REPORT_CHARS } from './ipc-schema.ts';
 
 export const RECENT_LIMIT = 10;
 export const RECENT_FILE = 'recent-logs.json';
@@ -12,6 +13,9 @@ export const LOG_FILTERS = [
   { name: 'All files', extensions: ['*'] },
 ];
 export const TARGET_TABLE_FILTERS = [{ name: 'Target policy table', extensions: ['csv', 'json'] }];
+export const REPORTS_FILTERS = [{ name: 'Counterweight reports (JSON)', extensions: ['json'] }];
+/** An audit history of more reports than this is not read by picking files. */
+export const MAX_HISTORY_REPORTS = 200;
 const REPORT_FILTERS: Record<ReportFormat, { name: string; extensions: string[] }[]> = {
   json: [{ name: 'Report (JSON)', extensions: ['json'] }],
   html: [{ name: 'Report (HTML)', extensions: ['html'] }],
@@ -156,6 +160,29 @@ export async function chooseTargetTable(
     throw new Error(`"${path.basename(chosen)}" is ${bytes} bytes; a target policy table may be at most ${TARGET_TABLE_MAX_BYTES} bytes.`);
   }
   return { path: chosen, text: await read(chosen) };
+}
+
+/**
+ * The report files for an audit history: several JSON files, each read whole (a report is at most
+ * MAX_REPORT_CHARS); the renderer validates each one and names those that are not reports.
+ */
+export async function chooseReports(
+  dialog: DialogApi,
+  read: ReadText = (p) => readFile(p, 'utf8'),
+  size: FileSize = async (p) => (await stat(p)).size,
+): Promise<ReportFileText[] | null> {
+  const result = await dialog.showOpenDialog({ title: 'Open saved audit reports', filters: REPORTS_FILTERS, properties: ['openFile', 'multiSelections'] });
+  if (result.canceled || result.filePaths.length === 0) return null;
+  if (result.filePaths.length > MAX_HISTORY_REPORTS) throw new Error(`${result.filePaths.length} files were chosen; a history reads at most ${MAX_HISTORY_REPORTS} reports.`);
+  const out: ReportFileText[] = [];
+  for (const chosen of result.filePaths) {
+    const name = path.basename(chosen);
+    if (path.extname(chosen).toLowerCase() !== '.json') throw new Error(`A saved report is a .json file; "${name}" is not.`);
+    const bytes = await size(chosen);
+    if (bytes > MAX_REPORT_CHARS) throw new Error(`"${name}" is ${bytes} bytes; a report may be at most ${MAX_REPORT_CHARS} bytes.`);
+    out.push({ name, text: await read(chosen) });
+  }
+  return out;
 }
 
 /** A bare file name with the format's extension; folders and odd characters are dropped. */

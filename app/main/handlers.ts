@@ -1,5 +1,5 @@
 import type { HostReply, HostRequest } from '../engine/host/messages.ts';
-import { chooseLog, chooseTargetTable, type DialogApi, type PathGrants, PathNotGrantedError, type RecentStore, saveReport } from './file-access.ts';
+import { chooseLog, chooseReports, chooseTargetTable, type DialogApi, type PathGrants, PathNotGrantedError, type RecentStore, saveReport } from './file-access.ts';
 import { admitRequest } from './host-messages.ts';
 import type { EngineHost } from './engine-host.ts';
 import type { IpcHandlers } from './ipc.ts';
@@ -38,6 +38,7 @@ export function createHandlers<Event>(deps: HandlerDeps): IpcHandlers<Event> {
       return deps.recent.add(paths);
     },
     'target-table:choose': () => chooseTargetTable(deps.dialog),
+    'reports:choose': () => chooseReports(deps.dialog),
     'report:save': (_event, request) => saveReport(deps.dialog, request, grants),
     'report:print-pdf': (_event, request) => printReportToPdf(deps.contents, deps.dialog, request, grants),
     'engine:send': (_event, message) => {

@@ -24,6 +24,12 @@ export interface TargetTableFile {
   text: string;
 }
 
+/** A saved report chosen for the audit history: its bare file name (the history's label) and its text. */
+export interface ReportFileText {
+  name: string;
+  text: string;
+}
+
 export type EngineHostState = 'starting' | 'ready' | 'restarting' | 'failed';
 
 export interface EngineHostStatus {
@@ -39,6 +45,7 @@ export interface InvokeChannels {
   'recent:list': { args: InvokeArgsOf<'recent:list'>; result: RecentLog[] };
   'recent:add': { args: InvokeArgsOf<'recent:add'>; result: RecentLog[] };
   'target-table:choose': { args: InvokeArgsOf<'target-table:choose'>; result: TargetTableFile | null };
+  'reports:choose': { args: InvokeArgsOf<'reports:choose'>; result: ReportFileText[] | null };
   'report:save': { args: InvokeArgsOf<'report:save'>; result: string | null };
   'report:print-pdf': { args: InvokeArgsOf<'report:print-pdf'>; result: string | null };
   'engine:send': { args: InvokeArgsOf<'engine:send'>; result: void };
@@ -65,6 +72,8 @@ export interface CounterweightApi {
   recentLogs(): Promise<RecentLog[]>;
   addRecentLog(paths: string[]): Promise<RecentLog[]>;
   chooseTargetTable(): Promise<TargetTableFile | null>;
+  /** Shows the open dialog for saved report JSON files and returns their names and texts. */
+  chooseReports(): Promise<ReportFileText[] | null>;
   saveReport(request: SaveReportRequest): Promise<string | null>;
   printReportToPdf(request?: PrintRequest): Promise<string | null>;
   engine: {

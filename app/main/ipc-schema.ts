@@ -36,6 +36,7 @@ export const INVOKE_ARGS = {
   'recent:list': none,
   'recent:add': z.tuple([pathList]),
   'target-table:choose': none,
+  'reports:choose': none,
   'report:save': z.tuple([saveReportRequest]),
   'report:print-pdf': z.tuple([printRequest]),
   'engine:send': z.tuple([hostRequest]),

@@ -28,6 +28,7 @@ const api: CounterweightApi = {
   recentLogs: () => invoke('recent:list'),
   addRecentLog: (paths) => invoke('recent:add', paths),
   chooseTargetTable: () => invoke('target-table:choose'),
+  chooseReports: () => invoke('reports:choose'),
   saveReport: (request) => invoke('report:save', request),
   printReportToPdf: (request = {}) => invoke('report:print-pdf', request),
   engine: {

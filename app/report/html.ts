@@ -6,22 +6,17 @@
 import type { CheckResult, Estimate, Finding, Metrics, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
 import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
-import type { ChartOption } from '../charts/types.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
-import { html, trustedSvg, type SafeHtml } from './html-template.ts';
+import { makeChart, type ChartFn, type HtmlOptions } from './html-chart.ts';
+import { html, type SafeHtml } from './html-template.ts';
 import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
-import { renderSvg } from './svg.ts';
 
 export { REPORT_CSP } from './html-style.ts';
+export type { HtmlOptions } from './html-chart.ts';
 
-const CHART_WIDTH = 960;
 const MAX_FINDINGS = 200;
 const MAX_SEGMENTS = 500;
 
-export interface HtmlOptions {
-  /** Chart renderer (default: ECharts SSR to SVG); tests may pass a stub. */
-  renderChart?: (option: ChartOption, width: number, height: number) => string;
-}
 
 const VERDICT_TEXT: Record<Verdict, { text: string; icon: string }> = {
   supported: { text: 'Supported', icon: '✓' },
@@ -30,7 +25,7 @@ const VERDICT_TEXT: Record<Verdict, { text: string; icon: string }> = {
 };
 
 export function renderHtmlReport(report: Report, options: HtmlOptions = {}): string {
-  const chart = makeChart(options.renderChart ?? renderSvg);
+  const chart = makeChart(options);
   const title = `Counterweight audit: ${report.input.files.map((f) => f.path).join(', ') || 'log'}`;
   const body = html`
 <header>
@@ -69,21 +64,6 @@ ${body.value}
 </body>
 </html>
 `;
-}
-
-type ChartFn = (option: ChartOption, height: number, caption: string) => SafeHtml;
-
-function makeChart(renderChart: NonNullable<HtmlOptions['renderChart']>): ChartFn {
-  return (option, height, caption) => {
-    let svg: SafeHtml | null;
-    try {
-      svg = trustedSvg(renderChart(option, CHART_WIDTH, height));
-    } catch (error) {
-      return html`<p class="muted">Chart “${caption}” could not be drawn: ${(error as Error).message}</p>`;
-    }
-    if (svg === null) return html`<p class="muted">Chart “${caption}” omitted: its SVG contained active content.</p>`;
-    return html`<figure class="chart" aria-label="${caption}">${svg}</figure>`;
-  };
 }
 
 function statusBadge(status: Status): SafeHtml {

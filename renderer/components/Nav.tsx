@@ -2,7 +2,7 @@ import type { CheckId, CheckResult } from '../../app/core/model/report.ts';
 import { STATUS_STYLE } from '../palette.ts';
 
 export type View =
-  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' | 'compare' }
+  | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' | 'compare' | 'history' }
   | { readonly screen: 'check'; readonly id: CheckId };
 
 interface Props {
@@ -30,6 +30,7 @@ const RESULTS = [
   { screen: 'edit', label: 'Edit a target' },
   { screen: 'signoff', label: 'Sign-off' },
   { screen: 'compare', label: 'Compare' },
+  { screen: 'history', label: 'History' },
 ] as const;
 
 export function Nav({ view, onGo, hasSource, hasReport, running, checks }: Props) {
@@ -40,6 +41,8 @@ export function Nav({ view, onGo, hasSource, hasReport, running, checks }: Props
     if (screen === 'open') return true;
     if (screen === 'roles' || screen === 'targets') return hasSource;
     if (screen === 'run') return false;
+    // A history is read from saved reports: it needs no open log.
+    if (screen === 'history') return true;
     return hasReport;
   };
   const item = (screen: View['screen'], label: string, index?: number) => (

@@ -9,15 +9,20 @@ export interface Baseline {
   readonly report: Report;
 }
 
-/** Reads a picked report JSON file; throws an Error whose message names what is wrong. */
-export async function readBaselineFile(file: File): Promise<Baseline> {
+/** A report file's text, validated; throws an Error whose message names the file and what is wrong. */
+export function reportOfText(name: string, text: string): Baseline {
   let value: unknown;
   try {
-    value = JSON.parse(await file.text());
+    value = JSON.parse(text);
   } catch (error) {
-    throw new Error(`${file.name} is not JSON: ${(error as Error).message}`);
+    throw new Error(`${name} is not JSON: ${(error as Error).message}`);
   }
-  return { label: file.name, report: parseReport(value, file.name) };
+  return { label: name, report: parseReport(value, name) };
+}
+
+/** Reads a picked report JSON file; throws an Error whose message names what is wrong. */
+export async function readBaselineFile(file: File): Promise<Baseline> {
+  return reportOfText(file.name, await file.text());
 }
 
 /** The comparison the screen renders (the same function the headless `compare` command runs). */

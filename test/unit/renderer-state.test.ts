@@ -7,6 +7,9 @@ import { EMPTY_DRAFT, roleProblems, targetProblems } from '../../renderer/state/
 import type { ColumnProfile, Profile } from '../../app/core/scan/profile.ts';
 import { loadRecent, rememberAudit } from '../../renderer/state/recent.ts';
 import type { Report } from '../../app/core/model/report.ts';
+import { historyOf, reportsOfTexts, withReports } from '../../renderer/state/history.ts';
+import { fixtureReport } from './report/fixture-report.ts';
+import { serializeReport } from '../../app/report/serialize.ts';
 
 const source = { label: 'log.csv', relation: '"src_1"', scanSql: '', format: 'csv', files: [], profile: { rows: 3, columns: [] }, suggestions: [] } as OpenedSource;
 
@@ -174,5 +177,17 @@ describe('role mapping problems', () => {
   it('warns when "none" cannot switch off a role the core will still fill from its suggestion', () => {
     const problems = roleProblems({ ...EMPTY_DRAFT, roles }, profile);
     expect(problems).toContainEqual({ severity: 'warn', message: 'Policy version is set to none, but the audit will still use the suggested column "policy_version".' });
+  });
+});
+
+describe('audit history sources', () => {
+  const report = fixtureReport();
+  it('keeps the readable reports, names each file that is not one, and lets a picked-again file replace its earlier copy', () => {
+    const read = reportsOfTexts([{ name: 'week1.json', text: serializeReport(report) }, { name: 'notes.json', text: '{"schema":"counterweight.report/1"}' }, { name: 'broken.json', text: '{' }]);
+    expect(read.reports.map((r) => r.label)).toEqual(['week1.json']);
+    expect(read.problems).toEqual([expect.stringMatching(/^notes\.json is not a valid counterweight\.report\/1 report/), expect.stringMatching(/^broken\.json is not JSON/)]);
+    const again = { label: 'week1.json', report: { ...report, verdict: 'supported' as const } };
+    expect(withReports([...read.reports, { label: 'week2.json', report }], [again]).map((r) => [r.label, r.report.verdict])).toEqual([['week2.json', report.verdict], ['week1.json', 'supported']]);
+    expect(historyOf([])).toBeNull();
   });
 });

@@ -1,6 +1,7 @@
 import { readdirSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { buildHistory, type History, type LabelledReport } from '../../core/compare/history.ts';
+import { serializeHistory } from '../../report/history-json.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { stringFlag } from '../args.ts';
 import { plain } from '../compare-summary.ts';
@@ -58,7 +59,7 @@ export async function runHistory(args: ParsedArgs, io: CliIo): Promise<number> {
   const history = buildHistory(reports);
   const json = stringFlag(args.flags, 'json');
   const htmlOut = stringFlag(args.flags, 'html');
-  const text = `${JSON.stringify(history, null, 2)}\n`;
+  const text = serializeHistory(history);
   if (json === '-') io.stdout.write(text);
   else if (json) writeFile(json, text, io.cwd);
   if (htmlOut) {

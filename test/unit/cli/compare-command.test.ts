@@ -116,7 +116,12 @@ describe('counterweight history', () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/2 reports/);
     expect(r.stdout.indexOf('a.json')).toBeLessThan(r.stdout.indexOf('b.json'));
-    expect(readFileSync(path.join(dir, 'history.html'), 'utf8')).toContain('First seen');
+    const page = readFileSync(path.join(dir, 'history.html'), 'utf8');
+    expect(page).toContain('First seen');
+    // The charts the app's History screen draws (app/charts/history.ts), inline as SVG, nothing active.
+    expect(page).toContain('aria-label="Segment readiness over time"><svg');
+    expect(page).toMatch(/estimated value over time[^<]*"><svg/);
+    expect(page).not.toMatch(/<script/i);
     expect(cli(['history', 'missing-folder'], dir).code).toBe(3);
   });
 });

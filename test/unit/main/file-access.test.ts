@@ -4,8 +4,10 @@ import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import {
   chooseLog,
+  chooseReports,
   chooseTargetTable,
   type DialogApi,
+  MAX_HISTORY_REPORTS,
   mergeRecent,
   parseLaunchArgs,
   parseRecent,
@@ -135,6 +137,19 @@ describe('dialogs', () => {
     await expect(chooseTargetTable(fakeDialog({ canceled: false, filePaths: ['/v9.xlsx'] }).dialog, read, small)).rejects.toThrow(/\.csv or \.json/);
     await expect(chooseTargetTable(fakeDialog({ canceled: false, filePaths: ['/v9.json'] }).dialog, read, async () => TARGET_TABLE_MAX_BYTES + 1)).rejects.toThrow(/at most/);
     expect(await chooseTargetTable(fakeDialog({ canceled: true, filePaths: [] }).dialog, read, small)).toBeNull();
+  });
+
+  it('chooseReports reads every chosen .json report with its bare name, and refuses other types, huge files and too many files', async () => {
+    const read = async (p: string): Promise<string> => `text of ${p}`;
+    const small = async (): Promise<number> => 120;
+    const { dialog, calls } = fakeDialog({ canceled: false, filePaths: ['/audits/week1.json', '/audits/week2.JSON'] });
+    expect(await chooseReports(dialog, read, small)).toEqual([{ name: 'week1.json', text: 'text of /audits/week1.json' }, { name: 'week2.JSON', text: 'text of /audits/week2.JSON' }]);
+    expect(calls).toEqual([expect.objectContaining({ properties: ['openFile', 'multiSelections'] })]);
+    await expect(chooseReports(fakeDialog({ canceled: false, filePaths: ['/audits/week1.json', '/audits/log.parquet'] }).dialog, read, small)).rejects.toThrow(/"log\.parquet" is not/);
+    await expect(chooseReports(fakeDialog({ canceled: false, filePaths: ['/audits/week1.json'] }).dialog, read, async () => 2 ** 40)).rejects.toThrow(/at most/);
+    const many = Array.from({ length: MAX_HISTORY_REPORTS + 1 }, (_, i) => `/audits/w${i}.json`);
+    await expect(chooseReports(fakeDialog({ canceled: false, filePaths: many }).dialog, read, small)).rejects.toThrow(/at most 200 reports/);
+    expect(await chooseReports(fakeDialog({ canceled: true, filePaths: [] }).dialog, read, small)).toBeNull();
   });
 
   it('saveReport writes the contents to the chosen path with a safe default name', async () => {

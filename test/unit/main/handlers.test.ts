@@ -5,6 +5,8 @@ import { type DialogApi, PathGrants, type RecentStore } from '../../../app/main/
 import { createHandlers } from '../../../app/main/handlers.ts';
 import type { RecentLog } from '../../../app/main/ipc-contract.ts';
 import { desktopPaths } from '../../../app/main/paths.ts';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
 
 function setup(picked: string[] | null, hostDown = false) {
@@ -82,6 +84,17 @@ describe('createHandlers', () => {
     const { handlers } = setup(null);
     expect(await handlers['launch:log'](null)).toEqual({ paths: ['/opt/cw/sample-data/maple-row-demo.parquet'], source: 'demo' });
     expect(await handlers['engine:status'](null)).toEqual({ state: 'ready' });
+  });
+
+  it('reads saved reports picked for a history in the main process, and grants the engine nothing', async () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'cw-history-pick-'));
+    const file = path.join(dir, 'week1.json');
+    writeFileSync(file, '{"schema":"counterweight.report/1"}');
+    const { handlers, grants, sent } = setup([file]);
+    expect(await handlers['reports:choose'](null)).toEqual([{ name: 'week1.json', text: '{"schema":"counterweight.report/1"}' }]);
+    expect(grants.has(file)).toBe(false);
+    expect(sent).toEqual([]);
+    rmSync(dir, { recursive: true });
   });
 
   it('a cancelled print dialog prints nothing', async () => {

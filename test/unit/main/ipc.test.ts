@@ -13,6 +13,7 @@ describe('validateIpc', () => {
   it.each([
     ['launch:log', [1], /takes no arguments/],
     ['log:choose', ['/etc/passwd'], /takes no arguments/],
+    ['reports:choose', ['/home/ana/.ssh/id_ed25519'], /takes no arguments/],
     ['recent:add', [], /takes one argument/],
     ['recent:add', ['/a.csv'], /expected array/],
     ['recent:add', [[]], /list of 1 to/],
@@ -51,6 +52,7 @@ describe('validateIpc', () => {
     ['recent:list', []],
     ['recent:add', [['/data/maple-row.parquet']]],
     ['target-table:choose', []],
+    ['reports:choose', []],
     ['report:save', [{ format: 'html', contents: '<html></html>', suggestedName: 'maple-row.html' }]],
     ['report:save', [{ format: 'json', contents: '{}' }]],
     ['report:print-pdf', [{}]],
@@ -83,6 +85,7 @@ describe('registerIpc', () => {
       return [{ paths, openedAt: 't' }];
     },
     'target-table:choose': () => null,
+    'reports:choose': () => null,
     'report:save': () => null,
     'report:print-pdf': () => null,
     'engine:send': (_e, message) => {

@@ -35,6 +35,7 @@ describe('preload bridge', () => {
     ['recentLogs', [], ['recent:list']],
     ['addRecentLog', [['/a.parquet']], ['recent:add', ['/a.parquet']]],
     ['chooseTargetTable', [], ['target-table:choose']],
+    ['chooseReports', [], ['reports:choose']],
     ['saveReport', [{ format: 'json', contents: '{}' }], ['report:save', { format: 'json', contents: '{}' }]],
     ['printReportToPdf', [], ['report:print-pdf', {}]],
   ] as const)('%s invokes its channel', async (method, args, expected) => {

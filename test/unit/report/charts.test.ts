@@ -2,7 +2,9 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { Series, TargetSummary } from '../../../app/core/model/report.ts';
 import { chartForSeries, estimatesOption, heatmapOption, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
-import type { ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
+import type { ChartHistorySegment, ChartHistoryTarget, ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
+import { historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../../../app/charts/history.ts';
+import type { History } from '../../../app/core/compare/history.ts';
 import { renderSvg } from '../../../app/report/svg.ts';
 
 // Compile-time: the report model's values fit what the builders read.
@@ -86,5 +88,33 @@ describe('chart conventions of the core', () => {
     expect(seriesOf(mix).every((s) => s.stack === 'all')).toBe(true);
     const two = chartForSeries({ name: 'two', kind: 'bars', x: ['d1'], values: [[1], [2]] }) as Obj;
     expect(seriesOf(two).some((s) => 'stack' in s)).toBe(false);
+  });
+});
+
+describe('history charts', () => {
+  const target = { name: 'uniform', ess: [900, 400], ess_fraction: [0.9, 0.4], khat: [0.2, 0.6], support_deficit: [0, 0.05], snips: [0.3, 0.25], snips_ci_low: [0.28, 0.2], snips_ci_high: [0.32, 0.3] };
+  // Compile-time: the history model's rows fit what the builders read.
+  const _historyTargetFits = (t: History['targets'][number]): ChartHistoryTarget => t;
+  const _historySegmentFits = (s: History['segments'][number]): ChartHistorySegment => s;
+
+  it('draw the estimate with its interval as a band, one slot per report', () => {
+    const o = historyEstimateOption(['w1.json', 'w2.json'], target);
+    const s = seriesOf(o);
+    expect(s.map((x) => x.name)).toEqual(['SNIPS 95% CI low', 'SNIPS 95% CI', 'SNIPS']);
+    expect(s[0]?.data).toEqual([0.28, 0.2]);
+    expect((s[1]?.data as number[]).map((v) => +v.toFixed(10))).toEqual([0.04, 0.1]);
+    expect((o.xAxis as Obj).data).toEqual(['w1.json', 'w2.json']);
+    expect((o.xAxis as Obj).boundaryGap).toBe(true);
+    expect(seriesOf(historyWeightsOption(['w1.json', 'w2.json'], target)).map((x) => x.data)).toEqual([[0.9, 0.4], [0.2, 0.6], [0, 0.05]]);
+  });
+
+  it('colour each segment × report cell by its status, print the status, and leave a missing report blank', () => {
+    const o = historySegmentsOption(['w1', 'w2'], [{ segment: { region: 'old-town' }, statuses: ['pass', 'fail'] }, { segment: { region: 'riverside' }, statuses: [null, 'warn'] }]);
+    expect(seriesOf(o)[0]?.data).toEqual([[0, 0, 0], [1, 0, 2], [1, 1, 1]]);
+    const pieces = (o.visualMap as Obj).pieces as Obj[];
+    expect(pieces.map((p) => [p.label, p.color])).toEqual([['PASS', STATUS_COLOURS.pass], ['WARN', STATUS_COLOURS.warn], ['FAIL', STATUS_COLOURS.fail]]);
+    const label = (seriesOf(o)[0]?.label as { formatter: (p: { value: number[] }) => string }).formatter;
+    expect(label({ value: [1, 0, 2] })).toBe('✕ FAIL');
+    expect(renderSvg(o, 600, 300)).toContain('old-town');
   });
 });
