@@ -9,9 +9,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
-import { newToken } from '../../scripts/web/access.ts';
-import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-server.ts';
-import { PAGE_ORIGIN } from './page-origin.ts';
+import { hostedPage } from './hosted-page.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
@@ -86,18 +84,11 @@ test('standalone web mode: compare the week after with the demo log\'s report', 
 });
 
 test.describe('hosted web mode', () => {
-  let server: HostedServer;
-  let token = '';
-  test.beforeAll(async () => {
-    token = newToken();
-    server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [SAMPLE] });
-  });
-  test.afterAll(async () => server?.close());
+  const hosted = hostedPage([SAMPLE]);
 
   test('compare the week after with the demo log\'s report', async ({ page }) => {
     test.setTimeout(240_000);
-    await page.goto(`/#host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
-    await expect(page.getByText('Engine: native DuckDB on this computer')).toBeVisible();
+    await hosted.open(page);
     await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-next.parquet'));
     await auditAndCompare(page, 'hosted');
   });

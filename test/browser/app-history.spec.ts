@@ -11,11 +11,9 @@ import os from 'node:os';
 import path from 'node:path';
 import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
-import { newToken } from '../../scripts/web/access.ts';
-import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-server.ts';
 import type { History } from '../../app/core/compare/history.ts';
 import { HistorySchema } from '../../app/core/compare/history.ts';
-import { PAGE_ORIGIN } from './page-origin.ts';
+import { hostedPage } from './hosted-page.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
@@ -119,18 +117,11 @@ test('standalone web mode: the two weeks\' reports, picked as files, read as the
 });
 
 test.describe('hosted web mode', () => {
-  let server: HostedServer;
-  let token = '';
-  test.beforeAll(async () => {
-    token = newToken();
-    server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [SAMPLE] });
-  });
-  test.afterAll(async () => server?.close());
+  const hosted = hostedPage([SAMPLE]);
 
   test('the two weeks\' reports, dropped on the screen, read as the headless history', async ({ page }) => {
     test.setTimeout(120_000);
-    await page.goto(`/#host=${encodeURIComponent(server.socketUrl)}&token=${token}`);
-    await expect(page.getByText('Engine: native DuckDB on this computer')).toBeVisible();
+    await hosted.open(page);
     await openHistory(page);
     const files = [WEEK1, WEEK2].map((f) => ({ name: path.basename(f), text: readFileSync(f, 'utf8') }));
     const dataTransfer = await page.evaluateHandle((list) => {
