@@ -1,5 +1,6 @@
 import type { ChartOption, ChartSeries } from './types.ts';
 import { baseOption, categoryLabels, labelOf, legendFor, rowOf, seriesTitle } from './base.ts';
+import { timeMarks } from './lines.ts';
 
 /**
  * Bars: x categories, one bar series per values row (labels name the rows). More than three rows (e.g. an
@@ -42,6 +43,7 @@ export function barsOption(series: ChartSeries): ChartOption {
       data: rowOf(series, i),
       ...(stacked ? { stack: 'all' } : {}),
       label: { show: !stacked && series.x.length * series.values.length <= 24, position: 'top', fontSize: 10 },
+      ...(i === 0 ? timeMarks(series) : {}),
     })),
   };
 }

@@ -17,17 +17,20 @@ export function changePoint(series: ChartSeries): string | null {
   return series.x.map(String).includes(at) ? at : null;
 }
 
-function changeMark(series: ChartSeries): Record<string, unknown> {
+/**
+ * Vertical lines at the series' change point (black, dashed) and at each policy-version switch it marks
+ * (blue, dotted, "v7 → v8"), at x values the series has. Shared by line and bar charts over time.
+ */
+export function timeMarks(series: ChartSeries): Record<string, unknown> {
+  const xs = new Set(series.x.map(String));
   const at = changePoint(series);
-  if (at === null) return {};
-  return {
-    markLine: {
-      symbol: 'none', silent: true,
-      lineStyle: { color: '#000000', type: 'dashed', width: 1.5 },
-      label: { formatter: `change point ${at.slice(0, 10)}`, position: 'insideEndTop', color: '#000000' },
-      data: [{ xAxis: at }],
-    },
-  };
+  const data: Record<string, unknown>[] = [];
+  if (at !== null) data.push({ xAxis: at, lineStyle: { color: '#000000', type: 'dashed', width: 1.5 }, label: { formatter: `change point ${at.slice(0, 10)}`, position: 'insideEndTop', color: '#000000' } });
+  for (const m of series.marks ?? []) {
+    if (m.kind !== 'policy-switch' || !xs.has(String(m.x))) continue;
+    data.push({ xAxis: String(m.x), lineStyle: { color: '#0072B2', type: 'dotted', width: 2 }, label: { formatter: `policy ${m.label}`, position: 'insideEndBottom', color: '#0072B2' } });
+  }
+  return data.length ? { markLine: { symbol: 'none', silent: true, data } } : {};
 }
 
 export function linesOption(series: ChartSeries): ChartOption {
@@ -51,7 +54,7 @@ export function linesOption(series: ChartSeries): ChartOption {
         data: hi.map((h, j) => { const b = lo[j]; return h === null || b === null || b === undefined ? null : h - b; }),
       });
     }
-    out.push({ type: 'line', name: l, data: rowOf(series, i), color: colour, symbolSize: 5, lineStyle: { width: 2 }, ...(k === 0 ? changeMark(series) : {}) });
+    out.push({ type: 'line', name: l, data: rowOf(series, i), color: colour, symbolSize: 5, lineStyle: { width: 2 }, ...(k === 0 ? timeMarks(series) : {}) });
   });
   return {
     ...baseOption(seriesTitle(series)),

@@ -13,6 +13,7 @@ export interface ChartSeries {
   readonly values: readonly (readonly (number | null)[])[];
   readonly labels?: readonly string[];
   readonly unit?: string;
+  readonly marks?: readonly { readonly x: string | number; readonly kind: 'policy-switch' | 'change-point'; readonly label: string }[];
 }
 
 export interface ChartEstimate {

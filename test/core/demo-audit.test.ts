@@ -3,6 +3,7 @@
  * defects (sample-data/maple-row-demo.manifest.json), which the generator derives from its own
  * seeded draws, not from the audit; and the JSON Schema of the report contract.
  */
+import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Report } from '../../app/core/model/report.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
@@ -38,6 +39,13 @@ describe('demo log', () => {
   it.each(manifest.defects.map((d) => [d.kind, d] as const))('reports the planted %s defect where it was planted', (_kind, defect) => {
     const found = matchingFindings(demo, defect);
     expect(found, `${defect.kind} at ${JSON.stringify(defect.segment)} ${defect.action ?? ''} ${JSON.stringify(defect.window ?? {})}: ${defect.description}`).not.toHaveLength(0);
+  });
+
+  it('marks the planted policy-version switch on the drift charts over time, at the manifest\'s switch time', () => {
+    const at = (JSON.parse(readFileSync(`${SAMPLE}maple-row-demo.manifest.json`, 'utf8')) as { policy_switch_at: string }).policy_switch_at;
+    const overTime = demo.checks.filter((c) => c.id === 'drift.policy' || c.id === 'drift.reward').flatMap((c) => c.series ?? []);
+    expect(overTime.length).toBeGreaterThan(0);
+    for (const s of overTime) expect(s.marks?.map((m) => [String(m.x).slice(0, 10), m.kind, m.label])).toEqual([[at.slice(0, 10), 'policy-switch', 'v7 → v8']]);
   });
 
   it('counts planted duplicates and invalid propensities exactly', () => {

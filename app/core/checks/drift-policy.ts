@@ -61,6 +61,11 @@ export function versionSwitches(ctx: AuditContext): VersionSwitch[] {
   return out;
 }
 
+/** A series' marks at each version switch: the bucket's x (as the series label it) and "v7 → v8". */
+export function switchMarks(switches: readonly VersionSwitch[], b: { readonly originUs: number; readonly widthUs: number }): NonNullable<Series['marks']> {
+  return switches.map((s) => ({ x: isoUs(b.originUs + s.bucket * b.widthUs), kind: 'policy-switch' as const, label: `${s.from} → ${s.to}` }));
+}
+
 function emptyWindow(k: number): Window {
   return { lowFloor: new Set(), nP: 0, s1: new Array(k).fill(0), s2: new Array(k).fill(0), counts: new Array(k).fill(0), versions: new Map() };
 }
@@ -208,6 +213,7 @@ export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
     })),
     labels: [...actions],
     unit: 'share of rows',
+    ...(switches.length ? { marks: switchMarks(switches, b) } : {}),
   };
   return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'balance.min_effect', 'balance.q', 'support.floor.epsilon'], [mix]);
 }

@@ -13,6 +13,7 @@ import { normalQuantile } from '../stats/distributions.ts';
 import { bucketWindow, describeSegment, fmt, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, finiteReward, segmentPredicate, windowPredicate } from './predicates.ts';
 import { rewardKind } from './reward-validity.ts';
+import { switchMarks, versionSwitches } from './drift-policy.ts';
 
 const MIN_BUCKET_ROWS = 10;
 /** The homogeneity test runs on at most this many equal windows of buckets: daily cells of a small
@@ -129,7 +130,7 @@ export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
       ...(where ? { where } : {}),
     };
   });
-  const series: Series[] = flagged.slice(0, MAX_SERIES).map(({ t }) => driftSeries(t, b.originUs, b.widthUs, binary));
+  const series: Series[] = flagged.slice(0, MAX_SERIES).map(({ t }) => driftSeries(t, b.originUs, b.widthUs, binary, switchMarks(versionSwitches(ctx), b)));
   const status = flagged.length ? 'warn' : 'pass';
   const bySegment = new Map<string, number>();
   for (const f of findings) bySegment.set(describeSegment(f.segment), (bySegment.get(describeSegment(f.segment)) ?? 0) + 1);
@@ -196,7 +197,7 @@ function stratifiedTests(groups: ReturnType<typeof groupsOf>): RewardDriftTest[]
 }
 
 /** The mean per bucket with a 95% band: Wilson score intervals for a 0/1 reward (inside [0, 1]), normal ones otherwise. */
-function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number, binary: boolean): Series {
+function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number, binary: boolean, marks: NonNullable<Series['marks']>): Series {
   const mean = t.buckets.map((m) => (m.n > 0 ? m.sum / m.n : null));
   const band = t.buckets.map((m): [number, number] | null => {
     if (binary) {
@@ -217,6 +218,7 @@ function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number, bina
     values: [mean, band.map((x) => (x ? x[0] : null)), band.map((x) => (x ? x[1] : null))],
     labels: ['mean', 'ci_low', 'ci_high'],
     unit: t.change ? `change at ${isoUs(originUs + t.change.index * widthUs)}` : 'reward',
+    ...(marks.length ? { marks } : {}),
   };
 }
 

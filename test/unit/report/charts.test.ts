@@ -37,6 +37,17 @@ describe('chart option builders', () => {
     expect((o.visualMap as Obj).min).toBe(0.1);
   });
 
+  it('mark the change point and each policy-version switch on charts over time, only at x values the series has', () => {
+    const x = ['2026-03-01', '2026-03-02', '2026-03-03'];
+    const marks = [{ x: '2026-03-02', kind: 'policy-switch' as const, label: 'v7 → v8' }, { x: '2026-04-01', kind: 'policy-switch' as const, label: 'v8 → v9' }];
+    const line = linesOption({ name: 'reward', kind: 'lines', x, values: [[0.5, 0.5, 0.2]], labels: ['mean'], unit: 'change at 2026-03-03', marks });
+    const data = ((seriesOf(line)[0]?.markLine as Obj).data as Obj[]);
+    expect(data.map((d) => [d.xAxis, (d.label as Obj).formatter])).toEqual([['2026-03-03', 'change point 2026-03-03'], ['2026-03-02', 'policy v7 → v8']]);
+    const mix = chartForSeries({ name: 'mix', kind: 'bars', x, values: [[0.5, 0.4, 0.4], [0.5, 0.6, 0.6]], labels: ['a', 'b'], marks }) as Obj;
+    expect(((seriesOf(mix)[0]?.markLine as Obj).data as Obj[]).map((d) => d.xAxis)).toEqual(['2026-03-02']);
+    expect(seriesOf(mix)[1]?.markLine).toBeUndefined();
+  });
+
   it('label histogram bins by their edges and never pass NaN through', () => {
     const o = histogramOption({ name: 'log10 w', kind: 'histogram', x: [-1, 0, 1], values: [[3, Number.NaN, 5]] });
     expect((o.xAxis as Obj).data).toEqual(['-1 – 0', '0 – 1', '≥ 1']);
@@ -49,9 +60,16 @@ describe('chart option builders', () => {
 
   it('put intervals and points into the estimates chart', () => {
     const t = { name: 'v9', ips: { value: 0.1, ci_low: 0.05, ci_high: 0.15 }, snips: { value: 0.1, ci_low: null, ci_high: null }, dr: { value: null, ci_low: null, ci_high: null } };
-    const s = seriesOf(estimatesOption([t], 0.09));
-    expect((s.find((x) => x.name === 'IPS 95% CI')?.data as number[])[0]).toBeCloseTo(0.1, 12);
-    expect(s.find((x) => x.name === 'SNIPS 95% CI')?.data).toEqual([null]);
+    const s = seriesOf(estimatesOption([t, { ...t, name: 'uniform' }], 0.09));
+    const intervalsOf = (name: string) => ((s.find((x) => x.name === name)?.markLine as Obj).data as { coord: number[] }[][]);
+    // IPS interval 0.05 to 0.15 for each target, drawn at its own x within the target's slot
+    expect(intervalsOf('IPS').map((seg) => seg.map((p) => p.coord[1]))).toEqual([[0.05, 0.15], [0.05, 0.15]]);
+    expect(intervalsOf('SNIPS')).toEqual([]);
+    // side by side: per target, the estimators' x positions differ, and stay inside the target's slot (i ± 0.5)
+    const xs = ['IPS', 'SNIPS'].map((name) => (s.find((x) => x.name === name)?.data as number[][]).map((p) => p[0] as number));
+    expect(new Set(xs.map((x) => x[0])).size).toBe(2);
+    for (const row of xs) row.forEach((x, i) => expect(Math.abs(x - i)).toBeLessThan(0.5));
+    expect(s.find((x) => x.name === 'DR')?.data).toEqual([]);
   });
 
   it('render to SVG server-side for every kind', () => {
