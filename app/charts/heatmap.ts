@@ -33,7 +33,7 @@ function zMapOption(series: ChartSeries): ChartOption {
     grid: { left: 140, right: 24, top: 48, bottom: 110, containLabel: true },
     legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false },
     xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
-    yAxis: { type: 'category', data: categoryLabels(ys), axisLabel: { interval: 0 }, splitArea: { show: true } },
+    yAxis: segmentAxis(series, ys),
     visualMap: { type: 'continuous', seriesIndex: 0, min: -bound, max: bound, calculable: false, orient: 'horizontal', left: 'center', bottom: 24, inRange: { color: [...DIVERGING_RAMP] }, text: [`z ≥ +${bound} (more weight than expected)`, `z ≤ −${bound} (less)`] },
     series: [
       {
@@ -41,22 +41,47 @@ function zMapOption(series: ChartSeries): ChartOption {
         label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number] }) => formatValue(p.value[2]) },
         itemStyle: { borderColor: '#ffffff', borderWidth: 1 },
       },
-      { type: 'heatmap', name: 'never logged', data: never, itemStyle: { color: '#ffffff', borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } },
+      neverLogged(never),
     ],
     aria: { enabled: true, decal: { show: false } },
   };
+}
+
+/**
+ * The segment axis, first row at the top as in the table beside the map (one order in chart and table); a
+ * row with a note ("not explored") says so after its label, in bold.
+ */
+function segmentAxis(series: ChartSeries, ys: readonly (string | number)[]): Record<string, unknown> {
+  const notes = series.row_notes ?? [];
+  return {
+    type: 'category', inverse: true, splitArea: { show: true },
+    data: categoryLabels(ys).map((label, i) => {
+      const note = notes[i];
+      return note ? { value: `${label} — ${note}`, textStyle: { fontWeight: 'bold', color: '#000000' } } : label;
+    }),
+    axisLabel: { interval: 0 },
+  };
+}
+
+/** The chosen cell (its column and row) outlined in black over the map. */
+export function withSelectedCell(option: ChartOption, cell: { readonly col: number; readonly row: number } | null): ChartOption {
+  if (!cell || !Array.isArray(option.series)) return option;
+  const outline = { type: 'heatmap', name: 'selected cell', data: [[cell.col, cell.row, 0]], silent: true, itemStyle: { color: 'rgba(0,0,0,0)', borderColor: '#000000', borderWidth: 3 }, label: { show: false }, z: 10 };
+  return { ...option, series: [...(option.series as unknown[]), outline] };
 }
 
 export function heatmapOption(series: ChartSeries): ChartOption {
   if (isZMap(series)) return zMapOption(series);
   const ys = series.y ?? series.values.map((_, i) => String(i + 1));
   const data: [number, number, number | null][] = [];
+  const never: [number, number, number][] = [];
   let min = Infinity;
   let max = -Infinity;
   series.values.forEach((row, i) => {
     series.x.forEach((_, j) => {
       const v = row[j];
       const value = v === undefined || v === null || !Number.isFinite(v) ? null : v;
+      if (value === null && series.null_reasons?.[i]?.[j] === 'never logged') { never.push([j, i, 0]); return; }
       if (value !== null) { min = Math.min(min, value); max = Math.max(max, value); }
       data.push([j, i, value]);
     });
@@ -68,16 +93,22 @@ export function heatmapOption(series: ChartSeries): ChartOption {
     ...baseOption(seriesTitle(series)),
     grid: { left: 140, right: 24, top: 48, bottom: 96, containLabel: true },
     xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
-    yAxis: { type: 'category', data: categoryLabels(ys), axisLabel: { interval: 0 }, splitArea: { show: true } },
-    visualMap: { min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] },
+    yAxis: segmentAxis(series, ys),
+    ...(never.length ? { legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false } } : {}),
+    visualMap: { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] },
     series: [{
       type: 'heatmap',
       name: series.name,
       data,
       label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number | null] }) => formatValue(p.value[2]) },
       itemStyle: { borderColor: '#ffffff', borderWidth: 1 },
-    }],
+    }, ...(never.length ? [neverLogged(never)] : [])],
+    ...(never.length ? { aria: { enabled: true, decal: { show: false } } } : {}),
   };
+}
+
+function neverLogged(cells: readonly [number, number, number][]): Record<string, unknown> {
+  return { type: 'heatmap', name: 'never logged', data: cells, itemStyle: { color: '#ffffff', borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } };
 }
 
 function formatValue(v: number | null): string {

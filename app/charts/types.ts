@@ -13,6 +13,8 @@ export interface ChartSeries {
   readonly values: readonly (readonly (number | null)[])[];
   readonly labels?: readonly string[];
   readonly unit?: string;
+  readonly null_reasons?: readonly (readonly (string | null)[])[];
+  readonly row_notes?: readonly (string | null)[];
   readonly marks?: readonly { readonly x: string | number; readonly kind: 'policy-switch' | 'change-point'; readonly label: string }[];
 }
 

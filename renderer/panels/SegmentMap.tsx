@@ -6,6 +6,7 @@ import { cellSelection, cellSql, findingSelection, rowFeed } from '../engine/row
 import { RowPager } from '../components/RowPager.tsx';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
+import { withSelectedCell } from '../../app/charts/index.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
 import { SqlBlock } from '../components/SqlBlock.tsx';
@@ -59,7 +60,8 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
   const [cell, setCell] = useState<Cell | null>(null);
   const [asTable, setAsTable] = useState(false);
   const current = maps[which];
-  const option = useMemo(() => (current ? chartForSeries(current.series) : null), [current]);
+  const base = useMemo(() => (current ? chartForSeries(current.series) : null), [current]);
+  const option = useMemo(() => (base ? withSelectedCell(base as Record<string, unknown>, cell) : null), [base, cell]);
   const onChartClick = useCallback((data: unknown) => {
     if (Array.isArray(data) && typeof data[0] === 'number' && typeof data[1] === 'number') setCell({ col: data[0], row: data[1] });
   }, []);
@@ -129,7 +131,7 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
                 <tbody>
                   {series.values.map((row, i) => (
                     <tr key={i}>
-                      <th scope="row">{ys[i]}</th>
+                      <th scope="row">{ys[i]}{series.row_notes?.[i] ? <strong> — {series.row_notes[i]}</strong> : null}</th>
                       {row.map((v, j) => (
                         <td key={j}>
                           <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${formatValue(v)}`}>

@@ -48,6 +48,16 @@ describe('demo log', () => {
     for (const s of overTime) expect(s.marks?.map((m) => [String(m.x).slice(0, 10), m.kind, m.label])).toEqual([[at.slice(0, 10), 'policy-switch', 'v7 → v8']]);
   });
 
+  it('the exploration map notes exactly the rows of the segment planted without exploration, and its shares sum to 1 per row', () => {
+    const planted = manifest.defects.find((d) => d.kind === 'propensity.exploration')!;
+    const map = demo.checks.find((c) => c.id === 'propensity.exploration')?.series?.[0];
+    const keys = map?.segment_keys?.segments ?? [];
+    expect(keys.length).toBeGreaterThan(0);
+    const inPlanted = keys.map((parts) => Object.entries(planted.segment).every(([k, v]) => parts.some((p) => p.column === k && p.value === v)));
+    expect(map?.row_notes?.map((n) => n === 'not explored')).toEqual(inPlanted);
+    for (const row of map?.values ?? []) expect(row.reduce<number>((s, v) => s + (v ?? 0), 0)).toBeCloseTo(1, 12);
+  });
+
   it('counts planted duplicates and invalid propensities exactly', () => {
     const dup = manifest.defects.find((d) => d.kind === 'identity.duplicates')!;
     const range = manifest.defects.find((d) => d.kind === 'propensity.range')!;

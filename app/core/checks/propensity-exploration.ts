@@ -1,4 +1,5 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
+import type { Series } from '../model/report.ts';
 import { segmentKey } from '../cube/rollup.ts';
 import { cellHeatmap, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
@@ -81,8 +82,30 @@ export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
     { segments: segs.length, unexplored_segments: segs.filter((s) => !s.explored).length, unexplored_share: unexploredRows / rows },
     findings,
     ['propensity.exploration.top_action_share', 'propensity.exploration.min_segment_share'],
-    [cellHeatmap(ctx, 'rows by segment and action', 'rows', (t) => t.n, 0)],
+    [explorationMap(ctx, segs)],
   );
+}
+
+/**
+ * The segment map's first layer: each action's share of its segment's rows, a never-logged cell null with
+ * its reason (drawn hatched), and each row of a segment where the logging policy did not explore noted.
+ */
+export function explorationMap(ctx: AuditContext, segs: readonly SegmentExploration[]): Series {
+  const counts = cellHeatmap(ctx, "share of each segment's rows by action", "share of the segment's rows", (t) => t.n, 0);
+  const explored = new Map(segs.map((s) => [segmentKey(s.segment), s.explored]));
+  const rowSegments = counts.segment_keys?.segments ?? [];
+  return {
+    ...counts,
+    values: counts.values.map((row) => {
+      const n = row.reduce<number>((s, v) => s + (v ?? 0), 0);
+      return row.map((v) => (v && n > 0 ? v / n : null));
+    }),
+    null_reasons: counts.values.map((row) => row.map((v) => (v ? null : 'never logged'))),
+    row_notes: (counts.y ?? []).map((_, i) => {
+      const parts = rowSegments[i];
+      return parts && explored.get(segmentKey(parts.map((p) => p.value))) === false ? 'not explored' : null;
+    }),
+  };
 }
 
 export const propensityExploration: CheckDefinition<'propensity.exploration'> = defineCheck({

@@ -103,6 +103,8 @@ export const SeriesSchema = record({
   null_reasons: list(list(nullable(z.string()))).optional(),
   /** series over segments: the segment behind each label of the segment axis (absent in reports written before it) */
   segment_keys: SegmentKeysSchema.optional(),
+  /** heatmaps: beside each label of the y axis, what to say about that row (e.g. "not explored"); null where nothing */
+  row_notes: list(nullable(z.string())).optional(),
   /** series over time: x values to mark, each with what happened there (a logging-policy version switch) */
   marks: list(record({ x: z.union([z.string(), z.number()]), kind: z.enum(['policy-switch', 'change-point']), label: z.string() })).optional(),
 }).meta({ id: 'series' });

@@ -1,7 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { Series, TargetSummary } from '../../../app/core/model/report.ts';
-import { chartForSeries, estimatesOption, heatmapOption, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
+import { chartForSeries, estimatesOption, heatmapOption, withSelectedCell, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
 import type { ChartHistorySegment, ChartHistoryTarget, ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
 import { historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../../../app/charts/history.ts';
 import type { History } from '../../../app/core/compare/history.ts';
@@ -46,6 +46,22 @@ describe('chart option builders', () => {
     const mix = chartForSeries({ name: 'mix', kind: 'bars', x, values: [[0.5, 0.4, 0.4], [0.5, 0.6, 0.6]], labels: ['a', 'b'], marks }) as Obj;
     expect(((seriesOf(mix)[0]?.markLine as Obj).data as Obj[]).map((d) => d.xAxis)).toEqual(['2026-03-02']);
     expect(seriesOf(mix)[1]?.markLine).toBeUndefined();
+  });
+
+  it('draw a segment map top row first (as its table lists it), never-logged cells hatched, noted rows labelled, the chosen cell outlined', () => {
+    const series = { name: 'share', kind: 'heatmap' as const, x: ['a', 'b'], y: ['north', 'south'], values: [[0.5, 0.5], [1, null]], null_reasons: [[null, null], [null, 'never logged']], row_notes: [null, 'not explored'] };
+    const o = heatmapOption(series);
+    const y = o.yAxis as Obj;
+    expect(y.inverse).toBe(true);
+    expect((y.data as unknown[])[0]).toBe('north');
+    expect(((y.data as Obj[])[1] as Obj).value).toBe('south — not explored');
+    const [cells, never] = seriesOf(o);
+    expect(cells?.data).toEqual([[0, 0, 0.5], [1, 0, 0.5], [0, 1, 1]]);
+    expect(never?.name).toBe('never logged');
+    expect(never?.data).toEqual([[1, 1, 0]]);
+    const chosen = seriesOf(withSelectedCell(o, { col: 1, row: 0 }));
+    expect(chosen.at(-1)?.data).toEqual([[1, 0, 0]]);
+    expect(withSelectedCell(o, null)).toBe(o);
   });
 
   it('label histogram bins by their edges and never pass NaN through', () => {
