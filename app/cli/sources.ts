@@ -15,13 +15,35 @@ export function engineChoice(flags: FlagValues): EngineChoice {
   return (stringFlag(flags, 'engine') ?? 'native') as EngineChoice;
 }
 
-export async function openEngine(choice: EngineChoice): Promise<Engine> {
+/** The native engine's memory flags (app/engine/memory.ts has the defaults). */
+export const MEMORY_FLAGS = {
+  'memory-limit': { kind: 'string', value: 'SIZE', help: 'native engine: memory DuckDB may use before it spills to disk, e.g. 2GB (default: a quarter of physical memory, 1 to 1.5 GB)' },
+  'temp-dir': { kind: 'string', value: 'FOLDER', help: 'native engine: the folder it spills to beyond --memory-limit (default: a new folder in the system temp folder, removed afterwards)' },
+} as const;
+
+export interface EngineMemoryFlags {
+  readonly memoryLimit?: string;
+  readonly tempDirectory?: string;
+}
+
+const SIZE = /^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i;
+
+/** --memory-limit and --temp-dir, checked; they apply to the native engine only. */
+export function memoryFlags(flags: FlagValues, choice: EngineChoice, cwd: string): EngineMemoryFlags {
+  const memoryLimit = stringFlag(flags, 'memory-limit');
+  const tempDir = stringFlag(flags, 'temp-dir');
+  if ((memoryLimit !== undefined || tempDir !== undefined) && choice !== 'native') throw new UsageError('--memory-limit and --temp-dir apply to the native engine only');
+  if (memoryLimit !== undefined && !(SIZE.test(memoryLimit) && parseFloat(memoryLimit) > 0)) throw new UsageError(`--memory-limit takes a size such as 2GB, 1.5GiB or 800MB, got '${memoryLimit}'`);
+  return { ...(memoryLimit !== undefined ? { memoryLimit } : {}), ...(tempDir !== undefined ? { tempDirectory: path.resolve(cwd, tempDir) } : {}) };
+}
+
+export async function openEngine(choice: EngineChoice, memory: EngineMemoryFlags = {}): Promise<Engine> {
   if (choice === 'wasm') {
     const { createWasmNodeEngine } = await import('../engine/wasm-node.ts');
     return createWasmNodeEngine();
   }
   const { createNativeEngine } = await import('../engine/native.ts');
-  return createNativeEngine();
+  return createNativeEngine(memory);
 }
 
 const GLOB = /[*?[]/;

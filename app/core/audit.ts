@@ -46,6 +46,14 @@ export interface AuditRequest {
   readonly signal?: { readonly aborted: boolean };
   /** clock for started_at and "future" timestamps; defaults to the current time */
   readonly now?: () => number;
+  /**
+   * The inspection made when this source was opened (inspectRoles on the same relation): its profile and
+   * evidence are used, and their queries recorded, instead of reading the log for them again. The report
+   * is the one a fresh audit makes.
+   */
+  readonly inspection?: RoleInspection;
+  /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
+  readonly peakRssMb?: () => number;
 }
 
 export class AuditCancelled extends Error {
@@ -84,13 +92,24 @@ export interface RoleInspection {
   readonly profile: Profile;
   readonly evidence: RoleEvidence;
   readonly suggestions: RoleSuggestion[];
+  /** the queries that made the profile and the evidence, recorded as an audit records them */
+  readonly queries: { readonly profile: readonly QueryRecord[]; readonly evidence: readonly QueryRecord[] };
 }
 
-/** What opening a log needs to propose roles: its profile, the role evidence, and the suggestions from both. */
+/**
+ * What opening a log needs to propose roles: its profile, the role evidence, and the suggestions from both.
+ * An audit of the same source may be given it (AuditRequest.inspection) and then profiles nothing again.
+ */
 export async function inspectRoles(run: RunQuery, relation: string): Promise<RoleInspection> {
-  const profile = await profileLog(run, relation);
-  const evidence = await gatherRoleEvidence(run, relation, profile);
-  return { profile, evidence, suggestions: suggestFromProfile(profile, evidence) };
+  const recorder = (into: QueryRecord[]) => (name: string, sql: string, scans: boolean) => {
+    into.push({ name, sql, scans_source: scans });
+    return sql;
+  };
+  const profileQueries: QueryRecord[] = [];
+  const evidenceQueries: QueryRecord[] = [];
+  const profile = await profileLog(run, relation, recorder(profileQueries));
+  const evidence = await gatherRoleEvidence(run, relation, profile, recorder(evidenceQueries));
+  return { profile, evidence, suggestions: suggestFromProfile(profile, evidence), queries: { profile: profileQueries, evidence: evidenceQueries } };
 }
 
 /** The evidence is read only when the action is not mapped by hand (it decides the action suggestion). */
@@ -127,10 +146,16 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
 
   guard();
   progress('profile');
-  const profile = await profileLog(run, relation, record);
+  const inspected = request.inspection;
+  if (inspected) queries.push(...inspected.queries.profile);
+  const profile = inspected ? inspected.profile : await profileLog(run, relation, record);
   if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
   progress('profile', true);
-  const evidence = needsEvidence(request.roles) ? await gatherRoleEvidence(run, relation, profile, record) : undefined;
+  let evidence: RoleEvidence | undefined;
+  if (needsEvidence(request.roles)) {
+    if (inspected) queries.push(...inspected.queries.evidence);
+    evidence = inspected ? inspected.evidence : await gatherRoleEvidence(run, relation, profile, record);
+  }
   const roles = resolveRoles(profile, request.roles, evidence);
   const roleProblems = validateRoles(profile, roles, evidence);
   const logColumns = profile.columns.map((c) => c.name);
@@ -208,7 +233,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     segments: readiness(ctx, checks),
     queries,
     cautions: CAUTIONS,
-    run: { engine: request.engine, started_at: new Date(started).toISOString(), seconds: (now() - started) / 1000, source_scans: queries.filter((q) => q.scans_source).length },
+    run: { engine: request.engine, started_at: new Date(started).toISOString(), seconds: (now() - started) / 1000, source_scans: queries.filter((q) => q.scans_source).length, ...(request.peakRssMb ? { peak_rss_mb: request.peakRssMb() } : {}) },
     signoff: null,
   };
   return { report, cells, profile };

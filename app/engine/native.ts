@@ -6,6 +6,7 @@ import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts
 import { toEngineError } from './errors.ts';
 import { withFileKind } from './file-kind.ts';
 import { expandSource, lockDownSql } from './file-grants.ts';
+import { engineMemory } from './memory.ts';
 import { foldersAmong } from './node-paths.ts';
 import { assertReadStatement, STATEMENT_CHECK_SQL } from './read-only.ts';
 import { buildScan, createViewSql, globSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
@@ -16,8 +17,10 @@ import { serialQueue } from './serial.ts';
 export interface NativeEngineOptions {
   /** DuckDB's `threads` setting; DuckDB's default (all cores) when absent. */
   threads?: number;
-  /** DuckDB's `memory_limit`, e.g. "4GB"; DuckDB's default (80% of RAM) when absent. */
+  /** DuckDB's `memory_limit`, e.g. "4GB"; when absent, COUNTERWEIGHT_MEMORY_LIMIT or the machine's default (memory.ts). */
   memoryLimit?: string;
+  /** The folder DuckDB spills to beyond the limit; when absent, COUNTERWEIGHT_TEMP_DIR or a per-process folder in the system temp folder. */
+  tempDirectory?: string;
   /**
    * Locked: queries may read the registered files and nothing else, and nothing can write.
    * - Each file is granted by its own path (DuckDB's allowed_paths; allowed_directories stays empty),
@@ -50,7 +53,9 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     autoinstall_known_extensions: 'false',
   };
   if (options.threads !== undefined) config.threads = String(options.threads);
-  if (options.memoryLimit !== undefined) config.memory_limit = options.memoryLimit;
+  const memory = engineMemory(options);
+  config.memory_limit = memory.memoryLimit;
+  config.temp_directory = memory.tempDirectory;
   const restricted = options.restrictFileAccess === true;
   const maxRows = options.maxResultRows ?? MAX_RESULT_ROWS;
   /** Files the current database may read; grows only when a registration succeeds. */

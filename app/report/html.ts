@@ -31,7 +31,7 @@ export function renderHtmlReport(report: Report, options: HtmlOptions = {}): str
 <header>
   <h1>Counterweight audit report</h1>
   <p class="meta">${report.input.files.map((f) => f.path).join(', ')} · ${report.input.format} · ${fmtNumber(report.input.rows)} rows</p>
-  <p class="meta">Generated ${report.run.started_at} by ${report.tool.name} ${report.tool.version} (${report.run.engine} engine, ${fmtNumber(report.run.seconds)} s, ${fmtNumber(report.run.source_scans)} scans of the log) · report schema ${report.schema}</p>
+  <p class="meta">Generated ${report.run.started_at} by ${report.tool.name} ${report.tool.version} (${report.run.engine} engine, ${fmtNumber(report.run.seconds)} s, ${fmtNumber(report.run.source_scans)} scans of the log${report.run.peak_rss_mb === undefined ? '' : `, peak memory ${fmtNumber(report.run.peak_rss_mb)} MB`}) · report schema ${report.schema}</p>
 </header>
 ${verdictSection(report)}
 ${cautionsBlock(report.cautions)}

@@ -1,4 +1,4 @@
-import { inspectRoles, runAuditDetailed, type AuditRequest } from '../../app/core/audit.ts';
+import { inspectRoles, runAuditDetailed, type AuditRequest, type RoleInspection } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
 import type { RunQuery } from '../../app/core/table.ts';
@@ -72,6 +72,8 @@ export function drillSpecOf(source: OpenedSource, selection: RowSelection): Dril
 export function createEngineBackend(engine: Engine, options: EngineBackendOptions): AuditBackend {
   const run: RunQuery = (sql) => engine.query(sql);
   const describe = options.describe ?? describeFiles;
+  /** Each opened source's inspection: its audits reuse the profile made on open (a log is profiled once). */
+  const inspections = new Map<string, RoleInspection>();
   return {
     engineKind: engine.kind,
 
@@ -84,7 +86,9 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       const digests = describe(input.files);
       digests.catch(() => undefined);
       const registered = await engine.register({ kind: 'file', files: [...input.files], format: choice.format, ...csv });
-      const { profile, evidence, suggestions } = await inspectRoles(run, registered.relation);
+      const inspection = await inspectRoles(run, registered.relation);
+      inspections.set(registered.relation, inspection);
+      const { profile, evidence, suggestions } = inspection;
       return {
         label: sourceLabel(names.map((n) => n.split(/[\\/]/).pop() ?? n)),
         relation: registered.relation,
@@ -99,6 +103,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
 
     async run(source: OpenedSource, draft: AuditDraft, onProgress: (p: Progress) => void, signal: AbortSignal): Promise<AuditOutcome> {
       const request = auditRequest(source, draft, engine.kind);
+      const inspection = inspections.get(source.relation);
       const targets = request.targets ?? [];
       // The worker starts while the audit runs.
       const tables = options.cubeTables?.();
@@ -106,7 +111,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       const onAbort = () => { void engine.cancel(); };
       signal.addEventListener('abort', onAbort, { once: true });
       try {
-        const { report, cells, profile } = await runAuditDetailed(run, { ...request, onProgress, signal });
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), onProgress, signal });
         const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
         return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {

@@ -35,6 +35,7 @@ const CASES: readonly { name: string; sql: (d: Dialect) => string; expected: unk
   { name: 'tryDouble values', sql: (d) => d.sumIf(d.tryDouble('s'), `${d.tryDouble('s')} IS NOT NULL`), expected: 3.5 },
   { name: 'epochUs', sql: (d) => d.maxIf(d.epochUs('t'), '1 = 1'), expected: 1704164645000000 },
   { name: 'literal with a quote and a backslash', sql: (d) => d.countIf(`${d.literal("it's \\ ok")} = ${d.literal("it's \\ ok")}`), expected: 5 },
+  { name: 'hash64: equal texts hash equal, two texts apart', sql: (d) => d.countIf(`${d.hash64(d.literal('d-1'))} = ${d.hash64(d.toText(d.literal('d-1')))} AND ${d.hash64(d.literal('d-1'))} <> ${d.hash64(d.literal('d-2'))}`), expected: 5 },
   { name: 'double literal', sql: (d) => d.sumIf(d.double(0.25), '1 = 1'), expected: 1.25 },
 ];
 

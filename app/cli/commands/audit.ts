@@ -10,7 +10,8 @@ import { loadSettingsFile, parseRoleFlags, readTargets } from '../audit-options.
 import { EXIT, InterruptedError, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
 import { ProgressLine, type RowProgress } from '../progress.ts';
-import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, openEngine, registerSources } from '../sources.ts';
+import { peakRssMb } from '../../engine/memory.ts';
+import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, MEMORY_FLAGS, memoryFlags, openEngine, registerSources } from '../sources.ts';
 import { formatAuditSummary, painter } from '../summary.ts';
 import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
 import { loadAuditCore } from './core.ts';
@@ -26,6 +27,7 @@ export const auditSpec: CommandSpec = {
     target: { kind: 'list', value: 'SPEC', help: 'target policy: uniform, always:<action>, table:<file.csv|file.json>, column:<name>' },
     settings: { kind: 'string', value: 'FILE', help: 'thresholds from a .json or .yaml file of setting: value pairs' },
     engine: ENGINE_FLAG,
+    ...MEMORY_FLAGS,
     json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
     'fail-on': { kind: 'string', value: 'warn|fail', choices: ['warn', 'fail'], help: "exit non-zero on 'fail' (default: exit 2 when not supported) or also on 'warn' (exit 1)" },
@@ -55,6 +57,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const htmlOut = stringFlag(flags, 'html');
   const failOn = (stringFlag(flags, 'fail-on') ?? 'fail') as 'warn' | 'fail';
   const engineChoice = engineChoiceOf(flags);
+  const memory = memoryFlags(flags, engineChoice, io.cwd);
   const quiet = flags.quiet === true;
   const baselineFile = stringFlag(flags, 'baseline');
   if (!baselineFile && (flags['comparison-json'] !== undefined || flags['comparison-html'] !== undefined || flags['fail-on-change'] !== undefined)) {
@@ -76,7 +79,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   };
   try {
     progress.stage('opening the log');
-    engine = await openEngine(engineChoice);
+    engine = await openEngine(engineChoice, memory);
     stopIfInterrupted();
     const source = await registerSources(engine, positionals, io.cwd);
     guardOutputs([jsonOut, htmlOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
@@ -93,6 +96,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       ...(settings ? { settings } : {}),
       onProgress: (p) => { if (!p.done) progress.stage(STAGE_NAMES[p.stage] ?? p.stage); },
       engine: engine.kind,
+      peakRssMb,
       ...(signal ? { signal } : {}),
     });
     progress.stop();

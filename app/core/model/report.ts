@@ -224,6 +224,8 @@ export const RunSchema = record({
   started_at: z.string(),
   seconds: z.number().min(0),
   source_scans: count(),
+  /** the auditing process's peak resident memory in MB (the kernel's maximum RSS), where the engine can tell */
+  peak_rss_mb: z.number().min(0).optional(),
 }).describe('Timings and engine: the only part of a report allowed to differ between engines and runs.');
 
 // ---- the report -----------------------------------------------------------------------------------

@@ -4,24 +4,30 @@
  * finding. Everything else comes from the cube.
  */
 import { SEP } from '../cube/rollup.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { duckdb } from '../sql/dialect-duckdb.ts';
 import { double, ident, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
 import { validPropensity, type RowExpressions } from './expressions.ts';
 
 /**
- * Decision ids held by more than one row. The ids are sorted and each compared with the one before
- * it (a window lag): a row equal to its predecessor is an extra copy. On 10^7 distinct ids a sort
- * costs DuckDB less than half what a hash aggregate does (bench/NOTES.md), and only the extra
- * copies, few in any log worth auditing, are grouped. Ids compare as text, as they are reported.
+ * Decision ids held by more than one row, without holding every id. First pass: a 64-bit hash of each id
+ * (as text, as ids are reported), sorted, each compared with the one before it (a window lag); a hash
+ * equal to its predecessor is shared by two rows, which two copies of one id always are. Second pass, over
+ * the rows whose hash is shared alone: their ids are grouped exactly, so a collision of two different ids
+ * (about n²/2^65 pairs: 3·10^-6 at 10^7 rows) costs a few extra rows read and is never reported. The sort
+ * holds 8 bytes a row whatever the ids' length, where sorting the ids held each id (bench/NOTES.md), and
+ * the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts).
  */
-export function duplicatesSql(relation: string, idColumn: string, examples: number): string {
-  const id = ident(idColumn);
+export function duplicatesSql(relation: string, idColumn: string, examples: number, dialect: Dialect = duckdb): string {
+  const id = dialect.ident(idColumn);
+  const text = dialect.toText(id);
   return [
-    'WITH extras AS (',
-    `  SELECT id FROM (SELECT id, lag(id) OVER (ORDER BY id) AS prev FROM (SELECT CAST(${id} AS VARCHAR) AS id FROM ${relation} WHERE ${id} IS NOT NULL)) WHERE id = prev`,
-    '), counts AS (SELECT id, count(*) + 1 AS c FROM extras GROUP BY 1)',
-    `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${integer(Math.max(1, examples))}) AS example_ids FROM counts`,
+    `WITH hashed AS (SELECT ${dialect.hash64(text)} AS h FROM ${relation} WHERE ${id} IS NOT NULL),`,
+    'shared AS (SELECT DISTINCT h FROM (SELECT h, lag(h) OVER (ORDER BY h) AS prev FROM hashed) WHERE h = prev),',
+    `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL AND ${dialect.hash64(text)} IN (SELECT h FROM shared)) GROUP BY id HAVING count(*) > 1)`,
+    `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${dialect.integer(Math.max(1, examples))}) AS example_ids FROM counts`,
   ].join('\n');
 }
 

@@ -29,6 +29,7 @@ export const clickhouse: Dialect = {
   sumIf: (x, cond) => `ifNull(toFloat64(sumKahanIf(toFloat64(${x}), ${cond})), 0)`,
   minIf: (x, cond) => `if(countIf(${cond}) = 0, NULL, minIf(${x}, ${cond}))`,
   maxIf: (x, cond) => `if(countIf(${cond}) = 0, NULL, maxIf(${x}, ${cond}))`,
+  hash64: (x) => `cityHash64(${x})`,
   epochUs: (x) => `(toInt64(toUInt32(toDateTime(${x}))) * 1000000)`,
   // a UInt64 sum wraps modulo 2^64, which is what makes it independent of row order and shard split
   rowHashSum: (values) => `sum(cityHash64(${values.map((v) => `ifNull(toString(${v}), ${NULL_MARK})`).join(', ')}))`,

@@ -19,6 +19,7 @@ export const duckdb: Dialect = {
   sumIf: (x, cond) => `coalesce(sum(${x}) FILTER (WHERE ${cond}), 0)::DOUBLE`,
   minIf: (x, cond) => `min(${x}) FILTER (WHERE ${cond})`,
   maxIf: (x, cond) => `max(${x}) FILTER (WHERE ${cond})`,
+  hash64: (x) => `hash(${x})`,
   epochUs: (x) => `epoch_us(CAST(${x} AS TIMESTAMP))`,
   // hash() is a UBIGINT; the HUGEINT sum is exact, and reduced modulo 2^64 it is the same in any row order
   rowHashSum: (values) => `(sum(hash(${values.map((v) => `coalesce(CAST(${v} AS VARCHAR), ${NULL_MARK})`).join(', ')})::HUGEINT) % 18446744073709551616)::UBIGINT`,

@@ -36,6 +36,8 @@ export interface Dialect {
   /** least / greatest x where cond holds, NULL when there are none. */
   minIf(x: string, cond: string): string;
   maxIf(x: string, cond: string): string;
+  /** a 64-bit hash of a text value (equal texts hash equal; used to find duplicate ids without holding them) */
+  hash64(x: string): string;
   /** microseconds since the Unix epoch of a date-time value (UTC). */
   epochUs(x: string): string;
   /**

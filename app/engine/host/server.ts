@@ -5,12 +5,13 @@
  * reads of registered files only, one SELECT per statement). Cancel and ping are answered at once; the
  * rest run on the engine in arrival order (the engine serialises them).
  */
-import { AuditCancelled, inspectRoles, runAuditDetailed } from '../../core/audit.ts';
+import { AuditCancelled, inspectRoles, runAuditDetailed, type RoleInspection } from '../../core/audit.ts';
 import type { InputFile } from '../../core/model/report.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../core/scan/drill.ts';
 import { describeSql, parseDescribe } from '../../core/scan/profile.ts';
 import { cubeToArrowIpc } from '../cube-arrow.ts';
 import { toEngineError } from '../errors.ts';
+import { peakRssMb } from '../memory.ts';
 import type { NativeEngine } from '../native.ts';
 import { serialQueue } from '../serial.ts';
 import { EngineError } from '../types.ts';
@@ -35,6 +36,8 @@ interface Source {
   columnTypes?: Record<string, string>;
   /** Predicates of the latest audit's findings with rows (codec.ts findingsWithRows). */
   findings: string[];
+  /** The profile and role evidence made when the log was opened: the audit reuses them (a log is profiled once). */
+  inspection?: RoleInspection;
 }
 
 type DrillRequest = Extract<HostRequest, { kind: 'drill-page' | 'drill-count' }>;
@@ -87,7 +90,9 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(roles ? { roles } : {}),
         ...(targets ? { targets } : {}),
         ...(settings ? { settings } : {}),
+        ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
+        peakRssMb,
         onProgress: (p) => reply({ kind: 'audit-progress', id, stage: p.stage, ...(p.done ? { done: true as const } : {}) }),
         signal,
       });
@@ -126,9 +131,11 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         return;
       }
       case 'profile': {
-        sourceOf(request.source);
+        const source = sourceOf(request.source);
         // the role evidence (app/core/roles/evidence.ts) is one more read of the first rows, next to the log
-        const { profile, evidence } = await inspectRoles((sql) => engine.query(sql), request.source);
+        const inspection = await inspectRoles((sql) => engine.query(sql), request.source);
+        source.inspection = inspection;
+        const { profile, evidence } = inspection;
         reply({ kind: 'profiled', id: request.id, profile: encodeProfile(profile), evidence: encodeValue(evidence) });
         return;
       }
