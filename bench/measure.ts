@@ -18,6 +18,8 @@ import type { HostEngine } from '../app/engine/host/client.ts';
 import { spawnHostChild } from '../app/engine/host/spawn.ts';
 import { cubeFromArrowIpc } from '../app/engine/cube-arrow.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
+import { peakRssMb } from '../app/engine/memory.ts';
+import { bodyDigest } from '../app/cli/reaudit.ts';
 import type { Engine } from '../app/engine/types.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
 import { baselineAudit } from './baseline.ts';
@@ -33,8 +35,10 @@ export interface MeasureSpec {
   policy: string;
   runs: number;
   warmup: boolean;
-  /** DuckDB memory_limit for the native engine (it spills to bench/cache/spill beyond it) */
+  /** DuckDB memory_limit for the native engine (it spills to bench/cache/spill beyond it); its default otherwise (app/engine/memory.ts) */
   memoryLimit?: string;
+  /** native audits: also audit once on 1 thread and say whether the report body's digest is the same (default true) */
+  determinism?: boolean;
 }
 
 export interface MeasureResult {
@@ -69,7 +73,7 @@ async function peakRssOf(pid: number): Promise<number> {
 
 function auditAnswer(report: Report): Record<string, number | string> {
   const t = report.targets[0];
-  return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, scans: report.run.source_scans };
+  return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, scans: report.run.source_scans, body: bodyDigest(report).slice(0, 16), ...(report.run.peak_rss_mb !== undefined ? { report_peak_rss_mb: report.run.peak_rss_mb } : {}) };
 }
 
 /**
@@ -87,14 +91,9 @@ export async function auditCubeSql(run: RunQuery, relation: string): Promise<str
 
 const SPILL = new URL('./cache/spill/', import.meta.url).pathname;
 
-async function openEngine(name: EngineName, memoryLimit?: string): Promise<Engine> {
+async function openEngine(name: EngineName, memoryLimit?: string, threads?: number): Promise<Engine> {
   switch (name) {
-    case 'native': {
-      if (!memoryLimit) return createNativeEngine();
-      const engine = await createNativeEngine({ memoryLimit });
-      await engine.query(`SET temp_directory = '${SPILL}'`);
-      return engine;
-    }
+    case 'native': return createNativeEngine({ tempDirectory: SPILL, ...(memoryLimit ? { memoryLimit } : {}), ...(threads ? { threads } : {}) });
     case 'wasm': return createWasmNodeEngine();
     default: throw new Error(`no in-process engine ${name}`);
   }
@@ -135,12 +134,14 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
       // part of every audit of the file, so it is added to each timed run (measured once; opening twice would load twice).
       const openSeconds = spec.engine === 'wasm' && source.format === 'parquet' ? (performance.now() - opening) / 1000 : 0;
       const run: RunQuery = (sql) => engine.query(sql);
-      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets };
+      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, peakRssMb };
       const audit = () => runAudit(run, request);
       let result: { seconds: number[]; answer: Record<string, number | string> };
       if (spec.kind === 'audit') {
         const { seconds, last } = await timed(spec, audit);
-        result = { seconds: seconds.map((s) => s + openSeconds), answer: { ...auditAnswer(last), ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}) } };
+        const answer: Record<string, number | string> = { ...auditAnswer(last), ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}) };
+        if (spec.engine === 'native' && spec.determinism !== false) answer.deterministic = (await oneThreadDigest(spec, targets)) === answer.body ? 'yes' : 'no';
+        result = { seconds: seconds.map((s) => s + openSeconds), answer };
       } else if (spec.kind === 'cube') {
         const cubeSql = await auditCubeSql(run, source.relation);
         const { seconds, last } = await timed(spec, () => engine.query(cubeSql));
@@ -155,6 +156,18 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
     }
   } finally {
     clearInterval(sampler);
+  }
+}
+
+/** The body digest of one audit of the log on a native engine with 1 DuckDB thread (the timed runs use every core). */
+async function oneThreadDigest(spec: MeasureSpec, targets: { spec: string; tableText: string }[]): Promise<string> {
+  const engine = await openEngine('native', spec.memoryLimit, 1);
+  try {
+    const source = await engine.register({ kind: 'path', paths: [spec.file] });
+    const report = await runAudit((sql) => engine.query(sql), { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets });
+    return bodyDigest(report).slice(0, 16);
+  } finally {
+    await engine.close();
   }
 }
 

@@ -4,10 +4,12 @@
  * the physical floor (a bare scan of the role columns), the cube query alone and the full audit,
  * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
  *
- *   npm run bench -- [--sizes 1m,10m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
+ *   npm run bench -- [--sizes 1m,10m,30m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
  *                    [--kinds floor,cube,audit] [--formats parquet,csv,arrow] [--smoke] [--out FILE] [--memory-limit 2GB]
- * (--memory-limit: DuckDB's memory_limit for the native engine, which then spills to bench/cache/spill;
- * use with --out to keep those results apart)
+ * (--memory-limit: DuckDB's memory_limit for the native engine instead of its default (app/engine/memory.ts); it
+ * spills to bench/cache/spill; use with --out to keep those results apart. --no-determinism: skip the extra
+ * 1-thread audit whose body digest fills the determinism column.) After the rows, a summary per size, engine and
+ * format: floor, cube, audit, audit/cube, peak RSS, and whether the body digest was the same on 1 and 2 threads.
  */
 import { execFile, spawn } from 'node:child_process';
 import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
@@ -22,7 +24,7 @@ const BENCH = dirname(fileURLToPath(import.meta.url));
 const ROOT = resolve(BENCH, '..');
 const CACHE = join(BENCH, 'cache');
 const POLICY = join(ROOT, 'sample-data', 'maple-row-v9-policy.csv');
-const SIZES: Record<string, number> = { '1m': 1_000_000, '10m': 10_000_000, '100m': 100_000_000 };
+const SIZES: Record<string, number> = { '1m': 1_000_000, '10m': 10_000_000, '30m': 30_000_000, '100m': 100_000_000 };
 /** CSV, Wasm and the Arrow baseline stop at 10M rows: a 100M-row CSV is ~8 GB, and Wasm has a 4 GB heap. */
 const CSV_MAX = 10_000_000;
 const ENGINES: readonly EngineName[] = ['native', 'host', 'wasm', 'browser', 'baseline'];
@@ -54,6 +56,8 @@ export interface Options {
   smoke: boolean;
   out: string;
   memoryLimit?: string;
+  /** audit natively once more on 1 thread and compare the body digest (the determinism column) */
+  determinism: boolean;
   /** measure only these of floor, cube, audit */
   kinds?: Kind[];
   /** measure only logs in these formats (parquet, csv, arrow) */
@@ -64,12 +68,12 @@ export interface Options {
 export function parseOptions(argv: readonly string[]): Options {
   const { values } = parseArgs({
     args: [...argv],
-    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, kinds: { type: 'string' }, formats: { type: 'string' } },
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, 'no-determinism': { type: 'boolean' }, kinds: { type: 'string' }, formats: { type: 'string' } },
     strict: true,
   });
   const smoke = values.smoke ?? false;
   const sizes = (values.sizes ?? (smoke ? '1m' : '1m,10m,100m')).split(',').map((s) => s.trim().toLowerCase());
-  for (const s of sizes) if (!(s in SIZES)) throw new Error(`--sizes takes 1m, 10m, 100m, got "${s}"`);
+  for (const s of sizes) if (!(s in SIZES)) throw new Error(`--sizes takes ${Object.keys(SIZES).join(', ')}, got "${s}"`);
   const engines = (values.engines ?? (smoke ? 'native,host,wasm,baseline' : ENGINES.join(','))).split(',').map((e) => e.trim()) as EngineName[];
   for (const e of engines) if (!ENGINES.includes(e)) throw new Error(`--engines takes ${ENGINES.join(', ')}, got "${e}"`);
   const runs = Number(values.runs ?? (smoke ? 1 : 3));
@@ -80,7 +84,7 @@ export function parseOptions(argv: readonly string[]): Options {
   for (const f of formats ?? []) if (!['parquet', 'csv', 'arrow'].includes(f)) throw new Error(`--formats takes parquet, csv, arrow, got "${f}"`);
   const memoryLimit = values['memory-limit'];
   if (memoryLimit !== undefined && !/^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i.test(memoryLimit)) throw new Error(`--memory-limit takes a size such as 2GB, got "${memoryLimit}"`);
-  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), ...(formats ? { formats } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, determinism: !values['no-determinism'], ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), ...(formats ? { formats } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
 }
 
 const dirOf = (size: string) => join(CACHE, `rows-${size}`);
@@ -228,6 +232,24 @@ function table(rows: readonly Row[], extra: Record<string, number>): string {
   return [fmt(head), widths.map((w) => '-'.repeat(w)).join('  '), ...lines.map(fmt)].join('\n');
 }
 
+/** One line per size, engine and format: floor, cube, audit (median s), audit/cube, peak RSS of the audit, determinism. */
+export function summary(rows: readonly Row[]): string {
+  const ok = (r: Row | undefined) => (r && !r.error && !r.skipped ? r : undefined);
+  const groups = new Map<string, Row[]>();
+  for (const r of rows) groups.set(`${r.size}/${r.engine}/${r.format}`, [...(groups.get(`${r.size}/${r.engine}/${r.format}`) ?? []), r]);
+  const head = ['rows', 'engine', 'format', 'floor s', 'cube s', 'audit s', 'audit/cube', 'audit peak RSS MB', 'same body on 1 and 2 threads'];
+  const lines = [...groups.values()].map((g) => {
+    const [floor, cube, audit] = (['floor', 'cube', 'audit'] as const).map((k) => ok(g.find((r) => r.kind === k)));
+    const rss = audit ? Math.max(audit.peakRssMb, audit.hostPeakRssMb ?? 0) : NaN;
+    const det = audit?.answer.deterministic;
+    return [g[0]!.size, g[0]!.engine, g[0]!.format, floor?.seconds.toFixed(2) ?? '-', cube?.seconds.toFixed(2) ?? '-', audit?.seconds.toFixed(2) ?? '-',
+      audit && cube ? (audit.seconds / cube.seconds).toFixed(1) : '-', Number.isFinite(rss) ? rss.toFixed(0) : '-', typeof det === 'string' ? det : '-'];
+  });
+  const widths = head.map((h, j) => Math.max(h.length, ...lines.map((l) => String(l[j]).length)));
+  const fmt = (l: readonly string[]) => l.map((c, j) => (j >= 3 ? c.padStart(widths[j]!) : c.padEnd(widths[j]!))).join('  ');
+  return [fmt(head), widths.map((w) => '-'.repeat(w)).join('  '), ...lines.map(fmt)].join('\n');
+}
+
 export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Record<string, number>; file: string }> {
   const { log } = options;
   const steps = plan(options);
@@ -264,7 +286,7 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
           continue;
         }
       }
-      const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup, ...(options.memoryLimit && step.engine === 'native' ? { memoryLimit: options.memoryLimit } : {}) };
+      const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup, determinism: options.determinism, ...(options.memoryLimit && step.engine === 'native' ? { memoryLimit: options.memoryLimit } : {}) };
       const m = await measureInChild(spec);
       const seconds = median(m.seconds);
       row = { ...base, runs: m.seconds, seconds, rowsPerSecond: rows / seconds, peakRssMb: m.timeRssMb, peakHeapMb: m.peakHeapMb, answer: m.answer,
@@ -282,6 +304,7 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
   const extra = ratios(merged);
   const fit = slope(merged);
   log(`\n${table(merged, extra)}\n`);
+  log(`${summary(merged)}\n`);
   for (const [k, v] of Object.entries(extra)) if (/wasm|host|browser|baseline/.test(k) && !/audit\/(cube|floor)/.test(k)) log(`${k}: ${v.toFixed(2)}`);
   if (fit) log(`native Parquet audit: ${fit.secondsPerMillionRows.toFixed(3)} s per million rows + ${fit.interceptSeconds.toFixed(2)} s (least squares over ${fit.points} sizes)`);
   await save(merged);
