@@ -14,8 +14,8 @@ import type { Engine, RegisteredSource, SourceSpec } from './types.ts';
 import { createWasmCore } from './wasm-core.ts';
 import type { WasmEngineOptions } from './wasm-core.ts';
 import { describeBytes, withKind } from './file-signature.ts';
-import { parquetWasmDecoder } from './parquet/decoder.ts';
 import { DEFAULT_BUDGET_BYTES, loadParquet } from './parquet/load.ts';
+import { workerDecoder } from './parquet/worker-decoder.ts';
 
 export interface WasmBrowserBundle {
   /** URL of duckdb-eh.wasm. */
@@ -91,13 +91,12 @@ export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions 
   }
 
   /**
-   * Parquet: the File is read by range (its footer, then one row group's columns at a time), decoded to
-   * Arrow on this thread by parquet-wasm and handed to the DuckDB worker, which takes the buffer over.
-   * Messages name the file as the user picked it.
+   * Parquet: the File is read by range (its footer here, then one row group's columns at a time in the
+   * decode worker), decoded to Arrow by parquet-wasm in that worker, and the bytes pass through this thread
+   * to the DuckDB worker, each buffer transferred, never copied. Messages name the file as the user picked it.
    */
   async function registerParquet(files: readonly File[], names: readonly string[], scanSql: string): Promise<RegisteredSource> {
-    const { browserParquetModule } = await import('./parquet/browser-module.ts');
-    const decoder = parquetWasmDecoder(await browserParquetModule());
+    const decoder = workerDecoder(() => new Worker(new URL('./parquet/decode.worker.ts', import.meta.url), { type: 'module', name: 'parquet decode worker' }));
     const parts = files.map((file) => ({ name: file.name, blob: file }));
     try {
       return await core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {

@@ -55,7 +55,7 @@ async function heapSampler(page: Page): Promise<{ sample(): Promise<void>; peaks
   const pending = new Map<number, (v: unknown) => void>();
   let next = 1_000_000;
   cdp.on('Target.attachedToTarget', (e: { sessionId: string; targetInfo: { type: string; url: string } }) => {
-    if (e.targetInfo.type === 'worker') workers.set(e.sessionId, /duckdb/.test(e.targetInfo.url) ? 'duckdb worker' : /digest/.test(e.targetInfo.url) ? 'digest worker' : 'other worker');
+    if (e.targetInfo.type === 'worker') workers.set(e.sessionId, /duckdb/.test(e.targetInfo.url) ? 'duckdb worker' : /digest/.test(e.targetInfo.url) ? 'digest worker' : /decode/.test(e.targetInfo.url) ? 'parquet decode worker' : 'other worker');
   });
   cdp.on('Target.detachedFromTarget', (e: { sessionId: string }) => { workers.delete(e.sessionId); });
   cdp.on('Target.receivedMessageFromTarget', (e: { message: string }) => {

@@ -4,7 +4,7 @@
  * decimal logical types load with the same types and values native DuckDB's read_parquet gives. The files
  * are written by native DuckDB (COPY ... TO) into a temporary folder; native DuckDB is the reference.
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
@@ -16,6 +16,8 @@ import { duckdbTypeOf, hiveValues, topLevelColumns, unreadableColumn } from '../
 import { EngineError } from '../../app/engine/types.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
+import { floorMicros } from '../../app/engine/parquet/int96.ts';
+import { int96ParquetFile } from './int96-parquet.ts';
 
 const COVERAGE_SELECT = `
 SELECT i::BIGINT AS id,
@@ -53,6 +55,14 @@ beforeAll(async () => {
   }
   c.closeSync();
   db.closeSync();
+  // INT96: no writer here emits it, so the file is written by hand (int96-parquet.ts). The values probe what
+  // wraps or rounds differently: sub-microsecond nanoseconds either side of the epoch, the edges of the
+  // 64-bit nanosecond range (1677-09-21 to 2262-04-11) and dates outside it, nulls, a leap day.
+  const ns = (iso: string, extra = 0n) => BigInt(Date.parse(iso)) * 1_000_000n + extra;
+  writeFileSync(join(dir, 'int96.parquet'), int96ParquetFile([
+    { name: 'logged_at', values: [ns('2026-03-01T12:34:56.123Z', 456_789n), null, ns('1969-12-31T23:59:59.999Z', 999_500n), ns('1900-01-01T00:00:00Z'), ns('2262-04-11T23:47:16.854Z', 775_807n), ns('1970-01-01T00:00:00Z', 1n), null, ns('2000-02-29T23:59:59.999Z', 999_999n), ns('1600-06-15T10:00:00Z'), ns('2300-01-01T00:00:00Z', 999n)] },
+    { name: 'settled_at', values: [null, ns('2026-03-02T00:00:00Z'), ns('1677-09-21T00:12:43.145Z', 224_192n), null, null, null, null, null, null, ns('1969-12-31T23:59:59.999Z', 999_999n)] },
+  ]));
   native = await createNativeEngine();
   wasm = await createWasmNodeEngine();
 }, 120_000);
@@ -82,6 +92,23 @@ describe('every codec and page version loads as native DuckDB reads it', () => {
       });
     }
   }
+});
+
+describe('INT96 timestamps', () => {
+  it('load with the type and values native DuckDB reads, also outside the 64-bit nanosecond range and before the epoch', async () => {
+    const path = join(dir, 'int96.parquet');
+    const [a, b] = [await contents(native, path), await contents(wasm, path)];
+    expect(a.types).toEqual(['id BIGINT', 'logged_at TIMESTAMP', 'settled_at TIMESTAMP']);
+    expect(b.types).toEqual(a.types);
+    expect(b.text).toEqual(a.text);
+    // Hand-checked against the values written: 999,999,500 ns before 1970 floors to .999999, 1600 stays 1600.
+    expect(String(a.text[1])).toContain('1969-12-31 23:59:59.999999|1900-01-01 00:00:00');
+    expect(String(a.text[1])).toContain('1600-06-15 10:00:00');
+  });
+
+  it('nanoseconds floor to microseconds on both sides of the epoch', () => {
+    expect([floorMicros(1_999n), floorMicros(-1n), floorMicros(-1_000n), floorMicros(-1_001n), floorMicros(0n)]).toEqual([1n, -1n, -1n, -2n, 0n]);
+  });
 });
 
 describe('footer rules', () => {
