@@ -27,7 +27,7 @@ export const NODE_ONLY = [
   'app/engine/host/server.ts', 'app/engine/host/spawn.ts', 'app/engine/host/child-main.ts', 'app/engine/host/fingerprint.ts',
   'app/report/fingerprint.ts', 'app/report/json.ts', 'app/report/signoff.ts', 'app/report/trusted-keys.ts',
 ];
-export const BROWSER_ONLY = ['app/engine/wasm-browser.ts', 'app/engine/wasm-browser-bundles.ts', 'app/engine/parquet/browser-module.ts'];
+export const BROWSER_ONLY = ['app/engine/wasm-browser.ts', 'app/engine/wasm-browser-bundles.ts', 'app/engine/parquet/browser-module.ts', 'app/engine/parquet/decode.worker.ts'];
 
 const escape = (text) => text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
 /**
