@@ -44,6 +44,7 @@ const CODECS = ['uncompressed', 'snappy', 'zstd', 'gzip', 'brotli', 'lz4', 'lz4_
 let dir: string;
 let native: Engine;
 let wasm: Engine;
+// Fourteen files written by native DuckDB and a DuckDB-Wasm instance: minutes on a loaded machine.
 beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'cw-parquet-load-'));
   const db = await DuckDBInstance.create(':memory:', { autoload_known_extensions: 'false', autoinstall_known_extensions: 'false' });
@@ -65,7 +66,7 @@ beforeAll(async () => {
   ]));
   native = await createNativeEngine();
   wasm = await createWasmNodeEngine();
-}, 120_000);
+}, 300_000);
 afterAll(async () => {
   await native?.close();
   await wasm?.close();
