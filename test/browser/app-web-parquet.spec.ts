@@ -86,6 +86,7 @@ test('a truncated Parquet file gets the native engine\'s message on the open scr
   await page.goto('/');
   await page.getByTestId('log-file-input').setInputFiles('test/corpus/files/truncated.parquet');
   const alert = page.getByRole('alert');
-  await expect(alert).toContainText('"truncated.parquet": it is not a complete Parquet file');
+  // The engine starts when the first file is opened: seconds on a loaded machine.
+  await expect(alert).toContainText('"truncated.parquet": it is not a complete Parquet file', { timeout: 60_000 });
   await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
 });
