@@ -42,9 +42,20 @@ export function estimatesOption(targets: readonly ChartTarget[], onPolicy?: numb
       { type: 'category', data: categories, axisLabel: { interval: 0, rotate: categories.length > 5 ? 30 : 0 } },
       { type: 'value', min: -0.5, max: categories.length - 0.5, show: false },
     ],
-    yAxis: { type: 'value', scale: true },
+    // markLines do not widen an axis: its range is set to hold every interval and the logging policy's value
+    yAxis: { type: 'value', ...valueRange(targets, onPolicy), axisLine: { onZero: false } },
     series,
   };
+}
+
+function valueRange(targets: readonly ChartTarget[], onPolicy?: number | null): { min?: number; max?: number } {
+  const all = targets.flatMap((t) => ESTIMATORS.flatMap((k) => [t[k].value, t[k].ci_low, t[k].ci_high])).concat(onPolicy ?? null).map(finite).filter((v): v is number => v !== null);
+  if (all.length === 0) return {};
+  const lo = Math.min(...all);
+  const hi = Math.max(...all);
+  const pad = (hi - lo || Math.abs(hi) || 1) * 0.08;
+  const round = (v: number) => Number(v.toPrecision(3));
+  return { min: round(lo - pad), max: round(hi + pad) };
 }
 
 function finite(v: number | null): number | null {

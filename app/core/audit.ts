@@ -314,7 +314,7 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
       const { where, ...rest } = f as DraftFinding;
       const k = wanted.findIndex((w) => w.check === ci && w.finding === fi);
       const examples = k >= 0 ? byRequest.get(k) ?? [] : empty.has(`${ci}/${fi}`) ? [] : undefined;
-      return { ...rest, ...(where ? { sql: findingSql(relation, where) } : {}), ...(examples ? { examples } : {}) };
+      return { ...rest, ...(where ? { sql: findingSql(where) } : {}), ...(examples ? { examples } : {}) };
     }),
   }));
 }

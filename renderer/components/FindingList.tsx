@@ -33,7 +33,7 @@ function FindingItem({ finding }: { finding: Finding }) {
           </table>
         </div>
       )}
-      {finding.sql && <SqlBlock sql={finding.sql} label="SQL that selects these rows" />}
+      {finding.sql && <SqlBlock sql={finding.sql} label="SQL that selects these rows (name your log “log”)" />}
     </li>
   );
 }

@@ -14,7 +14,14 @@ const dir = mkdtempSync(path.join(tmpdir(), 'cw-booking-'));
 const LOG = path.join(dir, 'harbour-stays.csv');
 writeFileSync(LOG, roleLog(BOOKING_SPEC, 30_000, 21).csv);
 
+/** With CW_SHOT_DIR set, each screen is also saved there at 1280×800 (to look at; nothing compares them). */
+async function shot(page: Page, name: string): Promise<void> {
+  const dir = process.env.CW_SHOT_DIR;
+  if (dir) await page.screenshot({ path: path.join(dir, `${name.toLowerCase().replace(/[^a-z0-9]+/g, '-')}.png`) });
+}
+
 async function noSeriousViolations(page: Page, screen: string): Promise<void> {
+  await shot(page, screen);
   const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'wcag22aa']).analyze();
   const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
   expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);

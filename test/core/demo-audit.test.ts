@@ -69,6 +69,9 @@ describe('demo log', () => {
     const f = demo.checks.find((c) => c.id === 'propensity.range')!.findings[0]!;
     expect(f.examples?.length).toBeGreaterThan(0);
     expect(f.examples!.every((r) => r.device === 'android' && (r.propensity === null || r.propensity === 0))).toBe(true);
+    // the SQL calls the log `log`, as the report tells its reader to name it
+    expect(f.sql).toMatch(/^SELECT \* FROM log WHERE /);
+    await engine.query(`CREATE OR REPLACE VIEW log AS SELECT * FROM read_parquet('${SAMPLE}maple-row-demo.parquet')`);
     const rows = await engine.query(`SELECT count(*)::DOUBLE AS n FROM (${f.sql})`);
     expect(rows.columns[0]![0]).toBe(f.metrics.invalid_rows);
   });

@@ -36,7 +36,7 @@ export function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> 
   if (unparsed > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: unparsed, share: unparsed / rows }, message: `${unparsed} rows (${pct(unparsed / rows, 2)}) have a missing or unparseable time` });
   const status = findings.length ? 'warn' : 'pass';
   const spanDays = minUs !== null && maxUs !== null ? (maxUs - minUs) / 86_400e6 : null;
-  const summary = `${minUs !== null ? isoUs(minUs) : '?'} to ${maxUs !== null ? isoUs(maxUs) : '?'} (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} ${buckets.label} buckets; ${empty.length} empty bucket(s)${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
+  const summary = `${minUs !== null ? isoUs(minUs) : '?'} to ${maxUs !== null ? isoUs(maxUs) : '?'} (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} buckets of ${durationWords(buckets.widthUs)} each; ${empty.length} empty bucket(s)${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
   return result(
     'time.coverage',
     status,
@@ -56,3 +56,11 @@ export const timeCoverage: CheckDefinition<'time.coverage'> = defineCheck({
   settings: ['time.bucket', 'time.max_buckets'],
   run: checkTimeCoverage,
 });
+
+/** A bucket width in words: "1 day", "6 hours", "90 seconds" (the largest whole unit). */
+export function durationWords(us: number): string {
+  const units: [number, string][] = [[7 * 86_400e6, 'week'], [86_400e6, 'day'], [3_600e6, 'hour'], [60e6, 'minute'], [1e6, 'second']];
+  const [size, unit] = units.find(([u]) => us >= u && us % u === 0) ?? [1e6, 'second'];
+  const n = Math.round((us / size) * 100) / 100;
+  return `${n.toLocaleString('en')} ${unit}${n === 1 ? '' : 's'}`;
+}

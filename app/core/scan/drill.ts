@@ -251,17 +251,24 @@ export function cursorAfter(orderColumns: readonly string[], page: Table, before
   return { key, types: idx.map((j) => page.types[j] ?? ''), tied };
 }
 
+/** What the SQL a report shows calls the log (finding SQL and a segment-map cell's SQL alike): the reader names their own table or view `log`. */
+export const LOG_NAME = 'log';
 const findingSqlPrefix = (relation: string) => `SELECT * FROM ${relation} WHERE `;
 
-/** A finding's re-runnable SQL (report findings' `sql`): every row of the relation its predicate selects. */
-export function findingSql(relation: string, where: string): string {
-  return `${findingSqlPrefix(relation)}${where}`;
+/** A finding's re-runnable SQL (report findings' `sql`): every row of the log its predicate selects. */
+export function findingSql(where: string): string {
+  return `${findingSqlPrefix(LOG_NAME)}${where}`;
 }
 
-/** The predicate back from findingSql's text; null for SQL of any other shape or over another relation. */
+/**
+ * The predicate back from findingSql's text; null for SQL of any other shape. Reports written before the
+ * SQL named the log `log` name the engine's relation instead, which is accepted too.
+ */
 export function findingWhere(sql: string | undefined, relation: string): string | null {
-  const prefix = findingSqlPrefix(relation);
-  return sql !== undefined && sql.startsWith(prefix) && sql.length > prefix.length ? sql.slice(prefix.length) : null;
+  for (const prefix of [findingSqlPrefix(LOG_NAME), findingSqlPrefix(relation)]) {
+    if (sql !== undefined && sql.startsWith(prefix) && sql.length > prefix.length) return sql.slice(prefix.length);
+  }
+  return null;
 }
 
 /**
@@ -270,5 +277,5 @@ export function findingWhere(sql: string | undefined, relation: string): string 
  */
 export function cellReaderSql(actionColumn: string, segment: Readonly<Record<string, string>>, action: string): string {
   const where = [...Object.entries(segment).map(([k, v]) => `${ident(k)} = ${literal(v)}`), `${ident(actionColumn)} = ${literal(action)}`];
-  return `SELECT *\nFROM log\nWHERE ${where.join('\n  AND ')}`;
+  return `SELECT *\nFROM ${LOG_NAME}\nWHERE ${where.join('\n  AND ')}`;
 }

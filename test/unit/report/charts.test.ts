@@ -86,6 +86,10 @@ describe('chart option builders', () => {
     expect(new Set(xs.map((x) => x[0])).size).toBe(2);
     for (const row of xs) row.forEach((x, i) => expect(Math.abs(x - i)).toBeLessThan(0.5));
     expect(s.find((x) => x.name === 'DR')?.data).toEqual([]);
+    // the value axis holds every interval and the logging policy's value (markLines do not widen it)
+    const y = estimatesOption([t], 0.01).yAxis as { min: number; max: number };
+    expect(y.min).toBeLessThan(0.01);
+    expect(y.max).toBeGreaterThan(0.15);
   });
 
   it('render to SVG server-side for every kind', () => {
