@@ -64,6 +64,16 @@ export async function registerSources(engine: Engine, sources: readonly string[]
   return registered;
 }
 
+/** Opens the engine the flags name, registers the command's sources in it, runs `use`, and closes the engine. */
+export async function withSources<T>(flags: FlagValues, sources: readonly string[], cwd: string, use: (engine: Engine, source: RegisteredSource) => Promise<T>): Promise<T> {
+  const engine = await openEngine(engineChoice(flags));
+  try {
+    return await use(engine, await registerSources(engine, sources, cwd));
+  } finally {
+    await engine.close();
+  }
+}
+
 export interface ColumnInfo {
   readonly name: string;
   readonly type: string;

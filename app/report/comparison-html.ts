@@ -5,8 +5,7 @@
  */
 import type { Change, Comparison, EstimateChange, FindingChange, Headline } from '../core/compare/contract.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment } from './format.ts';
-import { html, type SafeHtml } from './html-template.ts';
-import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
+import { html, reportPage, type SafeHtml } from './html-template.ts';
 
 const MAX_ROWS = 300;
 
@@ -88,19 +87,5 @@ ${estimateRow('IPS', t.ips)}${estimateRow('SNIPS', t.snips)}${estimateRow('DR', 
 ${c.segments.filter((s) => s.change !== 'same').slice(0, MAX_ROWS).map((s) => html`<tr><td>${fmtSegment(s.segment)}</td><td>${status(s.baseline)}</td><td>${status(s.current)}</td><td>${change(s.change)}</td><td class="num">${fmtNumber(s.rows.baseline)}</td><td class="num">${fmtNumber(s.rows.current)}</td></tr>`)}
 </tbody></table></section>
 `;
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta http-equiv="Content-Security-Policy" content="${REPORT_CSP}">
-<meta name="referrer" content="no-referrer">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>${html`Counterweight comparison: ${labels.baseline} → ${labels.current}`}</title>
-<style>${REPORT_CSS}${COMPARISON_CSS}</style>
-</head>
-<body>
-${body}
-</body>
-</html>
-`;
+  return reportPage(`Counterweight comparison: ${labels.baseline} → ${labels.current}`, body, COMPARISON_CSS);
 }

@@ -3,8 +3,7 @@ import { historyEstimateOption, historySegmentsHeight, historySegmentsOption, hi
 import type { History } from '../core/compare/history.ts';
 import { fmtNumber, fmtSegment } from './format.ts';
 import { makeChart, type HtmlOptions } from './html-chart.ts';
-import { html, type SafeHtml } from './html-template.ts';
-import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
+import { html, reportPage, type SafeHtml } from './html-template.ts';
 
 const MAX_ROWS = 400;
 
@@ -47,19 +46,5 @@ ${h.findings.slice(0, MAX_ROWS).map((f) => html`<tr><td><code>${f.check}</code>$
 <td>${h.entries[f.first]?.label}</td><td>${h.entries[f.last]?.label}</td>${f.seen.map((s) => html`<td>${status(s)}</td>`)}</tr>`)}
 </tbody></table>
 ${h.findings.length > MAX_ROWS ? html`<p class="muted">${fmtNumber(h.findings.length - MAX_ROWS)} more findings in the JSON history.</p>` : ''}`;
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta http-equiv="Content-Security-Policy" content="${REPORT_CSP}">
-<meta name="referrer" content="no-referrer">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>Counterweight audit history</title>
-<style>${REPORT_CSS}</style>
-</head>
-<body>
-${body}
-</body>
-</html>
-`;
+  return reportPage('Counterweight audit history', body);
 }

@@ -1,4 +1,5 @@
 import { escapeHtml } from './escape.ts';
+import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
 
 /** Markup that is already safe. Only this module's `html` tag and `trustedSvg` make one. */
 export class SafeHtml {
@@ -33,4 +34,23 @@ const ACTIVE_SVG = /<script|<foreignObject|<iframe|<[^>]*\son[a-z]+\s*=|<[^>]*ja
  */
 export function trustedSvg(svg: string): SafeHtml | null {
   return ACTIVE_SVG.test(svg) ? null : new SafeHtml(svg);
+}
+
+/** One self-contained page: the reports' CSP (no script, no fetch), their stylesheet (and `css`), the title escaped. */
+export function reportPage(title: string, body: SafeHtml, css = ''): string {
+  return `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="${REPORT_CSP}">
+<meta name="referrer" content="no-referrer">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>${escapeHtml(title)}</title>
+<style>${REPORT_CSS}${css}</style>
+</head>
+<body>
+${body.value}
+</body>
+</html>
+`;
 }

@@ -8,8 +8,7 @@ import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../
 import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
 import { makeChart, type ChartFn, type HtmlOptions } from './html-chart.ts';
-import { html, type SafeHtml } from './html-template.ts';
-import { REPORT_CSP, REPORT_CSS } from './html-style.ts';
+import { html, reportPage, type SafeHtml } from './html-template.ts';
 
 export { REPORT_CSP } from './html-style.ts';
 export type { HtmlOptions } from './html-chart.ts';
@@ -49,21 +48,7 @@ ${signoffSection(report)}
 <h2 id="cautions-end">Cautions</h2>
 ${cautionsBlock(report.cautions)}
 `;
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta http-equiv="Content-Security-Policy" content="${REPORT_CSP}">
-<meta name="referrer" content="no-referrer">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>${html`${title}`.value}</title>
-<style>${REPORT_CSS}</style>
-</head>
-<body>
-${body.value}
-</body>
-</html>
-`;
+  return reportPage(title, body);
 }
 
 function statusBadge(status: Status): SafeHtml {

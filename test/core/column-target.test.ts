@@ -9,6 +9,7 @@ import type { Report } from '../../app/core/model/report.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { FIXED_NOW, SAMPLE, V9, v9Target } from './audit-helpers.ts';
+import { expectRelativelyClose } from './expect-close.ts';
 
 let engine: Engine;
 let byTable: Report;
@@ -27,14 +28,10 @@ afterAll(async () => engine?.close());
 it('gives the table target\'s ESS, maximum weight, k̂, IPS and SNIPS', () => {
   const t = byTable.targets[0]!;
   const c = byColumn.targets[0]!;
-  const close = (a: number | null, b: number | null) => expect(Math.abs((a as number) - (b as number))).toBeLessThanOrEqual(1e-9 * Math.abs(b as number));
-  close(c.ess, t.ess);
-  close(c.max_weight, t.max_weight);
-  close(c.khat, t.khat);
-  close(c.ips.value, t.ips.value);
-  close(c.ips.se, t.ips.se);
-  close(c.snips.value, t.snips.value);
-  close(c.snips.se, t.snips.se);
+  expectRelativelyClose({
+    ess: [c.ess, t.ess], max_weight: [c.max_weight, t.max_weight], khat: [c.khat, t.khat],
+    ips: [c.ips.value, t.ips.value], ips_se: [c.ips.se, t.ips.se], snips: [c.snips.value, t.snips.value], snips_se: [c.snips.se, t.snips.se],
+  }, 1e-9);
   expect(byColumn.roles.target_propensity).toBe('target_prob');
 });
 

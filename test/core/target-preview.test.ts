@@ -10,6 +10,7 @@ import { parseTarget } from '../../app/core/targets/targets.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { FIXED_NOW, SAMPLE, V9 } from './audit-helpers.ts';
+import { expectRelativelyClose } from './expect-close.ts';
 
 let engine: Engine;
 let base: AuditResult;
@@ -49,14 +50,10 @@ it('previews the edited table from the first audit\'s cube with the numbers of a
   const p = previewTarget(base.cells, base.report.roles.segments, policy);
   expect(engine.sourceScans).toBe(before);
   const t = edited.report.targets[0]!;
-  const rel = (a: number | null, b: number | null) => expect(Math.abs((a as number) - (b as number))).toBeLessThanOrEqual(1e-12 * Math.abs(b as number));
-  rel(p.supportDeficit, t.support_deficit);
-  rel(p.ess, t.ess);
-  rel(p.maxWeight, t.max_weight);
-  rel(p.ips.value, t.ips.value);
-  rel(p.snips.value, t.snips.value);
-  rel(p.snips.se, t.snips.se);
-  rel(p.dr.value, t.dr.value);
+  expectRelativelyClose({
+    support_deficit: [p.supportDeficit, t.support_deficit], ess: [p.ess, t.ess], max_weight: [p.maxWeight, t.max_weight],
+    ips: [p.ips.value, t.ips.value], snips: [p.snips.value, t.snips.value], snips_se: [p.snips.se, t.snips.se], dr: [p.dr.value, t.dr.value],
+  }, 1e-12);
   expect(scansAfter).toBeGreaterThan(scansBefore);
 });
 

@@ -6,10 +6,10 @@ import { serializeComparison } from '../../report/comparison-json.ts';
 import type { CommandSpec, FlagSpec, ParsedArgs } from '../args.ts';
 import { stringFlag } from '../args.ts';
 import { formatComparisonSummary } from '../compare-summary.ts';
+import { documentFlags, writeDocument } from '../document-output.ts';
 import { EXIT, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
 import { painter } from '../summary.ts';
-import { writeFile } from './audit.ts';
 import { readReport } from './report-file.ts';
 
 export const FAIL_ON_CHANGE: FlagSpec = {
@@ -22,8 +22,7 @@ export const compareSpec: CommandSpec = {
   summary: 'Compare a report with a baseline report: what got worse, what is new or resolved, whether estimates moved.\nExit status: 0 no regression, 2 a regression (or any change with --fail-on any-change), 3 usage or input error.',
   positionals: { name: 'baseline.json new.json', min: 2, max: 2 },
   flags: {
-    json: { kind: 'string', value: 'FILE|-', help: 'write the comparison (counterweight.comparison/1) to FILE, or to stdout with -' },
-    html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML comparison' },
+    ...documentFlags('comparison', 'counterweight.comparison/1'),
     'fail-on': FAIL_ON_CHANGE,
     quiet: { kind: 'boolean', help: 'no summary' },
   },
@@ -55,12 +54,7 @@ export function outputsFrom(flags: ParsedArgs['flags'], names: { json: string; h
 /** Compares, writes what was asked for, prints the summary (leading with what got worse) and returns the exit status. */
 export async function emitComparison(baseline: Report, current: Report, labels: { baseline: string; current: string }, outputs: ComparisonOutputs, io: CliIo): Promise<number> {
   const comparison = compareReports(baseline, current);
-  if (outputs.json === '-') io.stdout.write(serializeComparison(comparison));
-  else if (outputs.json) writeFile(outputs.json, serializeComparison(comparison), io.cwd);
-  if (outputs.html) {
-    const { renderComparisonHtml } = await import('../../report/comparison-html.ts');
-    writeFile(outputs.html, renderComparisonHtml(comparison, labels), io.cwd);
-  }
+  await writeDocument(io, outputs, () => serializeComparison(comparison), async () => (await import('../../report/comparison-html.ts')).renderComparisonHtml(comparison, labels));
   if (!outputs.quiet) {
     const stream = outputs.json === '-' || outputs.summaryOnStderr ? io.stderr : io.stdout;
     stream.write(formatComparisonSummary(comparison, painter(useColour(stream, io.env)), labels));

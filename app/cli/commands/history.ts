@@ -5,19 +5,16 @@ import { serializeHistory } from '../../report/history-json.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { stringFlag } from '../args.ts';
 import { plain } from '../compare-summary.ts';
+import { documentFlags, writeDocument } from '../document-output.ts';
 import { UsageError } from '../errors.ts';
 import type { CliIo } from '../io.ts';
-import { writeFile } from './audit.ts';
 import { readReport } from './report-file.ts';
 
 export const historySpec: CommandSpec = {
   name: 'history',
   summary: 'Read a folder of report JSON files as a history: verdict, checks, targets and segments over time, and when each finding first appeared.',
   positionals: { name: 'folder', min: 1, max: 1 },
-  flags: {
-    html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML history' },
-    json: { kind: 'string', value: 'FILE|-', help: 'write the history (counterweight.history/1) as JSON' },
-  },
+  flags: documentFlags('history', 'counterweight.history/1'),
 };
 
 /** Every *.json file in the folder that is a Counterweight report; anything else is named and skipped. */
@@ -58,14 +55,7 @@ export async function runHistory(args: ParsedArgs, io: CliIo): Promise<number> {
   const reports = readReportFolder(args.positionals[0] as string, io.cwd, (line) => io.stderr.write(`counterweight: ${line}\n`));
   const history = buildHistory(reports);
   const json = stringFlag(args.flags, 'json');
-  const htmlOut = stringFlag(args.flags, 'html');
-  const text = serializeHistory(history);
-  if (json === '-') io.stdout.write(text);
-  else if (json) writeFile(json, text, io.cwd);
-  if (htmlOut) {
-    const { renderHistoryHtml } = await import('../../report/history-html.ts');
-    writeFile(htmlOut, renderHistoryHtml(history), io.cwd);
-  }
+  await writeDocument(io, { json, html: stringFlag(args.flags, 'html') }, () => serializeHistory(history), async () => (await import('../../report/history-html.ts')).renderHistoryHtml(history));
   (json === '-' ? io.stderr : io.stdout).write(summary(history));
   return 0;
 }

@@ -1,7 +1,7 @@
 import { displayPath } from '../../report/fingerprint.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { useColour, type CliIo } from '../io.ts';
-import { countRows, describeColumns, ENGINE_FLAG, engineChoice, openEngine, registerSources } from '../sources.ts';
+import { countRows, describeColumns, ENGINE_FLAG, withSources } from '../sources.ts';
 import { formatSourceHeader, painter } from '../summary.ts';
 
 export const inspectSpec: CommandSpec = {
@@ -12,14 +12,10 @@ export const inspectSpec: CommandSpec = {
 };
 
 export async function runInspect(args: ParsedArgs, io: CliIo): Promise<number> {
-  const engine = await openEngine(engineChoice(args.flags));
-  try {
-    const source = await registerSources(engine, args.positionals, io.cwd);
+  return withSources(args.flags, args.positionals, io.cwd, async (engine, source) => {
     const columns = await describeColumns(engine, source.relation);
     const rows = await countRows(engine, source.relation);
     io.stdout.write(formatSourceHeader(source.files.map((f) => displayPath(f, io.cwd)), source.format, rows, columns, painter(useColour(io.stdout, io.env))));
     return 0;
-  } finally {
-    await engine.close();
-  }
+  });
 }

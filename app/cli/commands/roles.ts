@@ -1,6 +1,6 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import type { CliIo } from '../io.ts';
-import { ENGINE_FLAG, engineChoice, openEngine, registerSources } from '../sources.ts';
+import { ENGINE_FLAG, withSources } from '../sources.ts';
 import { terminalText } from '../terminal-text.ts';
 import { loadAuditCore } from './core.ts';
 
@@ -13,9 +13,7 @@ export const rolesSpec: CommandSpec = {
 
 export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
   const core = await loadAuditCore();
-  const engine = await openEngine(engineChoice(args.flags));
-  try {
-    const source = await registerSources(engine, args.positionals, io.cwd);
+  return withSources(args.flags, args.positionals, io.cwd, async (engine, source) => {
     const suggestions = await core.suggestRoles((sql) => engine.query(sql), source.relation);
     if (suggestions.length === 0) {
       io.stdout.write('No roles could be suggested; map them with audit --role NAME=COLUMN.\n');
@@ -29,7 +27,5 @@ export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
     }
     io.stdout.write(`\nOverride with: counterweight audit ${terminalText(args.positionals.join(' '))} --role NAME=COLUMN\n`);
     return 0;
-  } finally {
-    await engine.close();
-  }
+  });
 }

@@ -9,17 +9,14 @@
  * input) can be one unit in the last place off, so tryDouble is for text columns only and test data is
  * loaded as RowBinary.
  */
-import type { Dialect } from './dialect.ts';
-import { double, ident, integer, literal } from './quote-clickhouse.ts';
+import { nullMark, quotingOf, type Dialect } from './dialect.ts';
+import * as quoting from './quote-clickhouse.ts';
 
-const NULL_MARK = literal('\u0001null');
+const NULL_MARK = nullMark(quoting);
 
 export const clickhouse: Dialect = {
+  ...quotingOf(quoting),
   name: 'clickhouse',
-  ident,
-  literal,
-  double,
-  integer,
   toDouble: (x) => `toFloat64(${x})`,
   tryDouble: (x) => `toFloat64OrNull(toString(${x}))`,
   toText: (x) => `toString(${x})`,

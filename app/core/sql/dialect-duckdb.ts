@@ -1,15 +1,12 @@
 /** The DuckDB dialect: today's spellings of the scan builders (app/core/sql/quote.ts quotes). */
-import type { Dialect } from './dialect.ts';
-import { double, ident, integer, literal } from './quote.ts';
+import { nullMark, quotingOf, type Dialect } from './dialect.ts';
+import * as quoting from './quote.ts';
 
-const NULL_MARK = literal('\u0001null');
+const NULL_MARK = nullMark(quoting);
 
 export const duckdb: Dialect = {
+  ...quotingOf(quoting),
   name: 'duckdb',
-  ident,
-  literal,
-  double,
-  integer,
   toDouble: (x) => `CAST(${x} AS DOUBLE)`,
   tryDouble: (x) => `TRY_CAST(${x} AS DOUBLE)`,
   toText: (x) => `CAST(${x} AS VARCHAR)`,

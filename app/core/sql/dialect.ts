@@ -49,3 +49,12 @@ export interface Dialect {
   /** the name of the hash `rowHashSum` uses, recorded beside the fingerprint */
   readonly fingerprintHash: string;
 }
+
+/** The four quoting functions of a dialect, taken from its quoting module (quote.ts, quote-<name>.ts). */
+export type Quoting = Pick<Dialect, 'ident' | 'literal' | 'double' | 'integer'>;
+export function quotingOf({ ident, literal, double, integer }: Quoting): Quoting {
+  return { ident, literal, double, integer };
+}
+
+/** How a dialect writes SQL NULL inside the text the row hash reads: a mark no log value starts with. */
+export const nullMark = (quoting: Quoting): string => quoting.literal('\u0001null');
