@@ -31,7 +31,7 @@ export interface ParsedArgs {
   readonly flags: FlagValues;
 }
 
-export const COMMON_FLAGS: Readonly<Record<string, FlagSpec>> = {
+const COMMON_FLAGS: Readonly<Record<string, FlagSpec>> = {
   debug: { kind: 'boolean', help: 'print stack traces of unexpected errors' },
   help: { kind: 'boolean', help: 'show help for this command' },
 };
@@ -108,7 +108,7 @@ function distance(a: string, b: string): number {
   return d[b.length] as number;
 }
 
-export function usageLine(spec: CommandSpec): string {
+function usageLine(spec: CommandSpec): string {
   const { name, min, max } = spec.positionals;
   const pos = max === 0 ? '' : min === 0 ? ` [${name}]` : max > 1 ? ` <${name}...>` : ` <${name}>`;
   return `counterweight ${spec.name}${pos} [options]`;

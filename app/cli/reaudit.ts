@@ -17,13 +17,13 @@ export interface ReauditOutcome {
 }
 
 /** The report without what may differ between two runs of one audit: its run record and its sign-off. */
-export function reportBody(report: Report): Omit<Report, 'run' | 'signoff'> {
+function reportBody(report: Report): Omit<Report, 'run' | 'signoff'> {
   const { run: _run, signoff: _signoff, ...body } = report;
   return body;
 }
 
 /** SHA-256 of the body's JSON (keys in the report's own order, as the writer produces them). */
-export function bodyDigest(report: Report): string {
+function bodyDigest(report: Report): string {
   return sha256Hex(JSON.stringify(reportBody(report)));
 }
 
@@ -74,7 +74,7 @@ function givenSettings(report: Report): Record<string, number | string | boolean
 }
 
 /** Paths (JSON-pointer-like) where two JSON values differ, at most `limit` of them. */
-export function differences(a: unknown, b: unknown, limit = 10, at = ''): string[] {
+function differences(a: unknown, b: unknown, limit = 10, at = ''): string[] {
   if (a === b) return [];
   if (typeof a !== 'object' || typeof b !== 'object' || a === null || b === null || Array.isArray(a) !== Array.isArray(b)) {
     return [`${at || '/'}: ${JSON.stringify(a)?.slice(0, 80)} → ${JSON.stringify(b)?.slice(0, 80)}`];

@@ -6,7 +6,7 @@ import { stringFlag, type FlagValues } from './args.ts';
 import { UsageError } from './errors.ts';
 
 export type EngineChoice = 'native' | 'wasm';
-export const ENGINE_CHOICES: readonly EngineChoice[] = ['native', 'wasm'];
+const ENGINE_CHOICES: readonly EngineChoice[] = ['native', 'wasm'];
 
 /** The --engine flag every command that opens a log takes. */
 export const ENGINE_FLAG = { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node (CSV/TSV only offline)' } as const;
@@ -49,7 +49,7 @@ export async function openEngine(choice: EngineChoice, memory: EngineMemoryFlags
 const GLOB = /[*?[]/;
 
 /** Fails early, with the path, for a named file or folder that does not exist (globs are the engine's). */
-export function checkSourcesExist(sources: readonly string[], cwd: string): void {
+function checkSourcesExist(sources: readonly string[], cwd: string): void {
   for (const source of sources) {
     if (GLOB.test(source)) continue;
     if (!existsSync(path.resolve(cwd, source))) throw new UsageError(`no such file or folder: ${source}`);

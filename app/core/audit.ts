@@ -116,7 +116,7 @@ export async function inspectRoles(run: RunQuery, relation: string): Promise<Rol
 const needsEvidence = (roles: RoleOverrides | undefined) => !roles?.action;
 
 /** JSON carries no bigint, NaN or Infinity: example values are made JSON-safe here, once. */
-export function jsonCell(v: Cell): Cell {
+function jsonCell(v: Cell): Cell {
   if (typeof v === 'bigint') return Number.isSafeInteger(Number(v)) ? Number(v) : v.toString();
   if (typeof v === 'number' && !Number.isFinite(v)) return String(v);
   if (Array.isArray(v)) return v.map(jsonCell);

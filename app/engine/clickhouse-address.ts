@@ -12,9 +12,9 @@ export interface TableAddress {
   readonly table: string;
 }
 
-export const CLICKHOUSE_SCHEME = 'clickhouse://';
+const CLICKHOUSE_SCHEME = 'clickhouse://';
 
-export function isClickHouseAddress(source: string): boolean {
+function isClickHouseAddress(source: string): boolean {
   return source.toLowerCase().startsWith(CLICKHOUSE_SCHEME);
 }
 

@@ -15,7 +15,7 @@ const KIND_CODES: readonly (readonly [RegExp, EngineErrorCode])[] = [
   [/^(Internal|Fatal|FATAL|Invalid Configuration|Connection) Error/i, 'internal'],
 ];
 
-export function plainDuckDBMessage(raw: string): string {
+function plainDuckDBMessage(raw: string): string {
   const firstPart = raw.split(/\n\s*\nLINE \d+:/)[0] ?? raw;
   return firstPart.replace(/^[A-Za-z ]+ Error: /, '').trim();
 }

@@ -14,7 +14,7 @@ const FOLDER_PATTERN: Record<SourceFormat, string> = { parquet: '**/*.parquet', 
 
 const WILDCARD = /[*?[]/;
 
-export function hasWildcard(p: string): boolean {
+function hasWildcard(p: string): boolean {
   return WILDCARD.test(p);
 }
 
@@ -22,7 +22,7 @@ export function hasWildcard(p: string): boolean {
  * DuckDB's glob syntax (`*` within one path segment, `**` across segments, `?`, `[...]`) as a regular
  * expression over a whole path with forward slashes.
  */
-export function globRegExp(pattern: string): RegExp {
+function globRegExp(pattern: string): RegExp {
   let out = '';
   for (let i = 0; i < pattern.length; i++) {
     const ch = pattern[i] as string;
@@ -59,7 +59,7 @@ const slashes = (p: string): string => p.split(path.sep).join('/');
  * Symbolic links are not matched (a link in a log folder could point anywhere); a link named on its
  * own is opened as named.
  */
-export function expandGlob(pattern: string): string[] {
+function expandGlob(pattern: string): string[] {
   const absolute = path.resolve(pattern);
   const wild = absolute.search(WILDCARD);
   const base = absolute.slice(0, wild).replace(/[^/\\]*$/, '') || path.sep;

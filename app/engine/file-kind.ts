@@ -5,7 +5,7 @@ import type { SourceFormat } from './types.ts';
 import { describeBytes, withKind } from './file-signature.ts';
 
 /** A plain description of the file's content from its first bytes, or null when it cannot be read. */
-export function describeFileStart(file: string): string | null {
+function describeFileStart(file: string): string | null {
   let head: Buffer;
   try {
     const fd = openSync(file, 'r');

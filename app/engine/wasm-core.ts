@@ -40,13 +40,13 @@ const FORMAT_EXTENSIONS: Partial<Record<SourceFormat, { extension: string; label
   ndjson: { extension: 'json', label: 'NDJSON' },
 };
 
-export function extensionUnavailableMessage(label: string): string {
+function extensionUnavailableMessage(label: string): string {
   return `This log is ${label}, which the in-browser engine (DuckDB-Wasm) cannot read without DuckDB's extension for it, ` +
     'and downloading extensions is switched off. Open the log in the Counterweight desktop app, or audit it with the native ' +
     'engine through the headless command (counterweight audit <log>). CSV and TSV logs work here.';
 }
 
-export function wasmOutOfMemoryMessage(detail: string): string {
+function wasmOutOfMemoryMessage(detail: string): string {
   return `The in-browser engine (DuckDB-Wasm) ran out of memory (${detail.replace(/^Out of memory: /, '')}). It has a few GB at most; ` +
     'open the log in the Counterweight desktop app, or audit it with the headless command (counterweight audit <log>), which use native DuckDB without that limit.';
 }

@@ -6,8 +6,8 @@ import { contentTypeFor, resolveAsset } from './static-assets.ts';
  * The built renderer is served from a privileged custom scheme rather than file://, so it has a real
  * origin for 'self' in the CSP, for fetching DuckDB-Wasm's .wasm and for starting its worker.
  */
-export const APP_SCHEME = 'counterweight';
-export const APP_HOST = 'app';
+const APP_SCHEME = 'counterweight';
+const APP_HOST = 'app';
 export const APP_ORIGIN = `${APP_SCHEME}://${APP_HOST}`;
 export const APP_ENTRY_URL = `${APP_ORIGIN}/index.html`;
 

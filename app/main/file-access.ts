@@ -4,11 +4,11 @@ import type { LaunchLog, RecentLog, ReportFormat, ReportFileText, SaveReportRequ
 import { MAX_REPORT_CHARS } from './ipc-schema.ts';
 
 export const RECENT_LIMIT = 10;
-export const RECENT_FILE = 'recent-logs.json';
+const RECENT_FILE = 'recent-logs.json';
 /** A target policy table is a few rows per (segment, action); anything larger is not one. */
 export const TARGET_TABLE_MAX_BYTES = 5 * 1024 * 1024;
 
-export const LOG_FILTERS = [
+const LOG_FILTERS = [
   { name: 'Decision logs', extensions: ['parquet', 'csv', 'tsv', 'ndjson', 'jsonl'] },
   { name: 'All files', extensions: ['*'] },
 ];
@@ -90,7 +90,7 @@ export function mergeRecent(list: readonly RecentLog[], paths: readonly string[]
   return [entry, ...list.filter((r) => recentKey(r.paths) !== key)].slice(0, limit);
 }
 
-export function serializeRecent(list: readonly RecentLog[]): string {
+function serializeRecent(list: readonly RecentLog[]): string {
   return `${JSON.stringify(list, null, 2)}\n`;
 }
 

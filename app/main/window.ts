@@ -1,7 +1,7 @@
 import type { BrowserWindow, BrowserWindowConstructorOptions } from 'electron';
 
-export const DEFAULT_WIDTH = 1280;
-export const DEFAULT_HEIGHT = 800;
+const DEFAULT_WIDTH = 1280;
+const DEFAULT_HEIGHT = 800;
 
 /** Secure defaults for the one application window; the preload is the renderer's only bridge. */
 export function windowOptions(preloadPath: string): BrowserWindowConstructorOptions {

@@ -1,6 +1,6 @@
 /** The comparison's JSON text and its validation (no platform imports: the page and Node write the same bytes). */
 import type { z } from 'zod';
-import { COMPARISON_KEYS, COMPARISON_SCHEMA_ID, ComparisonSchema, type Comparison } from '../core/compare/contract.ts';
+import { COMPARISON_KEYS, ComparisonSchema, type Comparison } from '../core/compare/contract.ts';
 import { serializeReport } from './serialize.ts';
 
 function ordered(c: Comparison | Record<string, unknown>): Record<string, unknown> {
@@ -22,10 +22,4 @@ export function validateComparison(value: unknown): { ok: boolean; errors: strin
   const json: unknown = value !== null && typeof value === 'object' ? JSON.parse(serializeReport(value as Record<string, unknown>)) : value;
   const result = ComparisonSchema.safeParse(json);
   return result.success ? { ok: true, errors: [] } : { ok: false, errors: result.error.issues.map(describeIssue) };
-}
-
-export function parseComparison(value: unknown, what = 'the comparison'): Comparison {
-  const result = validateComparison(value);
-  if (!result.ok) throw new Error(`${what} is not a valid ${COMPARISON_SCHEMA_ID} document: ${result.errors.slice(0, 5).join('; ')}`);
-  return value as Comparison;
 }

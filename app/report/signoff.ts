@@ -22,7 +22,7 @@ export function sha256Hex(data: string | Uint8Array): string {
   return createHash('sha256').update(data).digest('hex');
 }
 
-export function withoutSignoff(report: JsonObject): JsonObject {
+function withoutSignoff(report: JsonObject): JsonObject {
   const { signoff: _signoff, ...rest } = report;
   return rest;
 }
@@ -77,7 +77,7 @@ function loadEd25519(pem: string, kind: 'private' | 'public'): KeyObject {
   return key;
 }
 
-export function loadPrivateKey(pem: string): KeyObject {
+function loadPrivateKey(pem: string): KeyObject {
   return loadEd25519(pem, 'private');
 }
 

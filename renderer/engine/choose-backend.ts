@@ -12,9 +12,9 @@ declare global {
   }
 }
 
-export const DEMO_LOG_URL = '/sample-data/maple-row-demo.csv';
+const DEMO_LOG_URL = '/sample-data/maple-row-demo.csv';
 /** By its bare name: the local server always looks in the demo folder too (scripts/web/main.ts). */
-export const DEMO_LOG_HOST_NAME = 'maple-row-demo.csv';
+const DEMO_LOG_HOST_NAME = 'maple-row-demo.csv';
 
 let mode: PageMode | null = null;
 

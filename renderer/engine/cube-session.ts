@@ -6,7 +6,7 @@ import { segmentMapSeries } from '../../app/core/segment-map.ts';
 import type { WasmArrowTables } from '../../app/engine/wasm-browser.ts';
 
 /** The table the audit's cube is loaded as in the page's DuckDB-Wasm worker. */
-export const CUBE_TABLE = 'cube';
+const CUBE_TABLE = 'cube';
 
 /**
  * The audit's cube in the page's own DuckDB-Wasm worker (DEVELOPERS.md, "The desktop data path"): the segment map's regroups and

@@ -7,7 +7,7 @@ import { EngineError } from '../../app/engine/types.ts';
  * The host protocol through the preload bridge (Electron IPC to the engine utility process). Messages are
  * structured clones all the way, so the cube's bytes arrive as a Uint8Array.
  */
-export function desktopTransport(api: NonNullable<Window['counterweight']>): Transport {
+function desktopTransport(api: NonNullable<Window['counterweight']>): Transport {
   const closeListeners: ((reason: string) => void)[] = [];
   api.engine.onStatus((status) => {
     if (status.state === 'failed') for (const listener of closeListeners) listener(status.message ?? 'the engine host failed');

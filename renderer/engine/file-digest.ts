@@ -2,7 +2,7 @@ import { sha256 } from '@noble/hashes/sha2.js';
 import { bytesToHex } from '@noble/hashes/utils.js';
 
 /** Bytes read per step: a multi-gigabyte log is hashed without ever being held whole. */
-export const DIGEST_CHUNK = 8 * 1024 * 1024;
+const DIGEST_CHUNK = 8 * 1024 * 1024;
 
 /**
  * SHA-256 (FIPS 180-4) of a Blob read chunk by chunk, with @noble/hashes' incremental hash (the browser's

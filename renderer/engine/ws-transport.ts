@@ -10,7 +10,7 @@ const CONNECT_TIMEOUT_MS = 10_000;
  * The host protocol over a browser WebSocket (app/engine/host/frames.ts: JSON text frames, and one binary
  * frame for the audit result so the cube's Arrow IPC arrives as bytes); arrivals are validated by the client.
  */
-export function webSocketTransport(socket: WebSocket): Transport {
+function webSocketTransport(socket: WebSocket): Transport {
   socket.binaryType = 'arraybuffer';
   const closeListeners: ((reason: string) => void)[] = [];
   socket.addEventListener('close', (event) => {

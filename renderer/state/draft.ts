@@ -32,7 +32,7 @@ export interface AuditDraft {
 
 export const EMPTY_DRAFT: AuditDraft = { roles: {}, segments: [], targets: [], settings: {} };
 
-export function missingRequiredRoles(draft: AuditDraft): SingleRole[] {
+function missingRequiredRoles(draft: AuditDraft): SingleRole[] {
   return REQUIRED_ROLES.filter((r) => !draft.roles[r]);
 }
 
@@ -108,7 +108,7 @@ export function targetProblems(targets: readonly TargetDraft[], actions?: KnownA
 }
 
 /** Confidence below which a suggestion is shown as weak evidence on the Columns screen. */
-export const WEAK_CONFIDENCE = 0.5;
+const WEAK_CONFIDENCE = 0.5;
 
 /** Roles still mapped to a suggestion whose evidence is weak: the person should look before running. */
 export function weakSuggestionProblems(draft: AuditDraft, suggestions: readonly { role: string; column: string; reason: string; confidence: number }[]): DraftProblem[] {

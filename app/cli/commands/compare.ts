@@ -37,12 +37,12 @@ export interface ComparisonOutputs {
   readonly summaryOnStderr?: boolean;
 }
 
-export function comparisonExitCode(c: Comparison, failOn: 'regression' | 'any-change'): number {
+function comparisonExitCode(c: Comparison, failOn: 'regression' | 'any-change'): number {
   const failed = failOn === 'any-change' ? anyChange(c) : c.regression;
   return failed ? EXIT.notSupported : EXIT.supported;
 }
 
-export function outputsFrom(flags: ParsedArgs['flags'], names: { json: string; html: string }): ComparisonOutputs {
+function outputsFrom(flags: ParsedArgs['flags'], names: { json: string; html: string }): ComparisonOutputs {
   return {
     json: stringFlag(flags, names.json),
     html: stringFlag(flags, names.html),

@@ -18,7 +18,7 @@ export const historySpec: CommandSpec = {
 };
 
 /** Every *.json file in the folder that is a Counterweight report; anything else is named and skipped. */
-export function readReportFolder(folder: string, cwd: string, warn: (line: string) => void): LabelledReport[] {
+function readReportFolder(folder: string, cwd: string, warn: (line: string) => void): LabelledReport[] {
   const dir = path.resolve(cwd, folder);
   let names: string[];
   try {

@@ -109,7 +109,7 @@ function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: numbe
 }
 
 /** balance.weights: the weight-balance identity E[1{A=a}/p] = 1 per action, segment, time bucket and version, with BH. */
-export function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
+function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('balance.weights', 'the propensity, action or reward role is missing');
   const cols = ctx.segmentColumns;
   const actions = ctx.view.actions;

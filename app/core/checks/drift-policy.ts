@@ -41,7 +41,7 @@ export interface VersionSwitch {
 }
 
 /** Dominant policy version per bucket, and where it changes. */
-export function versionSwitches(ctx: AuditContext): VersionSwitch[] {
+function versionSwitches(ctx: AuditContext): VersionSwitch[] {
   const b = ctx.buckets;
   if (!b || !ctx.roles.policy_version) return [];
   const per = Array.from({ length: b.count }, () => new Map<string, number>());
@@ -81,7 +81,7 @@ function balanced(w: Window, minEffect: number, alpha: number): boolean {
 }
 
 /** drift.policy: logging-policy drift — action mix over time, PSI first vs last window, version switches. */
-export function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
+function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('drift.policy', 'the propensity, action or reward role is missing');
   const b = ctx.buckets;
   if (!b || b.count < 2) return skipped('drift.policy', ctx.roles.time ? 'the log spans a single time bucket' : 'no time column mapped');

@@ -21,7 +21,7 @@ const MIN_BUCKET_ROWS = 10;
 const TEST_WINDOWS = 8;
 
 /** Merges consecutive buckets into at most `k` windows of (nearly) equal bucket count. */
-export function coarsen(buckets: readonly GroupMoments[], k: number): GroupMoments[] {
+function coarsen(buckets: readonly GroupMoments[], k: number): GroupMoments[] {
   const size = Math.max(1, Math.ceil(buckets.length / k));
   const out: GroupMoments[] = [];
   for (let i = 0; i < buckets.length; i += size) {
@@ -91,7 +91,7 @@ function groupsOf(ctx: AuditContext): RewardGroup[] {
 }
 
 /** drift.reward: reward drift over time within segment × action (chi-square or ANOVA), best change point, BH. */
-export function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
+function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('drift.reward', 'the propensity, action or reward role is missing');
   if (!ctx.buckets || ctx.buckets.count < 2) return skipped('drift.reward', ctx.roles.time ? 'the log spans a single time bucket' : 'no time column mapped');
   const binary = rewardKind(ctx) === 'binary';

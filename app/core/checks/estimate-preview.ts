@@ -46,7 +46,7 @@ export function estimatesFor(t: TargetAnalysis, rewardedRows: number): TargetEst
 }
 
 /** estimate.preview: IPS, SNIPS, DR with 95% CIs per target, the on-policy value, and the detectable difference. */
-export function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
+function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('estimate.preview', 'the propensity, action or reward role is missing');
   const t = ctx.view.total;
   if (t.nRAll < 2) return skipped('estimate.preview', 'fewer than 2 rows have a reward');

@@ -3,7 +3,7 @@ import { literal } from '../sql/quote.ts';
 import { pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 
 /** identity.duplicates: decision ids are unique (exact counts of duplicated ids and rows). */
-export function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
+function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
   const d = ctx.duplicates;
   if (!ctx.roles.decision_id || !d) return skipped('identity.duplicates', 'no decision_id column mapped');
   const rows = Math.max(1, ctx.profile.rows);

@@ -38,7 +38,7 @@ export function explorationBySegment(ctx: AuditContext): SegmentExploration[] {
 }
 
 /** propensity.exploration: segments where the logging policy did not explore. */
-export function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
+function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('propensity.exploration', 'the propensity, action or reward role is missing');
   const segs = explorationBySegment(ctx);
   const rows = Math.max(1, ctx.view.rows);

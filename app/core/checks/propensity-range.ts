@@ -4,7 +4,7 @@ import { concentrate } from './locate.ts';
 import { and, segmentPredicate, validPropensity, windowPredicate } from './predicates.ts';
 
 /** propensity.range: p null, NaN, <= 0, > 1 — counts, share, where and when. */
-export function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
+function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('propensity.range', 'the propensity, action or reward role is missing');
   const t = ctx.view.total;
   const rows = Math.max(1, t.n);

@@ -14,7 +14,7 @@ export function rewardKind(ctx: AuditContext): RewardKind | null {
 }
 
 /** reward.validity: missing rewards (overall and by time), range, kind, non-finite values. */
-export function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
+function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('reward.validity', 'the propensity, action or reward role is missing');
   const t = ctx.view.total;
   const share = t.nRNull / Math.max(1, t.n);

@@ -4,7 +4,7 @@ import { REQUIRED_ROLES, SINGLE_ROLES } from '../roles/roles.ts';
 import { pct, result, type AuditContext, type DraftFinding } from './context.ts';
 
 /** schema.roles: required roles present, typed and parseable; null share per role. */
-export function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
+function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
   const { profile, roles, roleProblems } = ctx;
   const metrics: Metrics = { rows: profile.rows, segment_columns: roles.segments.length };
   const byName = new Map(profile.columns.map((c) => [c.name, c]));

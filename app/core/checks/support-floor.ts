@@ -7,7 +7,7 @@ import { and, segmentPredicate, validPropensity } from './predicates.ts';
 const MAX_FINDINGS = 20;
 
 /** support.floor: minimum propensity by segment × action; share of rows under the floor ε. */
-export function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> {
+function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('support.floor', 'the propensity, action or reward role is missing');
   const eps = ctx.settings['support.floor.epsilon'];
   const maxShare = ctx.settings['support.floor.max_share'];

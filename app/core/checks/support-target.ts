@@ -5,7 +5,7 @@ import { describeSegment, pct, result, segmentRecord, skipped, worst, type Audit
 import { coverByPatterns } from './locate.ts';
 
 /** support.target: share of each target's mass on cells the log never covers (Sachdeva, Su & Joachims 2020). */
-export function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
+function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('support.target', 'the propensity, action or reward role is missing');
   const warnAt = ctx.settings['support.target.warn'];
   const failAt = ctx.settings['support.target.fail'];

@@ -3,7 +3,7 @@ import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type Draf
 import { runs } from './locate.ts';
 
 /** time.coverage: timestamps parse; span; empty buckets (gaps); timestamps in the future. */
-export function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
+function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
   const { buckets, roles } = ctx;
   if (!roles.time) return skipped('time.coverage', 'no time column mapped');
   if (!buckets) return skipped('time.coverage', `time column '${roles.time}' has no parseable timestamps`);

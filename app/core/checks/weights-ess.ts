@@ -23,7 +23,7 @@ export function essSummary(t: TargetAnalysis, tail: readonly number[] | undefine
 }
 
 /** weights.ess: Kish effective sample size (Σw)²/Σw² per target, overall and by segment. */
-export function checkEss(ctx: AuditContext): ReturnType<typeof result> {
+function checkEss(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('weights.ess', 'the propensity, action or reward role is missing');
   const warnFrac = ctx.settings['weights.ess.warn_fraction'];
   const failMin = ctx.settings['weights.ess.fail_min'];

@@ -33,7 +33,7 @@ export function tailSummary(t: TargetAnalysis, tail: readonly number[] | undefin
 }
 
 /** weights.tail: Pareto-smoothed importance sampling shape k̂ of each target's weight tail. */
-export function checkTail(ctx: AuditContext): ReturnType<typeof result> {
+function checkTail(ctx: AuditContext): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('weights.tail', 'the propensity, action or reward role is missing');
   const warnK = ctx.settings['weights.tail.warn_khat'];
   const findings: DraftFinding[] = [];

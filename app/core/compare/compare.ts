@@ -13,7 +13,7 @@ import {
 import { logSpan, matchFindings, segmentKey, type Span } from './match.ts';
 
 /** Two-sided level at which two estimates are said to differ (common practice). */
-export const DEFAULT_ALPHA = 0.05;
+const DEFAULT_ALPHA = 0.05;
 
 export interface CompareOptions {
   readonly alpha?: number;

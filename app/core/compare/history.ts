@@ -57,7 +57,7 @@ type TargetSeries = 'ess' | 'ess_fraction' | 'khat' | 'support_deficit' | 'snips
 
 const num = (x: number | null | undefined): number | null => (typeof x === 'number' && Number.isFinite(x) ? x : null);
 
-export function orderForHistory(reports: readonly LabelledReport[]): LabelledReport[] {
+function orderForHistory(reports: readonly LabelledReport[]): LabelledReport[] {
   const start = (r: Report) => logSpan(r)?.from ?? Number.POSITIVE_INFINITY;
   return [...reports].sort((a, b) => start(a.report) - start(b.report) || (a.report.run.started_at < b.report.run.started_at ? -1 : a.report.run.started_at > b.report.run.started_at ? 1 : 0) || (a.label < b.label ? -1 : a.label > b.label ? 1 : 0));
 }

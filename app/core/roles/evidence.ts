@@ -12,7 +12,7 @@ import type { RunQuery } from '../table.ts';
 /** Largest |B(a) − 1| over a column's values for the identity to count as holding (common practice: the balance check's 0.1, widened for logs with planted or real defects). */
 export const FIT_TOLERANCE = 0.15;
 /** Values holding less than this share of the valid rows do not decide the fit (their B is noisy). */
-export const FIT_MIN_SHARE = 0.01;
+const FIT_MIN_SHARE = 0.01;
 /** Below this many rows with a valid propensity the identity is too noisy to decide a role. */
 export const FIT_MIN_ROWS = 200;
 
@@ -81,12 +81,12 @@ function isProbabilityLike(c: ColumnProfile): boolean {
 }
 
 /** Columns that could hold a logging propensity: values within [0, 1] and not only 0 and 1. */
-export function propensityCandidates(profile: Profile): string[] {
+function propensityCandidates(profile: Profile): string[] {
   return profile.columns.filter((c) => isProbabilityLike(c) && !/target/i.test(c.name)).map((c) => c.name);
 }
 
 /** Columns that could hold the action: text, boolean or integers, with 2 to EVIDENCE_MAX_VALUES values. */
-export function actionCandidates(profile: Profile): string[] {
+function actionCandidates(profile: Profile): string[] {
   return profile.columns
     .filter((c) => (c.kind === 'text' || c.kind === 'boolean' || (c.kind === 'numeric' && c.nonInteger === 0)) && c.distinct >= 2 && c.distinct <= EVIDENCE_MAX_VALUES)
     .filter((c) => c.distinct < 0.5 * Math.max(1, c.distinctRows))

@@ -77,7 +77,7 @@ function inRange(x: number | null, [lo, hi]: number[]): boolean {
   return x !== null && x >= (lo as number) && x < (hi as number);
 }
 
-export function timeEncodingOf(c: ColumnProfile): TimeEncoding | null {
+function timeEncodingOf(c: ColumnProfile): TimeEncoding | null {
   if (c.kind === 'temporal') return 'timestamp';
   if (c.kind === 'text') return c.nonNull > 0 && c.parsedAsTime >= 0.5 * c.nonNull ? 'text' : null;
   if (c.kind === 'numeric' && c.nonInteger === 0) {

@@ -31,7 +31,7 @@ export interface CubeSpec {
 }
 
 /** Propensity-level grouping pays off while the distinct propensities stay this few. */
-export const BY_PROPENSITY_MAX_DISTINCT = 100_000;
+const BY_PROPENSITY_MAX_DISTINCT = 100_000;
 
 /**
  * Whether the cube (and the tails) group rows by propensity first: when the profile counted the

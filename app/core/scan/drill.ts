@@ -21,7 +21,7 @@ export const DRILL_PAGE_ROWS = 200;
 /** Result column holding each row's hash, the last order key; a log column never has this name. */
 export const ROW_HASH = 'cw:row_hash';
 /** Result column holding a text time column parsed as a timestamp, when the time column is text. */
-export const ROW_TIME = 'cw:row_time';
+const ROW_TIME = 'cw:row_time';
 
 export interface DrillRoles {
   readonly time: string | null;
@@ -106,7 +106,7 @@ function valueMatch(column: string, value: string, kept: readonly string[] | und
 }
 
 /** The selection's predicate over the log's own columns. */
-export function drillWhere(spec: DrillSpec): string {
+function drillWhere(spec: DrillSpec): string {
   const { segment, action, where, kept } = spec.selection;
   const parts = Object.entries(segment).map(([c, v]) => valueMatch(c, v, kept?.[c]));
   if (action !== undefined && action !== null) {

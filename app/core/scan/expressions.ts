@@ -26,7 +26,7 @@ const NAMED_WIDTHS: readonly [string, number][] = [
   ['30d', 30 * 24 * HOUR_US],
 ];
 
-export function timeUsExpr(roles: ResolvedRoles, profile: Profile): string | null {
+function timeUsExpr(roles: ResolvedRoles, profile: Profile): string | null {
   if (!roles.time || !roles.timeEncoding) return null;
   const col = ident(roles.time);
   const type = profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() ?? '';
@@ -55,7 +55,7 @@ export function timeRangeUs(roles: ResolvedRoles, profile: Profile): [number, nu
   return c.min === null || c.max === null ? null : [c.min * factor, c.max * factor];
 }
 
-export class BucketSettingError extends Error {}
+class BucketSettingError extends Error {}
 
 /** Smallest named width giving at most maxBuckets buckets, or the width the setting names. */
 export function chooseBuckets(range: [number, number] | null, setting: string | number, maxBuckets: number): TimeBuckets | null {
@@ -97,7 +97,7 @@ export interface RowExpressions {
   readonly decisionId: string | null;
 }
 
-export function textValue(col: string): string {
+function textValue(col: string): string {
   return `coalesce(CAST(${ident(col)} AS VARCHAR), ${literal(NULL_LABEL)})`;
 }
 

@@ -75,7 +75,7 @@ export interface ColumnPlan {
 const NUMERIC = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT|FLOAT|DOUBLE|REAL|DECIMAL(\(\d+,\s*\d+\))?)$/;
 const TEMPORAL = /^(DATE|TIMESTAMP(_S|_MS|_NS)?|TIMESTAMP WITH TIME ZONE|TIMESTAMPTZ)$/;
 
-export function columnKind(type: string): ColumnKind {
+function columnKind(type: string): ColumnKind {
   const t = type.toUpperCase();
   if (NUMERIC.test(t)) return 'numeric';
   if (TEMPORAL.test(t)) return 'temporal';
@@ -280,12 +280,12 @@ function screenedCounts(table: Table, columns: readonly ColumnInfo[]): number[] 
   return columns.map((_, j) => num(table, `c${j}_sc`) ?? 0);
 }
 
-export function prefixSql(relation: string, rows = PREFIX_ROWS): string {
+function prefixSql(relation: string, rows = PREFIX_ROWS): string {
   return `(SELECT * FROM ${relation} LIMIT ${integer(rows)})`;
 }
 
 /** What the whole-log query must measure, given the first rows' profile and screen counts. */
-export function planFromPrefix(prefix: Profile, screened: readonly number[]): ColumnPlan[] {
+function planFromPrefix(prefix: Profile, screened: readonly number[]): ColumnPlan[] {
   return prefix.columns.map((c, j) => ({
     byValue: c.kind !== 'other' && c.distinct <= EXACT_DISTINCT_MAX && c.distinct <= Math.max(1, 0.5 * c.nonNull),
     screen: c.kind === 'text' && (screened[j] ?? 0) > 0,
@@ -293,7 +293,7 @@ export function planFromPrefix(prefix: Profile, screened: readonly number[]): Co
 }
 
 /** The whole-log figures, with the first rows' figures where the plan skipped a measurement. */
-export function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly ColumnPlan[]): Profile {
+function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly ColumnPlan[]): Profile {
   return {
     rows: whole.rows,
     columns: whole.columns.map((c, j) => {

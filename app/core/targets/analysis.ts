@@ -59,7 +59,7 @@ export function cubeView(cells: readonly CubeCell[], segmentColumns: readonly st
 /** q(s, a) for a per-(segment, action) target; undefined where the target does not define segment s. */
 export type Probability = (segment: readonly string[], action: string) => number | undefined;
 
-export function probabilityOf(target: TargetPolicy, view: CubeView): Probability | null {
+function probabilityOf(target: TargetPolicy, view: CubeView): Probability | null {
   switch (target.kind) {
     case 'uniform': {
       const set = new Set(view.actions);

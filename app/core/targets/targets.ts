@@ -95,7 +95,7 @@ export function parseTable(spec: string, path: string, text: string, actionColum
   return { kind: 'table', name: `table:${tableName(path)}`, spec, implicit: false, keyColumns, probabilities, actions: [...actions] };
 }
 
-export function describeKey(columns: readonly string[], key: string): string {
+function describeKey(columns: readonly string[], key: string): string {
   if (columns.length === 0) return 'all rows';
   const values = key.split('\u001f');
   return columns.map((c, i) => `${c}=${values[i]}`).join(', ');
@@ -140,7 +140,7 @@ export function resolveTargets(inputs: readonly TargetInput[], ctx: TargetContex
 }
 
 /** A list of action values in words, the first `max` of them. */
-export function actionList(actions: readonly string[], max = 40): string {
+function actionList(actions: readonly string[], max = 40): string {
   const shown = actions.slice(0, max).map((a) => JSON.stringify(a)).join(', ');
   return actions.length > max ? `${shown} and ${actions.length - max} more` : shown;
 }

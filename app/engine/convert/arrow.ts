@@ -51,7 +51,7 @@ function listRows(data: AnyData, child: Cell[], start: (i: number) => number, en
   return mapRows(data, (i) => child.slice(start(i), end(i)));
 }
 
-export function cellsFromArrowData(data: AnyData): Cell[] {
+function cellsFromArrowData(data: AnyData): Cell[] {
   const type = data.type as DataType;
   const values = data.values as unknown as ArrayLike<number | bigint>;
   switch (type.typeId) {
@@ -155,7 +155,7 @@ export function cellsFromArrowData(data: AnyData): Cell[] {
 }
 
 /** DuckDB's spelling of the logical type an Arrow type came from (inverse of DuckDB's Arrow export). */
-export function duckdbTypeName(type: DataType): string {
+function duckdbTypeName(type: DataType): string {
   const t = type as unknown as Record<string, unknown>;
   switch (type.typeId) {
     case Type.Null: return 'NULL';
@@ -188,7 +188,7 @@ export function duckdbTypeName(type: DataType): string {
   }
 }
 
-export function tableFromArrow(arrow: ArrowTable): Table {
+function tableFromArrow(arrow: ArrowTable): Table {
   const fields = arrow.schema.fields;
   const columns = fields.map((_, j) => {
     const vector = arrow.getChildAt(j);

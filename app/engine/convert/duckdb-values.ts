@@ -14,7 +14,7 @@ import type { DuckDBMaterializedResult, DuckDBResultReader, DuckDBValue } from '
 import type { Cell, Table } from '../../core/table.ts';
 import { bytesToHex, floorDiv, formatDate, formatDecimal, formatTime, formatTimestamp } from './format.ts';
 
-export function cellFromDuckDB(value: DuckDBValue): Cell {
+function cellFromDuckDB(value: DuckDBValue): Cell {
   if (value === null || value === undefined) return null;
   switch (typeof value) {
     case 'boolean': case 'number': case 'bigint': case 'string': return value;

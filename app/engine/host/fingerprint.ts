@@ -4,7 +4,7 @@ import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import type { InputFile } from '../../core/model/report.ts';
 
-export async function fingerprintFile(file: string): Promise<InputFile> {
+async function fingerprintFile(file: string): Promise<InputFile> {
   const info = await stat(file);
   const hash = createHash('sha256');
   for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);

@@ -8,7 +8,7 @@ import type { AsyncBuffer, FileMetaData } from 'hyparquet';
 import { EngineError } from '../types.ts';
 
 /** The message native DuckDB's reader gives for a file without a Parquet footer (app/engine/errors.ts). */
-export function missingFooterMessage(name: string): string {
+function missingFooterMessage(name: string): string {
   return `Cannot read "${name}": it is not a complete Parquet file (the Parquet footer is missing): it may be cut short, or be another format under a .parquet name.`;
 }
 

@@ -45,7 +45,7 @@ export interface LoadedParquet {
 /** Default budget: DuckDB-Wasm is a 32-bit build (4 GiB of memory at most), and the audit's queries need room too. */
 export const DEFAULT_BUDGET_BYTES = 2 * 1024 ** 3;
 
-export function formatBytes(bytes: number): string {
+function formatBytes(bytes: number): string {
   return bytes >= 1024 ** 3 ? `${(bytes / 1024 ** 3).toFixed(1)} GB` : `${Math.max(1, Math.round(bytes / 1024 ** 2))} MB`;
 }
 

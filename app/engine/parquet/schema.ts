@@ -86,7 +86,7 @@ function integerType(e: SchemaElement, physical: 32 | 64): string {
 }
 
 /** Codecs the decoder (parquet-wasm 0.8.0, full build) reads: bench/NOTES.md, "Parquet in DuckDB-Wasm". */
-export const READABLE_CODECS: ReadonlySet<string> = new Set(['UNCOMPRESSED', 'SNAPPY', 'GZIP', 'BROTLI', 'ZSTD', 'LZ4', 'LZ4_RAW']);
+const READABLE_CODECS: ReadonlySet<string> = new Set(['UNCOMPRESSED', 'SNAPPY', 'GZIP', 'BROTLI', 'ZSTD', 'LZ4', 'LZ4_RAW']);
 
 /** A column the in-browser reader cannot decode, with the reason in words; null when every column reads. */
 export function unreadableColumn(metadata: FileMetaData, columns: readonly ParquetColumn[]): { column: string; why: string } | null {
