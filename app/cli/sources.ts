@@ -2,7 +2,7 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { Engine, RegisteredSource } from '../engine/types.ts';
-import { stringFlag, type FlagValues } from './args.ts';
+import { stringFlag, type CommandSpec, type FlagValues } from './args.ts';
 import { UsageError } from './errors.ts';
 
 export type EngineChoice = 'native' | 'wasm';
@@ -10,6 +10,11 @@ const ENGINE_CHOICES: readonly EngineChoice[] = ['native', 'wasm'];
 
 /** The --engine flag every command that opens a log takes. */
 export const ENGINE_FLAG = { kind: 'string', value: 'native|wasm', choices: ENGINE_CHOICES, help: 'native DuckDB (default) or DuckDB-Wasm in Node (CSV/TSV only offline)' } as const;
+
+/** A command that reads one log (its parts as positionals) on the engine `--engine` names. */
+export function logCommand(name: string, summary: string): CommandSpec {
+  return { name, summary, positionals: { name: 'source', min: 1, max: Infinity }, flags: { engine: ENGINE_FLAG } };
+}
 
 export function engineChoice(flags: FlagValues): EngineChoice {
   return (stringFlag(flags, 'engine') ?? 'native') as EngineChoice;

@@ -10,7 +10,7 @@ import { loadCubeSession, type CubeSession } from './cube-session.ts';
 import type { AuditDraft } from '../state/draft.ts';
 import type { AuditBackend, AuditOutcome, LogInput, Progress, RowSelection, RowsRequest } from './backend.ts';
 import { describeFiles } from './digest.ts';
-import { chooseFormat } from './source-files.ts';
+import { formatOfInput } from './source-files.ts';
 import type { OpenedSource } from './status.ts';
 
 export interface EngineBackendOptions {
@@ -78,9 +78,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
     engineKind: engine.kind,
 
     async open(input: LogInput): Promise<OpenedSource> {
-      const names = input.kind === 'paths' ? [...input.paths] : input.files.map((f) => f.name);
-      const choice = chooseFormat(names);
-      if ('error' in choice) throw new Error(choice.error);
+      const { names, choice } = formatOfInput(input);
       const csv = choice.csv ? { csv: choice.csv } : {};
       if (input.kind !== 'files') throw new EngineError('unsupported-format', 'The page\'s own engine reads picked or dropped files; it cannot open a path.');
       const digests = describe(input.files);

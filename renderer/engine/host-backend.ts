@@ -7,7 +7,7 @@ import { EngineError } from '../../app/engine/types.ts';
 import type { AuditDraft } from '../state/draft.ts';
 import type { AuditBackend, AuditOutcome, LogInput, Progress, RowSelection, RowsRequest } from './backend.ts';
 import { cubeSessionOf, sizeMismatch, sourceLabel } from './engine-backend.ts';
-import { chooseFormat } from './source-files.ts';
+import { formatOfInput } from './source-files.ts';
 import type { OpenedSource } from './status.ts';
 
 /**
@@ -32,9 +32,7 @@ export function createHostBackend(engine: HostEngine, options: { readonly cubeTa
     engineKind: engine.kind,
 
     async open(input: LogInput): Promise<OpenedSource> {
-      const names = input.kind === 'paths' ? [...input.paths] : input.files.map((f) => f.name);
-      const choice = chooseFormat(names);
-      if ('error' in choice) throw new Error(choice.error);
+      const { names, choice } = formatOfInput(input);
       if (input.kind === 'files') throw new EngineError('unsupported-format', 'The engine host reads files by name or path; a browser File handle cannot be sent to it.');
       const { source: registered, inputs } = await engine.register({ kind: 'path', paths: names, format: choice.format, ...(choice.csv ? { csv: choice.csv } : {}) });
       if (input.kind === 'named') {

@@ -1,4 +1,5 @@
 import type { CsvOptions, SourceFormat } from '../../app/engine/types.ts';
+import type { LogInput } from './backend.ts';
 
 export interface FileChoice {
   readonly format: SourceFormat;
@@ -37,4 +38,12 @@ export function chooseFormat(names: readonly string[]): FileChoice | { error: st
     return { error: `All parts of a log must share one format; ${mixed.map((c) => c.name).join(', ')} differ from ${names[0]}.` };
   }
   return first;
+}
+
+/** The names of a log's parts, and the one format they share; a mix of formats, or none known, is an error. */
+export function formatOfInput(input: LogInput): { names: string[]; choice: FileChoice } {
+  const names = input.kind === 'paths' ? [...input.paths] : input.files.map((f) => f.name);
+  const choice = chooseFormat(names);
+  if ('error' in choice) throw new Error(choice.error);
+  return { names, choice };
 }

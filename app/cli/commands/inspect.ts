@@ -1,15 +1,10 @@
 import { displayPath } from '../../report/fingerprint.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { useColour, type CliIo } from '../io.ts';
-import { countRows, describeColumns, ENGINE_FLAG, withSources } from '../sources.ts';
+import { countRows, describeColumns, logCommand, withSources } from '../sources.ts';
 import { formatSourceHeader, painter } from '../summary.ts';
 
-export const inspectSpec: CommandSpec = {
-  name: 'inspect',
-  summary: 'Print the row count and the columns (names and types) of a log.',
-  positionals: { name: 'source', min: 1, max: Infinity },
-  flags: { engine: ENGINE_FLAG },
-};
+export const inspectSpec: CommandSpec = logCommand('inspect', 'Print the row count and the columns (names and types) of a log.');
 
 export async function runInspect(args: ParsedArgs, io: CliIo): Promise<number> {
   return withSources(args.flags, args.positionals, io.cwd, async (engine, source) => {

@@ -1,15 +1,10 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import type { CliIo } from '../io.ts';
-import { ENGINE_FLAG, withSources } from '../sources.ts';
+import { logCommand, withSources } from '../sources.ts';
 import { terminalText } from '../terminal-text.ts';
 import { loadAuditCore } from './core.ts';
 
-export const rolesSpec: CommandSpec = {
-  name: 'roles',
-  summary: 'Suggest column roles for a log, with the reason for each (confirm or override them with audit --role).',
-  positionals: { name: 'source', min: 1, max: Infinity },
-  flags: { engine: ENGINE_FLAG },
-};
+export const rolesSpec: CommandSpec = logCommand('roles', 'Suggest column roles for a log, with the reason for each (confirm or override them with audit --role).');
 
 export async function runRoles(args: ParsedArgs, io: CliIo): Promise<number> {
   const core = await loadAuditCore();
