@@ -23,7 +23,7 @@ function reportBody(report: Report): Omit<Report, 'run' | 'signoff'> {
 }
 
 /** SHA-256 of the body's JSON (keys in the report's own order, as the writer produces them). */
-function bodyDigest(report: Report): string {
+export function bodyDigest(report: Report): string {
   return sha256Hex(JSON.stringify(reportBody(report)));
 }
 

@@ -41,7 +41,7 @@ export interface VersionSwitch {
 }
 
 /** Dominant policy version per bucket, and where it changes. */
-function versionSwitches(ctx: AuditContext): VersionSwitch[] {
+export function versionSwitches(ctx: AuditContext): VersionSwitch[] {
   const b = ctx.buckets;
   if (!b || !ctx.roles.policy_version) return [];
   const per = Array.from({ length: b.count }, () => new Map<string, number>());
