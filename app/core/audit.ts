@@ -16,7 +16,8 @@ import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.t
 import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
-import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
+import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
+import { linkRemedies, remediesOf, type TargetClips } from './remedies/index.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
 import { ident } from './sql/quote.ts';
 import type { Cell, RunQuery, Table } from './table.ts';
@@ -211,15 +212,32 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
     }
   }
+  const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
+  const clips = new Map<string, TargetClips>();
+  if (rowsExpr) {
+    for (const t of primaryTargets) {
+      const tail = tails.get(t.target.name);
+      if (!tail || tail.weights.length === 0) continue;
+      guard();
+      // the rows above the tail's smallest listed weight are all listed; when the tail holds every positive weight, all of them
+      const complete = tail.counts.reduce((a, b) => a + b, 0) <= tail.weights.length;
+      const exactAbove = complete ? 0 : (tail.weights[tail.weights.length - 1] as number);
+      const rows = parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(relation, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), true)));
+      clips.set(t.target.name, { exactAbove, rows, maxWeight: tail.weights[0] as number });
+    }
+  }
   progress('tails', true);
   guard();
   progress('checks');
-  const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
   const drafts = runChecks(ctx);
   const checks = await attachExamples(run, record, relation, view, drafts, settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
   progress('checks', true);
-  const { verdict, reasons } = verdictOf(checks);
+  const verdictReasons = verdictOf(checks);
+  const remedies = remediesOf(ctx, clips);
+  const linked = remedies ? linkRemedies(checks, verdictReasons.reasons) : { checks, reasons: verdictReasons.reasons };
+  const verdict = verdictReasons.verdict;
+  const reasons = linked.reasons;
   const report: Report = {
     schema: REPORT_SCHEMA_ID,
     tool: { name: 'counterweight', version: TOOL_VERSION },
@@ -228,9 +246,10 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     settings: settingsReport(settings),
     verdict,
     reasons,
-    checks,
+    checks: linked.checks,
     targets: targets.map((t) => targetSummary(t, tails.get(t.target.name)?.weights, cells)),
     segments: readiness(ctx, checks),
+    ...(remedies ? { remedies } : {}),
     queries,
     cautions: CAUTIONS,
     run: { engine: request.engine, started_at: new Date(started).toISOString(), seconds: (now() - started) / 1000, source_scans: queries.filter((q) => q.scans_source).length, ...(request.peakRssMb ? { peak_rss_mb: request.peakRssMb() } : {}) },

@@ -11,6 +11,7 @@ import { z } from 'zod';
 import type { Cell } from '../table.ts';
 import { REPORT_SCHEMA_ID } from './contract-ids.ts';
 import { CHECK_IDS, type CheckId as RegisteredCheckId } from '../checks/registry.ts';
+import { REMEDY_KINDS } from '../remedies/links.ts';
 
 export { REPORT_SCHEMA_ID };
 
@@ -44,6 +45,9 @@ function list<T extends z.ZodType>(item: T) {
 const nullable = <T extends z.ZodType>(schema: T) => z.union([schema, z.null()]);
 const count = () => z.number().int().min(0);
 const share = () => z.number().min(0).max(1);
+export const RemedyKindSchema = z.enum(REMEDY_KINDS).meta({ id: 'remedyKind' });
+/** The remedies (top-level `remedies`) that address a warning or failing reason or finding. */
+const remedyLinks = () => list(RemedyKindSchema).optional().describe('Remedies (keys of the top-level remedies object) that address this.');
 const ColumnSchema = nullable(z.string()).meta({ id: 'column' });
 const column = () => ColumnSchema;
 
@@ -72,6 +76,7 @@ export const FindingSchema = record({
   examples: list(z.record(z.string(), CellSchema)).optional()
     .describe('The earliest rows behind the finding (by time, then decision id), up to examples.per_finding.'),
   sql: z.string().optional().describe('SQL that selects the rows behind the finding from the source, for re-running.'),
+  remedies: remedyLinks(),
 }).meta({ id: 'finding' });
 export type Finding = z.infer<typeof FindingSchema>;
 
@@ -165,6 +170,7 @@ export const ReasonSchema = record({
   check: CheckIdSchema,
   status: z.enum(['warn', 'fail', 'error']),
   message: z.string(),
+  remedies: remedyLinks(),
 });
 export type Reason = z.infer<typeof ReasonSchema>;
 
@@ -228,6 +234,92 @@ export const RunSchema = record({
   peak_rss_mb: z.number().min(0).optional(),
 }).describe('Timings and engine: the only part of a report allowed to differ between engines and runs.');
 
+// ---- remedies -------------------------------------------------------------------------------------
+
+const PairSchema = record({
+  segment: SegmentSchema,
+  action: z.string(),
+  reason: z.enum(['never logged', 'below floor', 'too few rows']),
+  rows: count(),
+  min_propensity: nullable(z.number()),
+});
+
+export const RestrictedRemedySchema = record({
+  target: z.string(),
+  epsilon: z.number().describe('propensity floor of the region (support.floor.epsilon)'),
+  min_rows: count().describe('rows a segment × action pair needs to be in the region (remedies.support.min_rows)'),
+  pairs: count().describe('segment × action pairs considered'),
+  excluded_count: count(),
+  excluded: list(PairSchema).describe('pairs outside the region (the first remedies.max_listed)'),
+  mass_inside: nullable(share()).describe("share of the target's probability mass on the region; null for a target column"),
+  estimate: EstimateSchema.describe("the target's mean reward over its choices inside the region (SNIPS)"),
+  ips: EstimateSchema,
+  snips: EstimateSchema,
+  dr: EstimateSchema,
+  variant: record({
+    method: z.literal('off-support mass moved to the logging policy\'s choice'),
+    estimate: EstimateSchema.describe('SNIPS of the variant over the whole log'),
+    ips: EstimateSchema,
+    snips: EstimateSchema,
+  }),
+  not_covered: z.string(),
+  notes: list(z.string()),
+});
+export type RestrictedRemedy = z.infer<typeof RestrictedRemedySchema>;
+
+export const CapSchema = record({
+  cap: z.number(),
+  estimate: EstimateSchema,
+  bias_bound: z.number().min(0).describe('max |bias| of the clipped estimate: max(|r_min|, |r_max|) × clipped mass'),
+  bias_low: z.number(),
+  bias_high: z.number(),
+  ess: z.number().min(0),
+  clipped_rows: count(),
+  clipped_mass: z.number().min(0),
+  mse_bound: z.number().min(0).describe('bias_bound² + se²'),
+});
+
+export const CapsRemedySchema = record({
+  target: z.string(),
+  exact_above: z.number().describe('every cap at or above this is exact: the clip query listed every row with a larger weight'),
+  list: list(CapSchema),
+  best: nullable(CapSchema).describe('the cap minimising bias_bound² + se² over the grid and every listed weight'),
+  notes: list(z.string()),
+});
+export type CapsRemedy = z.infer<typeof CapsRemedySchema>;
+
+export const PlanRowSchema = record({
+  target: z.string(),
+  segment: SegmentSchema.describe('empty: the whole log, one share everywhere'),
+  rows_per_day: z.number().min(0),
+  share: share().describe('ε-greedy share η of the next logging policy'),
+  floor: share().describe('the least propensity it guarantees, η / K'),
+  days: nullable(z.number().min(0)).describe('days at the current traffic for the estimate to reach the detectable difference'),
+  rows: nullable(z.number().min(0)),
+  reachable: z.boolean().describe('days ≤ the planned days'),
+  cost: z.number().describe("expected reward lost per decision against the logging policy's own choices"),
+  logging_value: nullable(z.number()),
+  sd: nullable(z.number()),
+  current_floor: nullable(z.number()),
+});
+export type PlanRowReport = z.infer<typeof PlanRowSchema>;
+
+export const RemediesSchema = record({
+  reward_range: record({ min: z.number(), max: z.number(), source: z.string() }),
+  plan_options: record({
+    delta: z.record(z.string(), nullable(z.number())).describe('target -> detectable difference planned for'),
+    power: z.number(),
+    alpha: z.number(),
+    days: z.number(),
+    log_days: nullable(z.number()),
+  }),
+  restricted: list(RestrictedRemedySchema),
+  caps: list(CapsRemedySchema),
+  plan: list(PlanRowSchema),
+  cautions: list(z.string()),
+}).meta({ id: 'remedies' });
+export type Remedies = z.infer<typeof RemediesSchema>;
+
 // ---- the report -----------------------------------------------------------------------------------
 
 /** Top-level keys in the order they are written (app/report/serialize.ts takes its order from here). */
@@ -242,6 +334,7 @@ export const ReportSchema = record({
   checks: z.array(CheckResultSchema).min(CHECK_IDS.length).max(CHECK_IDS.length).readonly(),
   targets: list(TargetSummarySchema),
   segments: list(SegmentReadinessSchema),
+  remedies: RemediesSchema.optional().describe('What would make this usable: computed from the cube and the largest weights'),
   queries: list(QueryRecordSchema),
   cautions: z.array(z.string()).min(1).readonly(),
   run: RunSchema,

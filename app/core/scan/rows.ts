@@ -9,7 +9,7 @@ import { duckdb } from '../sql/dialect-duckdb.ts';
 import { double, ident, integer, literal } from '../sql/quote.ts';
 import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
-import { validPropensity, type RowExpressions } from './expressions.ts';
+import { finiteReward, validPropensity, type RowExpressions } from './expressions.ts';
 
 /**
  * Decision ids held by more than one row, without holding every id. First pass: a 64-bit hash of each id
@@ -171,4 +171,31 @@ export function examplesSql(relation: string, requests: readonly ExampleRequest[
   if (rereadIsCheap) return union;
   const any = requests.map((r) => `(${r.where})`).join(' OR ');
   return `WITH m AS MATERIALIZED (SELECT * FROM ${relation} WHERE ${any})\n${union}`;
+}
+
+/**
+ * The rows behind the weight caps (app/core/remedies/caps.ts): every valid-propensity row whose weight exceeds
+ * `above`, with its reward (NULL when not finite), at most `limit` of them. `above` is the tail's smallest listed
+ * weight (or 0 when the tail listed every positive weight), so the rows are few and exactly determined; nothing is
+ * summed here, so the caps' totals stay the cube's exact ones.
+ */
+export function clipRowsSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): string {
+  const { expr, join } = qExpression(target, rows, segmentColumns, actions);
+  const R = ident('cw:r');
+  const validQ = target.kind === 'column' ? ` AND (${expr}) >= 0 AND (${expr}) <= 1` : '';
+  return [
+    `WITH w AS (`,
+    `  SELECT (${expr}) / ${P} AS w, CASE WHEN ${finiteReward(R)} THEN ${R} END AS r FROM (SELECT *, ${rows.propensity} AS ${P}, ${rows.reward} AS ${R} FROM ${relation}) AS src ${join}`,
+    `  WHERE ${validPropensity(P)}${validQ}`,
+    `)`,
+    `SELECT w, r FROM w WHERE w > ${double(above)} AND isfinite(w) ORDER BY w DESC, r NULLS LAST LIMIT ${integer(limit)}`,
+  ].join('\n');
+}
+
+export function parseClipRows(t: Table): { w: number; r: number | null }[] {
+  const w = t.columns[0] as readonly unknown[];
+  const r = t.columns[1] as readonly unknown[];
+  const out: { w: number; r: number | null }[] = [];
+  for (let i = 0; i < t.rowCount; i++) out.push({ w: Number(w[i]), r: r[i] === null || r[i] === undefined ? null : Number(r[i]) });
+  return out;
 }

@@ -146,13 +146,15 @@ export const DR_MODEL = 'leave-one-out segment × action mean rewards; cells wit
  * the cube has no Σr²/p otherwise, and Σδ²/p ≥ Σδ² (p ≤ 1) is used, which can only widen the interval.
  * V̂ = mean of DRᵢ; SE = sample sd of DRᵢ / √n. Every rewarded row contributes D(sᵢ), so the cells must
  * cover the whole log, q = 0 cells included, and `target` must give probabilities over all `actions`
- * that sum to 1 in every segment.
+ * that sum to 1 in every segment. With `partial`, they may sum to less (a policy restricted to some cells): the
+ * estimate is then of E_π[r·1{(s, a) in those cells}], the same formula with the missing mass earning nothing.
  * Source: Dudík, Langford & Li (2011), ICML, "Doubly robust policy evaluation and learning", eq. (2).
  */
 export function doublyRobust(
   cells: readonly EstimatorCell[],
   target: TargetProbability,
   actions: readonly string[],
+  options: { readonly partial?: boolean } = {},
 ): Estimate {
   const rows = checkCells('doublyRobust', cells);
   checkRowCount('doublyRobust', rows);
@@ -204,7 +206,7 @@ export function doublyRobust(
       d += pi * model(segmentKey, action);
       mass += pi;
     }
-    if (!(Math.abs(mass - 1) <= SUM_TO_ONE_TOLERANCE)) {
+    if (options.partial ? !(mass <= 1 + SUM_TO_ONE_TOLERANCE) : !(Math.abs(mass - 1) <= SUM_TO_ONE_TOLERANCE)) {
       throw new RangeError(`doublyRobust: target probabilities sum to ${mass} in segment ${JSON.stringify(segmentKey)}`);
     }
     directValue.set(segmentKey, d);
