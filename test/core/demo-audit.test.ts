@@ -76,9 +76,10 @@ describe('demo log', () => {
     expect(rows.columns[0]![0]).toBe(f.metrics.invalid_rows);
   });
 
-  it('scans the source at most 5 times plus once per target, and its first rows twice (the profile, and the role evidence when the action is not mapped)', () => {
+  it('scans the source at most 5 times plus once per target and once more per given target (the rows above its weight caps), and its first rows twice (the profile, and the role evidence when the action is not mapped)', () => {
     expect(demo.run.source_scans).toBe(demoScans);
-    expect(demoScans).toBeLessThanOrEqual(5 + 1 + demo.targets.length);
+    expect(demoScans).toBeLessThanOrEqual(5 + 1 + demo.targets.length + (demo.remedies?.caps.length ?? 0));
+    expect(demo.queries.filter((q) => q.name.startsWith('clip ')).map((q) => q.name)).toEqual(['clip table:maple-row-v9-policy']);
     expect(demo.queries.filter((q) => q.scans_source && /\bLIMIT 100000\)/.test(q.sql)).map((q) => q.name)).toEqual(['profile (first rows)', 'role evidence']);
   });
 
@@ -111,5 +112,64 @@ describe('report contract', () => {
 
   it('keeps the SQL of every query it ran', () => {
     expect(demo.queries.map((q) => q.name)).toEqual(expect.arrayContaining(['describe', 'profile', 'cube', 'duplicates', 'examples']));
+  });
+});
+
+describe('demo log remedies', () => {
+  const manifest = readManifest(`${SAMPLE}maple-row-demo.manifest.json`);
+  const exploration = manifest.defects.find((d) => d.kind === 'propensity.exploration')!;
+  const floor = manifest.defects.find((d) => d.kind === 'support.floor')!;
+  const balance = manifest.defects.find((d) => d.kind === 'balance.weights')!;
+  const actions = Object.keys(balance.magnitude.balance_by_action as Record<string, number>);
+  const key = (segment: Record<string, string>, action: string) => `${segment.region}|${segment.device}|${segment.tenure}|${action}`;
+  const within = (segment: Record<string, string>, planted: Record<string, string>) => Object.entries(planted).every(([k, v]) => segment[k] === v);
+
+  it('restricts the estimate to exactly the explored pairs: the manifest\'s greedy segment (every action but the one it always shows) and its below-floor pair are out, nothing else', () => {
+    const restricted = demo.remedies!.restricted[0]!;
+    expect(restricted.excluded_count).toBe(restricted.excluded.length);
+    const excluded = new Set(restricted.excluded.map((c) => key(c.segment, c.action)));
+    const expected = new Set<string>();
+    for (const s of demo.segments) {
+      for (const a of actions) {
+        if ((within(s.segment, exploration.segment) && a !== exploration.action) || (within(s.segment, floor.segment) && a === floor.action)) expected.add(key(s.segment, a));
+      }
+    }
+    expect(expected.size).toBeGreaterThan(20);
+    expect([...excluded].sort()).toEqual([...expected].sort());
+    expect(restricted.mass_inside).toBeGreaterThan(0);
+    expect(restricted.mass_inside).toBeLessThan(1 - demo.targets[0]!.support_deficit + 1e-12);
+    expect(restricted.estimate.ci_low).not.toBeNull();
+    expect(restricted.not_covered).toMatch(/outside the region/);
+  });
+
+  it.each(manifest.defects.map((d) => [d.kind, d] as const))('links the planted %s defect\'s findings and reasons to a remedy', (_kind, defect) => {
+    const found = matchingFindings(demo, defect);
+    expect(found.length).toBeGreaterThan(0);
+    for (const f of found) expect(f.remedies?.length, f.message).toBeGreaterThan(0);
+    for (const id of [defect.kind, ...defect.also_detected_by]) {
+      const reason = demo.reasons.find((r) => r.check === id);
+      if (reason) expect(reason.remedies?.length, reason.message).toBeGreaterThan(0);
+    }
+    const remedyKeys = Object.keys(demo.remedies!);
+    for (const f of found) for (const k of f.remedies!) expect(remedyKeys).toContain(k);
+  });
+
+  it('caps the weights on a grid up to the largest weight, where the cap clips nothing and equals IPS', () => {
+    const caps = demo.remedies!.caps[0]!;
+    expect(caps.list.length).toBeGreaterThan(3);
+    const last = caps.list[caps.list.length - 1]!;
+    expect(last.bias_bound).toBe(0);
+    expect(last.estimate.value).toBeCloseTo(demo.targets[0]!.ips.value!, 12);
+    for (const c of caps.list) expect(c.cap).toBeGreaterThanOrEqual(caps.exact_above);
+    expect(caps.best!.mse_bound).toBeLessThanOrEqual(Math.min(...caps.list.map((c) => c.mse_bound)));
+  });
+
+  it('plans the next log for every segment of the target and for the whole log', () => {
+    const plan = demo.remedies!.plan;
+    expect(plan.filter((r) => Object.keys(r.segment).length === 0)).toHaveLength(1);
+    expect(plan.length).toBe(1 + demo.segments.length);
+    // the greedy segment cannot reach any precision without exploring
+    const greedy = plan.filter((r) => within(r.segment, exploration.segment));
+    expect(greedy.every((r) => r.share > 0)).toBe(true);
   });
 });
