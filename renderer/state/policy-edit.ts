@@ -3,7 +3,7 @@
  * headless command: the preview re-parses that text with the core's own parser, so the numbers shown for an
  * edit are the numbers an audit with the edited file would give.
  */
-import { neutraliseCell } from '../../app/core/targets/csv-cell.ts';
+import { csvField } from '../../app/core/targets/csv-cell.ts';
 import type { TargetPolicy } from '../../app/core/targets/targets.ts';
 
 export type TablePolicy = Extract<TargetPolicy, { kind: 'table' }>;
@@ -48,12 +48,6 @@ export function editProblems(edits: TableEdits, columns: readonly string[]): str
     }
   }
   return problems;
-}
-
-/** One cell: neutralised against spreadsheet formulas (csv-cell.ts), then quoted as RFC 4180 needs. */
-function csvField(raw: string): string {
-  const value = neutraliseCell(raw);
-  return /[",\r\n]/.test(value) || value !== value.trim() ? `"${value.replaceAll('"', '""')}"` : value;
 }
 
 /**

@@ -16,6 +16,7 @@ import { formatAuditSummary, painter } from '../summary.ts';
 import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
 import { loadAuditCore } from './core.ts';
 import { readReport } from './report-file.ts';
+import { planCsv, planJson } from '../../core/remedies/plan-table.ts';
 
 export const auditSpec: CommandSpec = {
   name: 'audit',
@@ -30,6 +31,7 @@ export const auditSpec: CommandSpec = {
     ...MEMORY_FLAGS,
     json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
+    plan: { kind: 'string', value: 'FILE', help: 'write the next-log plan (remedies.plan) as CSV, or JSON when FILE ends in .json' },
     'fail-on': { kind: 'string', value: 'warn|fail', choices: ['warn', 'fail'], help: "exit non-zero on 'fail' (default: exit 2 when not supported) or also on 'warn' (exit 1)" },
     quiet: { kind: 'boolean', help: 'no progress line and no summary' },
     baseline: { kind: 'string', value: 'REPORT.json', help: 'also compare with this earlier report; the exit status is then the comparison\'s (0 no regression, 2 regression)' },
@@ -55,6 +57,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const targets = readTargets(listFlag(flags, 'target'), io.cwd);
   const jsonOut = stringFlag(flags, 'json');
   const htmlOut = stringFlag(flags, 'html');
+  const planOut = stringFlag(flags, 'plan');
   const failOn = (stringFlag(flags, 'fail-on') ?? 'fail') as 'warn' | 'fail';
   const engineChoice = engineChoiceOf(flags);
   const memory = memoryFlags(flags, engineChoice, io.cwd);
@@ -82,7 +85,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     engine = await openEngine(engineChoice, memory);
     stopIfInterrupted();
     const source = await registerSources(engine, positionals, io.cwd);
-    guardOutputs([jsonOut, htmlOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
+    guardOutputs([jsonOut, htmlOut, planOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
     progress.stage('fingerprinting input files');
     const files = await fingerprintFiles(source.files, io.cwd);
     stopIfInterrupted();
@@ -102,10 +105,11 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     progress.stop();
     stopIfInterrupted();
     await writeOutputs(report, jsonOut, htmlOut, io);
+    if (planOut) writeFile(planOut, /\.json$/i.test(planOut) ? planJson(report.remedies) : planCsv(report.remedies), io.cwd);
     if (!quiet) {
       const summaryStream = jsonOut === '-' ? io.stderr : io.stdout;
       summaryStream.write(formatAuditSummary(report, columns, painter(useColour(summaryStream, io.env))));
-      const written = [jsonOut && jsonOut !== '-' ? `JSON report: ${jsonOut}` : '', htmlOut ? `HTML report: ${htmlOut}` : ''].filter(Boolean);
+      const written = [jsonOut && jsonOut !== '-' ? `JSON report: ${jsonOut}` : '', htmlOut ? `HTML report: ${htmlOut}` : '', planOut ? `Next-log plan: ${planOut}` : ''].filter(Boolean);
       if (written.length) summaryStream.write(`${written.join('\n')}\n`);
     }
     if (baseline && baselineFile) {

@@ -12,3 +12,9 @@ export function neutraliseCell(value: string): string {
 export function restoreCell(value: string): string {
   return value.startsWith("'") && FORMULA_START.test(value.slice(1)) ? value.slice(1) : value;
 }
+
+/** One cell: neutralised against spreadsheet formulas, then quoted as RFC 4180 needs. */
+export function csvField(raw: string): string {
+  const value = neutraliseCell(raw);
+  return /[",\r\n]/.test(value) || value !== value.trim() ? `"${value.replaceAll('"', '""')}"` : value;
+}
