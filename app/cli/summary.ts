@@ -1,4 +1,5 @@
 /** The terminal summary of an audit: header (rows, columns), verdict first, then each check. */
+import { remedyLines } from '../report/remedies-text.ts';
 import type { Report, Status, Verdict } from '../core/model/report.ts';
 import { STATUS_LABELS } from '../charts/palette.ts';
 import { SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
@@ -63,5 +64,12 @@ export function formatAuditSummary(report: Report, columns: readonly ColumnInfo[
   }
   out.push('');
   for (const c of report.cautions) out.push(paint.dim(`Note: ${t_(c)}`));
+  if (report.remedies && report.remedies.restricted.length > 0) {
+    out.push('');
+    out.push(paint.bold('What would make this usable'));
+    for (const r of remedyLines(report.remedies)) {
+      for (const line of [r.restricted, r.caps, r.plan]) if (line) out.push(`  ${t_(r.target)}: ${t_(line)}`);
+    }
+  }
   return `${out.join('\n')}\n`;
 }

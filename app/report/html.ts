@@ -3,7 +3,9 @@
  * charts as inline SVG rendered server-side. Every value that came from a log or a report passes through
  * the `html` template tag, which escapes it with escapeHtml.
  */
-import type { CheckResult, Estimate, Finding, Metrics, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
+import type { CheckResult, Estimate, Finding, Metrics, Remedies, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
+import { REMEDY_TITLES } from '../core/remedies/links.ts';
+import { remedyLines } from './remedies-text.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
 import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
@@ -38,6 +40,7 @@ ${tocBlock(report)}
 ${overviewSection(report.checks)}
 ${targetsSection(report.targets, report, chart)}
 ${segmentsSection(report.segments)}
+${remediesSection(report.remedies)}
 <h2 id="checks">Checks</h2>
 ${report.checks.map((c) => checkSection(c, chart))}
 ${settingsSection(report)}
@@ -71,8 +74,41 @@ function verdictSection(report: Report): SafeHtml {
   <p class="label"><span aria-hidden="true">${v.icon}</span> Verdict: ${v.text}</p>
   ${report.reasons.length === 0
     ? html`<p>No check raised a warning or a failure.</p>`
-    : html`<ul>${report.reasons.map((r) => html`<li>${statusBadge(r.status)} <a href="#check-${r.check}"><code>${r.check}</code></a>: ${r.message}</li>`)}</ul>`}
+    : html`<ul>${report.reasons.map((r) => html`<li>${statusBadge(r.status)} <a href="#check-${r.check}"><code>${r.check}</code></a>: ${r.message}${remedyLinks(r.remedies)}</li>`)}</ul>`}
 </section>`;
+}
+
+/** Links from a reason to the remedies that address it (the section below). */
+function remedyLinks(kinds: readonly (keyof typeof REMEDY_TITLES)[] | undefined): SafeHtml | string {
+  if (!kinds || kinds.length === 0) return '';
+  return html` <span class="small">Remedies: ${kinds.map((k, i) => html`${i ? ', ' : ''}<a href="#remedy-${k}">${REMEDY_TITLES[k]}</a>`)}</span>`;
+}
+
+const MAX_PLAN_ROWS = 200;
+
+function remediesSection(remedies: Remedies | undefined): SafeHtml | string {
+  if (!remedies) return '';
+  const lines = remedyLines(remedies);
+  const plan = remedies.plan.slice(0, MAX_PLAN_ROWS);
+  return html`<h2 id="remedies">What would make this usable</h2>
+${lines.map((l) => html`<p><strong>${l.target}</strong></p><ul>${[l.restricted, l.caps, l.plan].filter((x): x is string => x !== null).map((x) => html`<li>${x}</li>`)}</ul>`)}
+<h3 id="remedy-restricted">${REMEDY_TITLES.restricted}</h3>
+<table><thead><tr><th>Target</th><th>Mass inside</th><th>SNIPS</th><th>95% CI</th><th>IPS</th><th>95% CI</th><th>DR</th><th>95% CI</th><th>Supported variant</th><th>95% CI</th></tr></thead><tbody>
+${remedies.restricted.map((r) => html`<tr><td>${r.target}</td><td class="num">${fmtShare(r.mass_inside)}</td>${estimateCells(r.snips)}${estimateCells(r.ips)}${estimateCells(r.dr)}${estimateCells(r.variant.estimate)}</tr>`)}
+</tbody></table>
+${remedies.restricted.map((r) => html`<p class="muted">${r.target}: ${r.not_covered} The supported variant: ${r.variant.method}.</p>`)}
+<h3 id="remedy-caps">${REMEDY_TITLES.caps}</h3>
+<table><thead><tr><th>Target</th><th>Cap</th><th>Clipped IPS</th><th>95% CI</th><th>Bias bound</th><th>ESS</th><th>Rows clipped</th><th>MSE bound</th></tr></thead><tbody>
+${remedies.caps.flatMap((c) => [...c.list, ...(c.best ? [c.best] : [])].map((x, i) => html`<tr><td>${c.target}${c.best && i === c.list.length ? ' (least MSE bound)' : ''}</td><td class="num">${fmtNumber(x.cap)}</td>${estimateCells(x.estimate)}<td class="num">${fmtNumber(x.bias_bound)}</td><td class="num">${fmtNumber(x.ess)}</td><td class="num">${fmtNumber(x.clipped_rows)}</td><td class="num">${fmtNumber(x.mse_bound)}</td></tr>`))}
+</tbody></table>
+<p class="muted">Rewards assumed within [${fmtNumber(remedies.reward_range.min)}, ${fmtNumber(remedies.reward_range.max)}] (${remedies.reward_range.source}).</p>
+<h3 id="remedy-plan">${REMEDY_TITLES.plan}</h3>
+<p>At ${fmtShare(remedies.plan_options.power)} power and two-sided α = ${fmtNumber(remedies.plan_options.alpha)}, within ${fmtNumber(remedies.plan_options.days)} days.</p>
+<table><thead><tr><th>Target</th><th>Segment</th><th>Rows per day</th><th>ε-greedy share</th><th>Floor</th><th>Days</th><th>Reachable</th><th>Cost per decision</th></tr></thead><tbody>
+${plan.map((p) => html`<tr><td>${p.target}</td><td>${Object.keys(p.segment).length ? fmtSegment(p.segment) : 'whole log'}</td><td class="num">${fmtNumber(p.rows_per_day)}</td><td class="num">${fmtNumber(p.share)}</td><td class="num">${fmtNumber(p.floor)}</td><td class="num">${fmtNumber(p.days)}</td><td>${p.reachable ? 'yes' : 'no'}</td><td class="num">${fmtNumber(p.cost)}</td></tr>`)}
+</tbody></table>
+${remedies.plan.length > plan.length ? html`<p class="muted">${remedies.plan.length - plan.length} more plan rows are in the JSON report.</p>` : ''}
+${cautionsBlock(remedies.cautions)}`;
 }
 
 function cautionsBlock(cautions: readonly string[]): SafeHtml {
@@ -82,7 +118,7 @@ function cautionsBlock(cautions: readonly string[]): SafeHtml {
 function tocBlock(report: Report): SafeHtml {
   return html`<nav class="toc"><ol>
 <li><a href="#overview">Checks at a glance</a></li><li><a href="#targets">Targets and estimates</a></li>
-<li><a href="#segments">Segment readiness</a></li><li><a href="#checks">Checks in detail</a></li>
+<li><a href="#segments">Segment readiness</a></li>${report.remedies ? html`<li><a href="#remedies">What would make this usable</a></li>` : ''}<li><a href="#checks">Checks in detail</a></li>
 <li><a href="#settings">Settings</a></li><li><a href="#roles">Column roles</a></li>
 <li><a href="#input">Input fingerprint</a></li><li><a href="#queries">Queries</a></li>
 <li><a href="#signoff">Sign-off</a>${report.signoff ? '' : ' (not signed)'}</li></ol></nav>`;
