@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useRef, useState } from 'react';
+import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { CheckId, Report } from '../app/core/model/report.ts';
 import { useEngine } from './engine/EngineProvider.tsx';
 import { sourceOf } from './engine/status.ts';
@@ -17,6 +17,8 @@ import { SignoffPanel } from './panels/SignoffPanel.tsx';
 import { TargetEditor } from './screens/TargetEditor.tsx';
 import { CompareScreen } from './screens/CompareScreen.tsx';
 import { HistoryScreen } from './screens/HistoryScreen.tsx';
+import { RemediesScreen } from './screens/RemediesScreen.tsx';
+import type { RemedyKind } from '../app/core/remedies/links.ts';
 import type { LabelledReport } from '../app/core/compare/history.ts';
 import type { Baseline } from './state/comparison.ts';
 import { draftFromSuggestions } from './state/from-suggestions.ts';
@@ -105,6 +107,9 @@ export function App() {
     void saveCurrentAudit({ label: labelOf(source?.label ?? restoredLabel.current, signed), report: signed });
   }, [source]);
   const openCheck = useCallback((id: CheckId) => setView({ screen: 'check', id }), []);
+  const openRemedies = useCallback((focus: RemedyKind) => setView({ screen: 'remedies', focus }), []);
+  const workspace = status.kind === 'done' ? status.workspace : undefined;
+  const planWorkspace = useMemo(() => (workspace ? { cells: workspace.cells, targets: workspace.targets, logColumns: workspace.profile.columns.map((c) => c.name) } : undefined), [workspace]);
   // Going back to "Open a log" keeps the current audit: it is replaced only when another log is opened.
   const go = useCallback((next: View) => setView(next), [setView]);
 
@@ -132,11 +137,12 @@ export function App() {
     }
     if (!report) return null;
     switch (view.screen) {
-      case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} onCompare={() => setView({ screen: 'compare' })} />;
+      case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} onCompare={() => setView({ screen: 'compare' })} onRemedies={openRemedies} />;
       case 'check': {
         const check = report.checks.find((c) => c.id === view.id);
-        return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} /> : null;
+        return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} onRemedies={report.remedies ? openRemedies : undefined} /> : null;
       }
+      case 'remedies': return <RemediesScreen report={report} workspace={planWorkspace} focus={view.focus} />;
       case 'segments': return <SegmentMap report={report} workspace={status.kind === 'done' ? status.workspace : undefined} />;
       case 'weights': return <WeightsPanel report={report} onOpenCheck={openCheck} />;
       case 'drift': return <DriftPanel report={report} onOpenCheck={openCheck} />;
@@ -173,7 +179,7 @@ export function App() {
   );
 }
 
-const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'weights', 'drift', 'estimates', 'edit', 'signoff', 'compare', 'check']);
+const RESULT_SCREENS: ReadonlySet<string> = new Set(['overview', 'segments', 'weights', 'drift', 'estimates', 'remedies', 'edit', 'signoff', 'compare', 'check']);
 
 /** What the audit is called on the Open screen: the log's label, or its files' names. */
 function labelOf(label: string | null, report: Report): string {

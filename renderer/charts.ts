@@ -1,6 +1,6 @@
 import type { EChartsCoreOption } from 'echarts';
-import { chartForSeries as buildSeries, chartHeight, estimatesOption, historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../app/charts/index.ts';
-import type { ChartHistorySegment, ChartHistoryTarget } from '../app/charts/types.ts';
+import { capsOption, chartForSeries as buildSeries, chartHeight, estimatesOption, historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../app/charts/index.ts';
+import type { ChartCap, ChartHistorySegment, ChartHistoryTarget } from '../app/charts/types.ts';
 import type { Series, TargetSummary } from '../app/core/model/report.ts';
 import { formatValue } from './format.ts';
 
@@ -72,4 +72,9 @@ export function chartsForHistoryTarget(labels: readonly string[], target: ChartH
 
 export function chartForHistorySegments(labels: readonly string[], segments: readonly ChartHistorySegment[]): EChartsCoreOption {
   return withoutTitle(historySegmentsOption(labels, segments));
+}
+
+/** The weight-cap trade-off of one target (app/charts/remedies.ts). */
+export function chartForCaps(target: string, caps: readonly ChartCap[], best: ChartCap | null): EChartsCoreOption {
+  return withoutTitle(capsOption(target, caps, best));
 }

@@ -31,3 +31,4 @@ export function chartHeight(series: ChartSeries): number {
   return rankedHeight(series) ?? 300;
 }
 export { historyEstimateOption, historySegmentsHeight, historySegmentsOption, historyWeightsOption, segmentName } from './history.ts';
+export { capLabel, capsOption } from './remedies.ts';

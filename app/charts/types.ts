@@ -57,3 +57,11 @@ export interface ChartHistorySegment {
   readonly segment: Readonly<Record<string, string>>;
   readonly statuses: readonly (string | null)[];
 }
+
+/** One cap of the weight-cap trade-off (the report's remedies.caps[].list entries). */
+export interface ChartCap {
+  readonly cap: number;
+  readonly estimate: ChartEstimate;
+  readonly bias_bound: number;
+  readonly ess: number;
+}

@@ -1,9 +1,11 @@
 import type { CheckId, CheckResult } from '../../app/core/model/report.ts';
+import type { RemedyKind } from '../../app/core/remedies/links.ts';
 import { STATUS_STYLE } from '../palette.ts';
 
 export type View =
   | { readonly screen: 'open' | 'roles' | 'targets' | 'run' | 'overview' | 'segments' | 'weights' | 'drift' | 'estimates' | 'edit' | 'signoff' | 'compare' | 'history' }
-  | { readonly screen: 'check'; readonly id: CheckId };
+  | { readonly screen: 'check'; readonly id: CheckId }
+  | { readonly screen: 'remedies'; readonly focus?: RemedyKind };
 
 interface Props {
   readonly view: View;
@@ -27,6 +29,7 @@ const RESULTS = [
   { screen: 'weights', label: 'Weights & support' },
   { screen: 'drift', label: 'Drift' },
   { screen: 'estimates', label: 'Estimates' },
+  { screen: 'remedies', label: 'Remedies' },
   { screen: 'edit', label: 'Edit a target' },
   { screen: 'signoff', label: 'Sign-off' },
   { screen: 'compare', label: 'Compare' },

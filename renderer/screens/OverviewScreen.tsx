@@ -3,6 +3,8 @@ import { StatusBadge } from '../components/StatusBadge.tsx';
 import { shownStatus } from '../../app/charts/labels.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { Cautions } from '../components/Cautions.tsx';
+import { RemedyLinks } from '../components/RemedyLinks.tsx';
+import type { RemedyKind } from '../../app/core/remedies/links.ts';
 
 const VERDICT_SENTENCE: Record<Report['verdict'], string> = {
   supported: 'No check found a problem that would undermine an off-policy estimate from this log.',
@@ -19,7 +21,7 @@ function withoutTitle(message: string, title: string): string {
   return message.startsWith(`${title}: `) ? message.slice(title.length + 2) : message;
 }
 
-export function OverviewScreen({ report, onOpenCheck, onCompare }: { report: Report; onOpenCheck: (id: CheckId) => void; onCompare?: () => void }) {
+export function OverviewScreen({ report, onOpenCheck, onCompare, onRemedies }: { report: Report; onOpenCheck: (id: CheckId) => void; onCompare?: () => void; onRemedies?: (kind: RemedyKind) => void }) {
   const counts = { fail: 0, error: 0, warn: 0, pass: 0, skipped: 0 };
   for (const c of report.checks) counts[c.status]++;
   return (
@@ -42,7 +44,10 @@ export function OverviewScreen({ report, onOpenCheck, onCompare }: { report: Rep
                 <li key={i}>
                   <span><StatusBadge status={r.status} /></span>
                   <button type="button" className="button link" onClick={() => onOpenCheck(r.check)}>{titleOf(report, r.check)}</button>
-                  <span>{withoutTitle(r.message, titleOf(report, r.check))}</span>
+                  <span>
+                    {withoutTitle(r.message, titleOf(report, r.check))}
+                    {onRemedies && report.remedies && <div><RemedyLinks kinds={r.remedies} onRemedies={onRemedies} about={titleOf(report, r.check)} /></div>}
+                  </span>
                 </li>
               ))}
             </ul>

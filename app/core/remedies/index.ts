@@ -71,7 +71,7 @@ function capReport(c: ClippedEstimate) {
   };
 }
 
-function planRow(target: string, columns: readonly string[], r: PlanRow): PlanRowReport {
+export function planRow(target: string, columns: readonly string[], r: PlanRow): PlanRowReport {
   return {
     target,
     segment: segmentRecord(columns, r.segment),
