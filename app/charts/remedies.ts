@@ -23,7 +23,7 @@ export function capsOption(target: string, caps: readonly ChartCap[], best: Char
   return {
     ...baseOption(`${target}: capped estimate (95% CI) and its bias bound, by cap`),
     legend: { data: ['capped IPS', '95% CI', 'bias bound'], bottom: 0 },
-    xAxis: { type: 'log', name: 'cap M on the weights (log scale)', nameLocation: 'middle', nameGap: 28, axisLabel: { formatter: (v: number) => capLabel(v) } },
+    xAxis: { type: 'log', min: 'dataMin', max: 'dataMax', name: 'cap M on the weights (log scale)', nameLocation: 'middle', nameGap: 28, axisLabel: { formatter: (v: number) => capLabel(v) } },
     yAxis: [
       { type: 'value', scale: true, name: 'estimate' },
       { type: 'value', name: 'bias bound', min: 0, splitLine: { show: false } },
