@@ -2,13 +2,13 @@ import { useEffect, useMemo, useState } from 'react';
 import type { PlanRowReport, Report } from '../../app/core/model/report.ts';
 import { REMEDY_TITLES, type RemedyKind } from '../../app/core/remedies/links.ts';
 import { capLabel } from '../../app/charts/index.ts';
-import { planCsv, planJson } from '../../app/report/plan-export.ts';
+import { planCsv, planJson } from '../../app/core/remedies/plan-table.ts';
 import { chartForCaps } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
 import { downloadText } from '../export/report-file.ts';
 import { formatShare, formatValue, segmentLabel } from '../format.ts';
 import type { PlanOptions } from '../../app/core/remedies/plan.ts';
-import { planExportOf, planInputsByTarget, timedPlan, type PlanWorkspace, type TimedPlan } from '../state/remedies-plan.ts';
+import { planInputsByTarget, remediesWithPlan, timedPlan, type PlanWorkspace, type TimedPlan } from '../state/remedies-plan.ts';
 
 interface Props {
   readonly report: Report;
@@ -86,7 +86,7 @@ function PlanSection({ report, target, workspace }: { report: Report; target: st
     const next = { ...options, ...patch };
     setState({ options: next, timed: inputs && next.delta > 0 ? timedPlan(inputs, next) : null });
   };
-  const exported = useMemo(() => (inputs && timed?.plan ? planExportOf(inputs, timed.plan) : null), [inputs, timed]);
+  const exported = useMemo(() => (inputs && timed?.plan ? remediesWithPlan(remedies, inputs, timed.plan) : null), [remedies, inputs, timed]);
   const reportRows = remedies.plan.filter((r) => r.target === target);
 
   if (delta0 === null) return <p className="muted">No plan: this target has no detectable difference to start from (its estimate has no standard error).</p>;
@@ -125,7 +125,7 @@ function PlanSection({ report, target, workspace }: { report: Report; target: st
             <button type="button" className="button small" onClick={() => downloadText(planCsv(exported), `${fileStem}.csv`, 'text/csv')}>Export plan CSV</button>{' '}
             <button type="button" className="button small" onClick={() => downloadText(planJson(exported), `${fileStem}.json`)}>Export plan JSON</button>
           </p>
-          <PlanTable rows={exported.rows} testId="plan-table" />
+          <PlanTable rows={exported.plan} testId="plan-table" />
         </>
       )}
     </>

@@ -3,11 +3,10 @@
  * core's planInputs once per target, then the core's planNextLog for every slider position. No engine request.
  */
 import type { CubeCell } from '../../app/core/cube/types.ts';
-import type { Report } from '../../app/core/model/report.ts';
+import type { Remedies, Report } from '../../app/core/model/report.ts';
 import { planInputs, planNextLog, planRow, type Plan, type PlanInputs, type PlanOptions } from '../../app/core/remedies/index.ts';
 import { analyseTarget, cubeView } from '../../app/core/targets/analysis.ts';
 import { parseTarget, type TargetInput } from '../../app/core/targets/targets.ts';
-import type { PlanExport } from '../../app/report/plan-export.ts';
 
 export interface PlanWorkspace {
   readonly cells: readonly CubeCell[];
@@ -59,8 +58,13 @@ export function timedPlan(inputs: PlanInputs, options: PlanOptions): TimedPlan {
   }
 }
 
-/** The plan as the report writes its rows (overall first, then each segment), for the table and the exports. */
-export function planExportOf(inputs: PlanInputs, plan: Plan): PlanExport {
+/**
+ * The report's remedies with the plan the sliders chose in place of the audit's (rows overall first, then each
+ * segment, as the audit writes them): what the table shows and the exports write, through the same writers as
+ * `audit --plan` (app/core/remedies/plan-table.ts).
+ */
+export function remediesWithPlan(remedies: Remedies, inputs: PlanInputs, plan: Plan): Remedies {
   const rows = [plan.overall, ...plan.segments].map((r) => planRow(inputs.target, inputs.segmentColumns, r));
-  return { target: inputs.target, options: plan.options, target_se: plan.targetSe, ab_rows_per_arm: plan.abRowsPerArm, segment_columns: inputs.segmentColumns, rows };
+  const { delta, power, alpha, days } = plan.options;
+  return { ...remedies, plan_options: { ...remedies.plan_options, delta: { [inputs.target]: delta }, power, alpha, days }, plan: rows };
 }

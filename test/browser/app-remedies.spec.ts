@@ -5,17 +5,61 @@
  * report the engine produced, exported as the sign-off screen exports it); moving a slider updates the plan table
  * in under 250 ms (performance.now in the page) with no message to the engine worker or socket; the plan exports as
  * CSV and JSON; axe finds no serious violation. Screenshots at 1280×800 go to test-results/screens/.
+ *
+ * The page is the production build (`vite build`, served by `vite preview`), as the desktop app and `npm run web`
+ * serve it: the dev server's React runs every render twice (StrictMode) with its development checks, which
+ * measures the dev server rather than the screen.
  */
-import { readFileSync } from 'node:fs';
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { mkdtempSync, readFileSync } from 'node:fs';
+import { createServer } from 'node:net';
+import os from 'node:os';
 import path from 'node:path';
 import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
 import type { Report } from '../../app/core/model/report.ts';
+import { PLAN_COLUMNS } from '../../app/core/remedies/plan-table.ts';
 import { hostedPage } from './hosted-page.ts';
 
 const SAMPLE = path.join(process.cwd(), 'sample-data');
 const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
 const MAX_MS = 250;
+
+let preview: ChildProcess | undefined;
+let origin = '';
+
+async function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const server = createServer();
+    server.once('error', reject);
+    server.listen(0, '127.0.0.1', () => {
+      const address = server.address();
+      server.close(() => resolve(typeof address === 'object' && address ? address.port : 0));
+    });
+  });
+}
+
+test.beforeAll(async () => {
+  test.setTimeout(240_000);
+  const out = mkdtempSync(path.join(os.tmpdir(), 'cw-remedies-build-'));
+  const build = spawnSync(process.execPath, ['node_modules/vite/bin/vite.js', 'build', '--outDir', out, '--emptyOutDir', '--logLevel', 'error'], { cwd: process.cwd(), encoding: 'utf8', timeout: 200_000 });
+  expect(build.status, build.stderr).toBe(0);
+  const port = await freePort();
+  origin = `http://127.0.0.1:${port}`;
+  preview = spawn(process.execPath, ['node_modules/vite/bin/vite.js', 'preview', '--outDir', out, '--host', '127.0.0.1', '--port', String(port), '--strictPort'], { cwd: process.cwd(), stdio: 'ignore' });
+  const until = Date.now() + 60_000;
+  for (;;) {
+    try {
+      if ((await fetch(`${origin}/`)).ok) break;
+    } catch {
+      // not listening yet
+    }
+    if (Date.now() > until) throw new Error('vite preview did not start within 60 s');
+    await new Promise((resolve) => setTimeout(resolve, 250));
+  }
+});
+
+test.afterAll(() => { preview?.kill(); });
 
 declare global {
   interface Window { __cwSent: number }
@@ -92,9 +136,9 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
 
   // At the report's own options the page's plan is the report's plan, row for row.
   const [jsonDownload] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export plan JSON' }).click()]);
-  const exported = JSON.parse(readFileSync(await jsonDownload.path(), 'utf8')) as { schema: string; target: string; rows: unknown[] };
-  expect(exported.schema).toBe('counterweight.plan/1');
-  expect(exported.target).toBe(target);
+  // The same writer as `audit --plan FILE.json` (app/core/remedies/plan-table.ts).
+  const exported = JSON.parse(readFileSync(await jsonDownload.path(), 'utf8')) as { options: NonNullable<Report['remedies']>['plan_options']; rows: unknown[] };
+  expect(exported.options).toEqual({ ...report.remedies!.plan_options, delta: { [target]: report.remedies!.plan_options.delta[target] } });
   expect(exported.rows).toEqual(report.remedies!.plan.filter((r) => r.target === target));
   await expect(planRows(page)).toHaveCount(exported.rows.length);
   // The restricted estimate and the caps are the report's.
@@ -113,8 +157,8 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
   await noSeriousViolations(page, `remedies (${mode})`);
 
   // Sliders: each move updates the table from the cube in the page, quickly, and sends the engine nothing. Each
-  // slider is moved three times and its fastest move is held to the limit: the machine these tests share is
-  // loaded by other work, and a move's slowest time measures that load as much as the page.
+  // slider is moved three times and its median move is held to the limit: the machine these tests share is
+  // loaded by other work, and a single move's time measures that load as much as the page.
   const firstDays = await planRows(page).first().locator('td').nth(4).textContent();
   const delta = Number(await page.locator('#plan-delta').getAttribute('min'));
   const timings: number[] = [];
@@ -126,7 +170,7 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
       moves.push(moved.ms);
     }
     console.log(`${mode} ${id}: ${moves.map((t) => t.toFixed(1)).join(', ')} ms`);
-    expect(Math.min(...moves), `${id}: ms until the table showed the new plan (fastest of 3)`).toBeLessThan(MAX_MS);
+    expect([...moves].sort((a, b) => a - b)[1], `${id}: ms until the table showed the new plan (median of 3)`).toBeLessThan(MAX_MS);
     timings.push(...moves);
   }
   await expect(page.getByTestId('plan-days-value')).toHaveText('7 days');
@@ -134,7 +178,7 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
 
   const [csvDownload] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export plan CSV' }).click()]);
   const csv = readFileSync(await csvDownload.path(), 'utf8').trimEnd().split('\r\n');
-  expect(csv[0]).toBe(['target', ...report.roles.segments, 'rows_per_day', 'share', 'floor', 'days', 'rows', 'reachable', 'cost', 'logging_value', 'current_floor'].join(','));
+  expect(csv[0]).toBe(PLAN_COLUMNS.join(','));
   expect(csv).toHaveLength(exported.rows.length + 1);
   return timings;
 }
@@ -142,14 +186,14 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
 test('standalone web mode: remedies from every reason, plan sliders recomputed in the page', async ({ page }) => {
   test.setTimeout(300_000);
   await countEngineMessages(page);
-  await page.goto('/');
+  await page.goto(`${origin}/`);
   await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-demo.csv'));
   const timings = await remediesScreen(page, 'standalone');
   console.log(`standalone slider updates (ms): ${timings.map((t) => t.toFixed(1)).join(', ')}`);
 });
 
 test.describe('hosted web mode', () => {
-  const hosted = hostedPage([SAMPLE]);
+  const hosted = hostedPage([SAMPLE], () => origin);
   test('remedies from every reason, plan sliders recomputed in the page', async ({ page }) => {
     test.setTimeout(300_000);
     await countEngineMessages(page);

@@ -4,17 +4,18 @@ import { newToken } from '../../scripts/web/access.ts';
 import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-server.ts';
 import { PAGE_ORIGIN } from './page-origin.ts';
 
-export function hostedPage(logFolders: string[]): { open(page: Page): Promise<void> } {
+/** `origin()` is the page's origin, the only one the socket answers (default: the dev server's). */
+export function hostedPage(logFolders: string[], origin: () => string = () => PAGE_ORIGIN): { open(page: Page): Promise<void> } {
   let server: HostedServer | undefined;
   let token = '';
   test.beforeAll(async () => {
     token = newToken();
-    server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders });
+    server = await createHostedServer({ port: 0, token, origin: origin(), logFolders });
   });
   test.afterAll(async () => server?.close());
   return {
     async open(page) {
-      await page.goto(`/#host=${encodeURIComponent(server!.socketUrl)}&token=${token}`);
+      await page.goto(`${origin()}/#host=${encodeURIComponent(server!.socketUrl)}&token=${token}`);
       await expect(page.getByText('Engine: native DuckDB on this computer')).toBeVisible();
     },
   };
