@@ -4,6 +4,7 @@ import type { Series, TargetSummary } from '../../../app/core/model/report.ts';
 import { chartForSeries, estimatesOption, heatmapOption, withSelectedCell, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
 import type { ChartHistorySegment, ChartHistoryTarget, ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
 import { historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../../../app/charts/history.ts';
+import { capsOption } from '../../../app/charts/remedies.ts';
 import type { History } from '../../../app/core/compare/history.ts';
 import { renderSvg } from '../../../app/report/svg.ts';
 
@@ -154,5 +155,20 @@ describe('history charts', () => {
     const label = (seriesOf(o)[0]?.label as { formatter: (p: { value: number[] }) => string }).formatter;
     expect(label({ value: [1, 0, 2] })).toBe('✕ FAIL');
     expect(renderSvg(o, 600, 300)).toContain('old-town');
+  });
+});
+
+describe('weight-cap chart', () => {
+  const cap = (m: number, value: number, bias: number) => ({ cap: m, estimate: { value, ci_low: value - 0.01, ci_high: value + 0.01 }, bias_bound: bias, ess: 100 * m });
+  it('draws estimate, interval bounds and bias bound against the cap on a log axis, with the least-MSE cap added in order and marked', () => {
+    const o = capsOption('v9', [cap(2, 0.3, 0.05), cap(10, 0.32, 0.01)], cap(5, 0.31, 0.02));
+    expect((o.xAxis as Obj).type).toBe('log');
+    const s = seriesOf(o);
+    expect(s.map((x) => x.name)).toEqual(['95% CI', '95% CI', 'capped IPS', 'bias bound']);
+    expect(s[2]?.data).toEqual([[2, 0.3], [5, 0.31], [10, 0.32]]);
+    expect(s[3]?.yAxisIndex).toBe(1);
+    expect(s[3]?.data).toEqual([[2, 0.05], [5, 0.02], [10, 0.01]]);
+    expect(((s[2]?.markLine as Obj).data as Obj[])[0]).toEqual({ xAxis: 5 });
+    expect(renderSvg(o, 600, 300)).toContain('least MSE bound');
   });
 });
