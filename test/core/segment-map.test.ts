@@ -45,7 +45,8 @@ it('refuses a column that is not a segment of the audit', () => {
 });
 
 it('keys every row of the map by its segment, and the key selects the rows the cell counts', async () => {
-  const reportMap = audit.report.checks.flatMap((c) => c.series ?? []).find((s) => s.kind === 'heatmap' && s.unit === 'rows');
+  // the report's map (the exploration layer) holds each action's share of its segment's rows; the regrouped map counts rows
+  const reportMap = audit.report.checks.flatMap((c) => c.series ?? []).find((s) => s.kind === 'heatmap' && s.unit === "share of the segment's rows");
   const [regrouped] = segmentMap(audit.cells, audit.report.roles.segments, ['device', 'region']);
   for (const series of [reportMap!, regrouped!]) {
     const keys = series.segment_keys!;
@@ -57,9 +58,12 @@ it('keys every row of the map by its segment, and the key selects the rows the c
       expect(segment.map((p) => p.value).join(' · ')).toBe(series.y![r]);
       const where = segment.map((p) => `CAST("${p.column}" AS VARCHAR) = '${p.value.replace(/'/g, "''")}'`).join(' AND ');
       const t = await engine.query(`SELECT promotion, count(*)::DOUBLE AS n FROM ${relation} WHERE ${where} GROUP BY ALL`);
+      const total = (t.columns[1] as number[]).reduce((a, b) => a + b, 0);
+      const share = series.unit !== 'rows';
       for (let i = 0; i < t.rowCount; i++) {
         const c = series.x.indexOf(String(t.columns[0]![i]));
-        if (c >= 0) expect(series.values[r]![c]).toBe(t.columns[1]![i]);
+        const n = t.columns[1]![i] as number;
+        if (c >= 0) expect(series.values[r]![c]).toBe(share ? n / total : n);
       }
     }
   }
