@@ -34,7 +34,10 @@ function zMapOption(series: ChartSeries): ChartOption {
     legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false },
     xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
     yAxis: segmentAxis(series, ys),
-    visualMap: { type: 'continuous', seriesIndex: 0, min: -bound, max: bound, calculable: false, orient: 'horizontal', left: 'center', bottom: 24, inRange: { color: [...DIVERGING_RAMP] }, text: [`z ≥ +${bound} (more weight than expected)`, `z ≤ −${bound} (less)`] },
+    visualMap: [
+      { type: 'continuous', seriesIndex: 0, min: -bound, max: bound, calculable: false, orient: 'horizontal', left: 'center', bottom: 24, inRange: { color: [...DIVERGING_RAMP] }, text: [`z ≥ +${bound} (more weight than expected)`, `z ≤ −${bound} (less)`] },
+      overlayColour(1, NEVER_LOGGED_FILL),
+    ],
     series: [
       {
         type: 'heatmap', name: series.name, data,
@@ -66,8 +69,22 @@ function segmentAxis(series: ChartSeries, ys: readonly (string | number)[]): Rec
 /** The chosen cell (its column and row) outlined in black over the map. */
 export function withSelectedCell(option: ChartOption, cell: { readonly col: number; readonly row: number } | null): ChartOption {
   if (!cell || !Array.isArray(option.series)) return option;
-  const outline = { type: 'heatmap', name: 'selected cell', data: [[cell.col, cell.row, 0]], silent: true, itemStyle: { color: 'rgba(0,0,0,0)', borderColor: '#000000', borderWidth: 3 }, label: { show: false }, z: 10 };
-  return { ...option, series: [...(option.series as unknown[]), outline] };
+  const clear = 'rgba(0,0,0,0)';
+  const outline = { type: 'heatmap', name: 'selected cell', data: [[cell.col, cell.row, 0]], silent: true, itemStyle: { color: clear, borderColor: '#000000', borderWidth: 3 }, label: { show: false }, z: 10 };
+  const maps = option.visualMap === undefined ? [] : Array.isArray(option.visualMap) ? option.visualMap : [option.visualMap];
+  return { ...option, series: [...(option.series as unknown[]), outline], visualMap: [...maps, overlayColour(option.series.length, clear)] };
+}
+
+/** Fill of a never-logged cell, under its hatching. */
+const NEVER_LOGGED_FILL = '#ffffff';
+
+/**
+ * ECharts draws a heatmap series only under a visual map (its development build throws "Heatmap must use
+ * with visualMap" otherwise), so each overlay series (never-logged cells, the selected cell) gets a hidden
+ * one that paints every value in its own single colour.
+ */
+function overlayColour(seriesIndex: number, color: string): Record<string, unknown> {
+  return { type: 'continuous', show: false, seriesIndex, min: 0, max: 1, inRange: { color: [color, color] } };
 }
 
 export function heatmapOption(series: ChartSeries): ChartOption {
@@ -89,13 +106,14 @@ export function heatmapOption(series: ChartSeries): ChartOption {
   if (!Number.isFinite(min)) { min = 0; max = 1; }
   if (min === max) max = min + 1;
   const cellLabels = series.x.length * ys.length <= 800;
+  const scale = { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] };
   return {
     ...baseOption(seriesTitle(series)),
     grid: { left: 140, right: 24, top: 48, bottom: 96, containLabel: true },
     xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
     yAxis: segmentAxis(series, ys),
     ...(never.length ? { legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false } } : {}),
-    visualMap: { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] },
+    visualMap: never.length ? [scale, overlayColour(1, NEVER_LOGGED_FILL)] : scale,
     series: [{
       type: 'heatmap',
       name: series.name,
@@ -108,7 +126,7 @@ export function heatmapOption(series: ChartSeries): ChartOption {
 }
 
 function neverLogged(cells: readonly [number, number, number][]): Record<string, unknown> {
-  return { type: 'heatmap', name: 'never logged', data: cells, itemStyle: { color: '#ffffff', borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } };
+  return { type: 'heatmap', name: 'never logged', data: cells, itemStyle: { color: NEVER_LOGGED_FILL, borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } };
 }
 
 function formatValue(v: number | null): string {

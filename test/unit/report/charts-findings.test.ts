@@ -1,12 +1,20 @@
 /** Charts that show the finding: a centred diverging z map with never-logged cells apart, ranked ESS bars, a marked change point. */
 import { describe, expect, it } from 'vitest';
-import { chartForSeries, chartHeight } from '../../../app/charts/index.ts';
+import { chartForSeries, chartHeight, withSelectedCell } from '../../../app/charts/index.ts';
 import { DIVERGING_RAMP } from '../../../app/charts/heatmap.ts';
 import { shownStatus, metricWords } from '../../../app/charts/labels.ts';
 
 describe('z map', () => {
   const series = { name: 'balance z by segment and action', kind: 'heatmap' as const, unit: 'z', x: ['a', 'b'], y: ['s1', 's2'], values: [[1.5, -99], [null, -4.2]] };
-  const option = chartForSeries(series) as { visualMap: { min: number; max: number; inRange: { color: string[] } }; series: { name: string; data: [number, number, number][] }[] };
+  const drawn = chartForSeries(series) as { visualMap: { min: number; max: number; inRange: { color: string[] }; seriesIndex: number }[]; series: { type: string; name: string; data: [number, number, number][] }[] };
+  const option = { ...drawn, visualMap: drawn.visualMap[0]! };
+  it('puts every heatmap series under a visual map (ECharts refuses to draw one without)', () => {
+    const covered = new Set(drawn.visualMap.map((m) => m.seriesIndex));
+    drawn.series.forEach((s, i) => { if (s.type === 'heatmap') expect(covered.has(i)).toBe(true); });
+    const picked = withSelectedCell(drawn, { col: 0, row: 0 }) as typeof drawn;
+    const all = new Set(picked.visualMap.map((m) => m.seriesIndex));
+    picked.series.forEach((s, i) => { if (s.type === 'heatmap') expect(all.has(i)).toBe(true); });
+  });
   it('is centred on 0 on a diverging ramp', () => {
     expect(option.visualMap.min).toBe(-option.visualMap.max);
     expect(option.visualMap.max).toBe(5);
