@@ -1,19 +1,25 @@
 /**
- * Wall and process CPU time of each query of one full audit on the native engine, in seconds:
- *   node --import tsx bench/stages.ts <log path> [threads] [memory_limit, e.g. 1.5GB]
+ * Wall and process CPU time of each query of one full audit, in seconds, on the native engine or on
+ * DuckDB-Wasm in Node (where opening a Parquet log loads it into DuckDB-Wasm's memory: that load is timed too):
+ *   node --import tsx bench/stages.ts <log path> [threads] [memory_limit, e.g. 1.5GB] [--wasm]
  */
 import { readFileSync } from 'node:fs';
 import { runAudit } from '../app/core/audit.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
+import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
 
 const V9 = new URL('../sample-data/maple-row-v9-policy.csv', import.meta.url).pathname;
-const path = process.argv[2];
-if (!path) throw new Error('usage: bench/stages.ts <log path> [threads]');
-const threads = process.argv[3] ? Number(process.argv[3]) : undefined;
-const memoryLimit = process.argv[4];
-const engine = await createNativeEngine({ ...(threads ? { threads } : {}), ...(memoryLimit ? { memoryLimit } : {}) });
-if (memoryLimit) await engine.query(`SET temp_directory = '${new URL('./cache/spill/', import.meta.url).pathname}'`);
+const wasm = process.argv.includes('--wasm');
+const [path, threadsArg, memoryLimit] = process.argv.slice(2).filter((a) => a !== '--wasm');
+if (!path) throw new Error('usage: bench/stages.ts <log path> [threads] [memory_limit] [--wasm]');
+const threads = threadsArg ? Number(threadsArg) : undefined;
+const engine = wasm ? await createWasmNodeEngine() : await createNativeEngine({ ...(threads ? { threads } : {}), ...(memoryLimit ? { memoryLimit } : {}) });
+if (memoryLimit && !wasm) await engine.query(`SET temp_directory = '${new URL('./cache/spill/', import.meta.url).pathname}'`);
+const open0 = performance.now();
+const openCpu0 = process.cpuUsage();
 const src = await engine.register({ kind: 'path', paths: [path] });
+const openCpu = process.cpuUsage(openCpu0);
+console.log(`open: ${((performance.now() - open0) / 1000).toFixed(3)} s wall, ${((openCpu.user + openCpu.system) / 1e6).toFixed(2)} s CPU`);
 for (let round = 0; round < 2; round++) {
   const times: [string, number, number, number][] = [];
   let label = '';
@@ -28,7 +34,7 @@ for (let round = 0; round < 2; round++) {
     const c = process.cpuUsage(c0);
     times.push([`${label} @${((s - t0) / 1000).toFixed(2)}`, (performance.now() - s) / 1000, (c.user + c.system) / 1e6, t.rowCount]);
     return t;
-  }, { relation: src.relation, input: { files: [], format: src.format }, engine: 'native', targets: [{ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }] });
+  }, { relation: src.relation, input: { files: [], format: src.format }, engine: engine.kind, targets: [{ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }] });
   const total = (performance.now() - t0) / 1000;
   const cpu = process.cpuUsage(cpu0);
   console.log(`round ${round}: total ${total.toFixed(3)} s wall, ${((cpu.user + cpu.system) / 1e6).toFixed(2)} s CPU`);

@@ -4,13 +4,20 @@
  * decimal logical types load with the same types and values native DuckDB's read_parquet gives. The files
  * are written by native DuckDB (COPY ... TO) into a temporary folder; native DuckDB is the reference.
  */
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, openAsBlob, rmSync, writeFileSync } from 'node:fs';
+import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
+import { tableFromArrays, tableFromIPC, tableToIPC } from 'apache-arrow';
+import type { Table } from 'apache-arrow';
 import type { FileMetaData } from 'hyparquet';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createNativeEngine } from '../../app/engine/native.ts';
+import { rowGroupAligner } from '../../app/engine/parquet/align.ts';
+import { parquetWasmDecoder } from '../../app/engine/parquet/decoder.ts';
+import type { ParquetWasmModule } from '../../app/engine/parquet/decoder.ts';
+import { readFooter } from '../../app/engine/parquet/footer.ts';
 import { tooLargeMessage } from '../../app/engine/parquet/load.ts';
 import { duckdbTypeOf, hiveValues, topLevelColumns, unreadableColumn } from '../../app/engine/parquet/schema.ts';
 import { EngineError } from '../../app/engine/types.ts';
@@ -18,6 +25,8 @@ import type { Engine } from '../../app/engine/types.ts';
 import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
 import { floorMicros } from '../../app/engine/parquet/int96.ts';
 import { int96ParquetFile } from './int96-parquet.ts';
+
+const require = createRequire(import.meta.url);
 
 const COVERAGE_SELECT = `
 SELECT i::BIGINT AS id,
@@ -156,5 +165,42 @@ describe('footer rules', () => {
     expect((error as EngineError).message).toMatch(/too large for the in-browser engine.*20,000 rows.*holds about 1 MB/s);
     expect(performance.now() - started).toBeLessThan(1000);
     await engine.close();
+  });
+});
+
+describe('row groups re-cut to whole DuckDB row groups', () => {
+  const rowsOf = (t: Table) => JSON.stringify(t.toArray(), (_k, v: unknown) => (typeof v === 'bigint' ? `${v}n` : v));
+
+  it('pieces hold exactly the piece size but the last, and the same rows in the same order', async () => {
+    // DuckDB's writer fills row groups in whole 2,048-row vectors: ROW_GROUP_SIZE 6000 above gives 6,144-row groups.
+    const path = join(dir, 'zstd-V2.parquet');
+    const reader = await parquetWasmDecoder(require('parquet-wasm') as ParquetWasmModule)(await openAsBlob(path));
+    const footer = await readFooter(await openAsBlob(path), path);
+    const names = topLevelColumns(footer).map((c) => c.name);
+    const aligner = rowGroupAligner(7_000);
+    const groups: Table[] = [];
+    const pieces: Table[] = [];
+    for (const [i, g] of footer.row_groups.entries()) {
+      const ipc = await reader.rowGroup(i, names, Number(g.num_rows));
+      groups.push(tableFromIPC(ipc));
+      pieces.push(...aligner.push(ipc).map((p) => tableFromIPC(p)));
+    }
+    const rest = aligner.rest();
+    if (rest) pieces.push(tableFromIPC(rest));
+    reader.close();
+    expect(groups.map((t) => t.numRows)).toEqual([6144, 6144, 6144, 1568]);
+    expect(pieces.map((t) => t.numRows)).toEqual([7000, 7000, 6000]);
+    expect(aligner.rest()).toBeNull();
+    const whole = (ts: Table[]) => ts.reduce((a, b) => a.concat(b));
+    expect(rowsOf(whole(pieces))).toEqual(rowsOf(whole(groups)));
+    expect(String(whole(pieces).schema)).toEqual(String(whole(groups).schema));
+  });
+
+  it('a row group of exactly the piece size is passed on as it came', () => {
+    const ipc = tableToIPC(tableFromArrays({ x: Int32Array.from({ length: 10 }, (_, i) => i) }), 'stream');
+    const aligner = rowGroupAligner(10);
+    expect(aligner.push(ipc)).toEqual([ipc]);
+    expect(aligner.push(ipc)[0]).toBe(ipc);
+    expect(aligner.rest()).toBeNull();
   });
 });

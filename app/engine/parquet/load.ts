@@ -8,6 +8,7 @@
 import type { FileMetaData } from 'hyparquet';
 import { quoteIdentifier, quoteLiteral } from '../sql-source.ts';
 import { EngineError } from '../types.ts';
+import { rowGroupAligner } from './align.ts';
 import type { RowGroupDecoder } from './decoder.ts';
 import { readFooter } from './footer.ts';
 import { hiveValues, loadedBytes, topLevelColumns, unreadableColumn } from './schema.ts';
@@ -127,18 +128,37 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
         throw new EngineError('io', `Cannot read "${part.name}": the Parquet file has no columns or no row groups.`);
       }
       // The next row group is decoded while the engine appends the one before (in the browser they run on
-      // two threads); so at most two row groups' Arrow exist at once.
+      // two threads); so at most two row groups' Arrow exist at once. The engine gets pieces of whole
+      // DuckDB row groups (align.ts), the first of which creates the part's table.
+      const aligner = rowGroupAligner();
+      let created = false;
       let appending: Promise<void> | null = null;
-      for (const [index, group] of footer.row_groups.entries()) {
-        const ipc = await decodeRowGroup(reader, part, index, partColumns, Number(group.num_rows));
-        if (appending) await appending;
-        appending = sink.append(table.slice(1, -1), ipc, index === 0).then(() => {
-          loaded += Number(group.num_rows);
+      const appendPieces = (pieces: readonly Uint8Array[], groupRows: number) => {
+        const after = appending;
+        appending = (async () => {
+          if (after) await after;
+          for (const piece of pieces) {
+            await sink.append(table.slice(1, -1), piece, !created);
+            created = true;
+          }
+          loaded += groupRows;
           options.onRowGroup?.(loaded, rows);
-        });
+        })();
         // A failed append is awaited (and thrown) in turn; it must not go unobserved meanwhile.
         appending.catch(() => undefined);
+      };
+      let last: Uint8Array | null = null;
+      for (const [index, group] of footer.row_groups.entries()) {
+        last = await decodeRowGroup(reader, part, index, partColumns, Number(group.num_rows));
+        const pieces = aligner.push(last);
+        if (appending) await appending;
+        appendPieces(pieces, Number(group.num_rows));
       }
+      const rest = aligner.rest();
+      // A part whose row groups hold no rows still gets its (empty) table.
+      const tail = rest ?? (created || !last ? null : last);
+      if (appending) await appending;
+      if (tail) appendPieces([tail], 0);
       await appending;
     } finally {
       reader.close();
