@@ -5,6 +5,7 @@ import { capLabel } from '../../app/charts/index.ts';
 import { planCsv, planJson } from '../../app/core/remedies/plan-table.ts';
 import { chartForCaps } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
+import { RowTable, type RowColumn } from '../components/RowTable.tsx';
 import { downloadText } from '../export/report-file.ts';
 import { formatShare, formatValue, segmentLabel } from '../format.ts';
 import type { PlanOptions } from '../../app/core/remedies/plan.ts';
@@ -19,36 +20,32 @@ interface Props {
 }
 
 type Estimate = { value: number | null; ci_low: number | null; ci_high: number | null };
+type CapsReport = NonNullable<Report['remedies']>['caps'][number];
+type ClippedRow = CapsReport['list'][number];
 const interval = (e: Estimate) => `${formatValue(e.value)} [${formatValue(e.ci_low)}, ${formatValue(e.ci_high)}]`;
 const days = (d: number | null) => (d === null ? 'never at this traffic' : d < 1 ? '< 1' : formatValue(Math.ceil(d * 10) / 10));
 
+const PLAN_COLUMNS: readonly RowColumn<PlanRowReport>[] = [
+  { head: 'Rows / day now', cell: (r) => formatValue(r.rows_per_day) },
+  { head: 'Least propensity now', cell: (r) => formatValue(r.current_floor) },
+  { head: <>Exploration share <span className="sym">η</span></>, cell: (r) => formatShare(r.share) },
+  { head: <>Propensity floor <span className="sym">η/K</span></>, cell: (r) => formatValue(r.floor) },
+  { head: 'Days needed', cell: (r) => days(r.days) },
+  { head: 'Within the days?', cell: (r) => (r.reachable ? 'yes' : 'no'), text: true },
+  { head: 'Cost per decision', cell: (r) => formatValue(r.cost) },
+  { head: <>Logging policy&apos;s value</>, cell: (r) => formatValue(r.logging_value) },
+];
+
 function PlanTable({ rows, testId }: { rows: readonly PlanRowReport[]; testId: string }) {
   return (
-    <div className="table-scroll">
-      <table className="history-table" data-testid={testId}>
-        <thead>
-          <tr>
-            <th scope="col">Segment</th><th scope="col">Rows / day now</th><th scope="col">Least propensity now</th><th scope="col">Exploration share <span className="sym">η</span></th>
-            <th scope="col">Propensity floor <span className="sym">η/K</span></th><th scope="col">Days needed</th><th scope="col">Within the days?</th><th scope="col">Cost per decision</th><th scope="col">Logging policy&apos;s value</th>
-          </tr>
-        </thead>
-        <tbody>
-          {rows.map((r, i) => (
-            <tr key={i} data-reachable={String(r.reachable)}>
-              <th scope="row">{Object.keys(r.segment).length === 0 ? <strong>whole log (one share everywhere)</strong> : segmentLabel(r.segment)}</th>
-              <td className="num">{formatValue(r.rows_per_day)}</td>
-              <td className="num">{formatValue(r.current_floor)}</td>
-              <td className="num">{formatShare(r.share)}</td>
-              <td className="num">{formatValue(r.floor)}</td>
-              <td className="num">{days(r.days)}</td>
-              <td>{r.reachable ? 'yes' : 'no'}</td>
-              <td className="num">{formatValue(r.cost)}</td>
-              <td className="num">{formatValue(r.logging_value)}</td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+    <RowTable
+      testId={testId}
+      rows={rows}
+      head="Segment"
+      rowHead={(r) => (Object.keys(r.segment).length === 0 ? <strong>whole log (one share everywhere)</strong> : segmentLabel(r.segment))}
+      columns={PLAN_COLUMNS}
+      rowData={(r) => ({ 'data-reachable': String(r.reachable) })}
+    />
   );
 }
 
@@ -133,7 +130,16 @@ function PlanSection({ report, target, workspace }: { report: Report; target: st
 }
 
 /** The grid's caps and, where it lies between them, the cap of least MSE bound, in cap order. */
-function capRows(caps: NonNullable<Report['remedies']>['caps'][number]) {
+const CAP_COLUMNS: readonly RowColumn<ClippedRow>[] = [
+  { head: 'Capped IPS [95% CI]', cell: (c) => interval(c.estimate) },
+  { head: 'Bias bound', cell: (c) => formatValue(c.bias_bound) },
+  { head: 'ESS', cell: (c) => formatValue(c.ess) },
+  { head: 'Rows clipped', cell: (c) => formatValue(c.clipped_rows) },
+  { head: 'Clipped mass', cell: (c) => formatValue(c.clipped_mass) },
+  { head: 'MSE bound', cell: (c) => formatValue(c.mse_bound) },
+];
+
+function capRows(caps: CapsReport) {
   const best = caps.best;
   return [...caps.list, ...(best && !caps.list.some((c) => c.cap === best.cap) ? [best] : [])].sort((a, b) => a.cap - b.cap);
 }
@@ -209,24 +215,15 @@ export function RemediesScreen({ report, workspace, focus }: Props) {
         <>
           <p className="muted">Clipped IPS (weights above the cap M set to M; Bottou et al. 2013, JMLR 14). Its bias is at most max(|r<sub>min</sub>|, |r<sub>max</sub>|) times the clipped mass, for rewards in [{formatValue(remedies.reward_range.min)}, {formatValue(remedies.reward_range.max)}] ({remedies.reward_range.source}).</p>
           {capsChart && <EChart option={capsChart} height={300} label={`${chosen}: capped estimate with 95% interval and bias bound against the cap; the table below lists the same`} />}
-          <div className="table-scroll">
-            <table className="history-table" data-testid="caps-table">
-              <thead><tr><th scope="col">Cap M</th><th scope="col">Capped IPS [95% CI]</th><th scope="col">Bias bound</th><th scope="col">ESS</th><th scope="col">Rows clipped</th><th scope="col">Clipped mass</th><th scope="col">MSE bound</th></tr></thead>
-              <tbody>
-                {capRows(caps).map((c) => (
-                  <tr key={c.cap} data-best={String(caps.best?.cap === c.cap)}>
-                    <th scope="row">{capLabel(c.cap)}{caps.best?.cap === c.cap ? <strong> (least MSE bound)</strong> : null}</th>
-                    <td className="num">{interval(c.estimate)}</td>
-                    <td className="num">{formatValue(c.bias_bound)}</td>
-                    <td className="num">{formatValue(c.ess)}</td>
-                    <td className="num">{formatValue(c.clipped_rows)}</td>
-                    <td className="num">{formatValue(c.clipped_mass)}</td>
-                    <td className="num">{formatValue(c.mse_bound)}</td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <RowTable
+            testId="caps-table"
+            rows={capRows(caps)}
+            head="Cap M"
+            rowHead={(c) => <>{capLabel(c.cap)}{caps.best?.cap === c.cap ? <strong> (least MSE bound)</strong> : null}</>}
+            columns={CAP_COLUMNS}
+            rowKey={(c) => c.cap}
+            rowData={(c) => ({ 'data-best': String(caps.best?.cap === c.cap) })}
+          />
         </>
       ) : (
         <p className="muted">No caps for this target{caps?.notes.length ? `: ${caps.notes.join('; ')}` : '.'}</p>
