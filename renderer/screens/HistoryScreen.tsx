@@ -1,4 +1,4 @@
-import { useMemo, useRef, useState, type DragEvent } from 'react';
+import { useMemo, useState } from 'react';
 import { historySegmentsHeight } from '../../app/charts/index.ts';
 import type { History, LabelledReport } from '../../app/core/compare/history.ts';
 import type { Report } from '../../app/core/model/report.ts';
@@ -6,6 +6,7 @@ import { renderHistoryHtml } from '../../app/report/history-html.ts';
 import { serializeHistory } from '../../app/report/history-json.ts';
 import { chartForHistorySegments, chartsForHistoryTarget } from '../charts.ts';
 import { EChart } from '../components/EChart.tsx';
+import { FileDropZone } from '../components/FileDropZone.tsx';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { downloadText } from '../export/report-file.ts';
@@ -35,12 +36,9 @@ function span(e: History['entries'][number]): string {
 
 /** Web modes: a hidden file input behind a button, and a drop zone; the desktop app shows its own dialog. */
 function ReportPicker({ onRead }: { onRead: (read: ReadReports) => void }) {
-  const input = useRef<HTMLInputElement>(null);
-  const [dragging, setDragging] = useState(false);
   const desktop = window.counterweight?.kind === 'desktop';
-  const files = (list: File[]) => { if (list.length > 0) void readReportFiles(list).then(onRead); };
-  const choose = async () => {
-    if (!desktop) { input.current?.click(); return; }
+  const choose = async (openInput: () => void) => {
+    if (!desktop) { openInput(); return; }
     try {
       const chosen = await window.counterweight?.chooseReports();
       if (chosen) onRead(reportsOfTexts(chosen));
@@ -48,34 +46,17 @@ function ReportPicker({ onRead }: { onRead: (read: ReadReports) => void }) {
       onRead({ reports: [], problems: [(error as Error).message] });
     }
   };
-  const onDrop = (event: DragEvent) => {
-    event.preventDefault();
-    setDragging(false);
-    files([...event.dataTransfer.files]);
-  };
   return (
-    <div
-      className={`dropzone${dragging ? ' dropzone-active' : ''}`}
-      data-testid="history-drop-zone"
-      onDragOver={(e) => { e.preventDefault(); setDragging(true); }}
-      onDragLeave={() => setDragging(false)}
-      onDrop={onDrop}
-    >
-      <p className="dropzone-title">Drop saved report files here</p>
-      <p className="muted">Report JSON files as the audit writes them (<code>--json</code> or Export report JSON), one per log or week.</p>
-      <input
-        ref={input}
-        data-testid="history-file-input"
-        aria-label="Saved report files"
-        type="file"
-        multiple
-        accept=".json,application/json"
-        className="visually-hidden"
-        tabIndex={-1}
-        onChange={(e) => { const list = [...(e.target.files ?? [])]; e.target.value = ''; files(list); }}
-      />
-      <button type="button" className="button primary" onClick={() => { void choose(); }}>Choose reports…</button>
-    </div>
+    <FileDropZone
+      name="history"
+      title="Drop saved report files here"
+      hint={<>Report JSON files as the audit writes them (<code>--json</code> or Export report JSON), one per log or week.</>}
+      inputLabel="Saved report files"
+      accept=".json,application/json"
+      button="Choose reports…"
+      onFiles={(list) => { void readReportFiles(list).then(onRead); }}
+      onChoose={(openInput) => { void choose(openInput); }}
+    />
   );
 }
 

@@ -1,42 +1,23 @@
-import { useRef, useState, type DragEvent } from 'react';
+import { useState } from 'react';
+import { FileDropZone } from '../components/FileDropZone.tsx';
 import { ACCEPTED_EXTENSIONS } from '../engine/source-files.ts';
 
 /** Web mode: a hidden file input behind a button, and a drop zone; the files are read lazily by the engine. */
 const WEB_HINT = 'Parquet, or CSV or TSV with a header row; several parts of one log are read together as one table.';
 
 export function FilePicker({ busy, onFiles, hint = WEB_HINT }: { busy: boolean; onFiles: (files: File[]) => void; hint?: string }) {
-  const input = useRef<HTMLInputElement>(null);
-  const [dragging, setDragging] = useState(false);
-  const onDrop = (event: DragEvent) => {
-    event.preventDefault();
-    setDragging(false);
-    const files = [...event.dataTransfer.files];
-    if (files.length > 0) onFiles(files);
-  };
   return (
-    <div
-      className={`dropzone${dragging ? ' dropzone-active' : ''}`}
-      data-testid="log-drop-zone"
-      onDragOver={(e) => { e.preventDefault(); setDragging(true); }}
-      onDragLeave={() => setDragging(false)}
-      onDrop={onDrop}
-    >
-      <p className="dropzone-title">Drop log files here</p>
-      <p className="muted">{hint}</p>
-      <input
-        ref={input}
-        id="log-files"
-        data-testid="log-file-input"
-        aria-label="Log files"
-        type="file"
-        multiple
-        accept={ACCEPTED_EXTENSIONS.join(',')}
-        className="visually-hidden"
-        tabIndex={-1}
-        onChange={(e) => { const files = [...(e.target.files ?? [])]; e.target.value = ''; if (files.length > 0) onFiles(files); }}
-      />
-      <button type="button" className="button primary" disabled={busy} onClick={() => input.current?.click()}>Choose files…</button>
-    </div>
+    <FileDropZone
+      name="log"
+      title="Drop log files here"
+      hint={hint}
+      inputId="log-files"
+      inputLabel="Log files"
+      accept={ACCEPTED_EXTENSIONS.join(',')}
+      button="Choose files…"
+      busy={busy}
+      onFiles={onFiles}
+    />
   );
 }
 
