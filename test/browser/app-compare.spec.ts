@@ -9,11 +9,11 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
+import { auditWithV9Table, exportedReportText, V9_POLICY } from './app-steps.ts';
 import { hostedPage } from './hosted-page.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
-const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
 const tmp = mkdtempSync(path.join(os.tmpdir(), 'cw-compare-ui-'));
 const BASELINE = path.join(tmp, 'week1.json');
 
@@ -31,12 +31,7 @@ test.beforeAll(() => {
 });
 
 async function auditAndCompare(page: Page, mode: string): Promise<void> {
-  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-  await page.locator('#target-table').setInputFiles(V9_POLICY);
-  await expect(page.getByText('Policy table from maple-row-v9-policy.csv')).toBeVisible();
-  await page.getByRole('button', { name: 'Run the audit' }).click();
-  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 120_000 });
+  await auditWithV9Table(page);
 
   await page.getByRole('button', { name: 'Compare with…' }).click();
   await expect(page.getByRole('heading', { name: 'Compare with a baseline' })).toBeVisible();
@@ -54,10 +49,8 @@ async function auditAndCompare(page: Page, mode: string): Promise<void> {
   const ui = readFileSync(await download.path(), 'utf8');
 
   // The report the app compared, exported as the sign-off screen exports it, and the headless command on it.
-  await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Sign-off' }).click();
-  const [reportDownload] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export report JSON' }).click()]);
   const current = path.join(tmp, `week2-${mode}.json`);
-  writeFileSync(current, readFileSync(await reportDownload.path()));
+  writeFileSync(current, await exportedReportText(page));
   const headless = cli(['compare', BASELINE, current, '--json', '-', '--quiet']);
   expect(headless.code, headless.stderr).toBe(2);
   expect(ui).toBe(headless.stdout);

@@ -9,15 +9,14 @@ import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
 import type { History } from '../../app/core/compare/history.ts';
 import { HistorySchema } from '../../app/core/compare/history.ts';
+import { noSeriousViolations, V9_POLICY } from './app-steps.ts';
 import { hostedPage } from './hosted-page.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
-const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
 const dir = mkdtempSync(path.join(os.tmpdir(), 'cw-history-ui-'));
 const WEEK1 = path.join(dir, 'week1.json');
 const WEEK2 = path.join(dir, 'week2.json');
@@ -38,12 +37,6 @@ test.beforeAll(() => {
   expect(r.code, r.stderr).toBe(0);
   headless = r.stdout;
 });
-
-async function noSeriousViolations(page: Page, screen: string): Promise<void> {
-  const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'wcag22aa']).analyze();
-  const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);
-}
 
 async function openHistory(page: Page): Promise<void> {
   await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'History' }).click();

@@ -15,14 +15,13 @@ import { mkdtempSync, readFileSync } from 'node:fs';
 import { createServer } from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
-import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
 import type { Report } from '../../app/core/model/report.ts';
 import { PLAN_COLUMNS } from '../../app/core/remedies/plan-table.ts';
+import { auditWithV9Table, exportedReportText, noSeriousViolations } from './app-steps.ts';
 import { hostedPage } from './hosted-page.ts';
 
 const SAMPLE = path.join(process.cwd(), 'sample-data');
-const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
 const MAX_MS = 250;
 
 let preview: ChildProcess | undefined;
@@ -76,12 +75,6 @@ async function countEngineMessages(page: Page): Promise<void> {
   });
 }
 
-async function noSeriousViolations(page: Page, screen: string): Promise<void> {
-  const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'wcag22aa']).analyze();
-  const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);
-}
-
 /** Moves a slider as a user's drag does (input event), and times it until the plan shows the new options. */
 async function moveSlider(page: Page, id: string, value: number): Promise<{ ms: number; sent: number }> {
   return page.evaluate(async ({ id, value }) => {
@@ -110,17 +103,10 @@ const planRows = (page: Page) => page.getByTestId('plan-table').locator('tbody t
 
 async function remediesScreen(page: Page, mode: string): Promise<number[]> {
   page.on('console', (m) => { if (m.text().startsWith('plan timing')) console.log(`${mode} ${m.text()}`); });
-  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-  await page.locator('#target-table').setInputFiles(V9_POLICY);
-  await expect(page.getByText('Policy table from maple-row-v9-policy.csv')).toBeVisible();
-  await page.getByRole('button', { name: 'Run the audit' }).click();
-  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 120_000 });
+  await auditWithV9Table(page);
 
   // The report as the engine wrote it, exported as the sign-off screen exports it.
-  await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Sign-off' }).click();
-  const [reportDownload] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export report JSON' }).click()]);
-  const report = JSON.parse(readFileSync(await reportDownload.path(), 'utf8')) as Report;
+  const report = JSON.parse(await exportedReportText(page)) as Report;
   expect(report.remedies, 'the report holds remedies').toBeTruthy();
   const target = report.remedies!.restricted[0]!.target;
   await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Overview' }).click();

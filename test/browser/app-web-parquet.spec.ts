@@ -9,9 +9,9 @@ import { runAudit } from '../../app/core/audit.ts';
 import type { Report } from '../../app/core/model/report.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { firstDifference } from '../core/audit-helpers.ts';
+import { auditWithV9Table, exportedReportText, V9_POLICY } from './app-steps.ts';
 
 const DEMO_PARQUET = 'sample-data/maple-row-demo.parquet';
-const V9_POLICY = 'sample-data/maple-row-v9-policy.csv';
 // The tolerance of test/core/engine-agreement.test.ts.
 const TOLERANCE = 1e-12;
 
@@ -44,16 +44,8 @@ async function dropDemoParquet(page: Page): Promise<void> {
 }
 
 async function auditAndExport(page: Page): Promise<Report> {
-  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-  await expect(page.locator('#role-action')).toHaveValue('promotion');
-  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-  await page.locator('#target-table').setInputFiles(V9_POLICY);
-  await expect(page.getByText('Policy table from maple-row-v9-policy.csv')).toBeVisible();
-  await page.getByRole('button', { name: 'Run the audit' }).click();
-  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 120_000 });
-  await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Sign-off' }).click();
-  const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export report JSON' }).click()]);
-  return JSON.parse(readFileSync(await download.path(), 'utf8')) as Report;
+  await auditWithV9Table(page, () => expect(page.locator('#role-action')).toHaveValue('promotion'));
+  return JSON.parse(await exportedReportText(page)) as Report;
 }
 
 function expectSameAudit(web: Report): void {
