@@ -1,8 +1,8 @@
 /**
  * Compares the two Parquet decoders installed for DuckDB-Wasm's Parquet path (parquet-wasm 0.8.0, and
  * hyparquet with hyparquet-compressors plus apache-arrow builders) on codec/type coverage and on speed
- * and memory per row group. Test files are written by native DuckDB (COPY ... TO, FORMAT parquet) into
- * a temporary folder and deleted afterwards.
+ * and memory per row group. The coverage files are the engine test's (test/engine/parquet-coverage.ts), written
+ * by native DuckDB (COPY ... TO, FORMAT parquet) into a temporary folder and deleted afterwards.
  *
  *   node --expose-gc --import tsx bench/parquet-decoders.ts [--coverage] [--speed LOG.parquet] [--decoder parquet-wasm|hyparquet]
  */
@@ -16,25 +16,10 @@ import * as pw from 'parquet-wasm';
 import { parquetMetadataAsync, parquetRead } from 'hyparquet';
 import type { AsyncBuffer, FileMetaData } from 'hyparquet';
 import { compressors } from 'hyparquet-compressors';
+import { writeCoverageFiles } from '../test/engine/parquet-coverage.ts';
 
 type Decoder = 'parquet-wasm' | 'hyparquet';
 
-const COVERAGE_SELECT = `
-SELECT i::BIGINT AS id,
-  'decision-' || lpad(i::VARCHAR, 8, '0') AS plain_text,
-  ['north', 'south', 'east', 'west'][1 + i % 4] AS dict_text,
-  CASE WHEN i % 7 = 0 THEN NULL ELSE (i % 100) / 100.0 END::DOUBLE AS nullable_double,
-  CASE WHEN i % 5 = 0 THEN NULL ELSE i % 3 END::INTEGER AS nullable_int,
-  TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND AS ts_us,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMP_MS AS ts_ms,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMP_NS AS ts_ns,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMPTZ AS ts_tz,
-  (DATE '2026-03-01' + (i % 30)::INTEGER) AS day,
-  ((i % 1000) / 100.0)::DECIMAL(10,2) AS price,
-  i % 2 = 0 AS flag
-FROM range(20000) t(i)`;
-
-const CODECS = ['uncompressed', 'snappy', 'zstd', 'gzip', 'brotli', 'lz4', 'lz4_raw'] as const;
 
 async function native() {
   const db = await DuckDBInstance.create(':memory:', { autoload_known_extensions: 'false', autoinstall_known_extensions: 'false' });
@@ -106,14 +91,7 @@ const DECODERS: Record<Decoder, (blob: Blob) => ReturnType<typeof decodeParquetW
 async function coverage(): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'cw-pq-coverage-'));
   const c = await native();
-  const files: { name: string; path: string }[] = [];
-  for (const codec of CODECS) {
-    for (const version of ['V1', 'V2']) {
-      const path = join(dir, `${codec}-${version}.parquet`);
-      await c.run(`COPY (${COVERAGE_SELECT}) TO '${path}' (FORMAT parquet, COMPRESSION ${codec}, PARQUET_VERSION ${version}, ROW_GROUP_SIZE 8192)`);
-      files.push({ name: `${codec} ${version}`, path });
-    }
-  }
+  const files = await writeCoverageFiles((sql) => c.run(sql), dir, 8192);
   // Reference: native DuckDB's own reading of each column, as text.
   const ref = async (path: string, col: string) => String((await (await c.run(`SELECT string_agg(${col}::VARCHAR, ',' ORDER BY id) FROM read_parquet('${path}')`)).getRows())[0]?.[0]);
   const columns = ['id', 'plain_text', 'dict_text', 'nullable_double', 'nullable_int', 'ts_us', 'ts_ms', 'ts_ns', 'ts_tz', 'day', 'price', 'flag'];

@@ -25,30 +25,9 @@ import type { Engine } from '../../app/engine/types.ts';
 import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
 import { floorMicros } from '../../app/engine/parquet/int96.ts';
 import { int96ParquetFile } from './int96-parquet.ts';
+import { CODECS, coverageFile, PAGE_VERSIONS, writeCoverageFiles } from './parquet-coverage.ts';
 
 const require = createRequire(import.meta.url);
-
-const COVERAGE_SELECT = `
-SELECT i::BIGINT AS id,
-  'decision-' || lpad(i::VARCHAR, 8, '0') AS plain_text,
-  ['north', 'south', 'east', 'west'][1 + i % 4] AS dict_text,
-  CASE WHEN i % 7 = 0 THEN NULL ELSE (i % 100) / 100.0 END::DOUBLE AS nullable_double,
-  CASE WHEN i % 5 = 0 THEN NULL ELSE i % 3 END::INTEGER AS nullable_int,
-  (i % 100)::TINYINT AS tiny, (i % 1000)::USMALLINT AS small_unsigned, i::UBIGINT AS big_unsigned,
-  i::FLOAT / 8 AS single,
-  TIMESTAMP '2026-03-01 00:00:00.123456' + INTERVAL (i) SECOND AS ts_us,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMP_MS AS ts_ms,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMP_NS AS ts_ns,
-  (TIMESTAMP '2026-03-01 00:00:00' + INTERVAL (i) SECOND)::TIMESTAMPTZ AS ts_tz,
-  CASE WHEN i % 11 = 0 THEN NULL ELSE DATE '2026-03-01' + (i % 30)::INTEGER END AS day,
-  ((i % 1000) / 100.0)::DECIMAL(10,2) AS price,
-  (i * 1000003)::DECIMAL(30,4) AS wide_decimal,
-  i % 2 = 0 AS flag,
-  encode('b' || i::VARCHAR) AS bytes,
-  [i, i + 1] AS pair
-FROM range(20000) t(i)`;
-
-const CODECS = ['uncompressed', 'snappy', 'zstd', 'gzip', 'brotli', 'lz4', 'lz4_raw'];
 
 let dir: string;
 let native: Engine;
@@ -58,11 +37,7 @@ beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'cw-parquet-load-'));
   const db = await DuckDBInstance.create(':memory:', { autoload_known_extensions: 'false', autoinstall_known_extensions: 'false' });
   const c = await db.connect();
-  for (const codec of CODECS) {
-    for (const version of ['V1', 'V2']) {
-      await c.run(`COPY (${COVERAGE_SELECT}) TO '${join(dir, `${codec}-${version}.parquet`)}' (FORMAT parquet, COMPRESSION ${codec}, PARQUET_VERSION ${version}, ROW_GROUP_SIZE 6000)`);
-    }
-  }
+  await writeCoverageFiles((sql) => c.run(sql), dir, 6000);
   c.closeSync();
   db.closeSync();
   // INT96: no writer here emits it, so the file is written by hand (int96-parquet.ts). The values probe what
@@ -93,9 +68,9 @@ async function contents(engine: Engine, path: string): Promise<{ types: unknown[
 
 describe('every codec and page version loads as native DuckDB reads it', () => {
   for (const codec of CODECS) {
-    for (const version of ['V1', 'V2']) {
+    for (const version of PAGE_VERSIONS) {
       it(`${codec}, data pages ${version}`, async () => {
-        const path = join(dir, `${codec}-${version}.parquet`);
+        const path = coverageFile(dir, codec, version);
         const [a, b] = [await contents(native, path), await contents(wasm, path)];
         expect(b.types).toEqual(a.types);
         expect(b.text).toEqual(a.text);
