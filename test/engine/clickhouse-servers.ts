@@ -9,6 +9,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { connectClickHouse, type ClickHouseEngine, type ClickHouseEngineOptions } from '../../app/engine/clickhouse.ts';
 
 export const CLUSTER = 'cw_two_shards';
 /** A second user with a password, for the wrong-credentials test. */
@@ -26,6 +27,8 @@ export interface LocalShards {
   readonly servers: readonly LocalServer[];
   /** SQL run as the default user (no password) on one server: the harness's own loader, not the adapter. */
   admin(server: number, sql: string, body?: string | Uint8Array): Promise<string>;
+  /** The adapter on the first server, as the default user unless `options` says otherwise; closed by stop(). */
+  connect(options?: Omit<Partial<ClickHouseEngineOptions>, 'server'>): Promise<ClickHouseEngine>;
   stop(): Promise<void>;
 }
 
@@ -187,9 +190,18 @@ export async function startLocalShards(count = 2, timeoutMs = 90_000): Promise<L
     throw error;
   }
   const servers = children.map((c) => c.server);
+  const engines: ClickHouseEngine[] = [];
   return {
     servers,
-    stop,
+    async stop() {
+      for (const e of engines.splice(0)) await e.close();
+      await stop();
+    },
+    async connect(options = {}) {
+      const engine = await connectClickHouse({ server: servers[0]!.url, credentials: { user: 'default', password: '' }, ...options });
+      engines.push(engine);
+      return engine;
+    },
     async admin(server, sql, body) {
       const s = servers[server];
       if (!s) throw new Error(`no server ${server}`);

@@ -53,13 +53,10 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
     await shards.admin(1, 'INSERT INTO decisions FORMAT TabSeparated', "3\tnan\tit's \\\\ new\\nline\t2026-03-02\t2026-03-02 23:59:59\t['c']\t0.00\n4\tinf\tbakery\t2026-03-02\t2026-03-02 00:00:00\t['x\\'y']\t1.00\n");
     await shards.admin(0, `CREATE TABLE decisions_all AS decisions ENGINE = Distributed(${CLUSTER}, default, decisions)`);
     remote = `remote('127.0.0.1:${shards.servers[0]!.tcpPort},127.0.0.1:${shards.servers[1]!.tcpPort}', default, decisions)`;
-    engine = await connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'default', password: '' } });
+    engine = await shards.connect();
   }, 120_000);
 
-  afterAll(async () => {
-    await engine?.close();
-    await shards?.stop();
-  }, 60_000);
+  afterAll(() => shards?.stop(), 60_000);
 
   it('reads the server version', () => {
     expect(engine.version).toMatch(/^\d+\.\d+/);
@@ -137,7 +134,7 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
   });
 
   it('stops an answer past the row cap or the byte cap while it streams', async () => {
-    const small = await connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'default', password: '' }, maxResultRows: 1000 });
+    const small = await shards.connect({ maxResultRows: 1000 });
     try {
       const rows = await rejection(small.query('SELECT number FROM system.numbers LIMIT 100000'));
       expect(rows.code).toBe('too-large');
@@ -146,7 +143,7 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
     } finally {
       await small.close();
     }
-    const narrow = await connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'default', password: '' }, maxReplyBytes: 4096 });
+    const narrow = await shards.connect({ maxReplyBytes: 4096 });
     try {
       const bytes = await rejection(narrow.query(`SELECT '${'x'.repeat(100)}' AS s FROM system.numbers LIMIT 1000`));
       expect(bytes.code).toBe('too-large');
@@ -176,7 +173,7 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
   });
 
   it('a query past its time limit is stopped with a timeout error', async () => {
-    const quick = await connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'default', password: '' }, timeoutMs: 1500 });
+    const quick = await shards.connect({ timeoutMs: 1500 });
     const marker = `cw_timeout_${Date.now()}`;
     try {
       const e = await rejection(quick.query(`SELECT sleepEachRow(0.5) AS ${marker} FROM numbers(200) SETTINGS max_block_size = 1`));
@@ -189,13 +186,13 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
   });
 
   it('wrong credentials: a clear refusal that never repeats the password', async () => {
-    const wrong = await rejection(connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: AUDITOR.user, password: 'not-the-password' } }));
+    const wrong = await rejection(shards.connect({ credentials: { user: AUDITOR.user, password: 'not-the-password' } }));
     expect(wrong.code).toBe('auth');
     expect(wrong.message).toMatch(/refused user "auditor".*Wrong password/);
     expect(wrong.message).not.toContain('not-the-password');
-    const unknown = await rejection(connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'nobody', password: 'x' } }));
+    const unknown = await rejection(shards.connect({ credentials: { user: 'nobody', password: 'x' } }));
     expect(unknown.code).toBe('auth');
-    const right = await connectClickHouse({ server: shards.servers[0]!.url, credentials: AUDITOR });
+    const right = await shards.connect({ credentials: AUDITOR });
     expect((await right.query('SELECT 1 AS one')).columns[0]).toEqual([1]);
     await right.close();
   });

@@ -10,7 +10,7 @@ import type { Dialect } from '../../app/core/sql/dialect.ts';
 import { clickhouse } from '../../app/core/sql/dialect-clickhouse.ts';
 import { duckdb } from '../../app/core/sql/dialect-duckdb.ts';
 import { dialectNamed } from '../../app/core/sql/dialects.ts';
-import { connectClickHouse, type ClickHouseEngine } from '../../app/engine/clickhouse.ts';
+import type { ClickHouseEngine } from '../../app/engine/clickhouse.ts';
 import { createNativeEngine, type NativeEngine } from '../../app/engine/native.ts';
 import { CLUSTER, clickhouseBinary, clickhouseRequired, startLocalShards, type LocalShards } from './clickhouse-servers.ts';
 
@@ -89,12 +89,9 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse dialect o
     await shards.admin(0, 'INSERT INTO part FORMAT TabSeparated', tsv(ROWS.slice(0, 2)));
     await shards.admin(1, 'INSERT INTO part FORMAT TabSeparated', tsv(ROWS.slice(2)));
     await shards.admin(0, `CREATE TABLE part_all AS part ENGINE = Distributed(${CLUSTER}, default, part)`);
-    engine = await connectClickHouse({ server: shards.servers[0]!.url, credentials: { user: 'default', password: '' } });
+    engine = await shards.connect();
   }, 120_000);
-  afterAll(async () => {
-    await engine?.close();
-    await shards?.stop();
-  }, 60_000);
+  afterAll(() => shards?.stop(), 60_000);
 
   it.each(CASES)('$name', async ({ sql, expected }) => {
     const t = await engine.query(`SELECT ${sql(clickhouse)} AS v FROM default.v`);
