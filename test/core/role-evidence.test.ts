@@ -30,6 +30,8 @@ async function inspect(spec: RoleLogSpec, rows: number, seed: number) {
 }
 
 const roleOf = (s: { role: string; column: string }[], role: string) => s.filter((x) => x.role === role).map((x) => x.column);
+/** The columns suggested for each of the given roles. */
+const rolesOf = (s: { role: string; column: string }[], expected: Record<string, string[]>) => Object.fromEntries(Object.keys(expected).map((role) => [role, roleOf(s, role)]));
 
 describe('balanceFit (the identity on hand-made groups)', () => {
   it('is exactly 1 for every action when each row carries its true probability', () => {
@@ -59,13 +61,8 @@ describe('balanceFit (the identity on hand-made groups)', () => {
 describe('role inference on generated logs', () => {
   it('the booking log: the offer column named like an id is the action, the opaque event id is the id', async () => {
     const r = await inspect(BOOKING_SPEC, 20_000, 11);
-    expect(roleOf(r.suggestions, 'action')).toEqual(['offer_id']);
-    expect(roleOf(r.suggestions, 'decision_id')).toEqual(['evt']);
-    expect(roleOf(r.suggestions, 'propensity')).toEqual(['shown_chance']);
-    expect(roleOf(r.suggestions, 'reward')).toEqual(['tapped']);
-    expect(roleOf(r.suggestions, 'time')).toEqual(['happened']);
-    expect(roleOf(r.suggestions, 'policy_version')).toEqual(['policy_tag']);
-    expect(roleOf(r.suggestions, 'segments')).toEqual(['city_zone', 'guest_kind', 'platform']);
+    const expected = { action: ['offer_id'], decision_id: ['evt'], propensity: ['shown_chance'], reward: ['tapped'], time: ['happened'], policy_version: ['policy_tag'], segments: ['city_zone', 'guest_kind', 'platform'] };
+    expect(rolesOf(r.suggestions, expected)).toEqual(expected);
     const action = r.suggestions.find((s) => s.role === 'action');
     expect(action?.reason).toMatch(/^weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/);
     expect(action?.confidence).toBeGreaterThanOrEqual(0.9);
@@ -79,11 +76,8 @@ describe('role inference on generated logs', () => {
 
   it('the ad log: integer arms with no action-like name, a named integer key', async () => {
     const r = await inspect(AD_SPEC, 20_000, 12);
-    expect(roleOf(r.suggestions, 'action')).toEqual(['creative']);
-    expect(roleOf(r.suggestions, 'decision_id')).toEqual(['request_key']);
-    expect(roleOf(r.suggestions, 'propensity')).toEqual(['pscore']);
-    expect(roleOf(r.suggestions, 'time')).toEqual(['event_time_ms']);
-    expect(roleOf(r.suggestions, 'reward')).toEqual(['converted']);
+    const expected = { action: ['creative'], decision_id: ['request_key'], propensity: ['pscore'], time: ['event_time_ms'], reward: ['converted'] };
+    expect(rolesOf(r.suggestions, expected)).toEqual(expected);
   });
 
   it('the tutoring log: a segment with as many equally likely values as actions also balances, so the evidence is called weak', async () => {
