@@ -3,7 +3,6 @@
  * sample-data/generate.ts with planted problems listed in the manifests). The command's JSON must equal
  * the core's report for the same inputs (runAudit in-process, native engine), apart from report.run.
  */
-import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -12,18 +11,15 @@ import { runAudit } from '../../../app/core/audit.ts';
 import { createNativeEngine } from '../../../app/engine/native.ts';
 import { fingerprintFiles } from '../../../app/report/fingerprint.ts';
 import { REPORT_SCHEMA_PATH, toJsonValue, validateReport } from '../../../app/report/json.ts';
+import { expectInputErrors, runCli } from './spawn.ts';
 
 const ROOT = path.resolve('.');
-const BIN = path.join(ROOT, 'bin/counterweight.mjs');
 const DEMO = 'sample-data/maple-row-demo.parquet';
 const CLEAN = 'sample-data/maple-row-clean.parquet';
 const haveLogs = existsSync(DEMO) && existsSync(CLEAN);
 const out = mkdtempSync(path.join(tmpdir(), 'cw-audit-'));
 
-function cli(args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' }, timeout: 120_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+const cli = (args: string[]) => runCli(args, ROOT, 120_000);
 
 async function coreReport(file: string): Promise<Record<string, unknown>> {
   const engine = await createNativeEngine();
@@ -78,19 +74,14 @@ describe.skipIf(!haveLogs)('counterweight audit (spawned)', () => {
   });
 
   it('usage and input errors exit 3 with a specific message and no stack trace', () => {
-    for (const [args, message] of [
+    expectInputErrors(cli, [
       [['audit', DEMO, '--fail-on', 'warning'], "--fail-on must be warn or fail, got 'warning'"],
       [['audit', 'sample-data/no-such-log.parquet'], 'no such file or folder: sample-data/no-such-log.parquet'],
       [['audit', DEMO, '--role', 'reward=no_such_column', '--quiet'], 'no_such_column'],
       [['audit', DEMO, '--json', DEMO], 'refusing to write a report over the input file'],
       // DESIGN of the demo (sample-data/README.md): seven promotions; a typo is an input error that lists them
       [['audit', DEMO, '--target', 'always:bakry', '--quiet'], 'target always:bakry: the log has no action "bakry"; its 7 actions are "bakery", "free-delivery", "household", "no-banner", "pantry-restock", "produce-box", "recipe-kit"'],
-    ] as const) {
-      const r = cli([...args]);
-      expect(r.code, args.join(' ')).toBe(3);
-      expect(r.stderr).toContain(message);
-      expect(r.stderr).not.toMatch(/\n\s+at /);
-    }
+    ]);
   });
 
   it('roles prints suggestions with reasons; inspect and schema answer', () => {

@@ -2,7 +2,6 @@
  * The command as a user runs it: `node bin/counterweight.mjs ...` in a child process, checking exit codes
  * and messages. The report here is the writers' test fixture (not an audit output), pointed at a real file.
  */
-import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -10,13 +9,9 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { sha256File } from '../../../app/report/fingerprint.ts';
 import { REPORT_SCHEMA_PATH, serializeReport, validateReport } from '../../../app/report/json.ts';
 import { fixtureReport } from '../report/fixture-report.ts';
+import { expectInputErrors, runCli } from './spawn.ts';
 
-const BIN = path.resolve('bin/counterweight.mjs');
-
-function cli(args: string[], cwd: string) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' }, timeout: 60_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+const cli = (args: string[], cwd: string) => runCli(args, cwd, 60_000);
 
 const dir = mkdtempSync(path.join(tmpdir(), 'cw-cli-'));
 
@@ -37,17 +32,12 @@ describe('counterweight (spawned)', () => {
   });
 
   it('exits 3 with a specific message and no stack for a bad flag, a missing file and an unknown command', () => {
-    for (const [args, message] of [
+    expectInputErrors((args) => cli(args, dir), [
       [['inspect', 'log.csv', '--engin', 'wasm'], "unknown option --engin for 'inspect'; did you mean --engine?"],
       [['inspect', 'missing.parquet'], 'no such file or folder: missing.parquet'],
       [['verify', 'missing.json'], 'no such file: missing.json'],
       [['frobnicate'], "unknown command 'frobnicate'"],
-    ] as const) {
-      const r = cli([...args], dir);
-      expect(r.code, args.join(' ')).toBe(3);
-      expect(r.stderr).toContain(message);
-      expect(r.stderr).not.toMatch(/\n\s+at /);
-    }
+    ]);
   });
 
   it('keygen writes a 0600 private key and refuses to overwrite it', () => {

@@ -2,20 +2,15 @@
  * `counterweight compare`, `audit --baseline` and `history` as a user runs them (spawned), on audits of the demo
  * log and of the week after it: exit statuses, the JSON contract, the summary's order.
  */
-import { spawnSync } from 'node:child_process';
 import { copyFileSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { validateComparison } from '../../../app/report/comparison-json.ts';
+import { expectInputErrors, runCli } from './spawn.ts';
 
-const BIN = path.resolve('bin/counterweight.mjs');
 const SAMPLE = path.resolve('sample-data');
-
-function cli(args: string[], cwd: string) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' }, timeout: 120_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+const cli = (args: string[], cwd: string) => runCli(args, cwd, 120_000);
 
 const dir = mkdtempSync(path.join(tmpdir(), 'cw-compare-'));
 const v9 = path.join(SAMPLE, 'maple-row-v9-policy.csv');
@@ -66,19 +61,14 @@ describe('counterweight compare', () => {
     writeFileSync(path.join(dir, 'not-report.json'), '{"hello": 1}');
     const broken = JSON.parse(readFileSync(path.join(dir, 'week1.json'), 'utf8')) as Record<string, unknown>;
     writeFileSync(path.join(dir, 'broken.json'), JSON.stringify({ ...broken, verdict: 'perhaps' }));
-    for (const [args, message] of [
+    expectInputErrors((args) => cli(args, dir), [
       [['compare', 'missing.json', 'week2.json'], 'no such file: missing.json'],
       [['compare', 'not-report.json', 'week2.json'], 'is not a Counterweight report'],
       [['compare', 'broken.json', 'week2.json'], 'broken.json is not a valid counterweight.report/1 report: /verdict'],
       [['compare', 'week1.json', 'week2.json', '--fail-on', 'sometimes'], '--fail-on'],
       [['compare', 'week1.json'], 'compare'],
       [['compare', 'week1.json', 'week2.json', '--json', 'week1.json'], 'refusing to write the comparison over the input report'],
-    ] as const) {
-      const r = cli([...args], dir);
-      expect(r.code, args.join(' ')).toBe(3);
-      expect(r.stderr).toContain(message);
-      expect(r.stderr).not.toMatch(/\n\s+at /);
-    }
+    ]);
   });
 });
 

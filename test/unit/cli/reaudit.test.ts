@@ -3,20 +3,16 @@
  * re-run reproduce the body byte for byte; a signed report whose numbers were edited (and re-signed, so its
  * digest and signature are fine) is caught by the re-audit alone, which names the value that differs.
  */
-import { spawnSync } from 'node:child_process';
 import { copyFileSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './spawn.ts';
 
-const BIN = path.resolve('bin/counterweight.mjs');
 const SAMPLE = path.resolve('sample-data');
 const dir = mkdtempSync(path.join(tmpdir(), 'cw-reaudit-'));
 
-function cli(args: string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: dir, encoding: 'utf8', env: { ...process.env, NO_COLOR: '1' }, timeout: 180_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+const cli = (args: string[]) => runCli(args, dir, 180_000);
 
 beforeAll(() => {
   copyFileSync(path.join(SAMPLE, 'maple-row-demo.parquet'), path.join(dir, 'log.parquet'));
