@@ -52,21 +52,25 @@ const iso = (ms: number): string => new Date(ms).toISOString();
 /** Six significant digits keeps the manifest readable; the tests compare against the data with tolerances. */
 const round6 = (x: number): number => Number(x.toPrecision(6));
 
-export function buildManifest(kind: LogKind, seed: number, tally: LogTally): SampleManifest {
-  if (kind === 'next') return nextManifest(seed, tally);
+/** What every manifest opens with, in this key order: the scenario, the generator, the columns, the time span. */
+function manifestHead(log: LogKind, seed: number, tally: LogTally, prng: string, startMs: number, endMs: number, days: number) {
   return {
     schema: 'counterweight.sample-manifest/1',
     scenario: 'Maple Row Market',
-    log: kind,
-    generator: {
-      seed, decisions: tally.decisions, rows: tally.rows,
-      prng: 'xoshiro128** 1.1 seeded through mulberry32', probability_units: PROBABILITY_UNITS,
-    },
+    log,
+    generator: { seed, decisions: tally.decisions, rows: tally.rows, prng, probability_units: PROBABILITY_UNITS },
     columns: LOG_COLUMNS.map((c) => ({ ...c })),
     time: {
-      start: iso(START_MS), end: iso(END_MS), days: DAYS,
+      start: iso(startMs), end: iso(endMs), days,
       day_numbering: 'day d (1-based) covers [start + (d-1)*24h, start + d*24h); windows are half-open [from, to)',
     },
+  } as const;
+}
+
+export function buildManifest(kind: LogKind, seed: number, tally: LogTally): SampleManifest {
+  if (kind === 'next') return nextManifest(seed, tally);
+  return {
+    ...manifestHead(kind, seed, tally, 'xoshiro128** 1.1 seeded through mulberry32', START_MS, END_MS, DAYS),
     policy_versions: [
       { version: V7.version, from: iso(START_MS), to: iso(V8_FROM_MS), softmax_scale: V7.scale, epsilon: V7.epsilon },
       { version: V8.version, from: iso(V8_FROM_MS), to: iso(END_MS), softmax_scale: V8.scale, epsilon: V8.epsilon },
@@ -171,18 +175,7 @@ function nextManifest(seed: number, t: LogTally): SampleManifest {
   const week = { from: iso(NEXT_START_MS), to: iso(NEXT_END_MS) };
   const v81 = { from: iso(p.v81FromMs), to: iso(NEXT_END_MS) };
   return {
-    schema: 'counterweight.sample-manifest/1',
-    scenario: 'Maple Row Market',
-    log: 'next',
-    generator: {
-      seed, decisions: t.decisions, rows: t.rows,
-      prng: 'xoshiro128** 1.1 seeded through mulberry32 (seed xor 0x9e3779b9)', probability_units: PROBABILITY_UNITS,
-    },
-    columns: LOG_COLUMNS.map((c) => ({ ...c })),
-    time: {
-      start: iso(NEXT_START_MS), end: iso(NEXT_END_MS), days: NEXT_DAYS,
-      day_numbering: 'day d (1-based) covers [start + (d-1)*24h, start + d*24h); windows are half-open [from, to)',
-    },
+    ...manifestHead('next', seed, t, 'xoshiro128** 1.1 seeded through mulberry32 (seed xor 0x9e3779b9)', NEXT_START_MS, NEXT_END_MS, NEXT_DAYS),
     policy_versions: [
       { version: V8.version, from: iso(NEXT_START_MS), to: iso(p.v81FromMs), softmax_scale: V8.scale, epsilon: V8.epsilon },
       { version: V8_1.version, from: iso(p.v81FromMs), to: iso(NEXT_END_MS), softmax_scale: V8_1.scale, epsilon: V8_1.epsilon },
