@@ -1,3 +1,4 @@
+import { useState } from 'react';
 import { distinctText } from '../../app/core/roles/roles.ts';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import type { OpenedSource } from '../engine/status.ts';
@@ -16,6 +17,9 @@ const RARE_ROLES: readonly SingleRole[] = ['target_propensity', 'propensity_vect
 export function RolesScreen({ source, draft, onChange, onNext }: Props) {
   const problems = [...roleProblems(draft, source.profile, source.evidence), ...weakSuggestionProblems(draft, source.suggestions)];
   const blocking = problems.some((p) => p.severity === 'fail');
+  // Open at first when a rare role is mapped, then only the person opens or closes it: a prop tied to the mapping
+  // would close the section under the keyboard focus when its last select is set back to none.
+  const [moreOpen, setMoreOpen] = useState(() => RARE_ROLES.some((r) => draft.roles[r]));
   const columns = source.profile.columns;
   const roleOf = new Map(SINGLE_ROLES.filter((r) => draft.roles[r]).map((r) => [draft.roles[r] as string, ROLE_LABELS[r].label.toLowerCase()]));
   const setRole = (role: SingleRole, column: string) => {
@@ -65,7 +69,7 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
             <thead><tr><th scope="col">Role</th><th scope="col">Column</th><th scope="col">Why this column</th></tr></thead>
             <tbody>{main.map(row)}</tbody>
           </table>
-          <details className="more-roles" open={RARE_ROLES.some((r) => draft.roles[r])}>
+          <details className="more-roles" open={moreOpen} onToggle={(e) => setMoreOpen(e.currentTarget.open)}>
             <summary>More roles, if your log has them</summary>
             <table className="roles-table"><tbody>{RARE_ROLES.map(row)}</tbody></table>
           </details>

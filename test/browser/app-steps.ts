@@ -28,6 +28,46 @@ export async function exportedReportText(page: Page): Promise<string> {
   return readFileSync(await download.path(), 'utf8');
 }
 
+/**
+ * Tab, from the top of the screen's main area, reaches every control in it that is shown and enabled, and in the
+ * order the screen reads (document order: each control reached follows the one before it). A closed disclosure is
+ * opened from the keyboard when Tab reaches its summary (Enter), and the controls it shows must then be reached too.
+ */
+export async function everyControlByKeyboard(page: Page, screen: string): Promise<void> {
+  await page.evaluate(() => {
+    for (const e of document.querySelectorAll('[data-reached]')) e.removeAttribute('data-reached');
+    document.getElementById('main')?.focus();
+  });
+  const outOfOrder: string[] = [];
+  for (let step = 0; step < 500; step++) {
+    await page.keyboard.press('Tab');
+    const at = await page.evaluate((step) => {
+      const e = document.activeElement as HTMLElement | null;
+      const main = document.getElementById('main');
+      if (!e || !main || e === main || !main.contains(e)) return null;
+      const before = document.querySelector(`[data-reached="${step - 1}"]`);
+      const inOrder = !before || Boolean(before.compareDocumentPosition(e) & Node.DOCUMENT_POSITION_FOLLOWING);
+      e.setAttribute('data-reached', String(step));
+      const details = e.tagName === 'SUMMARY' ? (e.parentElement as HTMLDetailsElement) : null;
+      return { inOrder, label: (e.getAttribute('aria-label') ?? e.id) || (e.textContent ?? '').trim().slice(0, 40), closed: details !== null && !details.open };
+    }, step);
+    if (at === null) break;
+    if (!at.inOrder) outOfOrder.push(at.label);
+    if (at.closed) {
+      await page.keyboard.press('Enter');
+      await expect(page.locator(`[data-reached="${step}"]`).locator('xpath=..'), `Enter opens "${at.label}" on ${screen}`).toHaveAttribute('open', '');
+    }
+  }
+  const missed = await page.evaluate(() =>
+    [...document.querySelectorAll<HTMLElement>('#main :is(button, a[href], input, select, textarea, summary, [tabindex="0"])')]
+      .filter((e) => !(e as HTMLButtonElement).disabled && e.tabIndex >= 0 && e.checkVisibility({ visibilityProperty: true }))
+      .filter((e) => !(e instanceof HTMLInputElement && e.type === 'radio' && !e.checked))
+      .filter((e) => !e.hasAttribute('data-reached'))
+      .map((e) => `${e.tagName.toLowerCase()} "${(e.getAttribute('aria-label') ?? e.id) || (e.textContent ?? '').trim().slice(0, 40)}"`));
+  expect(missed, `controls of ${screen} not reached by Tab`).toEqual([]);
+  expect(outOfOrder, `controls of ${screen} reached out of reading order`).toEqual([]);
+}
+
 /** axe on the page as it is: no serious or critical violation of WCAG 2.2 AA. */
 export async function noSeriousViolations(page: Page, screen: string): Promise<void> {
   const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa', 'wcag22aa']).analyze();
