@@ -27,7 +27,7 @@ export function formatComparisonSummary(c: Comparison, paint: Paint, labels: { b
   for (const h of c.better) out.push(`  ${paint.status('pass', 'better')} ${plain(h.message)}`);
   out.push('');
   const n = c.counts;
-  out.push(`Findings: ${n.new_findings} new, ${n.resolved_findings} resolved, ${n.persisting_findings} persisting · checks changed: ${n.changed_checks} · segments whose readiness changed: ${n.changed_segments} · estimates that moved beyond their uncertainty: ${n.moved_estimates}`);
+  out.push(`Findings: ${n.new_findings} new, ${n.resolved_findings} resolved, ${n.persisting_findings} persisting${n.unlisted_findings ? `, ${n.unlisted_findings} on one report only because the other's list was capped` : ''} · checks changed: ${n.changed_checks} · segments whose readiness changed: ${n.changed_segments} · estimates that moved beyond their uncertainty: ${n.moved_estimates}`);
   for (const t of c.targets) {
     if (t.presence !== 'both') continue;
     const f = (x: number | null, digits = 3) => (x === null ? 'n/a' : Number(x.toPrecision(digits)).toString());

@@ -72,6 +72,7 @@ ${c.checks.map((k) => html`<tr><td>${k.title} <code>${k.id}</code></td><td>${sta
 </tbody></table></section>
 <section id="findings-new"><h2>New findings (${fmtNumber(byState('new').length)})</h2>${byState('new').length ? findingRows(byState('new')) : html`<p class="muted">None.</p>`}</section>
 <section id="findings-resolved"><h2>Resolved findings (${fmtNumber(byState('resolved').length)})</h2>${byState('resolved').length ? findingRows(byState('resolved')) : html`<p class="muted">None.</p>`}</section>
+${byState('unlisted').length ? html`<section id="findings-unlisted"><h2>Findings on one report's list only (${fmtNumber(byState('unlisted').length)})</h2><p class="muted">The other report's check listed only its first findings, so these may still be there: open that report's check to see its full summary.</p>${findingRows(byState('unlisted'))}</section>` : ''}
 <section id="findings-changed"><h2>Persisting findings whose status changed (${fmtNumber(byState('persisting').length)})</h2>${byState('persisting').length ? findingRows(byState('persisting')) : html`<p class="muted">None; ${fmtNumber(c.counts.persisting_findings)} findings persist unchanged in status.</p>`}</section>
 <section id="targets"><h2>Target policies</h2>
 ${c.targets.map((t) => html`<h3>${t.name}${t.presence !== 'both' ? html` <span class="muted">(${t.presence})</span>` : ''}</h3>

@@ -80,6 +80,11 @@ function ComparisonView({ c, current, onOpenCheck }: { c: Comparison; current: R
       <FindingTable findings={changed('new')} onOpenCheck={onOpenCheck} current={current} />
       <h2>Resolved findings ({changed('resolved').length})</h2>
       <FindingTable findings={changed('resolved')} onOpenCheck={onOpenCheck} current={current} />
+      {changed('unlisted').length > 0 && <>
+        <h2>Findings on one report's list only ({changed('unlisted').length})</h2>
+        <p className="muted">The other report's check listed only its first findings, so these may still be there.</p>
+        <FindingTable findings={changed('unlisted')} onOpenCheck={onOpenCheck} current={current} />
+      </>}
       <h2>Persisting findings whose status changed ({changed('persisting').length})</h2>
       <FindingTable findings={changed('persisting')} onOpenCheck={onOpenCheck} current={current} />
       <h2>Targets</h2>

@@ -55,6 +55,15 @@ export function result(
   return { id, title: id, status, summary, metrics, findings, settings_used: settingsUsed, ...(series && series.length ? { series } : {}) };
 }
 
+/**
+ * The sentence a capped finding list adds to its check's summary ('' when nothing was left out); the count itself
+ * goes into the check's `findings_not_listed` metric, which a comparison reads so that a finding merely left off
+ * the list is not taken for a resolved one (app/core/compare/compare.ts).
+ */
+export function notListedNote(notListed: number, max: number, what: string): string {
+  return notListed > 0 ? ` The findings list the first ${max} ${what}; ${notListed} more are not listed.` : '';
+}
+
 export function skipped(id: CheckId, why: string, settingsUsed: readonly SettingKey[] = []): CheckResult {
   return result(id, 'skipped', `Skipped: ${why}.`, {}, [], settingsUsed);
 }

@@ -1,8 +1,10 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import { segmentKey } from '../cube/rollup.ts';
 import type { Status } from '../model/report.ts';
-import { describeSegment, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
+import { describeSegment, notListedNote, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
+
+const MAX_FINDINGS_PER_TARGET = 10;
 
 /** support.target: share of each target's mass on cells the log never covers (Sachdeva, Su & Joachims 2020). */
 function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
@@ -12,6 +14,7 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
   const findings: DraftFinding[] = [];
   const statuses: Status[] = [];
   const metrics: Record<string, number> = {};
+  let notListed = 0;
   for (const t of ctx.targets) {
     if (t.target.kind === 'column') continue;
     const primary = ctx.primaryTargets.includes(t);
@@ -22,9 +25,13 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
     const unsupportedKeys = new Set(t.unsupported.map((u) => `${segmentKey(u.segment)}|${u.action}`));
     const items = ctx.view.cells.map((c) => ({ values: [...c.segment, c.action], flagged: false, payload: { mass: 0 } }));
     for (const u of t.unsupported) items.push({ values: [...u.segment, u.action], flagged: true, payload: { mass: u.mass } });
-    const patterns = coverByPatterns(items.filter((i) => i.flagged || !unsupportedKeys.has(`${segmentKey(i.values.slice(0, -1))}|${i.values[i.values.length - 1]}`)));
-    for (const p of patterns.slice(0, 10)) {
-      const mass = p.items.reduce((s, x) => s + x.mass, 0);
+    // the largest unsupported masses first, so that a capped list leaves out the smallest places
+    const patterns = coverByPatterns(items.filter((i) => i.flagged || !unsupportedKeys.has(`${segmentKey(i.values.slice(0, -1))}|${i.values[i.values.length - 1]}`)))
+      .map((p) => ({ ...p, mass: p.items.reduce((s, x) => s + x.mass, 0) }))
+      .sort((a, b) => b.mass - a.mass);
+    notListed += Math.max(0, patterns.length - MAX_FINDINGS_PER_TARGET);
+    for (const p of patterns.slice(0, MAX_FINDINGS_PER_TARGET)) {
+      const mass = p.mass;
       const action = p.values[p.values.length - 1] as string;
       const segment = segmentRecord(ctx.segmentColumns, p.values.slice(0, -1));
       findings.push({
@@ -49,8 +56,8 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
   const status = statuses.length ? worst(...statuses) : 'pass';
   const primaries = ctx.primaryTargets.filter((t) => t.target.kind !== 'column');
   if (primaries.length === 0) return skipped('support.target', 'only column targets were given; their support is covered by weights.ess', ['support.target.warn', 'support.target.fail']);
-  const summary = primaries.map((t) => `${t.target.name}: ${pct(t.supportDeficit, 2)} of its mass is unsupported`).join('; ') + ` (warn above ${pct(warnAt)}, fail above ${pct(failAt)}).`;
-  return result('support.target', status, summary, metrics, findings, ['support.target.warn', 'support.target.fail']);
+  const summary = primaries.map((t) => `${t.target.name}: ${pct(t.supportDeficit, 2)} of its mass is unsupported`).join('; ') + ` (warn above ${pct(warnAt)}, fail above ${pct(failAt)}).` + notListedNote(notListed, MAX_FINDINGS_PER_TARGET, 'places per target, largest mass first');
+  return result('support.target', status, summary, { ...metrics, ...(notListed ? { findings_not_listed: notListed } : {}) }, findings, ['support.target.warn', 'support.target.fail']);
 }
 
 export const supportTarget: CheckDefinition<'support.target'> = defineCheck({

@@ -172,14 +172,21 @@ function findingSide(f: Finding | undefined, metric: string): FindingChange['bas
   };
 }
 
+/** Whether the report's check left findings off its capped list (the check's `findings_not_listed` metric). */
+function leftOffList(report: Report, check: string): boolean {
+  const n = report.checks.find((c) => c.id === check)?.metrics.findings_not_listed;
+  return typeof n === 'number' && n > 0;
+}
+
 function compareFindings(a: Report, b: Report, spanA: Span | null, spanB: Span | null): FindingChange[] {
   const pairs = matchFindings(a, b, spanA, spanB);
   return pairs.map(({ check, baseline: fa, current: fb }) => {
     const located = (fb ?? fa)!;
     const scope = typeof located.metrics.scope === 'string' ? located.metrics.scope : undefined;
     const metric = sizeMetric(check, [fa, fb]);
-    const state = fa && fb ? 'persisting' : fb ? 'new' : 'resolved';
-    const change: Change = state === 'new' ? 'added' : state === 'resolved' ? 'removed' : statusChange(fa!.status, fb!.status);
+    // a finding missing on one side is new or resolved only if that side's check listed every finding it had
+    const state = fa && fb ? 'persisting' : fa ? (leftOffList(b, check) ? 'unlisted' : 'resolved') : leftOffList(a, check) ? 'unlisted' : 'new';
+    const change: Change = state === 'new' ? 'added' : state === 'resolved' ? 'removed' : state === 'unlisted' ? 'changed' : statusChange(fa!.status, fb!.status);
     const regression = (state === 'new' && fb!.status === 'fail') || (state === 'persisting' && change === 'worse' && fb!.status === 'fail');
     return {
       check,
@@ -333,6 +340,7 @@ export function compareReports(baseline: Report, current: Report, options: Compa
       new_findings: findings.filter((f) => f.state === 'new').length,
       resolved_findings: findings.filter((f) => f.state === 'resolved').length,
       persisting_findings: findings.filter((f) => f.state === 'persisting').length,
+      unlisted_findings: findings.filter((f) => f.state === 'unlisted').length,
       changed_checks: checks.filter((c) => c.change !== 'same').length,
       changed_segments: segments.filter((s) => s.change !== 'same').length,
       moved_estimates: movedEstimates,

@@ -73,7 +73,11 @@ export const FindingSideSchema = record({
   sql: z.string().optional(),
 });
 
-export const FINDING_STATES = ['new', 'resolved', 'persisting'] as const;
+/**
+ * `unlisted`: the finding is in one report only, and the other report's check listed only its first findings
+ * (its `findings_not_listed` metric is above 0), so whether it is still there cannot be told from the reports.
+ */
+export const FINDING_STATES = ['new', 'resolved', 'persisting', 'unlisted'] as const;
 export const FindingChangeSchema = record({
   check: z.string(),
   segment: SegmentSchema,
@@ -171,6 +175,8 @@ export const ComparisonSchema = record({
     new_findings: z.number().int().min(0),
     resolved_findings: z.number().int().min(0),
     persisting_findings: z.number().int().min(0),
+    /** Findings in one report only whose check in the other report left findings off its capped list. */
+    unlisted_findings: z.number().int().min(0),
     changed_checks: z.number().int().min(0),
     changed_segments: z.number().int().min(0),
     moved_estimates: z.number().int().min(0),

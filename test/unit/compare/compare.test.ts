@@ -82,3 +82,32 @@ describe('compareReports', () => {
     expect(page).not.toMatch(/<script/i);
   });
 });
+
+describe('findings left off a capped list', () => {
+  const base = fixtureReport();
+  const located = (region: string): Finding => ({ segment: { region }, action: 'bakery', target: 'uniform', status: 'warn', metrics: { mass: 0.01 }, message: `unsupported in ${region}` });
+  const withSupport = (findings: Finding[], notListed?: number): Report => ({
+    ...base,
+    checks: [...base.checks.filter((c) => c.id !== 'support.target'), {
+      id: 'support.target', title: 'Support for each target', status: 'warn', summary: '', findings, settings_used: [],
+      metrics: notListed === undefined ? {} : { findings_not_listed: notListed },
+    }],
+  });
+  const states = (a: Report, b: Report) => compareReports(a, b).findings.filter((f) => f.check === 'support.target').map((f) => [f.segment.region, f.state, f.change]);
+
+  it('a finding missing from a list that left findings out is unlisted, not resolved; from a complete list it is resolved', () => {
+    const a = withSupport([located('north'), located('south')]);
+    expect(states(a, withSupport([located('north')], 3))).toEqual([['north', 'persisting', 'same'], ['south', 'unlisted', 'changed']]);
+    expect(states(a, withSupport([located('north')]))).toEqual([['north', 'persisting', 'same'], ['south', 'resolved', 'removed']]);
+  });
+
+  it('the same holds the other way round: a finding the capped baseline did not list is not new', () => {
+    const c = compareReports(withSupport([located('north')], 1), withSupport([located('north'), located('south')]));
+    expect(c.findings.filter((f) => f.check === 'support.target').map((f) => f.state)).toEqual(['persisting', 'unlisted']);
+    expect(c.counts.unlisted_findings).toBe(1);
+    expect(c.counts.new_findings).toBe(0);
+    expect(c.better.concat(c.worse).some((h) => h.message.includes('south'))).toBe(false);
+    expect(validateComparison(JSON.parse(JSON.stringify(c)))).toBeTruthy();
+    expect(renderComparisonHtml(c, { baseline: 'a.json', current: 'b.json' })).toContain('findings-unlisted');
+  });
+});
