@@ -38,7 +38,8 @@ export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): Se
   if (ctx.cells.length === 0) return [];
   const eps = ctx.settings['support.floor.epsilon'];
   const explored = new Map(explorationBySegment(ctx).map((e) => [e.segment.join('\u001f'), e]));
-  const drift = checks.filter((c) => c.id === 'drift.reward' || c.id === 'drift.policy' || c.id === 'balance.weights');
+  const drift = checks.filter((c) => c.id === 'balance.weights' || c.id === 'drift.reward' || c.id === 'drift.policy');
+  const byId = new Map(checks.map((c) => [c.id as string, c]));
   const rows = Math.max(1, ctx.view.rows);
   const bySegment = ctx.primaryTargets.map((t) => {
     const m = new Map<string, TargetAnalysis['bySegment'][number]>();
@@ -68,6 +69,26 @@ export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): Se
     const served = ctx.primaryTargets.some((t) => t.serves(s.segment));
     const lowFloor = s.totals.minP !== null && s.totals.minP < eps;
     const status = unexplored && served ? 'fail' : unexplored || lowFloor || flags.length ? 'warn' : 'pass';
+    const matching = (id: string) => (byId.get(id)?.findings ?? []).filter((f) => f.status !== 'pass' && Object.keys(f.segment).length > 0 && matches(f.segment, ctx.segmentColumns, s.segment));
+    const causes: string[] = [];
+    if (unexplored) {
+      const f = matching('propensity.exploration')[0];
+      causes.push(`not explored by the logging policy${f ? ` in ${describeSegment(f.segment)}` : ''}`);
+    }
+    if (lowFloor) {
+      const f = matching('support.floor')[0];
+      causes.push(`a propensity below ε = ${eps}${f ? ` (${f.action ? `${f.action} in ` : ''}${describeSegment(f.segment)})` : ''}`);
+    }
+    // one cause per located finding scope, naming every check that flags it (mis-logged propensities in a region
+    // fail weight balance and shift the policy's action mix: one cause, not two)
+    const scopes = new Map<string, string[]>();
+    for (const c of drift) for (const f of matching(c.id)) {
+      const scope = describeSegment(f.segment);
+      const titles = scopes.get(scope) ?? [];
+      if (!titles.includes(c.title.toLowerCase())) titles.push(c.title.toLowerCase());
+      scopes.set(scope, titles);
+    }
+    for (const [scope, titles] of scopes) causes.push(`${titles.join(' and ')} in ${scope}`);
     return {
       segment: segmentRecord(ctx.segmentColumns, s.segment),
       rows: s.totals.n,
@@ -77,7 +98,15 @@ export function readiness(ctx: AuditContext, checks: readonly CheckResult[]): Se
       min_propensity: s.totals.minP,
       ess,
       drift_flags: flags.slice(0, 8),
+      ...(causes.length ? { causes } : {}),
       status,
     };
   });
+}
+
+/** Each cause of the readiness table with how many segments it affects, most first (ties in first-seen order). */
+export function readinessCauses(segments: readonly SegmentReadiness[]): { cause: string; segments: number }[] {
+  const counts = new Map<string, number>();
+  for (const s of segments) for (const c of s.causes ?? []) counts.set(c, (counts.get(c) ?? 0) + 1);
+  return [...counts].map(([cause, n]) => ({ cause, segments: n })).sort((a, b) => b.segments - a.segments);
 }

@@ -5,6 +5,7 @@
  */
 import type { CheckResult, Estimate, Finding, Metrics, Remedies, Report, SegmentReadiness, Status, TargetSummary, Verdict } from '../core/model/report.ts';
 import { REMEDY_TITLES } from '../core/remedies/links.ts';
+import { readinessCauses } from '../core/verdict.ts';
 import { remedyLines } from './remedies-text.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
 import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
@@ -153,7 +154,9 @@ function segmentsSection(segments: readonly SegmentReadiness[]): SafeHtml {
   if (segments.length === 0) return html`<h2 id="segments">Segment readiness</h2><p class="muted">No segment columns were mapped.</p>`;
   const essKeys = [...new Set(segments.flatMap((s) => Object.keys(s.ess)))];
   const shown = segments.slice(0, MAX_SEGMENTS);
+  const causes = readinessCauses(segments);
   return html`<h2 id="segments">Segment readiness</h2>
+${causes.length ? html`<p>Segments not ready, by cause:</p><ul class="causes">${causes.map((c) => html`<li>${c.cause}: ${fmtNumber(c.segments)} of ${fmtNumber(segments.length)} segments</li>`)}</ul>` : ''}
 <table><thead><tr><th>Segment</th><th>Status</th><th>Rows</th><th>Share</th><th>Explored</th><th>Top action share</th><th>Min propensity</th>${essKeys.map((k) => html`<th>ESS ${k}</th>`)}<th>Drift</th></tr></thead><tbody>
 ${shown.map((s) => html`<tr><td>${fmtSegment(s.segment)}</td><td>${statusBadge(s.status)}</td><td class="num">${fmtNumber(s.rows)}</td><td class="num">${fmtShare(s.share)}</td><td>${s.explored ? 'yes' : 'NO'}</td><td class="num">${fmtShare(s.top_action_share)}</td><td class="num">${fmtNumber(s.min_propensity)}</td>${essKeys.map((k) => html`<td class="num">${fmtNumber(s.ess[k])}</td>`)}<td>${s.drift_flags.join(', ') || '—'}</td></tr>`)}
 </tbody></table>

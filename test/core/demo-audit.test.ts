@@ -9,6 +9,8 @@ import type { Report } from '../../app/core/model/report.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { validateReport } from '../../app/report/json.ts';
+import { describeSegment } from '../../app/core/checks/context.ts';
+import { readinessCauses } from '../../app/core/verdict.ts';
 import { auditFile, SAMPLE, v9Target } from './audit-helpers.ts';
 import { matchingFindings, readManifest } from './manifest.ts';
 
@@ -112,6 +114,40 @@ describe('report contract', () => {
 
   it('keeps the SQL of every query it ran', () => {
     expect(demo.queries.map((q) => q.name)).toEqual(expect.arrayContaining(['describe', 'profile', 'cube', 'duplicates', 'examples']));
+  });
+});
+
+describe('demo log: findings and readiness point at the planted causes', () => {
+  const manifest = readManifest(`${SAMPLE}maple-row-demo.manifest.json`);
+  const planted = (kind: string) => manifest.defects.find((d) => d.kind === kind)!;
+  const within = (segment: Record<string, string>, scope: Record<string, string>) => Object.entries(scope).every(([k, v]) => segment[k] === v);
+
+  it('the weight-balance headline is the planted segment value × action under its version, over the planted window', () => {
+    const defect = planted('balance.weights');
+    const first = demo.checks.find((c) => c.id === 'balance.weights')!.findings[0]!;
+    expect(first.segment).toEqual(defect.segment);
+    expect(first.window).toEqual(defect.window);
+    expect(first.metrics.scope).toBe('policy version');
+    // the action the manifest lists furthest from balance
+    const worst = Object.entries(defect.magnitude.balance_by_action as Record<string, number>).sort((a, b) => Math.abs(b[1] - 1) - Math.abs(a[1] - 1))[0]![0];
+    expect(first.action).toBe(worst);
+  });
+
+  it('every segment that is not ready says why, and each planted cause counts exactly the segments it was planted in', () => {
+    for (const s of demo.segments) expect(s.causes === undefined, `${describeSegment(s.segment)} ${s.status}`).toBe(s.status === 'pass');
+    const causes = readinessCauses(demo.segments);
+    for (const kind of ['propensity.exploration', 'balance.weights', 'drift.reward']) {
+      const scope = planted(kind).segment;
+      const cause = causes.filter((c) => c.cause.endsWith(` in ${describeSegment(scope)}`));
+      expect(cause, kind).toHaveLength(1);
+      expect(cause[0]!.segments, kind).toBe(demo.segments.filter((s) => within(s.segment, scope)).length);
+    }
+    // the below-floor propensity: one cause, in segments of the planted tenure only
+    const floor = planted('support.floor');
+    const low = causes.filter((c) => c.cause.startsWith('a propensity below'));
+    expect(low.map((c) => c.cause)).toEqual([`a propensity below ε = 0.01 (${floor.action} in ${describeSegment(floor.segment)})`]);
+    expect(low[0]!.segments).toBe(demo.segments.filter((s) => s.min_propensity !== null && s.min_propensity < 0.01 && within(s.segment, floor.segment)).length);
+    expect(causes).toHaveLength(4);
   });
 });
 

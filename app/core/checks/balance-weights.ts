@@ -5,6 +5,7 @@ import type { Series } from '../model/report.ts';
 import { literal } from '../sql/quote.ts';
 import { segmentAxis, segmentText } from '../segment-map.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
+import { bestChangePoint } from '../stats/changepoint.ts';
 import { countBalance } from '../stats/balance.ts';
 import { bucketWindow, describeSegment, finite, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
@@ -139,20 +140,25 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const leftOut = tests.filter((t) => t.belowFloor);
   const bh = benjaminiHochberg(tested.map((t) => t.p), q);
   const significant = tested.map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean })).filter((x) => x.rejected && Math.abs(x.t.balance - 1) > minEffect);
-  const flagged = explainAway(significant, cells, ineligible, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
+  const fails = failsWithout(cells, ineligible, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
+  const causes = smallestCauses(significant, cells.length, fails);
+  const flagged = [...causes.chosen, ...explainAway(causes.rest, causes.removed, fails)];
   const versionWindows = versionSpans(ctx);
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj }) => {
-    const win = t.bucket !== undefined && ctx.buckets ? bucketWindow(ctx.buckets, t.bucket, t.bucket + 1) : t.version !== undefined ? versionWindows.get(t.version) : undefined;
+    const accounts = causes.accounts.get(t);
+    const episode = accounts !== undefined && ctx.buckets ? changeWindow(t, cells, ineligible) : null;
+    const win = t.bucket !== undefined && ctx.buckets ? bucketWindow(ctx.buckets, t.bucket, t.bucket + 1) : episode && ctx.buckets ? bucketWindow(ctx.buckets, episode[0], episode[1] + 1) : t.version !== undefined ? versionWindows.get(t.version) : undefined;
     const segPred = segmentPredicate(ctx.rows!, cols, t.segment);
     const where = and(segPred, t.bucket !== undefined ? windowPredicate(ctx.rows!, ctx.buckets, t.bucket, t.bucket) : undefined, t.version !== undefined && ctx.rows!.version ? `${ctx.rows!.version} = ${literal(t.version)}` : undefined, `${ctx.rows!.action} = ${literal(t.action)}`);
-    const scope = [describeSegment(t.segment), t.version !== undefined ? `policy ${t.version}` : '', win && t.bucket !== undefined ? `${win.from}` : ''].filter(Boolean).join(', ');
+    const scope = [describeSegment(t.segment), t.version !== undefined ? `policy ${t.version}` : '', win && t.bucket !== undefined ? `${win.from}` : '', win && episode ? `from ${win.from.slice(0, 10)} to ${win.to.slice(0, 10)}` : ''].filter(Boolean).join(', ');
+    const accountNote = accounts !== undefined ? `; leaving this group's rows out explains ${accounts} of the ${significant.length} failing tests` : '';
     return {
       segment: t.segment,
       action: t.action,
       ...(win ? { window: win } : {}),
       status: 'fail' as const,
-      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, ...(t.version !== undefined ? { version: t.version } : {}) },
-      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
+      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, ...(t.version !== undefined ? { version: t.version } : {}), ...(accounts !== undefined ? { accounts_for: accounts } : {}) },
+      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}${accountNote}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
       ...(where ? { where } : {}),
     };
   });
@@ -185,30 +191,111 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   );
 }
 
-/**
- * Reports the fewest groups that explain the failing tests: most extreme deviation first; a later test
- * is kept only if it still fails once the rows of groups already reported are left out (so a
- * mis-logged region does not also show up as every device and tenure that contains it).
- */
-function explainAway<T extends { t: Test }>(flagged: readonly T[], cells: readonly CubeCell[], ineligible: Ineligible, minEffect: number, pCut: number, minExpected: number): T[] {
-  const order = [...flagged].sort((a, b) => Math.abs(b.t.balance - 1) - Math.abs(a.t.balance - 1) || b.t.n - a.t.n);
-  const kept: T[] = [];
-  const covered = new Uint8Array(cells.length);
-  for (const x of order) {
+/** Whether a test still fails with the marked cells left out of its group (false when too few rows remain). */
+type FailsWithout = (t: Test, removed: Uint8Array) => boolean;
+
+function failsWithout(cells: readonly CubeCell[], ineligible: Ineligible, minEffect: number, pCut: number, minExpected: number): FailsWithout {
+  return (t, removed) => {
     let nP = 0, k = 0, s1 = 0, s2 = 0;
-    for (const i of x.t.members) {
-      if (covered[i]) continue;
+    for (const i of t.members) {
+      if (removed[i]) continue;
       const c = cells[i] as CubeCell;
-      if (!ineligible(i).includes(x.t.action)) nP += c.nP;
-      if (c.action === x.t.action) {
+      if (!ineligible(i).includes(t.action)) nP += c.nP;
+      if (c.action === t.action) {
         k += c.nP;
         s1 += c.sumInvP;
         s2 += c.sumInvP2;
       }
     }
-    if (nP < 2 || k === 0) continue;
+    if (nP < 2 || k === 0) return false;
     const wb = countBalance(nP, k, s1, s2, minExpected);
-    if (wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect) {
+    return wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect;
+  };
+}
+
+/** Scopes a cause is named in: one segment value × action, or one segment value × action under one policy version. */
+const CAUSE_SCOPES: ReadonlySet<Test['scope']> = new Set(['segment value', 'policy version']);
+/** Bounds the search: candidates × the cells read per candidate (every failing test's group once). */
+const CAUSE_WORK = 20_000_000;
+const MAX_CAUSE_CANDIDATES = 48;
+
+/**
+ * The smallest groups that account for the failing tests: greedily, the segment value × action (× version)
+ * group whose rows, left out, make the most still-unexplained failing tests hold, ties to the group with fewer
+ * rows (so riverside under v8 wins over riverside, which explains the same tests) and then to the larger
+ * deviation. A group must account for more than its own test. What no such group explains is returned in
+ * `rest`, with the cells already accounted for in `removed`.
+ */
+function smallestCauses<T extends { t: Test }>(failing: readonly T[], cellCount: number, fails: FailsWithout): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
+  const removed = new Uint8Array(cellCount);
+  const work = failing.reduce((s, x) => s + x.t.members.length, 0);
+  const limit = Math.min(MAX_CAUSE_CANDIDATES, Math.floor(CAUSE_WORK / Math.max(1, work)));
+  const candidates = failing.filter((x) => CAUSE_SCOPES.has(x.t.scope)).sort((a, b) => Math.abs(b.t.z) - Math.abs(a.t.z) || b.t.n - a.t.n).slice(0, limit);
+  const chosen: T[] = [];
+  const accounts = new Map<Test, number>();
+  let open = [...failing];
+  for (;;) {
+    let best: { x: T; explains: Set<T> } | null = null;
+    for (const x of candidates) {
+      if (chosen.includes(x)) continue;
+      const mark = removed.slice();
+      for (const i of x.t.members) mark[i] = 1;
+      const explains = new Set(open.filter((y) => !fails(y.t, mark)));
+      if (explains.size < 2) continue;
+      const better = !best || explains.size > best.explains.size || (explains.size === best.explains.size && (x.t.n < best.x.t.n || (x.t.n === best.x.t.n && Math.abs(x.t.balance - 1) > Math.abs(best.x.t.balance - 1))));
+      if (better) best = { x, explains };
+    }
+    if (!best) break;
+    chosen.push(best.x);
+    accounts.set(best.x.t, best.explains.size);
+    for (const i of best.x.t.members) removed[i] = 1;
+    open = open.filter((y) => !best!.explains.has(y));
+  }
+  return { chosen, accounts, rest: open, removed };
+}
+
+/**
+ * Where a cause's deviation starts and ends, in time buckets: the least-squares change point of 1{A=a}/p over
+ * the group's buckets (bestChangePoint) cuts off the side nearer 1 when it lies within a quarter of the other
+ * side's distance from 1 (so noise inside a steady episode cuts nothing), and once more inside what is left.
+ */
+function changeWindow(t: Test, cells: readonly CubeCell[], ineligible: Ineligible): [number, number] | null {
+  const byBucket = new Map<number, { n: number; sum: number; sumSq: number }>();
+  for (const i of t.members) {
+    const c = cells[i] as CubeCell;
+    if (c.bucket < 0) continue;
+    const g = byBucket.get(c.bucket) ?? { n: 0, sum: 0, sumSq: 0 };
+    if (!ineligible(i).includes(t.action)) g.n += c.nP;
+    if (c.action === t.action) {
+      g.sum += c.sumInvP;
+      g.sumSq += c.sumInvP2;
+    }
+    byBucket.set(c.bucket, g);
+  }
+  let span = [...byBucket.keys()].filter((b) => (byBucket.get(b)?.n ?? 0) > 0).sort((a, b) => a - b);
+  if (span.length === 0) return null;
+  for (let level = 0; level < 2 && span.length > 1; level++) {
+    const groups = span.map((b) => byBucket.get(b) as { n: number; sum: number; sumSq: number });
+    const cp = bestChangePoint(groups);
+    if (!cp) break;
+    const [before, after] = [Math.abs(cp.meanBefore - 1), Math.abs(cp.meanAfter - 1)];
+    const far = Math.max(before, after), near = Math.min(before, after);
+    if (near >= far / 4) break;
+    span = after >= before ? span.slice(cp.index) : span.slice(0, cp.index);
+  }
+  return [span[0] as number, span[span.length - 1] as number];
+}
+
+/**
+ * What the smallest causes leave unexplained, reported as the fewest groups: most extreme deviation first; a
+ * later test is kept only if it still fails once the rows of groups already reported are left out (so a
+ * mis-logged region does not also show up as every device and tenure that contains it).
+ */
+function explainAway<T extends { t: Test }>(flagged: readonly T[], covered: Uint8Array, fails: FailsWithout): T[] {
+  const order = [...flagged].sort((a, b) => Math.abs(b.t.balance - 1) - Math.abs(a.t.balance - 1) || b.t.n - a.t.n);
+  const kept: T[] = [];
+  for (const x of order) {
+    if (fails(x.t, covered)) {
       kept.push(x);
       for (const i of x.t.members) covered[i] = 1;
     }

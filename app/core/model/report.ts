@@ -162,6 +162,7 @@ export const SegmentReadinessSchema = record({
   min_propensity: nullable(z.number()),
   ess: z.record(z.string(), z.number()),
   drift_flags: list(z.string()),
+  causes: list(z.string()).optional().describe('why the segment is not a pass, one plain line per cause; segments sharing a cause carry the same line'),
   status: OutcomeSchema,
 });
 export type SegmentReadiness = z.infer<typeof SegmentReadinessSchema>;

@@ -113,4 +113,37 @@ describe('balance.weights', () => {
     const r = run(rows);
     expect(r.status).toBe('warn');
   });
+
+  /**
+   * 4 regions × 3 devices × 10 days; policy v1 on days 0–4, v2 after. Action a is logged 40 times in 200 rows at a
+   * claimed p = 0.2 (B = 1), b 160 times at 0.8. In region r2 under v1, on days 2–4 only, a's logged propensity is
+   * halved (B = 40 · 10 / 200 = 2), and in its device d1 cut to a third (B = 3): the most extreme single cell is
+   * r2 × d1, but the one group that accounts for every failing test is a in region r2 under v1, from day 2.
+   */
+  const episode = (): Rows[] => {
+    const rows: Rows[] = [];
+    for (let d = 0; d < 10; d++) for (const r of ['r1', 'r2', 'r3', 'r4']) for (const v of ['d1', 'd2', 'd3']) {
+      const bad = r === 'r2' && d >= 2 && d <= 4;
+      const version = d < 5 ? 'v1' : 'v2';
+      rows.push({ segment: [r, v], action: 'a', bucket: d, version, p: bad ? (v === 'd1' ? 0.2 / 3 : 0.1) : 0.2, count: 40 });
+      rows.push({ segment: [r, v], action: 'b', bucket: d, version, p: 0.8, count: 160 });
+    }
+    return rows;
+  };
+
+  it('names the smallest segment value × action × version group that accounts for the failing tests, with the window from its change point', () => {
+    const r = run(episode(), { days: 10, versions: true, segmentColumns: ['region', 'device'] });
+    expect(r.status).toBe('fail');
+    const first = r.findings[0]!;
+    expect(first.action).toBe('a');
+    expect(first.segment).toEqual({ region: 'r2' });
+    expect(first.metrics.scope).toBe('policy version');
+    expect(first.metrics.version).toBe('v1');
+    // days 2–4 (bucket 2 starts 2026-01-03; the window ends where bucket 5 starts)
+    expect(first.window).toEqual({ from: '2026-01-03T00:00:00.000Z', to: '2026-01-06T00:00:00.000Z' });
+    // leaving r2 × v1 out explains every failing test, so no other group is reported
+    expect(first.metrics.accounts_for).toBe(r.metrics.failing);
+    expect(r.metrics.groups).toBe(1);
+    expect(first.message).toMatch(/a in region=r2, policy v1, from 2026-01-03 to 2026-01-06: B = /);
+  });
 });
