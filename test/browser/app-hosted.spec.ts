@@ -20,6 +20,7 @@ const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
 const DEMO_PARQUET = path.join(SAMPLE, 'maple-row-demo.parquet');
 const V9_POLICY = path.join(SAMPLE, 'maple-row-v9-policy.csv');
+import { expectDemoRoles, screen } from './app-steps.ts';
 import { PAGE_ORIGIN } from './page-origin.ts';
 
 interface Manifest {
@@ -66,20 +67,6 @@ function editTable(text: string): string {
     if (f[r] === 'old-town' && f[d] === 'web' && f[t] === 'new') f[p] = f[a] === 'bakery' ? '1' : '0';
     return f.join(',');
   })].join('\n')}\n`;
-}
-
-async function screen(page: Page, name: string, fullPage = true): Promise<void> {
-  await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage });
-}
-
-async function expectDemoRoles(page: Page): Promise<void> {
-  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 30_000 });
-  // sample-data/README.md names the demo's columns.
-  await expect(page.locator('#role-action')).toHaveValue('promotion');
-  await expect(page.locator('#role-propensity')).toHaveValue('propensity');
-  await expect(page.locator('#role-reward')).toHaveValue(/^(ordered|basket_value)$/);
-  await expect(page.locator('#role-time')).toHaveValue('logged_at');
-  for (const segment of ['region', 'device', 'tenure']) await expect(page.locator(`#segment-${segment}`)).toBeChecked();
 }
 
 /** Relative agreement for numbers computed by two runs of the same core over two native scans. */
@@ -148,7 +135,7 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     expect(await page.evaluate(() => window.location.href)).toMatch(new RegExp(`^${PAGE_ORIGIN.replace(/[.]/g, '\\.')}/(#/[a-z-]+)?$`));
     await screen(page, '20-hosted-open');
     await page.getByTestId('log-file-input').setInputFiles(DEMO_PARQUET);
-    await expectDemoRoles(page);
+    await expectDemoRoles(page, 30_000);
   });
 
   test('a file of the same name but another size is refused, not silently swapped', async () => {
@@ -172,7 +159,7 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     const zone = page.getByTestId('log-drop-zone');
     await zone.dispatchEvent('dragover', { dataTransfer });
     await zone.dispatchEvent('drop', { dataTransfer });
-    await expectDemoRoles(page);
+    await expectDemoRoles(page, 30_000);
 
     await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
     await page.locator('#target-table').setInputFiles(V9_POLICY);

@@ -74,3 +74,36 @@ export async function noSeriousViolations(page: Page, screen: string): Promise<v
   const serious = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
   expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);
 }
+
+/** A screenshot into test-results/screens/. */
+export async function screen(page: Page, name: string, fullPage = true): Promise<void> {
+  await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage });
+}
+
+/** The Columns screen suggests the demo log's roles (sample-data/README.md names its columns). */
+export async function expectDemoRoles(page: Page, timeout = 60_000): Promise<void> {
+  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout });
+  // the action is `promotion`, rewards are `ordered` or `basket_value`
+  await expect(page.locator('#role-action')).toHaveValue('promotion');
+  await expect(page.locator('#role-propensity')).toHaveValue('propensity');
+  await expect(page.locator('#role-reward')).toHaveValue(/^(ordered|basket_value)$/);
+  await expect(page.locator('#role-time')).toHaveValue('logged_at');
+  for (const segment of ['region', 'device', 'tenure']) await expect(page.locator(`#segment-${segment}`)).toBeChecked();
+}
+
+/**
+ * Drops a file the dev server serves (`/sample-data/...`) on the log drop zone. The File is built in the page from
+ * the served bytes, as a file manager's drop hands one over; the zone must show it is ready before the drop.
+ */
+export async function dropServedLog(page: Page, url: string, type: string): Promise<void> {
+  const dataTransfer = await page.evaluateHandle(async ({ url, type }) => {
+    const blob = await (await fetch(url)).blob();
+    const dt = new DataTransfer();
+    dt.items.add(new File([blob], url.slice(url.lastIndexOf('/') + 1), { type }));
+    return dt;
+  }, { url, type });
+  const zone = page.getByTestId('log-drop-zone');
+  await zone.dispatchEvent('dragover', { dataTransfer });
+  await expect(zone).toHaveClass(/dropzone-active/);
+  await zone.dispatchEvent('drop', { dataTransfer });
+}

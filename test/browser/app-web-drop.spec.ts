@@ -3,20 +3,7 @@
  * its one scan (the cube) is running.
  */
 import { expect, test, type Page } from '@playwright/test';
-
-async function dropDemoLog(page: Page): Promise<void> {
-  // The dropped File is built in the page from the served demo log, as a file manager's drop would hand it over.
-  const dataTransfer = await page.evaluateHandle(async () => {
-    const blob = await (await fetch('/sample-data/maple-row-demo.csv')).blob();
-    const dt = new DataTransfer();
-    dt.items.add(new File([blob], 'maple-row-demo.csv', { type: 'text/csv' }));
-    return dt;
-  });
-  const zone = page.getByTestId('log-drop-zone');
-  await zone.dispatchEvent('dragover', { dataTransfer });
-  await expect(zone).toHaveClass(/dropzone-active/);
-  await zone.dispatchEvent('drop', { dataTransfer });
-}
+import { dropServedLog } from './app-steps.ts';
 
 test.describe.serial('standalone web mode: drop and cancel', () => {
   let page: Page;
@@ -25,7 +12,7 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
 
   test('a CSV log dropped on the page opens on the roles screen with the demo roles suggested', async () => {
     await page.goto('/');
-    await dropDemoLog(page);
+    await dropServedLog(page, '/sample-data/maple-row-demo.csv', 'text/csv');
     await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
     // sample-data/README.md: the demo's action is `promotion`, its propensity `propensity`, its time `logged_at`.
     await expect(page.locator('#role-action')).toHaveValue('promotion');

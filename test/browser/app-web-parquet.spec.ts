@@ -9,7 +9,7 @@ import { runAudit } from '../../app/core/audit.ts';
 import type { Report } from '../../app/core/model/report.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { firstDifference } from '../core/audit-helpers.ts';
-import { auditWithV9Table, exportedReportText, V9_POLICY } from './app-steps.ts';
+import { auditWithV9Table, dropServedLog, exportedReportText, V9_POLICY } from './app-steps.ts';
 
 const DEMO_PARQUET = 'sample-data/maple-row-demo.parquet';
 // The tolerance of test/core/engine-agreement.test.ts.
@@ -30,18 +30,6 @@ test.beforeAll(async () => {
   }
 });
 
-async function dropDemoParquet(page: Page): Promise<void> {
-  // Built in the page from the served file, as a file manager's drop hands a File over.
-  const dataTransfer = await page.evaluateHandle(async () => {
-    const blob = await (await fetch('/sample-data/maple-row-demo.parquet')).blob();
-    const dt = new DataTransfer();
-    dt.items.add(new File([blob], 'maple-row-demo.parquet', { type: 'application/vnd.apache.parquet' }));
-    return dt;
-  });
-  const zone = page.getByTestId('log-drop-zone');
-  await zone.dispatchEvent('dragover', { dataTransfer });
-  await zone.dispatchEvent('drop', { dataTransfer });
-}
 
 async function auditAndExport(page: Page): Promise<Report> {
   await auditWithV9Table(page, () => expect(page.locator('#role-action')).toHaveValue('promotion'));
@@ -70,7 +58,7 @@ test('the demo Parquet log chosen with the picker audits to the headless command
 test('the demo Parquet log dropped on the page audits to the same report', async ({ page }) => {
   test.setTimeout(240_000);
   await page.goto('/');
-  await dropDemoParquet(page);
+  await dropServedLog(page, '/sample-data/maple-row-demo.parquet', 'application/vnd.apache.parquet');
   expectSameAudit(await auditAndExport(page));
 });
 

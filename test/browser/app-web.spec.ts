@@ -3,6 +3,7 @@ import { readFileSync } from 'node:fs';
 import { expect, test, type Page } from '@playwright/test';
 import { validateReport } from '../../app/report/json.ts';
 import { reportDigest } from '../../app/report/signoff.ts';
+import { expectDemoRoles, screen } from './app-steps.ts';
 
 const DEMO_CSV = 'sample-data/maple-row-demo.csv';
 const V9_POLICY = 'sample-data/maple-row-v9-policy.csv';
@@ -13,20 +14,6 @@ const CHECK_IDS = [
   'balance.weights', 'weights.ess', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview',
 ];
 const STATUS_WORDS = /^(Pass|Warn|Fail|Not applicable|Informational|Not run)$/;
-
-async function screen(page: Page, name: string, fullPage = true): Promise<void> {
-  await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage });
-}
-
-async function expectDemoRoles(page: Page): Promise<void> {
-  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });
-  // sample-data/README.md names the demo's columns: the action is `promotion`, rewards are `ordered` or `basket_value`.
-  await expect(page.locator('#role-action')).toHaveValue('promotion');
-  await expect(page.locator('#role-propensity')).toHaveValue('propensity');
-  await expect(page.locator('#role-reward')).toHaveValue(/^(ordered|basket_value)$/);
-  await expect(page.locator('#role-time')).toHaveValue('logged_at');
-  for (const segment of ['region', 'device', 'tenure']) await expect(page.locator(`#segment-${segment}`)).toBeChecked();
-}
 
 async function runToOverview(page: Page, screenshots: boolean): Promise<void> {
   await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
