@@ -29,47 +29,31 @@ make_case <- function(name, description, log_ratios) {
   )
 }
 
-cases <- character(0)
+# Each case draws its log ratios right after its own seed.
+seeded <- function(seed, name, description, draw) {
+  set.seed(seed)
+  make_case(name, description, draw())
+}
+# Weights U^(-k), U ~ Uniform(0,1): a Pareto tail with shape k; log ratios -k log U.
+pareto <- function(seed, k, S, description) {
+  seeded(seed, paste0("pareto-", k), description, function() -k * log(runif(S)))
+}
 
-set.seed(20240101)
-cases <- c(cases, make_case("lognormal-narrow",
-  "log ratios ~ N(0, 0.3^2), S = 1000: near-normal, light tail",
-  rnorm(1000, 0, 0.3)))
-
-set.seed(20240102)
-cases <- c(cases, make_case("lognormal-wide",
-  "log ratios ~ N(0, 1.5^2), S = 2000: log-normal weights with a long tail",
-  rnorm(2000, 0, 1.5)))
-
-set.seed(20240103)
-draws <- rnorm(3000)
-cases <- c(cases, make_case("student-t-target",
-  "draws from N(0,1), target Student-t with 3 df: log ratio = log t3(x) - log N(x), S = 3000",
-  dt(draws, df = 3, log = TRUE) - dnorm(draws, log = TRUE)))
-
-set.seed(20240104)
-cases <- c(cases, make_case("pareto-0.3",
-  "weights U^(-0.3), U ~ Uniform(0,1): Pareto tail with shape 0.3, S = 4000",
-  -0.3 * log(runif(4000))))
-
-set.seed(20240105)
-cases <- c(cases, make_case("pareto-0.7",
-  "weights U^(-0.7): Pareto tail with shape 0.7, S = 5000",
-  -0.7 * log(runif(5000))))
-
-set.seed(20240106)
-cases <- c(cases, make_case("pareto-1.2",
-  "weights U^(-1.2): Pareto tail with shape 1.2 (infinite mean), S = 20000",
-  -1.2 * log(runif(20000))))
-
-set.seed(20240107)
-cases <- c(cases, make_case("short-tail",
-  "S = 20: tail length 4 < 5, so loo does not fit a Pareto tail (k-hat Inf)",
-  rnorm(20)))
-
-cases <- c(cases, make_case("constant",
-  "S = 100 identical log ratios: loo cannot fit a constant tail (k-hat Inf)",
-  rep(-1.25, 100)))
+cases <- c(
+  seeded(20240101, "lognormal-narrow", "log ratios ~ N(0, 0.3^2), S = 1000: near-normal, light tail",
+    function() rnorm(1000, 0, 0.3)),
+  seeded(20240102, "lognormal-wide", "log ratios ~ N(0, 1.5^2), S = 2000: log-normal weights with a long tail",
+    function() rnorm(2000, 0, 1.5)),
+  seeded(20240103, "student-t-target", "draws from N(0,1), target Student-t with 3 df: log ratio = log t3(x) - log N(x), S = 3000",
+    function() { draws <- rnorm(3000); dt(draws, df = 3, log = TRUE) - dnorm(draws, log = TRUE) }),
+  pareto(20240104, 0.3, 4000, "weights U^(-0.3), U ~ Uniform(0,1): Pareto tail with shape 0.3, S = 4000"),
+  pareto(20240105, 0.7, 5000, "weights U^(-0.7): Pareto tail with shape 0.7, S = 5000"),
+  pareto(20240106, 1.2, 20000, "weights U^(-1.2): Pareto tail with shape 1.2 (infinite mean), S = 20000"),
+  seeded(20240107, "short-tail", "S = 20: tail length 4 < 5, so loo does not fit a Pareto tail (k-hat Inf)",
+    function() rnorm(20)),
+  make_case("constant", "S = 100 identical log ratios: loo cannot fit a constant tail (k-hat Inf)",
+    rep(-1.25, 100))
+)
 
 # loo's own gpdfit test input (tests/testthat/test_gpdfit.R): set.seed(123); x <- rexp(100).
 set.seed(123)
