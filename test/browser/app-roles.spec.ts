@@ -8,7 +8,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
 import { BOOKING_SPEC, roleLog } from '../fixtures/role-logs.ts';
-import { everyControlByKeyboard, noSeriousViolations } from './app-steps.ts';
+import { everyControlByKeyboard, noSeriousViolations, openApp } from './app-steps.ts';
 
 const dir = mkdtempSync(path.join(tmpdir(), 'cw-booking-'));
 const LOG = path.join(dir, 'harbour-stays.csv');
@@ -28,9 +28,7 @@ async function accessible(page: Page, screen: string): Promise<void> {
 
 test('a booking log with unseen column names: roles right with no edits, actions picked from the log, accessible screens', async ({ page }) => {
   test.setTimeout(180_000);
-  await page.setViewportSize({ width: 1280, height: 800 });
-  await page.goto('/');
-  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
+  await openApp(page);
   await accessible(page, 'open');
   await page.getByTestId('log-file-input').setInputFiles(LOG);
   await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 60_000 });

@@ -75,6 +75,13 @@ export async function noSeriousViolations(page: Page, screen: string): Promise<v
   expect(serious.map((v) => `${v.id}: ${v.help} (${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join('; ')})`), `axe on ${screen}`).toEqual([]);
 }
 
+/** The open screen at 1280×800. */
+export async function openApp(page: Page): Promise<void> {
+  await page.setViewportSize({ width: 1280, height: 800 });
+  await page.goto('/');
+  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
+}
+
 /** A screenshot into test-results/screens/. */
 export async function screen(page: Page, name: string, fullPage = true): Promise<void> {
   await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage });

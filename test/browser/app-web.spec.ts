@@ -3,7 +3,7 @@ import { readFileSync } from 'node:fs';
 import { expect, test, type Page } from '@playwright/test';
 import { validateReport } from '../../app/report/json.ts';
 import { reportDigest } from '../../app/report/signoff.ts';
-import { expectDemoRoles, screen } from './app-steps.ts';
+import { expectDemoRoles, openApp, screen } from './app-steps.ts';
 
 const DEMO_CSV = 'sample-data/maple-row-demo.csv';
 const V9_POLICY = 'sample-data/maple-row-v9-policy.csv';
@@ -32,9 +32,7 @@ async function runToOverview(page: Page, screenshots: boolean): Promise<void> {
 
 test('the demo button opens the demo log, suggests its roles, and the audit finds it not supported', async ({ page }) => {
   test.setTimeout(180_000);
-  await page.setViewportSize({ width: 1280, height: 800 });
-  await page.goto('/');
-  await expect(page.getByRole('heading', { name: 'Open a decision log' })).toBeVisible();
+  await openApp(page);
   await screen(page, '01-open');
 
   await page.getByRole('button', { name: 'Open the demo log' }).click();
