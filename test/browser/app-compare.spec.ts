@@ -10,7 +10,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
 import { auditWithV9Table, exportedReportText, V9_POLICY } from './app-steps.ts';
-import { hostedPage } from './hosted-page.ts';
+import { inBothWebModes } from './hosted-page.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
@@ -69,20 +69,7 @@ async function auditAndCompare(page: Page, mode: string): Promise<void> {
   await expect(page.getByRole('heading', { name: /Exploration/ }).first()).toBeVisible();
 }
 
-test('standalone web mode: compare the week after with the demo log\'s report', async ({ page }) => {
-  test.setTimeout(240_000);
-  await page.goto('/');
-  await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-next.csv'));
-  await auditAndCompare(page, 'standalone');
-});
-
-test.describe('hosted web mode', () => {
-  const hosted = hostedPage([SAMPLE]);
-
-  test('compare the week after with the demo log\'s report', async ({ page }) => {
-    test.setTimeout(240_000);
-    await hosted.open(page);
-    await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-next.parquet'));
-    await auditAndCompare(page, 'hosted');
-  });
+inBothWebModes('compare the week after with the demo log\'s report', { timeoutMs: 240_000, logFolders: [SAMPLE] }, async (page, mode) => {
+  await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, mode === 'hosted' ? 'maple-row-next.parquet' : 'maple-row-next.csv'));
+  await auditAndCompare(page, mode);
 });

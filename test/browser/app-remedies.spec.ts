@@ -19,7 +19,7 @@ import { expect, test, type Page } from '@playwright/test';
 import type { Report } from '../../app/core/model/report.ts';
 import { PLAN_COLUMNS } from '../../app/core/remedies/plan-table.ts';
 import { auditWithV9Table, exportedReportText, noSeriousViolations } from './app-steps.ts';
-import { hostedPage } from './hosted-page.ts';
+import { inBothWebModes } from './hosted-page.ts';
 
 const SAMPLE = path.join(process.cwd(), 'sample-data');
 const MAX_MS = 250;
@@ -169,23 +169,8 @@ async function remediesScreen(page: Page, mode: string): Promise<number[]> {
   return timings;
 }
 
-test('standalone web mode: remedies from every reason, plan sliders recomputed in the page', async ({ page }) => {
-  test.setTimeout(300_000);
-  await countEngineMessages(page);
-  await page.goto(`${origin}/`);
-  await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-demo.csv'));
-  const timings = await remediesScreen(page, 'standalone');
-  console.log(`standalone slider updates (ms): ${timings.map((t) => t.toFixed(1)).join(', ')}`);
-});
-
-test.describe('hosted web mode', () => {
-  const hosted = hostedPage([SAMPLE], () => origin);
-  test('remedies from every reason, plan sliders recomputed in the page', async ({ page }) => {
-    test.setTimeout(300_000);
-    await countEngineMessages(page);
-    await hosted.open(page);
-    await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, 'maple-row-demo.parquet'));
-    const timings = await remediesScreen(page, 'hosted');
-    console.log(`hosted slider updates (ms): ${timings.map((t) => t.toFixed(1)).join(', ')}`);
-  });
+inBothWebModes('remedies from every reason, plan sliders recomputed in the page', { timeoutMs: 300_000, logFolders: [SAMPLE], origin: () => origin, beforeOpen: countEngineMessages }, async (page, mode) => {
+  await page.getByTestId('log-file-input').setInputFiles(path.join(SAMPLE, mode === 'hosted' ? 'maple-row-demo.parquet' : 'maple-row-demo.csv'));
+  const timings = await remediesScreen(page, mode);
+  console.log(`${mode} slider updates (ms): ${timings.map((t) => t.toFixed(1)).join(', ')}`);
 });

@@ -20,3 +20,37 @@ export function hostedPage(logFolders: string[], origin: () => string = () => PA
     },
   };
 }
+
+export type WebMode = 'standalone' | 'hosted';
+
+interface BothModes {
+  readonly timeoutMs: number;
+  /** where hosted mode finds a log picked by its name */
+  readonly logFolders: string[];
+  readonly origin?: () => string;
+  /** runs before the page is opened (an init script) */
+  readonly beforeOpen?: (page: Page) => Promise<void>;
+}
+
+/**
+ * One test in both web modes: standalone (the page alone, DuckDB-Wasm) and hosted (the native engine behind the
+ * page's socket). `run` gets the page opened in that mode.
+ */
+export function inBothWebModes(title: string, options: BothModes, run: (page: Page, mode: WebMode) => Promise<void>): void {
+  const { timeoutMs, logFolders, origin = () => PAGE_ORIGIN, beforeOpen } = options;
+  test(`standalone web mode: ${title}`, async ({ page }) => {
+    test.setTimeout(timeoutMs);
+    await beforeOpen?.(page);
+    await page.goto(`${origin()}/`);
+    await run(page, 'standalone');
+  });
+  test.describe('hosted web mode', () => {
+    const hosted = hostedPage(logFolders, origin);
+    test(title, async ({ page }) => {
+      test.setTimeout(timeoutMs);
+      await beforeOpen?.(page);
+      await hosted.open(page);
+      await run(page, 'hosted');
+    });
+  });
+}
