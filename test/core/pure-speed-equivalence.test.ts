@@ -5,6 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { addInto, cellKey, cellKeys, emptyTotals, pairKeys, rollup, segmentKey, SEP, total, type Totals } from '../../app/core/cube/rollup.ts';
 import type { CubeCell, TargetColumnSums } from '../../app/core/cube/types.ts';
+import { cubeCell } from '../fixtures/cube-cell.ts';
 import { cubeView } from '../../app/core/targets/analysis.ts';
 
 function seeded(seed: number): () => number {
@@ -23,7 +24,7 @@ function cells(count: number, withTarget: boolean, seed = 7): CubeCell[] {
   return Array.from({ length: count }, (): CubeCell => {
     const target: TargetColumnSums | null = withTarget && r() < 0.8 ? { nInvalid: 1, sumW: sum(), sumW2: sum(), sumWRw: sum(), sumW2Rw: sum(), sumWR: sum(), sumW2R: sum(), sumW2R2: sum() } : null;
     const p = r() < 0.1 ? null : r();
-    return {
+    return cubeCell({
       // a value holding the separator makes two different segments join to the same key
       segment: [pick(['north', 'south', `a${SEP}b`, 'a']), pick(['ios', 'web', `b${SEP}ios`])],
       action: pick(['free-delivery', 'bundle', '10-off']),
@@ -33,7 +34,7 @@ function cells(count: number, withTarget: boolean, seed = 7): CubeCell[] {
       sumInvP: sum(), sumInvP2: sum(), minP: p, maxP: p === null ? null : Math.min(1, p + r()),
       nRw: 7, sumInvPRw: sum(), sumInvP2Rw: sum(), sumR: sum(), sumR2: sum(), sumRInvP: sum(), sumRInvP2: sum(), sumR2InvP2: sum(),
       nRAll: 9, sumRAll: sum(), sumR2All: sum(), sumD: sum(), sumD2: sum(), sumDAll: sum(), sumD2All: sum(), target,
-    };
+    });
   });
 }
 

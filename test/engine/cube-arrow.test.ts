@@ -7,6 +7,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { makeVector, Table, tableFromIPC, tableToIPC, Utf8, vectorFromArray, type Vector } from 'apache-arrow';
 import { runAuditDetailed } from '../../app/core/audit.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
+import { cubeCell } from '../fixtures/cube-cell.ts';
 import { cubeFromArrowIpc, cubeToArrowIpc, CUBE_NUMBER_FIELDS } from '../../app/engine/cube-arrow.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { FIXED_NOW, SAMPLE, v9Target } from '../core/audit-helpers.ts';
@@ -24,11 +25,11 @@ beforeAll(async () => {
   }
 });
 
-const base: CubeCell = {
+const base: CubeCell = cubeCell({
   segment: ['old-town', 'web', 'new'], action: 'bakery', bucket: 3, version: 'v8', n: 4, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0,
   nPInvalid: 0, nPOne: 0, nRNull: 0, nP: 4, sumInvP: 40, sumInvP2: 400, minP: 0.1, maxP: 0.1, nRw: 4, sumInvPRw: 40, sumInvP2Rw: 400, sumR: 1, sumR2: 1,
   sumRInvP: 10, sumRInvP2: 100, sumR2InvP2: 100, nRAll: 4, sumRAll: 1, sumR2All: 1, sumD: 0.5, sumD2: 0.25, sumDAll: 0.5, sumD2All: 0.25, target: null,
-};
+});
 
 describe('cube ⇄ Arrow IPC', () => {
   it('returns the demo log\'s cube exactly, cell for cell and field for field', () => {
