@@ -12,11 +12,11 @@ import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
-import { chooseBuckets, rowExpressions, timeRangeUs } from './scan/expressions.ts';
+import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
 import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
-import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates } from './scan/rows.ts';
+import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates, type TailResult } from './scan/rows.ts';
 import { linkRemedies, remediesOf, type TargetClips } from './remedies/index.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
 import { ident } from './sql/quote.ts';
@@ -55,6 +55,20 @@ export interface AuditRequest {
   readonly inspection?: RoleInspection;
   /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
   readonly peakRssMb?: () => number;
+  /**
+   * Answers to the row-level scans made elsewhere (an audit merged from parts, app/core/parts/merge.ts): the
+   * cube, duplicates, tails and clip rows come from here and the engine is asked nothing; findings get no
+   * example rows (their `sql` still says how to read them). Needs `inspection`.
+   */
+  readonly scans?: AuditScans;
+}
+
+/** The row-level scans' answers, as their parsers give them (app/core/scan/cube.ts, rows.ts). */
+export interface AuditScans {
+  cube(spec: { readonly capped: readonly number[]; readonly cap: number; readonly buckets: TimeBuckets | null; readonly shift: number }): { cells: CubeCell[]; cappedDistinct: Map<number, number> };
+  duplicates(examples: number): Duplicates;
+  tail(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): TailResult;
+  clip(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): { w: number; r: number | null }[];
 }
 
 export class AuditCancelled extends Error {
@@ -142,7 +156,8 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   };
   const progress = (stage: AuditStage, done = false) => request.onProgress?.({ stage, ...(done ? { done } : {}) });
   const settings = resolveSettings(request.settings);
-  const { relation } = request;
+  const { relation, scans } = request;
+  if (scans && !request.inspection) throw new Error('an audit from given scans needs the inspection (the profile) too');
   if (request.scanSql) queries.push({ name: 'source', sql: `CREATE VIEW ${relation} AS ${request.scanSql}`, scans_source: false });
 
   guard();
@@ -189,9 +204,15 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   guard();
   if (rowsExpr) {
     progress('cube');
-    const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward: rewardShift(profile.columns.find((c) => c.name === roles.reward)), rowCount: profile.rows }), true));
-    cells = parseCube(cube, segmentColumns.length);
-    for (const [i, distinct] of parseCappedDistinct(cube, capped)) {
+    const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
+    let cappedDistinct: Map<number, number>;
+    if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, shift: reward?.shift ?? 0 }));
+    else {
+      const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows }), true));
+      cells = parseCube(cube, segmentColumns.length);
+      cappedDistinct = parseCappedDistinct(cube, capped);
+    }
+    for (const [i, distinct] of cappedDistinct) {
       const c = segmentColumns[i] as string;
       caps[c] = { distinct, kept: cap };
     }
@@ -201,7 +222,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   if (rowsExpr) checkTargetActions(explicit, view.actions);
   guard();
   progress('tails');
-  if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
+  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
   if (rowsExpr) {
     const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
     targets = policies.map((p) => analyseTarget(p, view));
@@ -209,7 +230,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       guard();
       if (t.n < 2) continue;
       const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-      tails.set(t.target.name, parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
+      tails.set(t.target.name, scans ? scans.tail(t.target, segmentColumns, view.actions, limit) : parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
     }
   }
   const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
@@ -222,7 +243,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       // the rows above the tail's smallest listed weight are all listed; when the tail holds every positive weight, all of them
       const complete = tail.counts.reduce((a, b) => a + b, 0) <= tail.weights.length;
       const exactAbove = complete ? 0 : (tail.weights[tail.weights.length - 1] as number);
-      const rows = parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(relation, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), true)));
+      const rows = scans ? scans.clip(t.target, segmentColumns, view.actions, exactAbove, tail.weights.length) : parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(relation, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), true)));
       clips.set(t.target.name, { exactAbove, rows, maxWeight: tail.weights[0] as number });
     }
   }
@@ -231,7 +252,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   progress('checks');
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
   const drafts = runChecks(ctx);
-  const checks = await attachExamples(run, record, relation, view, drafts, settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
+  const checks = await attachExamples(run, record, relation, view, drafts, scans ? 0 : settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
   progress('checks', true);
   const verdictReasons = verdictOf(checks);
   const remedies = remediesOf(ctx, clips);

@@ -17,12 +17,17 @@ import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
 import { loadAuditCore } from './core.ts';
 import { readReport } from './report-file.ts';
 import { planCsv, planJson } from '../../core/remedies/plan-table.ts';
+import type { TargetInput } from '../../core/audit.ts';
+import type { RoleOverrides } from '../../core/roles/roles.ts';
+import { auditParts, readState, stateFor, storePart } from '../parts.ts';
 
 export const auditSpec: CommandSpec = {
   name: 'audit',
   summary: 'Audit a decision log: checks, verdict, estimates; writes the JSON and HTML reports.\nExit status: 0 supported (or with caveats), 1 supported with caveats under --fail-on warn, 2 not supported, 3 usage or input error.',
-  positionals: { name: 'source', min: 1, max: Infinity },
+  positionals: { name: 'source', min: 0, max: Infinity },
   flags: {
+    parts: { kind: 'string', value: 'DIR', help: 'audit the parts kept in DIR together (a partitioned log read part by part); with --add-part, read those parts first' },
+    'add-part': { kind: 'list', value: 'FILE', help: 'with --parts: read this part (one day\'s file, say) into DIR; only the new part is scanned' },
     role: { kind: 'list', value: 'NAME=COLUMN', help: 'map a column to a role (decision_id, time, action, propensity, reward, policy_version, target_propensity, propensity_vector, action_set_size, segments)' },
     segments: { kind: 'string', value: 'COL,COL', help: "segment columns, comma-separated ('none' for no segments)" },
     target: { kind: 'list', value: 'SPEC', help: 'target policy: uniform, always:<action>, table:<file.csv|file.json>, column:<name>' },
@@ -69,6 +74,11 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   if (baselineFile && jsonOut === '-' && stringFlag(flags, 'comparison-json') === '-') throw new UsageError('only one of --json and --comparison-json can write to stdout');
   // Read before the audit runs, so a bad baseline fails at once.
   const baseline = baselineFile ? readReport(baselineFile, io.cwd) : undefined;
+  const partsDir = stringFlag(flags, 'parts');
+  const addParts = listFlag(flags, 'add-part');
+  if (addParts.length && !partsDir) throw new UsageError('--add-part needs --parts DIR, the folder that keeps the parts read so far');
+  if (partsDir && positionals.length) throw new UsageError(`with --parts, give new parts with --add-part FILE, not as sources (got ${positionals.join(' ')})`);
+  if (!partsDir && positionals.length === 0) throw new UsageError("'audit' needs a source (usage: counterweight audit <source...> [options]), or --parts DIR");
   const core = await loadAuditCore();
 
   let engine: Engine | undefined;
@@ -81,6 +91,21 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     if (signal?.aborted) throw new InterruptedError();
   };
   try {
+    if (partsDir) {
+      const dir = path.resolve(io.cwd, partsDir);
+      guardOutputs([jsonOut, htmlOut, planOut], addParts, io.cwd);
+      for (const part of addParts) {
+        progress.stage(`reading the part ${part}`);
+        await addPart(dir, part, { roles, targets, settings, engineChoice, memory, cwd: io.cwd, signal });
+        stopIfInterrupted();
+      }
+      const state = readState(dir);
+      if (!state) throw new UsageError(`${partsDir} holds no parts yet: add one with --add-part FILE`);
+      progress.stage('merging the parts');
+      const { report, columns } = await auditParts(core, dir, state, peakRssMb);
+      progress.stop();
+      return await finish(report, state.parts.map((p) => p.path).join(', '), columns);
+    }
     progress.stage('opening the log');
     engine = await openEngine(engineChoice, memory);
     stopIfInterrupted();
@@ -104,6 +129,13 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     });
     progress.stop();
     stopIfInterrupted();
+    return await finish(report, positionals.join(', '), columns);
+  } finally {
+    progress.stop();
+    await engine?.close();
+  }
+
+  async function finish(report: Report, sources: string, columns: readonly { name: string; type: string }[]): Promise<number> {
     await writeOutputs(report, jsonOut, htmlOut, io);
     if (planOut) writeFile(planOut, /\.json$/i.test(planOut) ? planJson(report.remedies) : planCsv(report.remedies), io.cwd);
     if (!quiet) {
@@ -117,12 +149,38 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       const comparisonHtml = stringFlag(flags, 'comparison-html');
       const failOnChange = stringFlag(flags, 'fail-on-change') === 'any-change' ? 'any-change' : 'regression';
       if (!quiet) (jsonOut === '-' || comparisonJson === '-' ? io.stderr : io.stdout).write('\n');
-      return await emitComparison(baseline, report, { baseline: baselineFile, current: positionals.join(', ') }, { json: comparisonJson, html: comparisonHtml, failOn: failOnChange, quiet, summaryOnStderr: jsonOut === '-' }, io);
+      return await emitComparison(baseline, report, { baseline: baselineFile, current: sources }, { json: comparisonJson, html: comparisonHtml, failOn: failOnChange, quiet, summaryOnStderr: jsonOut === '-' }, io);
     }
     return exitCodeFor(report.verdict, failOn);
+  }
+}
+
+/**
+ * Reads one part into the parts folder: only this part is scanned. The first part fixes the roles (given,
+ * or suggested from it and then kept as given), targets and settings every later part is read with.
+ */
+async function addPart(dir: string, part: string, o: { roles: RoleOverrides; targets: readonly TargetInput[]; settings: Readonly<Record<string, number | string | boolean>> | undefined; engineChoice: ReturnType<typeof engineChoiceOf>; memory: ReturnType<typeof memoryFlags>; cwd: string; signal: AbortSignal | undefined }): Promise<void> {
+  const engine = await openEngine(o.engineChoice, o.memory);
+  try {
+    const source = await registerSources(engine, [part], o.cwd);
+    const [file] = await fingerprintFiles(source.files, o.cwd);
+    if (!file || source.files.length !== 1) throw new UsageError(`--add-part takes one file per part, got ${source.files.length} for ${part}`);
+    const run = (sql: string) => engine.query(sql, o.signal ? { signal: o.signal } : {});
+    let state = stateFor(dir, { roles: o.roles, targets: o.targets, settings: o.settings, format: source.format });
+    if (state.parts.length === 0) {
+      const { inspectRoles } = await import('../../core/audit.ts');
+      const { resolveRoles, SINGLE_ROLES } = await import('../../core/roles/roles.ts');
+      const inspected = await inspectRoles(run, source.relation);
+      const resolved = resolveRoles(inspected.profile, o.roles, inspected.evidence);
+      const kept: Record<string, string | null | readonly string[]> = { segments: resolved.segments };
+      // a role the first part lacks stays unset (as in an audit of the whole log), so its reason reads the same
+      for (const r of SINGLE_ROLES) if (resolved[r] !== null) kept[r] = resolved[r];
+      state = { ...state, roles: kept as RoleOverrides };
+    }
+    const { scanPart } = await import('../../core/parts/scan.ts');
+    storePart(dir, state, file, await scanPart(run, source.relation, state.roles, state.settings));
   } finally {
-    progress.stop();
-    await engine?.close();
+    await engine.close();
   }
 }
 

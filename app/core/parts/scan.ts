@@ -1,0 +1,82 @@
+/**
+ * What one part of a partitioned log is read for (app/core/parts/merge.ts says how parts merge): its profile,
+ * its cube in hourly buckets and uncapped, its weight groups, and its decision ids grouped exactly with their
+ * 64-bit hashes. Four statements over the part (the profile may take two), none over any other part.
+ */
+import { cubeSql, groupsByPropensity, parseCube, rewardShift } from '../scan/cube.ts';
+import { rowExpressions, validPropensity, finiteReward } from '../scan/expressions.ts';
+import { profileLog, type Profile } from '../scan/profile.ts';
+import type { QueryRecord } from '../model/report.ts';
+import { resolveRoles, type RoleOverrides } from '../roles/roles.ts';
+import { resolveSettings } from '../settings.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { duckdb } from '../sql/dialect-duckdb.ts';
+import type { RunQuery, Table } from '../table.ts';
+import { PART_BUCKETS, PartsError, type PartCube, type WeightGroups } from './merge.ts';
+
+/** Rows grouped by segment values, action, valid propensity and finite reward (or null), with their count. */
+export function weightGroupsSql(relation: string, segments: readonly string[], action: string, propensity: string, reward: string): string {
+  const seg = segments.map((e, i) => `${e} AS s${i}`);
+  const keys = [...segments.map((_, i) => `s${i}`), 'a', 'p', 'r'];
+  return [
+    `SELECT ${keys.join(', ')}, count(*)::DOUBLE AS c FROM (`,
+    `  SELECT *, CASE WHEN ${finiteReward('r0')} THEN r0 END AS r FROM (SELECT ${[...seg, `${action} AS a`, `${propensity} AS p`, `${reward} AS r0`].join(', ')} FROM ${relation}) AS src`,
+    `  WHERE ${validPropensity('p')}`,
+    `) AS rows GROUP BY ${keys.join(', ')} ORDER BY ${keys.join(', ')}`,
+  ].join('\n');
+}
+
+/** Decision ids (as text, as the duplicates query reads them) grouped exactly, with their 64-bit hash, ordered by hash then id. */
+export function idGroupsSql(relation: string, idColumn: string, dialect: Dialect = duckdb): string {
+  const id = dialect.ident(idColumn);
+  const text = dialect.toText(id);
+  return `SELECT ${dialect.hash64('id')} AS h, id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL) GROUP BY id ORDER BY h, id`;
+}
+
+export interface PartIdGroups {
+  readonly hashes: readonly bigint[];
+  readonly ids: readonly string[];
+  readonly rows: readonly number[];
+}
+
+export interface PartScan {
+  readonly profile: Profile;
+  readonly cube: PartCube;
+  readonly groups: WeightGroups;
+  readonly ids: PartIdGroups | null;
+  readonly queries: readonly QueryRecord[];
+}
+
+const col = (t: Table, name: string) => t.columns[t.names.indexOf(name)] as readonly unknown[];
+
+/** Reads one part with the roles of the whole log (every role given, as the parts' state records them). */
+export async function scanPart(run: RunQuery, relation: string, overrides: RoleOverrides, settingsIn: Readonly<Record<string, number | string | boolean>> | undefined): Promise<PartScan> {
+  const queries: QueryRecord[] = [];
+  const record = (name: string, sql: string, scans: boolean) => {
+    queries.push({ name, sql, scans_source: scans });
+    return sql;
+  };
+  const settings = resolveSettings(settingsIn);
+  const profile = await profileLog(run, relation, record);
+  const roles = resolveRoles(profile, overrides);
+  if (!roles.action || !roles.propensity || !roles.reward) throw new PartsError('a part needs the action, propensity and reward roles');
+  if (roles.target_propensity) throw new PartsError('an audit merged from parts does not read a target_propensity column (its sums are row-level)');
+  const rows = rowExpressions(roles, profile, roles.time ? PART_BUCKETS : null);
+  const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
+  const byPropensity = groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity));
+  const cells = profile.rows === 0 ? [] : parseCube(await run(record('cube', cubeSql({ relation, rows, capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows }), true)), rows.segments.length);
+  const g = await run(record('weight groups', weightGroupsSql(relation, rows.segments, rows.action, rows.propensity, rows.reward), true));
+  const groups: WeightGroups = {
+    segments: rows.segments.map((_, i) => col(g, `s${i}`).map(String)),
+    action: col(g, 'a').map(String),
+    p: col(g, 'p').map(Number),
+    r: col(g, 'r').map((v) => (v === null ? null : Number(v))),
+    rows: col(g, 'c').map(Number),
+  };
+  let ids: PartIdGroups | null = null;
+  if (roles.decision_id) {
+    const t = await run(record('decision ids', idGroupsSql(relation, roles.decision_id), true));
+    ids = { hashes: col(t, 'h').map((v) => BigInt(v as bigint)), ids: col(t, 'id').map(String), rows: col(t, 'c').map(Number) };
+  }
+  return { profile, cube: { cells, shift: reward?.shift ?? 0 }, groups, ids, queries };
+}
