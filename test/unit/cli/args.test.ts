@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { helpText, parseArgs } from '../../../app/cli/args.ts';
 import { parseRoleFlags, loadSettingsFile, readTargets } from '../../../app/cli/audit-options.ts';
-import { auditSpec, exitCodeFor } from '../../../app/cli/commands/audit.ts';
+import { auditSpec, exitCodeFor, runAuditCommand } from '../../../app/cli/commands/audit.ts';
+import type { CliIo } from '../../../app/cli/io.ts';
 import { signSpec } from '../../../app/cli/commands/sign.ts';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -29,9 +30,16 @@ describe('parseArgs', () => {
     [['x.csv', '--fail-on', 'error'], "--fail-on must be warn or fail, got 'error'"],
     [['x.csv', '--quiet=yes'], '--quiet takes no value'],
     [['x.csv', '--json', 'a', '--json', 'b'], '--json given twice'],
-    [[], "'audit' needs a source (usage: counterweight audit <source...> [options])"],
   ])('rejects %j with a specific message', (argv, message) => {
     expect(() => parseArgs(auditSpec, argv)).toThrow(message);
+  });
+
+  it.each([
+    [[], "'audit' needs a source (usage: counterweight audit <source...> [options]), or --parts DIR"],
+    [['--add-part', 'day.parquet'], '--add-part needs --parts DIR, the folder that keeps the parts read so far'],
+    [['x.parquet', '--parts', 'state'], 'with --parts, give new parts with --add-part FILE, not as sources (got x.parquet)'],
+  ])('audit %j: a source or a parts folder, with a specific message', async (argv, message) => {
+    await expect(runAuditCommand(parseArgs(auditSpec, argv), { cwd: process.cwd(), env: {} } as unknown as CliIo)).rejects.toThrow(message);
   });
 
   it('limits positionals per command', () => {
