@@ -4,12 +4,10 @@
  * `hostile` puts markup and SQL into every field that comes from a log.
  */
 import type { CheckId, Report } from '../../../app/core/model/report.ts';
-import { CAUTIONS, REPORT_SCHEMA_ID } from '../../../app/core/model/report.ts';
+import { CAUTIONS, CHECK_IDS, REPORT_SCHEMA_ID } from '../../../app/core/model/report.ts';
 
-const OTHER_CHECKS: CheckId[] = [
-  'schema.roles', 'identity.duplicates', 'time.coverage', 'propensity.range', 'support.floor', 'support.target',
-  'balance.weights', 'weights.tail', 'reward.validity', 'drift.reward', 'drift.policy', 'estimate.preview',
-];
+/** Every other registered check, skipped, in registry order. */
+const OTHER_CHECKS: CheckId[] = CHECK_IDS.filter((id) => id !== 'propensity.exploration' && id !== 'weights.ess');
 
 export const SCRIPT = '<script>alert(1)</script>';
 export const SQL_BREAK = '"; DROP TABLE x; --';
