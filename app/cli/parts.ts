@@ -28,7 +28,7 @@ export interface PartsState {
   readonly targets: readonly TargetInput[];
   readonly settings: Readonly<Record<string, number | string | boolean>>;
   readonly format: string;
-  readonly parts: readonly (InputFile & { readonly name: string; readonly rows: number })[];
+  readonly parts: readonly (InputFile & { readonly name: string; readonly rows: number; readonly time_range?: readonly [number, number] | null })[];
 }
 
 interface PartFile {
@@ -36,6 +36,7 @@ interface PartFile {
   readonly name: string;
   readonly profile: Profile;
   readonly shift: number;
+  readonly bucket_us: number;
   readonly cells: readonly CubeCell[];
   readonly groups: WeightGroups;
   readonly repeated: readonly (readonly [string, number])[];
@@ -71,6 +72,12 @@ export function stateFor(dir: string, given: { roles: RoleOverrides; targets: re
   return state;
 }
 
+/** The time range of the parts so far, from the state (null when none has a time). */
+export function rangeSoFar(state: PartsState): [number, number] | null {
+  const ranges = state.parts.map((p) => p.time_range).filter((r): r is readonly [number, number] => !!r);
+  return ranges.length ? [Math.min(...ranges.map((r) => r[0])), Math.max(...ranges.map((r) => r[1]))] : null;
+}
+
 /** Stores one part's scan and adds it to the state (refusing a part added before, by name or content). */
 export function storePart(dir: string, state: PartsState, file: InputFile, scan: PartScan): PartsState {
   const name = path.basename(file.path);
@@ -93,11 +100,11 @@ export function storePart(dir: string, state: PartsState, file: InputFile, scan:
     start.push(ids.hashes.length);
     hashes = BigUint64Array.from(distinct);
   }
-  const part: PartFile = { schema: PART_SCHEMA, name, profile: scan.profile, shift: scan.cube.shift, cells: scan.cube.cells, groups: scan.groups, repeated };
+  const part: PartFile = { schema: PART_SCHEMA, name, profile: scan.profile, shift: scan.cube.shift, bucket_us: scan.cube.bucketUs, cells: scan.cube.cells, groups: scan.groups, repeated };
   writeAtomically(path.join(dir, `${name}.hashes`), new Uint8Array(hashes.buffer));
   writeAtomically(path.join(dir, `${name}.ids.json`), JSON.stringify({ start, ids: ids?.ids ?? [], rows: ids?.rows ?? [] }));
   writeAtomically(path.join(dir, `${name}.part.json`), JSON.stringify(part));
-  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows }] };
+  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows, time_range: scan.timeRange }] };
   writeAtomically(stateFile(dir), `${JSON.stringify(next, null, 2)}\n`);
   return next;
 }
@@ -123,7 +130,7 @@ export async function auditParts(core: AuditCore, dir: string, state: PartsState
   if (state.parts.length === 0) throw new UsageError(`${dir} holds no parts yet: add one with --add-part FILE`);
   const parts = state.parts.map((p) => JSON.parse(readFileSync(path.join(dir, `${p.name}.part.json`), 'utf8')) as PartFile);
   const segmentColumns = state.roles.segments ?? [];
-  const cubes = parts.map((p) => ({ cells: p.cells, shift: p.shift }));
+  const cubes = parts.map((p) => ({ cells: p.cells, shift: p.shift, bucketUs: p.bucket_us }));
   const allCells = cubes.flatMap((c) => c.cells);
   const profile = withSegmentDistincts(mergeProfiles(parts.map((p) => p.profile)), segmentColumns, allCells);
   const groups = parts.map((p) => p.groups);

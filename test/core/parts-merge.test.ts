@@ -20,7 +20,7 @@ import * as core from '../../app/core/audit.ts';
 import type { Report } from '../../app/core/model/report.ts';
 import { duplicatesOf, type PartIds } from '../../app/core/parts/merge.ts';
 import { scanPart } from '../../app/core/parts/scan.ts';
-import { auditParts, stateFor, storePart, type PartsState } from '../../app/cli/parts.ts';
+import { auditParts, rangeSoFar, stateFor, storePart, type PartsState } from '../../app/cli/parts.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { quoteLiteral } from '../../app/engine/sql-source.ts';
 import { fingerprintFiles } from '../../app/report/fingerprint.ts';
@@ -49,7 +49,7 @@ async function addPart(stateDir: string, state: PartsState, file: string): Promi
   try {
     const src = await engine.register({ kind: 'path', paths: [file] });
     const [fp] = await fingerprintFiles([file]);
-    return storePart(stateDir, state, fp!, await scanPart((sql) => engine.query(sql), src.relation, state.roles, state.settings));
+    return storePart(stateDir, state, fp!, await scanPart((sql) => engine.query(sql), src.relation, state.roles, state.settings, rangeSoFar(state)));
   } finally {
     await engine.close();
   }

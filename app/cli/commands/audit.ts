@@ -19,7 +19,7 @@ import { readReport } from './report-file.ts';
 import { planCsv, planJson } from '../../core/remedies/plan-table.ts';
 import type { TargetInput } from '../../core/audit.ts';
 import type { RoleOverrides } from '../../core/roles/roles.ts';
-import { auditParts, readState, stateFor, storePart } from '../parts.ts';
+import { auditParts, rangeSoFar, readState, stateFor, storePart } from '../parts.ts';
 
 export const auditSpec: CommandSpec = {
   name: 'audit',
@@ -178,7 +178,7 @@ async function addPart(dir: string, part: string, o: { roles: RoleOverrides; tar
       state = { ...state, roles: kept as RoleOverrides };
     }
     const { scanPart } = await import('../../core/parts/scan.ts');
-    storePart(dir, state, file, await scanPart(run, source.relation, state.roles, state.settings));
+    storePart(dir, state, file, await scanPart(run, source.relation, state.roles, state.settings, rangeSoFar(state)));
   } finally {
     await engine.close();
   }

@@ -3,7 +3,7 @@
  * is read part by part, each part's scan results are kept, and the audit of the whole log is made from them
  * without reading the earlier parts again. What each part keeps, and how parts merge:
  *   - its profile: counts add, minima and maxima combine (mergeProfiles);
- *   - its cube cells, uncapped, in hourly buckets from the epoch: re-bucketed into the whole log's buckets,
+ *   - its cube cells, uncapped, in buckets from the epoch no wider than the merged log's (scan.ts storageWidth): re-bucketed into the whole log's buckets,
  *     centred sums moved to the whole log's shift, merged (sums add, minima and maxima combine), then capped
  *     as the cube query caps (mergeCells);
  *   - its weight groups (segment values, action, p, finite r or null, rows): every target's largest weights,
@@ -22,8 +22,6 @@ import type { TargetPolicy } from '../targets/targets.ts';
 
 export const HOUR_US = 3_600_000_000;
 
-/** The buckets a part's cube is built in: hours since the Unix epoch (any named width is a whole number of them). */
-export const PART_BUCKETS: TimeBuckets = { originUs: 0, widthUs: HOUR_US, count: 1, label: '1h' };
 
 export class PartsError extends Error {
   constructor(message: string) {
@@ -85,10 +83,11 @@ export function withSegmentDistincts(profile: Profile, segmentColumns: readonly 
   };
 }
 
-/** One part's cube: cells in PART_BUCKETS, uncapped, with the reward shift its centred sums were taken about. */
+/** One part's cube: cells uncapped, in buckets of `bucketUs` from the epoch, with the reward shift its centred sums were taken about. */
 export interface PartCube {
   readonly cells: readonly CubeCell[];
   readonly shift: number;
+  readonly bucketUs: number;
 }
 
 /** A cell's centred sums moved from shift `from` to shift `to`: Σ(d+δ) = Σd + δn, Σ(d+δ)² = Σd² + 2δΣd + δ²n. */
@@ -136,13 +135,14 @@ function mergeByKey(cells: readonly CubeCell[]): CubeCell[] {
  * value), the rest merged into "(other)". Returns the cells and each capped column's distinct count before capping.
  */
 export function mergeCells(parts: readonly PartCube[], buckets: TimeBuckets | null, shift: number, capped: readonly number[], cap: number): { cells: CubeCell[]; cappedDistinct: Map<number, number> } {
-  if (buckets && (buckets.widthUs % HOUR_US !== 0 || buckets.originUs % HOUR_US !== 0)) {
-    throw new PartsError(`an audit merged from parts needs time buckets of whole hours; this log's are ${buckets.label} (${buckets.widthUs / 1e6} s). Set time.bucket to 1h, 6h, 1d, 7d or 30d`);
-  }
   const moved: CubeCell[] = [];
   for (const part of parts) {
+    const w = part.bucketUs ?? HOUR_US;
+    if (buckets && (buckets.widthUs % w !== 0 || buckets.originUs % w !== 0)) {
+      throw new PartsError(`a part's cells are kept in buckets of ${w / 1e6} s, which do not divide the merged log's ${buckets.label} buckets (${buckets.widthUs / 1e6} s); set time.bucket to 1h, 6h, 1d, 7d or 30d before the first part`);
+    }
     for (const c of part.cells) {
-      const bucket = c.bucket < 0 ? -1 : buckets ? Math.floor((c.bucket * HOUR_US - buckets.originUs) / buckets.widthUs) : 0;
+      const bucket = c.bucket < 0 ? -1 : buckets ? Math.floor((c.bucket * w - buckets.originUs) / buckets.widthUs) : 0;
       moved.push({ ...reshift(c, part.shift, shift), bucket });
     }
   }

@@ -1,10 +1,10 @@
 /**
  * What one part of a partitioned log is read for (app/core/parts/merge.ts says how parts merge): its profile,
- * its cube in hourly buckets and uncapped, its weight groups, and its decision ids grouped exactly with their
+ * its cube uncapped, in buckets of `storageWidth` from the epoch, its weight groups, and its decision ids grouped exactly with their
  * 64-bit hashes. Four statements over the part (the profile may take two), none over any other part.
  */
 import { cubeSql, groupsByPropensity, parseCube, rewardShift } from '../scan/cube.ts';
-import { rowExpressions, validPropensity, finiteReward } from '../scan/expressions.ts';
+import { chooseBuckets, rowExpressions, timeRangeUs, validPropensity, finiteReward } from '../scan/expressions.ts';
 import { profileLog, type Profile } from '../scan/profile.ts';
 import type { QueryRecord } from '../model/report.ts';
 import { resolveRoles, type RoleOverrides } from '../roles/roles.ts';
@@ -12,7 +12,7 @@ import { resolveSettings } from '../settings.ts';
 import type { Dialect } from '../sql/dialect.ts';
 import { duckdb } from '../sql/dialect-duckdb.ts';
 import type { RunQuery, Table } from '../table.ts';
-import { PART_BUCKETS, PartsError, type PartCube, type WeightGroups } from './merge.ts';
+import { HOUR_US, PartsError, type PartCube, type WeightGroups } from './merge.ts';
 
 /** Rows grouped by segment values, action, valid propensity and finite reward (or null), with their count. */
 export function weightGroupsSql(relation: string, segments: readonly string[], action: string, propensity: string, reward: string): string {
@@ -45,12 +45,30 @@ export interface PartScan {
   readonly groups: WeightGroups;
   readonly ids: PartIdGroups | null;
   readonly queries: readonly QueryRecord[];
+  /** the part's time range in microseconds (null without a time role) */
+  readonly timeRange: TimeRange | null;
+}
+
+export type TimeRange = [number, number];
+
+const DAY_US = 24 * HOUR_US;
+
+/**
+ * The bucket width a part's cells are kept in: with a set width, that width; with 'auto', the width the parts
+ * so far (this one included) would get, at most a day. A longer log only gets a coarser width, and 1h, 6h and
+ * 1d each divide every coarser named width (6h, 1d, 7d, 30d), so the merged log's buckets are unions of them.
+ */
+export function storageWidth(earlier: TimeRange | null, range: TimeRange | null, setting: string | number, maxBuckets: number): number {
+  const all: TimeRange | null = earlier && range ? [Math.min(earlier[0], range[0]), Math.max(earlier[1], range[1])] : earlier ?? range;
+  const b = chooseBuckets(all, setting, maxBuckets);
+  if (!b) return HOUR_US;
+  return setting === 'auto' ? Math.min(b.widthUs, DAY_US) : b.widthUs;
 }
 
 const col = (t: Table, name: string) => t.columns[t.names.indexOf(name)] as readonly unknown[];
 
 /** Reads one part with the roles of the whole log (every role given, as the parts' state records them). */
-export async function scanPart(run: RunQuery, relation: string, overrides: RoleOverrides, settingsIn: Readonly<Record<string, number | string | boolean>> | undefined): Promise<PartScan> {
+export async function scanPart(run: RunQuery, relation: string, overrides: RoleOverrides, settingsIn: Readonly<Record<string, number | string | boolean>> | undefined, earlier: TimeRange | null = null): Promise<PartScan> {
   const queries: QueryRecord[] = [];
   const record = (name: string, sql: string, scans: boolean) => {
     queries.push({ name, sql, scans_source: scans });
@@ -61,7 +79,9 @@ export async function scanPart(run: RunQuery, relation: string, overrides: RoleO
   const roles = resolveRoles(profile, overrides);
   if (!roles.action || !roles.propensity || !roles.reward) throw new PartsError('a part needs the action, propensity and reward roles');
   if (roles.target_propensity) throw new PartsError('an audit merged from parts does not read a target_propensity column (its sums are row-level)');
-  const rows = rowExpressions(roles, profile, roles.time ? PART_BUCKETS : null);
+  const range = timeRangeUs(roles, profile);
+  const width = roles.time ? storageWidth(earlier, range, settings['time.bucket'], settings['time.max_buckets']) : null;
+  const rows = rowExpressions(roles, profile, width === null ? null : { originUs: 0, widthUs: width, count: 1, label: '' });
   const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
   const byPropensity = groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity));
   const cells = profile.rows === 0 ? [] : parseCube(await run(record('cube', cubeSql({ relation, rows, capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows }), true)), rows.segments.length);
@@ -78,5 +98,5 @@ export async function scanPart(run: RunQuery, relation: string, overrides: RoleO
     const t = await run(record('decision ids', idGroupsSql(relation, roles.decision_id), true));
     ids = { hashes: col(t, 'h').map((v) => BigInt(v as bigint)), ids: col(t, 'id').map(String), rows: col(t, 'c').map(Number) };
   }
-  return { profile, cube: { cells, shift: reward?.shift ?? 0 }, groups, ids, queries };
+  return { profile, cube: { cells, shift: reward?.shift ?? 0, bucketUs: width ?? HOUR_US }, groups, ids, queries, timeRange: range };
 }
