@@ -1,7 +1,7 @@
 /**
  * The parts folder of `counterweight audit --parts DIR [--add-part FILE]` (README, "Audits merged from parts"):
  * parts.json (roles, targets and settings every part is read with, and the parts so far) and, per part,
- * NAME.part.json (profile, hourly cube, weight groups, ids repeated within the part), NAME.hashes (its
+ * NAME.part.json (profile, uncapped cube, weight groups, ids repeated within the part), NAME.hashes (its
  * distinct id hashes, ascending, 8 bytes each, little-endian) and NAME.ids.json (its ids by hash, read only
  * when a hash is shared with another part). Files are written beside their name and renamed into place.
  */
