@@ -67,7 +67,9 @@ export function segmentMapSeries(totals: readonly GroupActionTotals[], groupBy: 
   const groupRows = new Map<string, number>();
   for (const t of totals) groupRows.set(t.group, (groupRows.get(t.group) ?? 0) + t.nP);
   const { labels: groups, keys } = segmentAxis('y', totals.map((t) => segmentParts(groupBy, t.values)), (segment) => groupLabel(segment.map((p) => p.value)));
-  const grid = (f: (g: string, a: string) => number | null) => groups.map((g) => actions.map((a) => f(g, a)));
+  const grid = <T,>(f: (g: string, a: string) => T): T[][] => groups.map((g) => actions.map((a) => f(g, a)));
+  const rowsOf = (g: string, a: string): number => byCell.get(`${g}${SEP}${a}`)?.n ?? 0;
+  const groupTotal = new Map(groups.map((g) => [g, actions.reduce((s, a) => s + rowsOf(g, a), 0)]));
   const z = (g: string, a: string): number | null => {
     const n = groupRows.get(g) ?? 0;
     const t = byCell.get(`${g}${SEP}${a}`);
@@ -77,8 +79,15 @@ export function segmentMapSeries(totals: readonly GroupActionTotals[], groupBy: 
   };
   const by = groupBy.length ? groupBy.join(' × ') : 'all rows';
   return [
-    { name: `rows by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.n ?? 0), unit: 'rows', segment_keys: keys },
+    // the exploration layer, as the report's map (propensity.exploration's explorationMap): each action's share of the group's rows
+    {
+      name: `share of each ${by} group's rows by action`, kind: 'heatmap', x: actions, y: groups,
+      values: grid((g, a) => (rowsOf(g, a) > 0 ? rowsOf(g, a) / (groupTotal.get(g) as number) : null)),
+      null_reasons: grid((g, a) => (rowsOf(g, a) > 0 ? null : 'never logged')),
+      unit: "share of the segment's rows", segment_keys: keys,
+    },
     { name: `minimum propensity by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid((g, a) => byCell.get(`${g}${SEP}${a}`)?.minP ?? null), unit: 'propensity', segment_keys: keys },
     { name: `balance z by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid(z), unit: 'z (B − 1)/SE; blank where the action is never logged', segment_keys: keys },
+    { name: `rows by ${by} and action`, kind: 'heatmap', x: actions, y: groups, values: grid(rowsOf), unit: 'rows', segment_keys: keys },
   ];
 }

@@ -224,7 +224,7 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     await expect.poll(async () => Number(await map.getAttribute('data-cube-queries'))).toBeGreaterThan(queries);
     await expect(map).toHaveAttribute('data-regroup-source', 'cube-sql');
     await expect(map).toHaveAttribute('aria-busy', 'false');
-    // Rows per (device, promotion) among v8 decisions, counted by native DuckDB straight from the log.
+    // The exploration layer: each promotion's share of the v8 web decisions, counted by native DuckDB straight from the log.
     const engine = await createNativeEngine({ threads: 1 });
     try {
       const src = await engine.register({ kind: 'path', paths: [DEMO_PARQUET] });
@@ -232,7 +232,8 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
       const header = await page.locator('.heat-table thead th').allTextContents();
       const web = await page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^web$/ }) }).locator('td button').allTextContents();
       const shown = Object.fromEntries(header.slice(1).map((a, j) => [a, web[j]]));
-      for (let i = 0; i < t.rowCount; i++) expect(shown[String(t.columns[0]?.[i])], String(t.columns[0]?.[i])).toBe(formatValue(t.columns[1]?.[i] as number));
+      const total = (t.columns[1] as number[]).reduce((a, b) => a + b, 0);
+      for (let i = 0; i < t.rowCount; i++) expect(shown[String(t.columns[0]?.[i])], String(t.columns[0]?.[i])).toBe(formatValue((t.columns[1]?.[i] as number) / total));
     } finally {
       await engine.close();
     }

@@ -18,9 +18,12 @@ beforeAll(async () => {
 });
 afterAll(async () => engine?.close());
 
-it('groups by one column with the counts and minimum propensities SQL gives', async () => {
+it('groups by one column with the shares, counts and minimum propensities SQL gives', async () => {
   const scans = engine.sourceScans;
-  const [rows, minP] = segmentMap(audit.cells, audit.report.roles.segments, ['device']);
+  const [shares, minP, , rows] = segmentMap(audit.cells, audit.report.roles.segments, ['device']);
+  // the first layer is the exploration layer, as the report's map: each action's share of its group's rows
+  expect(shares!.unit).toBe("share of the segment's rows");
+  expect(rows!.unit).toBe('rows');
   expect(engine.sourceScans).toBe(scans);
   const t = await engine.query(`SELECT device, promotion, count(*)::DOUBLE AS n, min(propensity) FILTER (WHERE propensity > 0 AND propensity <= 1) AS min_p FROM ${relation} GROUP BY ALL`);
   for (let i = 0; i < t.rowCount; i++) {
@@ -29,15 +32,20 @@ it('groups by one column with the counts and minimum propensities SQL gives', as
     const c = rows!.x.indexOf(String(a));
     expect(rows!.values[r]![c]).toBe(n);
     expect(minP!.values[r]![c]).toBe(m);
+    const total = (rows!.values[r] as number[]).reduce((a, b) => a + b, 0);
+    expect(shares!.values[r]![c]).toBe((n as number) / total);
   }
   expect(rows!.y).toEqual(['android', 'ios', 'web']);
 });
 
 it('shows the unexplored (old-town, web) group with no other action logged', () => {
-  const [rows] = segmentMap(audit.cells, audit.report.roles.segments, ['region', 'device']);
-  const r = rows!.y!.indexOf('old-town · web');
-  const logged = rows!.x.filter((_, j) => (rows!.values[r]![j] as number) > 0);
+  const [shares] = segmentMap(audit.cells, audit.report.roles.segments, ['region', 'device']);
+  const r = shares!.y!.indexOf('old-town · web');
+  const logged = shares!.x.filter((_, j) => (shares!.values[r]![j] as number) > 0);
   expect(logged).toEqual(['free-delivery']);
+  expect(shares!.values[r]![shares!.x.indexOf('free-delivery')]).toBe(1);
+  // every other action is never logged there: null with its reason, drawn hatched as on the report's map
+  expect(shares!.x.filter((a) => a !== 'free-delivery').map((a) => shares!.null_reasons![r]![shares!.x.indexOf(a)])).toEqual(Array(shares!.x.length - 1).fill('never logged'));
 });
 
 it('refuses a column that is not a segment of the audit', () => {
@@ -45,7 +53,7 @@ it('refuses a column that is not a segment of the audit', () => {
 });
 
 it('keys every row of the map by its segment, and the key selects the rows the cell counts', async () => {
-  // the report's map (the exploration layer) holds each action's share of its segment's rows; the regrouped map counts rows
+  // the report's map and the regrouped map both open on the exploration layer: each action's share of its segment's rows
   const reportMap = audit.report.checks.flatMap((c) => c.series ?? []).find((s) => s.kind === 'heatmap' && s.unit === "share of the segment's rows");
   const [regrouped] = segmentMap(audit.cells, audit.report.roles.segments, ['device', 'region']);
   for (const series of [reportMap!, regrouped!]) {
