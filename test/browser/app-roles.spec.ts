@@ -74,6 +74,18 @@ test('a booking log with unseen column names: roles right with no edits, actions
   await page.locator('#always-action').selectOption('upgrade');
   await page.getByRole('button', { name: 'Add', exact: true }).first().click();
   await expect(page.getByText('Always choose “upgrade”')).toBeVisible();
+  // the same target once the action column is another one: refused, with the list of that column's values
+  const steps = page.getByRole('navigation', { name: 'Steps and results' });
+  await steps.getByRole('button', { name: /Columns$/ }).click();
+  await page.locator('#role-action').selectOption('platform');
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await expect(page.getByText('The log has no action “upgrade”; its actions are “desktop”, “phone”, “tablet”. Remove the target or choose another action.')).toBeVisible();
+  await expect(page.getByRole('button', { name: 'Run the audit' })).toBeDisabled();
+  await steps.getByRole('button', { name: /Columns$/ }).click();
+  await page.locator('#role-action').selectOption('offer_id');
+  await page.locator('#segment-platform').check();
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await expect(page.getByText(/The log has no action/)).toHaveCount(0);
   await accessible(page, 'targets');
   await everyControlByKeyboard(page, 'targets');
   await page.getByRole('button', { name: 'Run the audit' }).click();
