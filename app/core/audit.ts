@@ -9,17 +9,19 @@ import { essSummary } from './checks/weights-ess.ts';
 import { tailSummary } from './checks/weights-tail.ts';
 import { estimatesFor } from './checks/estimate-preview.ts';
 import type { CubeCell } from './cube/types.ts';
-import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
+import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type InputTable, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
-import { cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
+import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates, type TailResult } from './scan/rows.ts';
 import { linkRemedies, remediesOf, type TargetClips } from './remedies/index.ts';
 import { SETTINGS, resolveSettings, type SettingKey, type SettingSpec } from './settings.ts';
-import { ident } from './sql/quote.ts';
+import type { Dialect } from './sql/dialect.ts';
+import { duckdb } from './sql/dialect-duckdb.ts';
+import { fingerprintSql, parseFingerprint } from './scan/fingerprint.ts';
 import type { Cell, RunQuery, Table } from './table.ts';
 import { analyseTarget, cubeView, type CubeView, type TargetAnalysis } from './targets/analysis.ts';
 import { checkTargetActions, resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
@@ -36,6 +38,10 @@ export interface AuditRequest {
   /** quoted relation name of the registered source */
   readonly relation: string;
   readonly input: { readonly files: readonly InputFile[]; readonly format: string };
+  /** the SQL dialect of the engine `run` speaks (DuckDB when absent) */
+  readonly dialect?: Dialect;
+  /** a table in a server as the log: recorded in the report's input with the source fingerprint the audit computes */
+  readonly table?: Omit<InputTable, 'fingerprint'>;
   /** the table-function SQL behind the relation, recorded so a user can re-run every query */
   readonly scanSql?: string;
   readonly roles?: RoleOverrides;
@@ -99,8 +105,8 @@ export interface AuditResult {
 
 
 /** Suggested roles with reasons: the profile, then the weight-balance evidence over the log's first rows. */
-export async function suggestRoles(run: RunQuery, relation: string): Promise<RoleSuggestion[]> {
-  return (await inspectRoles(run, relation)).suggestions;
+export async function suggestRoles(run: RunQuery, relation: string, d: Dialect = duckdb): Promise<RoleSuggestion[]> {
+  return (await inspectRoles(run, relation, d)).suggestions;
 }
 
 export interface RoleInspection {
@@ -115,15 +121,15 @@ export interface RoleInspection {
  * What opening a log needs to propose roles: its profile, the role evidence, and the suggestions from both.
  * An audit of the same source may be given it (AuditRequest.inspection) and then profiles nothing again.
  */
-export async function inspectRoles(run: RunQuery, relation: string): Promise<RoleInspection> {
+export async function inspectRoles(run: RunQuery, relation: string, d: Dialect = duckdb): Promise<RoleInspection> {
   const recorder = (into: QueryRecord[]) => (name: string, sql: string, scans: boolean) => {
     into.push({ name, sql, scans_source: scans });
     return sql;
   };
   const profileQueries: QueryRecord[] = [];
   const evidenceQueries: QueryRecord[] = [];
-  const profile = await profileLog(run, relation, recorder(profileQueries));
-  const evidence = await gatherRoleEvidence(run, relation, profile, recorder(evidenceQueries));
+  const profile = await profileLog(run, relation, recorder(profileQueries), d);
+  const evidence = await gatherRoleEvidence(run, relation, profile, recorder(evidenceQueries), d);
   return { profile, evidence, suggestions: suggestFromProfile(profile, evidence), queries: { profile: profileQueries, evidence: evidenceQueries } };
 }
 
@@ -158,19 +164,20 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const settings = resolveSettings(request.settings);
   const { relation, scans } = request;
   if (scans && !request.inspection) throw new Error('an audit from given scans needs the inspection (the profile) too');
+  const d = request.dialect ?? duckdb;
   if (request.scanSql) queries.push({ name: 'source', sql: `CREATE VIEW ${relation} AS ${request.scanSql}`, scans_source: false });
 
   guard();
   progress('profile');
   const inspected = request.inspection;
   if (inspected) queries.push(...inspected.queries.profile);
-  const profile = inspected ? inspected.profile : await profileLog(run, relation, record);
+  const profile = inspected ? inspected.profile : await profileLog(run, relation, record, d);
   if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
   progress('profile', true);
   let evidence: RoleEvidence | undefined;
   if (needsEvidence(request.roles)) {
     if (inspected) queries.push(...inspected.queries.evidence);
-    evidence = inspected ? inspected.evidence : await gatherRoleEvidence(run, relation, profile, record);
+    evidence = inspected ? inspected.evidence : await gatherRoleEvidence(run, relation, profile, record, d);
   }
   const roles = resolveRoles(profile, request.roles, evidence);
   const roleProblems = validateRoles(profile, roles, evidence);
@@ -197,7 +204,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   let cells: CubeCell[] = [];
   let duplicates: Duplicates | null = null;
   const tails = new Map<string, TargetTail>();
-  const rowsExpr = usable ? rowExpressions(effectiveRoles, profile, buckets) : null;
+  const rowsExpr = usable ? rowExpressions(effectiveRoles, profile, buckets, d) : null;
   const propensityProfile = profile.columns.find((c) => c.name === roles.propensity);
   const byPropensity = groupsByPropensity(propensityProfile);
   let targets: TargetAnalysis[] = [];
@@ -208,7 +215,10 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     let cappedDistinct: Map<number, number>;
     if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, shift: reward?.shift ?? 0 }));
     else {
-      const cube = await run(record('cube', cubeSql({ relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows }), true));
+      const spec = { relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
+      const preludeSql = cubePreludeSql(spec);
+      const prelude = preludeSql ? await run(record('cube scales', preludeSql, true)) : null;
+      const cube = await run(record('cube', cubeSql(spec, prelude), true));
       cells = parseCube(cube, segmentColumns.length);
       cappedDistinct = parseCappedDistinct(cube, capped);
     }
@@ -222,7 +232,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   if (rowsExpr) checkTargetActions(explicit, view.actions);
   guard();
   progress('tails');
-  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5), true)));
+  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5, d), true)));
   if (rowsExpr) {
     const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
     targets = policies.map((p) => analyseTarget(p, view));
@@ -252,17 +262,18 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   progress('checks');
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
   const drafts = runChecks(ctx);
-  const checks = await attachExamples(run, record, relation, view, drafts, scans ? 0 : settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile), request.input.format === 'parquet');
+  const checks = await attachExamples(run, record, relation, view, drafts, scans ? 0 : settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile, d), request.input.format === 'parquet', d);
   progress('checks', true);
   const verdictReasons = verdictOf(checks);
   const remedies = remediesOf(ctx, clips);
   const linked = remedies ? linkRemedies(checks, verdictReasons.reasons) : { checks, reasons: verdictReasons.reasons };
   const verdict = verdictReasons.verdict;
   const reasons = linked.reasons;
+  const table = request.table ? { ...request.table, fingerprint: await sourceFingerprint(run, record, relation, d, effectiveRoles) } : null;
   const report: Report = {
     schema: REPORT_SCHEMA_ID,
     tool: { name: 'counterweight', version: TOOL_VERSION },
-    input: { files: request.input.files, format: request.input.format, rows: profile.rows },
+    input: { files: request.input.files, format: request.input.format, rows: profile.rows, ...(table ? { table } : {}) },
     roles: rolesReport(effectiveRoles, caps),
     settings: settingsReport(settings),
     verdict,
@@ -277,6 +288,14 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     signoff: null,
   };
   return { report, cells, profile };
+}
+
+/** The row count and the order-independent hash sum over the mapped role columns, computed in the engine. */
+async function sourceFingerprint(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, d: Dialect, roles: RolesReport | ReturnType<typeof resolveRoles>): Promise<InputTable['fingerprint']> {
+  const single = [roles.decision_id, roles.time, roles.action, roles.propensity, roles.reward, roles.policy_version, roles.target_propensity];
+  const columns = [...new Set([...single, ...roles.segments].filter((c): c is string => !!c))];
+  const fp = parseFingerprint(d, await run(record('fingerprint', fingerprintSql(d, relation, columns), true)), columns);
+  return { rows: fp.rows, hash: fp.hash, columns: fp.columns, method: fp.method };
 }
 
 /**
@@ -308,10 +327,10 @@ export function runChecks(ctx: AuditContext): CheckResult[] {
  * Example rows come earliest first: by the time role, then the decision id, then every other scalar
  * column, so that rows tied on time and id still come in one order on every engine.
  */
-function exampleOrder(roles: { decision_id: string | null; time: string | null }, profile: Profile): string[] {
+function exampleOrder(roles: { decision_id: string | null; time: string | null }, profile: Profile, d: Dialect): string[] {
   const first = [roles.time, roles.decision_id].filter((c): c is string => !!c);
   const rest = profile.columns.filter((c) => c.kind !== 'other' && !first.includes(c.name)).map((c) => c.name);
-  return [...first, ...rest].map((c) => ident(c));
+  return [...first, ...rest].map((c) => d.ident(c));
 }
 
 /** Rows the cube holds for one action within a segment (segment columns not named count as any value). */
@@ -323,7 +342,7 @@ function cellRows(view: CubeView, segment: Readonly<Record<string, string>>, act
   return n;
 }
 
-async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, view: CubeView, checks: CheckResult[], perFinding: number, maxFindings: number, order: readonly string[], rereadIsCheap: boolean): Promise<CheckResult[]> {
+async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, view: CubeView, checks: CheckResult[], perFinding: number, maxFindings: number, order: readonly string[], rereadIsCheap: boolean, d: Dialect): Promise<CheckResult[]> {
   const wanted: { check: number; finding: number; where: string }[] = [];
   const empty = new Set<string>();
   checks.forEach((c, ci) => c.findings.forEach((f, fi) => {
@@ -335,7 +354,7 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
     else wanted.push({ check: ci, finding: fi, where: w });
   }));
   let table: Table | null = null;
-  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order, rereadIsCheap), true));
+  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order, rereadIsCheap, d), true));
   const byRequest = new Map<number, Record<string, Cell>[]>();
   if (table) {
     const fcol = table.columns[0] as readonly Cell[];

@@ -111,17 +111,22 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
       ? new EngineError('timeout', `The query did not finish within ${Math.round(limit / 1000)} s on ClickHouse at ${server} and was stopped.`)
       : new EngineError('cancelled', 'The query was cancelled.'));
     try {
-      let response: Response;
-      try {
-        response = await fetch(`${server}/?${params}`, {
-          method: 'POST',
-          headers: { Authorization: auth, 'Content-Type': 'text/plain; charset=utf-8' },
-          body: `${sql.trim().replace(/;+$/, '')}\nFORMAT TabSeparatedWithNamesAndTypes`,
-          signal: controller.signal,
-        });
-      } catch (e) {
-        if (stopped) throw stoppedError();
-        throw networkError(e, server);
+      let response: Response | undefined;
+      const send = () => fetch(`${server}/?${params}`, {
+        method: 'POST',
+        headers: { Authorization: auth, 'Content-Type': 'text/plain; charset=utf-8' },
+        body: `${sql.trim().replace(/;+$/, '')}\nFORMAT TabSeparatedWithNamesAndTypes`,
+        signal: controller.signal,
+      });
+      // a kept-alive socket the server has just closed fails before any answer: the statement is a read, so it is sent once more
+      for (let attempt = 0; !response; attempt++) {
+        try {
+          response = await send();
+        } catch (e) {
+          if (stopped) throw stoppedError();
+          const error = networkError(e, server);
+          if (attempt > 0 || !/closed the connection/.test(error.message)) throw error;
+        }
       }
       if (!response.ok || !response.body) {
         const text = await response.text().catch(() => '');

@@ -11,10 +11,11 @@ import { rollup, total } from '../../app/core/cube/rollup.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import { cubeSql, parseCube } from '../../app/core/scan/cube.ts';
 import type { RowExpressions } from '../../app/core/scan/expressions.ts';
+import { duckdb } from '../../app/core/sql/dialect-duckdb.ts';
 import type { Table as ResultTable } from '../../app/core/table.ts';
 import { cubeFromArrowIpc, cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
 
-const rows: RowExpressions = { segments: ['seg'], action: 'act', propensity: 'prop', reward: 'rew', bucket: '0', timeUs: null, timeColumn: null, version: null, targetPropensity: 'tq', decisionId: null };
+const rows: RowExpressions = { segments: ['seg'], action: 'act', propensity: 'prop', reward: 'rew', bucket: '0', timeUs: null, timeColumn: null, version: null, targetPropensity: 'tq', decisionId: null, dialect: duckdb };
 
 /** A cube result with two cells whose every measure column holds a distinct value. */
 function result(order: (names: string[]) => string[]): ResultTable {

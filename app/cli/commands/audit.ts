@@ -11,6 +11,8 @@ import { EXIT, InterruptedError, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
 import { ProgressLine, type RowProgress } from '../progress.ts';
 import { peakRssMb } from '../../engine/memory.ts';
+import { isClickHouseAddress } from '../../engine/clickhouse-address.ts';
+import type { OpenedSource } from '../warehouse.ts';
 import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, MEMORY_FLAGS, memoryFlags, openEngine, registerSources } from '../sources.ts';
 import { formatAuditSummary, painter } from '../summary.ts';
 import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
@@ -23,7 +25,7 @@ import { auditParts, rangeSoFar, readState, stateFor, storePart } from '../parts
 
 export const auditSpec: CommandSpec = {
   name: 'audit',
-  summary: 'Audit a decision log: checks, verdict, estimates; writes the JSON and HTML reports.\nExit status: 0 supported (or with caveats), 1 supported with caveats under --fail-on warn, 2 not supported, 3 usage or input error.',
+  summary: 'Audit a decision log (files, or a ClickHouse table as clickhouse://HOST:PORT/DB.TABLE with CLICKHOUSE_USER / CLICKHOUSE_PASSWORD[_FILE]): checks, verdict, estimates; writes the JSON and HTML reports.\nExit status: 0 supported (or with caveats), 1 supported with caveats under --fail-on warn, 2 not supported, 3 usage or input error.',
   positionals: { name: 'source', min: 0, max: Infinity },
   flags: {
     parts: { kind: 'string', value: 'DIR', help: 'audit the parts kept in DIR together (a partitioned log read part by part); with --add-part, read those parts first' },
@@ -34,6 +36,7 @@ export const auditSpec: CommandSpec = {
     settings: { kind: 'string', value: 'FILE', help: 'thresholds from a .json or .yaml file of setting: value pairs' },
     engine: ENGINE_FLAG,
     ...MEMORY_FLAGS,
+    where: { kind: 'string', value: 'CONDITION', help: 'with clickhouse://HOST:PORT/DB.TABLE: audit only the rows where this ClickHouse SQL condition holds (e.g. a date range)' },
     json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
     plan: { kind: 'string', value: 'FILE', help: 'write the next-log plan (remedies.plan) as CSV, or JSON when FILE ends in .json' },
@@ -107,18 +110,34 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       return await finish(report, state.parts.map((p) => p.path).join(', '), columns);
     }
     progress.stage('opening the log');
-    engine = await openEngine(engineChoice, memory);
+    const where = stringFlag(flags, 'where');
+    const warehouse = positionals.some(isClickHouseAddress);
+    if (where !== undefined && !warehouse) throw new UsageError('--where filters a table in a server (clickhouse://HOST:PORT/DB.TABLE); for files, filter the file first');
+    let opened: OpenedSource;
+    if (warehouse) {
+      if (positionals.length > 1) throw new UsageError('give one clickhouse://HOST:PORT/DB.TABLE source, not several');
+      if (flags.engine !== undefined) throw new UsageError('--engine chooses the engine for files; a clickhouse:// table is read by its own server');
+      const { openClickHouseTable } = await import('../warehouse.ts');
+      opened = await openClickHouseTable(positionals[0] as string, where, io.env);
+      engine = opened.engine;
+    } else {
+      engine = await openEngine(engineChoice, memory);
+      stopIfInterrupted();
+      const source = await registerSources(engine, positionals, io.cwd);
+      guardOutputs([jsonOut, htmlOut, planOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
+      progress.stage('fingerprinting input files');
+      const files = await fingerprintFiles(source.files, io.cwd);
+      stopIfInterrupted();
+      opened = { engine, relation: source.relation, scanSql: source.scanSql, input: { files, format: source.format }, columns: await describeColumns(engine, source.relation) };
+    }
     stopIfInterrupted();
-    const source = await registerSources(engine, positionals, io.cwd);
-    guardOutputs([jsonOut, htmlOut, planOut, stringFlag(flags, 'comparison-json'), stringFlag(flags, 'comparison-html')], source.files, io.cwd);
-    progress.stage('fingerprinting input files');
-    const files = await fingerprintFiles(source.files, io.cwd);
-    stopIfInterrupted();
-    const columns = await describeColumns(engine, source.relation);
+    const { columns } = opened;
     const report: Report = await core.runAudit((sql) => (engine as Engine).query(sql, { signal }), {
-      relation: source.relation,
-      input: { files, format: source.format },
-      scanSql: source.scanSql,
+      relation: opened.relation,
+      input: opened.input,
+      ...(opened.scanSql ? { scanSql: opened.scanSql } : {}),
+      ...(opened.dialect ? { dialect: opened.dialect } : {}),
+      ...(opened.table ? { table: opened.table } : {}),
       roles,
       targets,
       ...(settings ? { settings } : {}),

@@ -2,7 +2,6 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import { pairKeys, SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
-import { literal } from '../sql/quote.ts';
 import { segmentAxis, segmentText } from '../segment-map.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
 import { bestChangePoint } from '../stats/changepoint.ts';
@@ -149,7 +148,7 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
     const episode = accounts !== undefined && ctx.buckets ? changeWindow(t, cells, ineligible) : null;
     const win = t.bucket !== undefined && ctx.buckets ? bucketWindow(ctx.buckets, t.bucket, t.bucket + 1) : episode && ctx.buckets ? bucketWindow(ctx.buckets, episode[0], episode[1] + 1) : t.version !== undefined ? versionWindows.get(t.version) : undefined;
     const segPred = segmentPredicate(ctx.rows!, cols, t.segment);
-    const where = and(segPred, t.bucket !== undefined ? windowPredicate(ctx.rows!, ctx.buckets, t.bucket, t.bucket) : undefined, t.version !== undefined && ctx.rows!.version ? `${ctx.rows!.version} = ${literal(t.version)}` : undefined, `${ctx.rows!.action} = ${literal(t.action)}`);
+    const where = and(segPred, t.bucket !== undefined ? windowPredicate(ctx.rows!, ctx.buckets, t.bucket, t.bucket) : undefined, t.version !== undefined && ctx.rows!.version ? `${ctx.rows!.version} = ${ctx.rows!.dialect.literal(t.version)}` : undefined, `${ctx.rows!.action} = ${ctx.rows!.dialect.literal(t.action)}`);
     const scope = [describeSegment(t.segment), t.version !== undefined ? `policy ${t.version}` : '', win && t.bucket !== undefined ? `${win.from}` : '', win && episode ? `from ${win.from.slice(0, 10)} to ${win.to.slice(0, 10)}` : ''].filter(Boolean).join(', ');
     const accountNote = accounts !== undefined ? `; leaving this group's rows out explains ${accounts} of the ${significant.length} failing tests` : '';
     return {

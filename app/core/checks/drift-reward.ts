@@ -2,7 +2,6 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import { wilsonInterval } from '../stats/wilson.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
-import { literal } from '../sql/quote.ts';
 import { oneWayAnova } from '../stats/anova.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
 import { bestChangePoint, type ChangePoint } from '../stats/changepoint.ts';
@@ -118,7 +117,7 @@ function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   const b = ctx.buckets;
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj }) => {
     const ch = t.change!;
-    const where = and(segmentPredicate(ctx.rows!, ctx.segmentColumns, t.segment), t.action === '*' ? undefined : `${ctx.rows!.action} = ${literal(t.action)}`, windowPredicate(ctx.rows!, b, ch.index, b.count - 1), finiteReward(ctx.rows!.reward));
+    const where = and(segmentPredicate(ctx.rows!, ctx.segmentColumns, t.segment), t.action === '*' ? undefined : `${ctx.rows!.action} = ${ctx.rows!.dialect.literal(t.action)}`, windowPredicate(ctx.rows!, b, ch.index, b.count - 1), finiteReward(ctx.rows!.reward, ctx.rows!.dialect));
     const what = t.action === '*' ? `every action (stratified by action)` : t.action;
     return {
       segment: t.segment,

@@ -1,5 +1,4 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
-import { literal } from '../sql/quote.ts';
 import { pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 
 /** identity.duplicates: decision ids are unique (exact counts of duplicated ids and rows). */
@@ -18,7 +17,7 @@ function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
       status,
       metrics: { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share, max_copies: d.maxCopies },
       message: `${d.ids} decision id(s) appear more than once (${d.rowsInDuplicates} rows; ${d.extraRows} extra rows, ${pct(share, 2)} of the log; at most ${d.maxCopies} copies). Examples: ${d.exampleIds.join(', ')}.`,
-      ...(id && d.exampleIds.length ? { where: `${id} IN (${d.exampleIds.map(literal).join(', ')})` } : {}),
+      ...(id && d.exampleIds.length ? { where: `${id} IN (${d.exampleIds.map((x) => ctx.rows!.dialect.literal(x)).join(', ')})` } : {}),
     });
   }
   const summary = d.ids === 0 ? `All ${ctx.profile.rows} decision ids are unique.` : `${d.ids} duplicated decision ids: ${d.extraRows} extra rows (${pct(share, 2)} of rows; fail above ${pct(failAt)}).`;

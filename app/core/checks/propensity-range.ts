@@ -18,7 +18,7 @@ function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
     const windows = ctx.buckets ? g.windows : [];
     const when = windows.map(([a, b]) => bucketWindow(ctx.buckets!, a, b + 1));
     const base = { segment, status, metrics: { invalid_rows: g.bad, rows: g.rows, share_in_group: g.bad / Math.max(1, g.rows), share_of_invalid: g.bad / t.nPInvalid } };
-    const where = (w?: [number, number]) => and(`NOT coalesce(${validPropensity(rowsExpr.propensity)}, false)`, segmentPredicate(rowsExpr, ctx.segmentColumns, segment), w ? windowPredicate(rowsExpr, ctx.buckets, w[0], w[1]) : undefined);
+    const where = (w?: [number, number]) => and(rowsExpr.dialect.notTrue(validPropensity(rowsExpr.propensity, rowsExpr.dialect)), segmentPredicate(rowsExpr, ctx.segmentColumns, segment), w ? windowPredicate(rowsExpr, ctx.buckets, w[0], w[1]) : undefined);
     if (when.length === 0) {
       findings.push({ ...base, message: `${g.bad} invalid propensities in ${describeSegment(segment)} (${pct(g.bad / Math.max(1, g.rows), 2)} of its rows)`, ...opt(where()) });
     } else {

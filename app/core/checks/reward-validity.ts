@@ -38,7 +38,7 @@ function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
       const rows = perBucket.slice(a, z + 1).reduce((s, g) => s + g.n, 0);
       const miss = perBucket.slice(a, z + 1).reduce((s, g) => s + g.miss, 0);
       const atEnd = z === b.count - 1;
-      const where = and(windowPredicate(ctx.rows, b, a, z), `NOT coalesce(${finiteReward(ctx.rows.reward)}, false)`);
+      const where = and(windowPredicate(ctx.rows, b, a, z), ctx.rows.dialect.notTrue(finiteReward(ctx.rows.reward, ctx.rows.dialect)));
       findings.push({
         segment: {},
         window: bucketWindow(b, a, z + 1),

@@ -1,5 +1,4 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
-import { double, literal } from '../sql/quote.ts';
 import { cellHeatmap, describeSegment, fmt, notListedNote, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { and, segmentPredicate, validPropensity } from './predicates.ts';
@@ -25,7 +24,8 @@ function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> {
     const segment = segmentRecord(ctx.segmentColumns, p.values.slice(0, -1));
     const rowsIn = p.items.reduce((s, c) => s + c.totals.nP, 0);
     const segPred = segmentPredicate(ctx.rows!, ctx.segmentColumns, segment);
-    const where = action === '*' ? and(segPred, `${ctx.rows!.propensity} < ${double(eps)}`, validPropensity(ctx.rows!.propensity)) : and(segPred, `${ctx.rows!.action} = ${literal(action)}`, `${ctx.rows!.propensity} < ${double(eps)}`, validPropensity(ctx.rows!.propensity));
+    const d = ctx.rows!.dialect;
+    const where = action === '*' ? and(segPred, `${ctx.rows!.propensity} < ${d.double(eps)}`, validPropensity(ctx.rows!.propensity, d)) : and(segPred, `${ctx.rows!.action} = ${d.literal(action)}`, `${ctx.rows!.propensity} < ${d.double(eps)}`, validPropensity(ctx.rows!.propensity, d));
     return {
       segment,
       ...(action !== '*' ? { action } : {}),

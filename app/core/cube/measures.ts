@@ -10,8 +10,8 @@
  *   - rewarded rows:     valid p AND finite r:  nRw, sumInvPRw, sumInvP2Rw, sumR, sumR2, sumRInvP, sumRInvP2, sumR2InvP2
  *   - any finite reward: nRAll, sumRAll, sumR2All                               (on-policy value, reward drift)
  */
-import { double } from '../sql/quote.ts';
-import { VALID_P, VALID_R } from '../scan/expressions.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { finiteReward, validPropensity } from '../scan/expressions.ts';
 
 /** How a measure combines when cells merge: sums add, minima and maxima combine (null is "no value"). */
 export type Merge = 'sum' | 'min' | 'max';
@@ -20,6 +20,8 @@ export type Merge = 'sum' | 'min' | 'max';
 export interface MeasureContext {
   /** the support floor ε the cube is built with */
   readonly floor: number;
+  /** the SQL dialect of the cube query */
+  readonly d: Dialect;
 }
 
 /**
@@ -60,13 +62,15 @@ export interface MeasureRow {
   readonly d: number | null;
 }
 
-const PV = VALID_P;
-const RW = `${VALID_P} AND ${VALID_R}`;
-const VALID_Q = '(q >= 0 AND q <= 1 AND NOT isnan(q))';
-const QV = `${PV} AND ${VALID_Q}`;
-const QRW = `${RW} AND ${VALID_Q}`;
+/** The row sets over the base columns p, r and q, in the cube's dialect. */
+const PV = (x: MeasureContext) => validPropensity('p', x.d);
+const VR = (x: MeasureContext) => finiteReward('r', x.d);
+const RW = (x: MeasureContext) => `${PV(x)} AND ${VR(x)}`;
+const VALID_Q = (x: MeasureContext) => `(q >= 0 AND q <= 1 AND NOT ${x.d.isNaN('q')})`;
+const QV = (x: MeasureContext) => `${PV(x)} AND ${VALID_Q(x)}`;
+const QRW = (x: MeasureContext) => `${RW(x)} AND ${VALID_Q(x)}`;
 
-// The row sets above, over a row in memory (VALID_P and VALID_R in app/core/scan/expressions.ts).
+// The row sets above, over a row in memory (validPropensity and finiteReward in app/core/scan/expressions.ts).
 const validP = (p: number | null): p is number => p !== null && p > 0 && p <= 1 && !Number.isNaN(p);
 const validR = (r: number | null): r is number => r !== null && Number.isFinite(r);
 /** `value` where the row's propensity is valid and (with `rewarded`) its reward finite, else null. */
@@ -86,63 +90,63 @@ function count<F extends string>(field: F, column: string, where: (x: MeasureCon
   return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)), term: when(holds) };
 }
 
-function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: Aggregate, groups: Aggregate, term: Measure['term']): Measure<F, M> {
-  return { field, column, merge, rows: () => rows, groups: () => groups, term };
+function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: (x: MeasureContext) => Aggregate, groups: (x: MeasureContext) => Aggregate, term: Measure['term']): Measure<F, M> {
+  return { field, column, merge, rows, groups, term };
 }
 
 /** The measures of every cell, in the cube query's column order. */
 export const CELL_MEASURES = [
   count('n', 'n', () => undefined, () => true),
   count('nPNull', 'n_p_null', () => 'p IS NULL', ({ p }) => p === null),
-  count('nPNaN', 'n_p_nan', () => 'isnan(p)', ({ p }) => p !== null && Number.isNaN(p)),
+  count('nPNaN', 'n_p_nan', (x) => x.d.isNaN('p'), ({ p }) => p !== null && Number.isNaN(p)),
   count('nPNonPositive', 'n_p_nonpos', () => 'p <= 0', ({ p }) => p !== null && p <= 0),
-  count('nPAboveOne', 'n_p_above', () => 'p > 1 AND NOT isnan(p)', ({ p }) => p !== null && p > 1),
+  count('nPAboveOne', 'n_p_above', (x) => `p > 1 AND NOT ${x.d.isNaN('p')}`, ({ p }) => p !== null && p > 1),
   count('nPOne', 'n_p_one', () => 'p = 1', ({ p }) => p === 1),
-  count('nPBelowFloor', 'n_p_floor', (x) => `${PV} AND p < ${double(x.floor)}`, ({ p }, x) => validP(p) && p < x.floor),
-  measure('nRNull', 'n_r_null', 'sum', rowCount(`NOT coalesce(${VALID_R}, false)`), { sum: 'c - c_r', integral: true }, when(({ r }) => !validR(r))),
-  count('nP', 'n_p', () => PV, ({ p }) => validP(p)),
-  measure('sumInvP', 's_ip', 'sum', sum('1 / p', PV), sum('c / p', PV), onValid((p) => 1 / p, false)),
-  measure('sumInvP2', 's_ip2', 'sum', sum('1 / (p * p)', PV), sum('c / (p * p)', PV), onValid((p) => 1 / (p * p), false)),
-  measure('minP', 'min_p', 'min', { min: 'p', where: PV }, { min: 'p', where: PV }, onValid((p) => p, false)),
-  measure('maxP', 'max_p', 'max', { max: 'p', where: PV }, { max: 'p', where: PV }, onValid((p) => p, false)),
-  measure('nRw', 'n_rw', 'sum', rowCount(RW), { sum: 'c_r', where: PV, integral: true }, onValid(() => 1, true)),
-  measure('sumInvPRw', 's_ip_rw', 'sum', sum('1 / p', RW), sum('c_r / p', PV), onValid((p) => 1 / p, true)),
-  measure('sumInvP2Rw', 's_ip2_rw', 'sum', sum('1 / (p * p)', RW), sum('c_r / (p * p)', PV), onValid((p) => 1 / (p * p), true)),
-  measure('sumR', 's_r', 'sum', sum('r', RW), sum('s_r', PV), onValid((_, r) => r, true)),
-  measure('sumR2', 's_r2', 'sum', sum('r * r', RW), sum('s_r2', PV), onValid((_, r) => r * r, true)),
-  measure('sumRInvP', 's_rip', 'sum', sum('r / p', RW), sum('s_r / p', PV), onValid((p, r) => r / p, true)),
-  measure('sumRInvP2', 's_rip2', 'sum', sum('r / (p * p)', RW), sum('s_r / (p * p)', PV), onValid((p, r) => r / (p * p), true)),
-  measure('sumR2InvP2', 's_r2ip2', 'sum', sum('r * r / (p * p)', RW), sum('s_r2 / (p * p)', PV), onValid((p, r) => (r * r) / (p * p), true)),
-  measure('nRAll', 'n_rall', 'sum', rowCount(VALID_R), { sum: 'c_r', integral: true }, onReward(() => 1)),
-  measure('sumRAll', 's_rall', 'sum', sum('r', VALID_R), sum('s_r'), onReward((r) => r)),
-  measure('sumR2All', 's_r2all', 'sum', sum('r * r', VALID_R), sum('s_r2'), onReward((r) => r * r)),
+  count('nPBelowFloor', 'n_p_floor', (x) => `${PV(x)} AND p < ${x.d.double(x.floor)}`, ({ p }, x) => validP(p) && p < x.floor),
+  measure('nRNull', 'n_r_null', 'sum', (x) => rowCount(x.d.notTrue(VR(x))), () => ({ sum: 'c - c_r', integral: true }), when(({ r }) => !validR(r))),
+  count('nP', 'n_p', PV, ({ p }) => validP(p)),
+  measure('sumInvP', 's_ip', 'sum', (x) => sum('1 / p', PV(x)), (x) => sum('c / p', PV(x)), onValid((p) => 1 / p, false)),
+  measure('sumInvP2', 's_ip2', 'sum', (x) => sum('1 / (p * p)', PV(x)), (x) => sum('c / (p * p)', PV(x)), onValid((p) => 1 / (p * p), false)),
+  measure('minP', 'min_p', 'min', (x) => ({ min: 'p', where: PV(x) }), (x) => ({ min: 'p', where: PV(x) }), onValid((p) => p, false)),
+  measure('maxP', 'max_p', 'max', (x) => ({ max: 'p', where: PV(x) }), (x) => ({ max: 'p', where: PV(x) }), onValid((p) => p, false)),
+  measure('nRw', 'n_rw', 'sum', (x) => rowCount(RW(x)), (x) => ({ sum: 'c_r', where: PV(x), integral: true }), onValid(() => 1, true)),
+  measure('sumInvPRw', 's_ip_rw', 'sum', (x) => sum('1 / p', RW(x)), (x) => sum('c_r / p', PV(x)), onValid((p) => 1 / p, true)),
+  measure('sumInvP2Rw', 's_ip2_rw', 'sum', (x) => sum('1 / (p * p)', RW(x)), (x) => sum('c_r / (p * p)', PV(x)), onValid((p) => 1 / (p * p), true)),
+  measure('sumR', 's_r', 'sum', (x) => sum('r', RW(x)), (x) => sum('s_r', PV(x)), onValid((_, r) => r, true)),
+  measure('sumR2', 's_r2', 'sum', (x) => sum('r * r', RW(x)), (x) => sum('s_r2', PV(x)), onValid((_, r) => r * r, true)),
+  measure('sumRInvP', 's_rip', 'sum', (x) => sum('r / p', RW(x)), (x) => sum('s_r / p', PV(x)), onValid((p, r) => r / p, true)),
+  measure('sumRInvP2', 's_rip2', 'sum', (x) => sum('r / (p * p)', RW(x)), (x) => sum('s_r / (p * p)', PV(x)), onValid((p, r) => r / (p * p), true)),
+  measure('sumR2InvP2', 's_r2ip2', 'sum', (x) => sum('r * r / (p * p)', RW(x)), (x) => sum('s_r2 / (p * p)', PV(x)), onValid((p, r) => (r * r) / (p * p), true)),
+  measure('nRAll', 'n_rall', 'sum', (x) => rowCount(VR(x)), () => ({ sum: 'c_r', integral: true }), onReward(() => 1)),
+  measure('sumRAll', 's_rall', 'sum', (x) => sum('r', VR(x)), () => sum('s_r'), onReward((r) => r)),
+  measure('sumR2All', 's_r2all', 'sum', (x) => sum('r * r', VR(x)), () => sum('s_r2'), onReward((r) => r * r)),
   /**
    * Centred reward sums, d = r − shift with the cube's one shift (the middle of the reward's range):
    * a variance formed from them, Σd² − (Σd)²/n, does not cancel as Σr² − (Σr)²/n does when the mean is
    * large against the spread (Chan, Golub & LeVeque 1983, "Algorithms for computing the sample variance").
    */
-  measure('sumD', 's_d', 'sum', sum('d', RW), sum('s_d', PV), onValid((_, __, d) => d, true)),
-  measure('sumD2', 's_d2', 'sum', sum('d * d', RW), sum('s_d2', PV), onValid((_, __, d) => d * d, true)),
-  measure('sumDAll', 's_dall', 'sum', sum('d', VALID_R), sum('s_d'), onReward((_, d) => d)),
-  measure('sumD2All', 's_d2all', 'sum', sum('d * d', VALID_R), sum('s_d2'), onReward((_, d) => d * d)),
+  measure('sumD', 's_d', 'sum', (x) => sum('d', RW(x)), (x) => sum('s_d', PV(x)), onValid((_, __, d) => d, true)),
+  measure('sumD2', 's_d2', 'sum', (x) => sum('d * d', RW(x)), (x) => sum('s_d2', PV(x)), onValid((_, __, d) => d * d, true)),
+  measure('sumDAll', 's_dall', 'sum', (x) => sum('d', VR(x)), () => sum('s_d'), onReward((_, d) => d)),
+  measure('sumD2All', 's_d2all', 'sum', (x) => sum('d * d', VR(x)), () => sum('s_d2'), onReward((_, d) => d * d)),
 ] as const;
 
 /** Row-level only: a target-propensity column makes the cube read every row. */
-const rowsOnly = <F extends string>(field: F, column: string, rows: Aggregate): Measure<F, 'sum'> => ({
-  field, column, merge: 'sum', rows: () => rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
+const rowsOnly = <F extends string>(field: F, column: string, rows: (x: MeasureContext) => Aggregate): Measure<F, 'sum'> => ({
+  field, column, merge: 'sum', rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
   term: () => { throw new Error(`cube measure ${field} reads a target_propensity column, which rows in memory do not carry`); },
 });
 
 /** Sums for a mapped target_propensity column q (row weight q/p), same row sets; on cell.target. */
 export const TARGET_MEASURES = [
-  rowsOnly('nInvalid', 't_n_invalid', rowCount(`NOT coalesce(${VALID_Q}, false)`)),
-  rowsOnly('sumW', 't_sw', sum('q / p', QV)),
-  rowsOnly('sumW2', 't_sw2', sum('q * q / (p * p)', QV)),
-  rowsOnly('sumWRw', 't_sw_rw', sum('q / p', QRW)),
-  rowsOnly('sumW2Rw', 't_sw2_rw', sum('q * q / (p * p)', QRW)),
-  rowsOnly('sumWR', 't_swr', sum('q * r / p', QRW)),
-  rowsOnly('sumW2R', 't_sw2r', sum('q * q * r / (p * p)', QRW)),
-  rowsOnly('sumW2R2', 't_sw2r2', sum('q * q * r * r / (p * p)', QRW)),
+  rowsOnly('nInvalid', 't_n_invalid', (x) => rowCount(x.d.notTrue(VALID_Q(x)))),
+  rowsOnly('sumW', 't_sw', (x) => sum('q / p', QV(x))),
+  rowsOnly('sumW2', 't_sw2', (x) => sum('q * q / (p * p)', QV(x))),
+  rowsOnly('sumWRw', 't_sw_rw', (x) => sum('q / p', QRW(x))),
+  rowsOnly('sumW2Rw', 't_sw2_rw', (x) => sum('q * q / (p * p)', QRW(x))),
+  rowsOnly('sumWR', 't_swr', (x) => sum('q * r / p', QRW(x))),
+  rowsOnly('sumW2R', 't_sw2r', (x) => sum('q * q * r / (p * p)', QRW(x))),
+  rowsOnly('sumW2R2', 't_sw2r2', (x) => sum('q * q * r * r / (p * p)', QRW(x))),
 ] as const;
 
 /** Fields computed from other fields of the same cell when it is parsed; they merge as sums. */

@@ -209,6 +209,22 @@ export const InputFileSchema = record({
 });
 export type InputFile = z.infer<typeof InputFileSchema>;
 
+/**
+ * A table in a database server as the log (no files): where it lives, the filter that picked its rows, and
+ * the source fingerprint a re-audit compares (row count and an order-independent hash sum over the role
+ * columns, app/core/scan/fingerprint.ts). No credentials.
+ */
+export const InputTableSchema = record({
+  engine: z.string(),
+  server: z.string(),
+  server_version: z.string(),
+  database: z.string(),
+  table: z.string(),
+  where: nullable(z.string()),
+  fingerprint: record({ rows: count(), hash: z.string().regex(/^\d+$/), columns: list(z.string()), method: z.string() }),
+});
+export type InputTable = z.infer<typeof InputTableSchema>;
+
 export const QueryRecordSchema = record({
   name: z.string(),
   sql: z.string(),
@@ -327,7 +343,7 @@ export type Remedies = z.infer<typeof RemediesSchema>;
 export const ReportSchema = record({
   schema: z.literal(REPORT_SCHEMA_ID),
   tool: record({ name: z.literal('counterweight'), version: z.string() }),
-  input: record({ files: list(InputFileSchema), format: z.string(), rows: count() }),
+  input: record({ files: list(InputFileSchema), format: z.string(), rows: count(), table: InputTableSchema.optional() }),
   roles: RolesReportSchema,
   settings: z.record(z.string(), SettingValueSchema),
   verdict: VerdictSchema,

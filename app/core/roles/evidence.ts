@@ -6,8 +6,10 @@
  * which is 1 only by coincidence. A decision id must be nearly unique.
  */
 import { actionEvidenceSql, EVIDENCE_MAX_VALUES, parseActionEvidence, type EvidenceGroup } from '../scan/role-evidence.ts';
-import type { ColumnProfile, Profile } from '../scan/profile.ts';
+import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
 import type { RunQuery } from '../table.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { actionEvidenceSqlClickHouse } from '../scan/rows-clickhouse.ts';
 
 /** Largest |B(a) − 1| over a column's values for the identity to count as holding (common practice: the balance check's 0.1, widened for logs with planted or real defects). */
 export const FIT_TOLERANCE = 0.15;
@@ -94,7 +96,7 @@ function actionCandidates(profile: Profile): string[] {
 }
 
 /** The identity for every (action candidate, propensity candidate) pair: one aggregate per action candidate, in one read of the first rows. */
-export async function gatherRoleEvidence(run: RunQuery, relation: string, profile: Profile, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql): Promise<RoleEvidence> {
+export async function gatherRoleEvidence(run: RunQuery, relation: string, profile: Profile, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql, d?: Dialect): Promise<RoleEvidence> {
   const props = propensityCandidates(profile);
   const fits: BalanceFit[] = [];
   if (props.length === 0) return { rowsRead: 0, fits };
@@ -104,7 +106,7 @@ export async function gatherRoleEvidence(run: RunQuery, relation: string, profil
   // GROUPING() packs one bit per candidate into an integer: a very wide log is read in chunks of EVIDENCE_CHUNK candidates
   for (let start = 0; start < candidates.length; start += EVIDENCE_CHUNK) {
     const chunk = candidates.slice(start, start + EVIDENCE_CHUNK);
-    const table = await run(record(start === 0 ? 'role evidence' : `role evidence (${start + 1}-${start + chunk.length})`, actionEvidenceSql(relation, chunk, props), true));
+    const table = await run(record(start === 0 ? 'role evidence' : `role evidence (${start + 1}-${start + chunk.length})`, (d?.name === 'clickhouse' ? actionEvidenceSqlClickHouse(relation, chunk, props.map((name) => ({ name, kind: profile.columns.find((c) => c.name === name)?.kind ?? 'other' })), PREFIX_ROWS) : actionEvidenceSql(relation, chunk, props)), true));
     const groups = parseActionEvidence(table, chunk.length, props.length);
     chunk.forEach((col, i) => {
       const g = groups[i] ?? [];

@@ -6,7 +6,10 @@
  */
 import { blankCell, blankTargetSums, CELL_MEASURES, DERIVED_MEASURES, TARGET_MEASURES, type Aggregate, type Measure, type Merge } from '../cube/measures.ts';
 import type { CubeCell } from '../cube/types.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { duckdb } from '../sql/dialect-duckdb.ts';
 import { double, integer, literal } from '../sql/quote.ts';
+import { cubeScalesSqlClickHouse, cubeSqlClickHouse, finishExactSums, parseCubeScales } from './cube-clickhouse.ts';
 import type { Table } from '../table.ts';
 import type { ColumnProfile } from './profile.ts';
 import { NULL_LABEL, OTHER_LABEL, VALID_R, type RowExpressions } from './expressions.ts';
@@ -28,6 +31,8 @@ export interface CubeSpec {
   readonly reward?: RewardShift | null;
   /** Rows of the log (the profile's count), which bounds the row-level fixed-point sums. */
   readonly rowCount?: number;
+  /** the SQL dialect to write (DuckDB when absent); the rows' expressions must be in the same one */
+  readonly dialect?: Dialect;
 }
 
 /** Propensity-level grouping pays off while the distinct propensities stay this few. */
@@ -111,12 +116,24 @@ function aggregation(list: readonly (readonly [string, Aggregate])[], source: st
 
 /** The measures over rows or over (keys, p) groups, from the measures table. */
 function measureList(spec: CubeSpec, grouped: boolean): [string, Aggregate, Merge][] {
-  const x = { floor: spec.floor };
+  const x = { floor: spec.floor, d: duckdb };
   const measures: readonly Measure[] = !grouped && spec.rows.targetPropensity ? [...CELL_MEASURES, ...TARGET_MEASURES] : CELL_MEASURES;
   return measures.map((m) => [m.column, grouped ? m.groups(x) : m.rows(x), m.merge]);
 }
 
-export function cubeSql(spec: CubeSpec): string {
+/**
+ * The statement a dialect must run before the cube query (null for DuckDB, whose cube query is one
+ * statement): on ClickHouse, the fixed-point scales. Its result goes to cubeSql.
+ */
+export function cubePreludeSql(spec: CubeSpec): string | null {
+  return spec.dialect?.name === 'clickhouse' ? cubeScalesSqlClickHouse(spec) : null;
+}
+
+export function cubeSql(spec: CubeSpec, prelude: Table | null = null): string {
+  if (spec.dialect && spec.dialect.name !== 'duckdb') {
+    if (spec.dialect.name === 'clickhouse') return cubeSqlClickHouse(spec, parseCubeScales(prelude));
+    throw new Error(`no cube query for the ${spec.dialect.name} dialect`);
+  }
   const { rows } = spec;
   const segs = rows.segments.map((_, i) => `s${i}`);
   const keys = [...segs, 'a', 'v', 'b'];
@@ -202,7 +219,9 @@ export function parseCappedDistinct(table: Table, capped: readonly number[]): Ma
   return out;
 }
 
-export function parseCube(table: Table, segmentCount: number): CubeCell[] {
+export function parseCube(result: Table, segmentCount: number): CubeCell[] {
+  // a dialect without 128-bit integers answers its exact sums as limbs (cube-clickhouse.ts)
+  const table = finishExactSums(result);
   const col = (name: string) => table.columns[table.names.indexOf(name)] as readonly unknown[];
   const segCols = Array.from({ length: segmentCount }, (_, i) => col(`s${i}`));
   const a = col('a');

@@ -3,7 +3,8 @@
  * that every query reads the log the same way.
  */
 import type { ResolvedRoles } from '../roles/roles.ts';
-import { ident, literal } from '../sql/quote.ts';
+import type { Dialect } from '../sql/dialect.ts';
+import { duckdb } from '../sql/dialect-duckdb.ts';
 import type { ColumnProfile, Profile } from './profile.ts';
 
 export const NULL_LABEL = '(null)';
@@ -26,21 +27,21 @@ const NAMED_WIDTHS: readonly [string, number][] = [
   ['30d', 30 * 24 * HOUR_US],
 ];
 
-function timeUsExpr(roles: ResolvedRoles, profile: Profile): string | null {
+function timeUsExpr(roles: ResolvedRoles, profile: Profile, d: Dialect = duckdb): string | null {
   if (!roles.time || !roles.timeEncoding) return null;
-  const col = ident(roles.time);
+  const col = d.ident(roles.time);
   const type = profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() ?? '';
   switch (roles.timeEncoding) {
     case 'timestamp':
-      return /TIME ZONE|TIMESTAMPTZ/.test(type) ? `epoch_us(${col})` : `epoch_us(CAST(${col} AS TIMESTAMP))`;
+      return /TIME ZONE|TIMESTAMPTZ/.test(type) && d.name === 'duckdb' ? `epoch_us(${col})` : d.epochUs(col);
     case 'text':
-      return `epoch_us(TRY_CAST(${col} AS TIMESTAMP))`;
+      return d.textEpochUs(col);
     case 'epoch_s':
-      return `(CAST(${col} AS BIGINT) * 1000000)`;
+      return `(${d.toBigint(col)} * 1000000)`;
     case 'epoch_ms':
-      return `(CAST(${col} AS BIGINT) * 1000)`;
+      return `(${d.toBigint(col)} * 1000)`;
     case 'epoch_us':
-      return `CAST(${col} AS BIGINT)`;
+      return d.toBigint(col);
   }
 }
 
@@ -95,39 +96,43 @@ export interface RowExpressions {
   readonly version: string | null;
   readonly targetPropensity: string | null;
   readonly decisionId: string | null;
+  /** the SQL dialect these expressions are written in; predicates over them use its literals */
+  readonly dialect: Dialect;
 }
 
-function textValue(col: string): string {
-  return `coalesce(CAST(${ident(col)} AS VARCHAR), ${literal(NULL_LABEL)})`;
+function textValue(col: string, d: Dialect = duckdb): string {
+  return `coalesce(${d.toText(d.ident(col))}, ${d.literal(NULL_LABEL)})`;
 }
 
-export function rowExpressions(roles: ResolvedRoles, profile: Profile, buckets: TimeBuckets | null): RowExpressions {
+export function rowExpressions(roles: ResolvedRoles, profile: Profile, buckets: TimeBuckets | null, d: Dialect = duckdb): RowExpressions {
   if (!roles.action || !roles.propensity || !roles.reward) throw new Error('action, propensity and reward roles are required to build row expressions');
-  const timeUs = timeUsExpr(roles, profile);
-  const rewardType = profile.columns.find((c) => c.name === roles.reward)?.kind;
-  const reward = rewardType === 'boolean' ? `CAST(CAST(${ident(roles.reward)} AS INTEGER) AS DOUBLE)` : `TRY_CAST(${ident(roles.reward)} AS DOUBLE)`;
+  const timeUs = timeUsExpr(roles, profile, d);
+  const kindOf = (c: string) => profile.columns.find((x) => x.name === c)?.kind ?? 'other';
+  const rewardType = kindOf(roles.reward);
+  const reward = rewardType === 'boolean' ? d.booleanNumber(d.ident(roles.reward)) : d.numberOf(d.ident(roles.reward), rewardType);
   return {
-    segments: roles.segments.map(textValue),
-    action: textValue(roles.action),
-    propensity: `TRY_CAST(${ident(roles.propensity)} AS DOUBLE)`,
+    segments: roles.segments.map((c) => textValue(c, d)),
+    action: textValue(roles.action, d),
+    propensity: d.numberOf(d.ident(roles.propensity), kindOf(roles.propensity)),
     reward,
     timeUs,
-    timeColumn: timeUs && roles.timeEncoding === 'timestamp' && profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() === 'TIMESTAMP' ? ident(roles.time as string) : null,
-    bucket: buckets && timeUs ? `coalesce(CAST(floor((${timeUs} - ${buckets.originUs}) / ${buckets.widthUs}) AS INTEGER), -1)` : '0',
-    version: roles.policy_version ? textValue(roles.policy_version) : null,
-    targetPropensity: roles.target_propensity ? `TRY_CAST(${ident(roles.target_propensity)} AS DOUBLE)` : null,
-    decisionId: roles.decision_id ? `CAST(${ident(roles.decision_id)} AS VARCHAR)` : null,
+    timeColumn: timeUs && roles.timeEncoding === 'timestamp' && profile.columns.find((c) => c.name === roles.time)?.type.toUpperCase() === 'TIMESTAMP' ? d.ident(roles.time as string) : null,
+    bucket: buckets && timeUs ? `coalesce(${d.toInteger(`floor((${timeUs} - ${buckets.originUs}) / ${buckets.widthUs})`)}, -1)` : '0',
+    version: roles.policy_version ? textValue(roles.policy_version, d) : null,
+    targetPropensity: roles.target_propensity ? d.numberOf(d.ident(roles.target_propensity), kindOf(roles.target_propensity)) : null,
+    decisionId: roles.decision_id ? d.toText(d.ident(roles.decision_id)) : null,
+    dialect: d,
   };
 }
 
 /** The one rule for a valid propensity: 0 < p <= 1 and not NaN (DuckDB orders NaN above every number). */
-export function validPropensity(p: string): string {
-  return `(${p} > 0 AND ${p} <= 1 AND NOT isnan(${p}))`;
+export function validPropensity(p: string, d: Dialect = duckdb): string {
+  return `(${p} > 0 AND ${p} <= 1 AND NOT ${d.isNaN(p)})`;
 }
 
 /** The one rule for a usable reward: present and finite. */
-export function finiteReward(r: string): string {
-  return `(${r} IS NOT NULL AND isfinite(${r}))`;
+export function finiteReward(r: string, d: Dialect = duckdb): string {
+  return `(${r} IS NOT NULL AND ${d.isFinite(r)})`;
 }
 
 /** The rules over the cube's base columns p and r. */

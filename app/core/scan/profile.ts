@@ -11,7 +11,10 @@
  * rows' figures and says so (`distinctBasis`, `parseBasis`): counting 10^7 distinct identifiers
  * or running a text screen over 10^7 names costs more than the rest of the audit together.
  */
+import type { Dialect } from '../sql/dialect.ts';
+import { duckdb } from '../sql/dialect-duckdb.ts';
 import { ident, integer } from '../sql/quote.ts';
+import { describeSqlClickHouse, parseDescribeClickHouse, profileSqlClickHouse } from './profile-clickhouse.ts';
 import type { RunQuery, Table } from '../table.ts';
 import { column } from '../table.ts';
 
@@ -313,11 +316,13 @@ function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly ColumnPl
  * The profile of a registered log in at most two queries (see the head of this file): DESCRIBE, the
  * first PREFIX_ROWS rows, and, when the log is longer, every row. `record` names each query.
  */
-export async function profileLog(run: RunQuery, relation: string, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql): Promise<Profile> {
-  const columns = parseDescribe(await run(record('describe', describeSql(relation), false)));
-  const firstTable = await run(record('profile (first rows)', profileSql(prefixSql(relation), columns), true));
+export async function profileLog(run: RunQuery, relation: string, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql, d: Dialect = duckdb): Promise<Profile> {
+  const ch = d.name === 'clickhouse';
+  const profileSql_ = ch ? profileSqlClickHouse : profileSql;
+  const columns = ch ? parseDescribeClickHouse(await run(record('describe', describeSqlClickHouse(relation), false))) : parseDescribe(await run(record('describe', describeSql(relation), false)));
+  const firstTable = await run(record('profile (first rows)', profileSql_(prefixSql(relation), columns), true));
   const prefix = parseProfile(firstTable, columns);
   if (prefix.rows < PREFIX_ROWS) return prefix;
   const plans = planFromPrefix(prefix, screenedCounts(firstTable, columns));
-  return mergeProfiles(prefix, parseProfile(await run(record('profile', profileSql(relation, columns, plans), true)), columns), plans);
+  return mergeProfiles(prefix, parseProfile(await run(record('profile', profileSql_(relation, columns, plans), true)), columns), plans);
 }

@@ -7,6 +7,7 @@ import { SEP } from '../cube/rollup.ts';
 import type { Dialect } from '../sql/dialect.ts';
 import { duckdb } from '../sql/dialect-duckdb.ts';
 import { double, ident, integer, literal } from '../sql/quote.ts';
+import { clipRowsSqlClickHouse, duplicatesSqlClickHouse, examplesSqlClickHouse, tailSqlClickHouse } from './rows-clickhouse.ts';
 import type { Table } from '../table.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
 import { finiteReward, validPropensity, type RowExpressions } from './expressions.ts';
@@ -21,6 +22,8 @@ import { finiteReward, validPropensity, type RowExpressions } from './expression
  * the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts).
  */
 export function duplicatesSql(relation: string, idColumn: string, examples: number, dialect: Dialect = duckdb): string {
+  // 18.16 has no window functions: ClickHouse groups by id (rows-clickhouse.ts)
+  if (dialect.name === 'clickhouse') return duplicatesSqlClickHouse(relation, idColumn, examples);
   const id = dialect.ident(idColumn);
   const text = dialect.toText(id);
   return [
@@ -86,6 +89,7 @@ export const LOG10_BIN = 0.1;
 const P = ident('cw:p');
 
 export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false): string {
+  if (rows.dialect.name === 'clickhouse') return tailSqlClickHouse(relation, rows, target, segmentColumns, actions, limit);
   if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit);
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   return [
@@ -162,7 +166,8 @@ export interface ExampleRequest {
  * (CSV, NDJSON; `rereadIsCheap: false`), the rows matching any finding are read once into a
  * materialised set and the branches take from it.
  */
-export function examplesSql(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[], rereadIsCheap = true): string {
+export function examplesSql(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[], rereadIsCheap = true, d?: Dialect): string {
+  if (d?.name === 'clickhouse') return examplesSqlClickHouse(relation, requests, perFinding, orderBy);
   const n = integer(perFinding);
   const from = rereadIsCheap ? relation : 'm';
   const order = orderBy.length ? ` ORDER BY ${orderBy.join(', ')}` : '';
@@ -180,6 +185,7 @@ export function examplesSql(relation: string, requests: readonly ExampleRequest[
  * summed here, so the caps' totals stay the cube's exact ones.
  */
 export function clipRowsSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): string {
+  if (rows.dialect.name === 'clickhouse') return clipRowsSqlClickHouse(relation, rows, target, segmentColumns, actions, above, limit);
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   const R = ident('cw:r');
   const validQ = target.kind === 'column' ? ` AND (${expr}) >= 0 AND (${expr}) <= 1` : '';

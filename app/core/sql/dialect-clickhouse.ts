@@ -28,6 +28,21 @@ export const clickhouse: Dialect = {
   maxIf: (x, cond) => `if(countIf(${cond}) = 0, NULL, maxIf(${x}, ${cond}))`,
   hash64: (x) => `cityHash64(${x})`,
   epochUs: (x) => `(toInt64(toUInt32(toDateTime(${x}))) * 1000000)`,
+  // parseDateTimeBestEffort reads ISO 8601 and the common log spellings; it is not DuckDB's TIMESTAMP cast (README, "Where the log lives")
+  textEpochUs: (x) => `(toInt64(toUInt32(parseDateTimeBestEffortOrNull(${x}))) * 1000000)`,
+  isInf: (x) => `isInfinite(${x})`,
+  toBigint: (x) => `toInt64(${x})`,
+  toInteger: (x) => `toInt32(${x})`,
+  // a number column is read as a number (text parsing is 1 ulp off on 18.16); only text is parsed
+  numberOf: (column, kind) => (kind === 'text' ? `toFloat64OrNull(${column})` : kind === 'numeric' || kind === 'boolean' ? `toFloat64(${column})` : 'CAST(NULL AS Nullable(Float64))'),
+  booleanNumber: (column) => `toFloat64(${column})`,
+  notTrue: (cond) => `NOT ifNull(${cond}, 0)`,
+  truth: '1 = 1',
+  // DateTime holds whole seconds in 18.16; a window edge between seconds is written against epoch microseconds instead
+  timestamp: (us) => {
+    if (!Number.isSafeInteger(us) || us % 1_000_000 !== 0 || us < 0 || us >= 2 ** 32 * 1e6) return null;
+    return `toDateTime(${String(us / 1_000_000)})`;
+  },
   // a UInt64 sum wraps modulo 2^64, which is what makes it independent of row order and shard split
   rowHashSum: (values) => `sum(cityHash64(${values.map((v) => `ifNull(toString(${v}), ${NULL_MARK})`).join(', ')}))`,
   fingerprintHash: 'clickhouse cityHash64() of the values as text, summed modulo 2^64',

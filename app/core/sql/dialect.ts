@@ -40,6 +40,24 @@ export interface Dialect {
   hash64(x: string): string;
   /** microseconds since the Unix epoch of a date-time value (UTC). */
   epochUs(x: string): string;
+  /** microseconds since the Unix epoch of text that reads as a date-time, NULL where it does not. */
+  textEpochUs(x: string): string;
+  /** ±∞ test (NULL for NULL). */
+  isInf(x: string): string;
+  /** x as a 64-bit integer (epoch seconds, milliseconds, microseconds). */
+  toBigint(x: string): string;
+  /** x rounded down (floor already applied) as a 32-bit integer: the cube's time bucket. */
+  toInteger(x: string): string;
+  /** a column of the given kind as a double, NULL where it holds no number (text that does not parse). */
+  numberOf(column: string, kind: 'numeric' | 'text' | 'temporal' | 'boolean' | 'other'): string;
+  /** a boolean column as 0/1 doubles. */
+  booleanNumber(column: string): string;
+  /** rows where cond is false or NULL */
+  notTrue(cond: string): string;
+  /** a condition that always holds */
+  readonly truth: string;
+  /** a date-time literal for microseconds since the Unix epoch (UTC), or null when the engine's type cannot hold it exactly */
+  timestamp(us: number): string | null;
   /**
    * An order-independent fingerprint of the rows: the sum modulo 2^64 of a 64-bit hash of each row's
    * values (as text; NULL as a marker no text equals), as an exact integer. Hash functions differ between

@@ -18,6 +18,7 @@ import { LOG10_BIN } from '../../../app/core/scan/rows.ts';
 import { resolveSettings } from '../../../app/core/settings.ts';
 import { analyseTarget, cubeView } from '../../../app/core/targets/analysis.ts';
 import { parseTarget, resolveTargets, type TargetInput } from '../../../app/core/targets/targets.ts';
+import { duckdb } from '../../../app/core/sql/dialect-duckdb.ts';
 
 /** `count` identical rows. p null or outside (0, 1] is an invalid propensity; r null is a missing reward. */
 export interface Rows {
@@ -135,6 +136,7 @@ export function contextOf(rows: readonly Rows[], options: ContextOptions = {}): 
     version: options.versions ? '"policy_version"' : null,
     targetPropensity: null,
     decisionId: options.duplicates === undefined ? null : '"decision_id"',
+    dialect: duckdb,
   };
   const spec = { actionColumn: 'action', logColumns: columns.map((c) => c.name), targetColumn: null };
   const policies = options.targets?.length ? options.targets.map((t) => parseTarget(t, spec)) : resolveTargets([], spec, view.actions);
