@@ -2,7 +2,8 @@
  * Local ClickHouse servers for tests: each a `clickhouse-server` process of its own (never the system
  * service), with its config and data in a temporary folder, listening on 127.0.0.1 only, on free
  * loopback ports (HTTP, native, interserver). Two of them form the cluster `cw_two_shards`, so a
- * Distributed table or remote() over both spans two shards. Stopped by PID in afterAll and on exit.
+ * Distributed table or remote() over both spans two shards. Every statement is logged in system.query_log,
+ * so a test can see what ran on each shard. Stopped by PID in afterAll and on exit.
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -90,6 +91,7 @@ function configXml(dir: string, ports: { http: number; tcp: number; inter: numbe
   <mlock_executable>false</mlock_executable>
   <remote_servers><${CLUSTER}>${shards}</${CLUSTER}></remote_servers>
   <builtin_dictionaries_reload_interval>3600</builtin_dictionaries_reload_interval>
+  <query_log><database>system</database><table>query_log</table><flush_interval_milliseconds>1000</flush_interval_milliseconds></query_log>
   <max_session_timeout>3600</max_session_timeout>
   <default_session_timeout>60</default_session_timeout>
 </yandex>
@@ -98,7 +100,7 @@ function configXml(dir: string, ports: { http: number; tcp: number; inter: numbe
 
 const USERS_XML = `<?xml version="1.0"?>
 <yandex>
-  <profiles><default><max_memory_usage>4000000000</max_memory_usage><max_threads>2</max_threads><load_balancing>random</load_balancing></default></profiles>
+  <profiles><default><max_memory_usage>4000000000</max_memory_usage><max_threads>2</max_threads><log_queries>1</log_queries><load_balancing>random</load_balancing></default></profiles>
   <users>
     <default><password></password><networks><ip>127.0.0.1</ip></networks><profile>default</profile><quota>default</quota></default>
     <${AUDITOR.user}><password>${AUDITOR.password}</password><networks><ip>127.0.0.1</ip></networks><profile>default</profile><quota>default</quota></${AUDITOR.user}>
@@ -206,7 +208,12 @@ export async function startLocalShards(count = 2, timeoutMs = 90_000): Promise<L
       const s = servers[server];
       if (!s) throw new Error(`no server ${server}`);
       const url = body === undefined ? `${s.url}/` : `${s.url}/?query=${encodeURIComponent(sql)}`;
-      const r = await fetch(url, { method: 'POST', body: (body ?? sql) as BodyInit, signal: AbortSignal.timeout(120_000) });
+      const send = () => fetch(url, { method: 'POST', body: (body ?? sql) as BodyInit, signal: AbortSignal.timeout(120_000) });
+      // a kept-alive socket the server closed (keep_alive_timeout above) fails before any answer: sent once more
+      const r = await send().catch((e: unknown) => {
+        if ((e as { cause?: { code?: string } }).cause?.code === 'UND_ERR_SOCKET') return send();
+        throw e;
+      });
       const text = await r.text();
       if (!r.ok) throw new Error(`ClickHouse ${s.httpPort}: ${text.trim()}\n(statement: ${sql.slice(0, 200)})`);
       return text;

@@ -90,11 +90,11 @@ function doubleInSql(sum: (side: 'p' | 'n', limb: 'h' | 'm' | 'o') => string): s
   return `if(${upper} = -1, -toFloat64(bitNot(${lower})) - 1, toFloat64(${lower}) + toFloat64(${upper}) * ${TWO64})`;
 }
 
-/** DuckDB's HUGEINT → DOUBLE: lower + upper·2^64 in doubles, with its own case for upper = −1. */
+/** DuckDB's HUGEINT → DOUBLE: lower + upper·(2^64 − 1) in doubles (2^64 − 1 rounds to 2^64), with its own case for upper = −1. */
 export function hugeintToDouble(v: bigint): number {
   const upper = v >> 64n;
   const lower = v & 0xffffffffffffffffn;
-  return upper === -1n ? -Number(0xffffffffffffffffn - lower) - 1 : Number(lower) + Number(upper) * 18446744073709551615;
+  return upper === -1n ? -Number(0xffffffffffffffffn - lower) - 1 : Number(lower) + Number(upper) * 2 ** 64;
 }
 
 const LIMBS = ['ph', 'pm', 'po', 'nh', 'nm', 'no'] as const;
