@@ -1,0 +1,73 @@
+/**
+ * The warehouse row of the benchmark: the audit of a table on two local ClickHouse shards
+ * (test/engine/clickhouse-servers.ts, Debian's 18.16) against the table's bare count() and against the
+ * native DuckDB audit of the same rows as one Parquet file, with the peak resident memory of our own
+ * process (the rows stay in the servers; only the cube, tails and examples come back).
+ * The rows are the demo log repeated K times (`--copies K`; the demo has 125,375 rows), split over the shards
+ * by copy, made inside the servers from the demo as loaded once. Prints one JSON object.
+ *
+ *   node --import tsx bench/clickhouse.ts [--copies 16]
+ */
+import { spawn } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { parseArgs } from 'node:util';
+import { createNativeEngine } from '../app/engine/native.ts';
+import { loadShards } from '../test/engine/clickhouse-load.ts';
+import { CLUSTER, startLocalShards } from '../test/engine/clickhouse-servers.ts';
+
+const ROOT = path.resolve(path.dirname(new URL(import.meta.url).pathname), '..');
+const DEMO = path.join(ROOT, 'sample-data', 'maple-row-demo.parquet');
+const ROLES = ['--role', 'decision_id=decision_id', '--role', 'time=logged_at', '--role', 'action=promotion', '--role', 'propensity=propensity', '--role', 'reward=ordered', '--role', 'policy_version=policy_version', '--segments', 'region,device,tenure', '--quiet'];
+
+/** Runs the command under /usr/bin/time -v: wall seconds and our process's peak RSS. */
+function timed(args: readonly string[], env: NodeJS.ProcessEnv): Promise<{ seconds: number; peakRssMb: number; code: number | null; stderr: string }> {
+  return new Promise((resolve) => {
+    const start = process.hrtime.bigint();
+    const child = spawn('/usr/bin/time', ['-v', process.execPath, path.join(ROOT, 'bin/counterweight.mjs'), ...args], { cwd: ROOT, env, stdio: ['ignore', 'ignore', 'pipe'] });
+    let stderr = '';
+    child.stderr.on('data', (b: Buffer) => { stderr += b.toString(); });
+    child.once('exit', (code) => {
+      const seconds = Number(process.hrtime.bigint() - start) / 1e9;
+      const rss = /Maximum resident set size \(kbytes\): (\d+)/.exec(stderr);
+      resolve({ seconds, peakRssMb: rss ? Number(rss[1]) / 1024 : NaN, code, stderr: stderr.split('\n').filter((l) => l.startsWith('counterweight')).join('\n') });
+    });
+  });
+}
+
+const { values } = parseArgs({ options: { copies: { type: 'string', default: '16' } } });
+const copies = Number(values.copies);
+const out = mkdtempSync(path.join(tmpdir(), 'cw-bench-clickhouse-'));
+const shards = await startLocalShards(2);
+try {
+  const engine = await createNativeEngine();
+  const log = await engine.query(`SELECT * FROM read_parquet('${DEMO}')`);
+  await loadShards(shards, 'demo', log, (i) => i % 2);
+  const parquet = path.join(out, 'rows.parquet');
+  await engine.query(`COPY (SELECT d.* FROM read_parquet('${DEMO}') AS d, range(${copies}) AS r(k) ORDER BY r.k) TO '${parquet}' (FORMAT parquet)`);
+  await engine.close();
+  for (const s of [0, 1]) {
+    await shards.admin(s, 'CREATE TABLE big AS demo ENGINE = MergeTree() ORDER BY tuple()');
+    // each shard holds its half of every copy: the same rows as the Parquet file, K times the demo
+    for (let k = 0; k < copies; k++) await shards.admin(s, 'INSERT INTO big SELECT * FROM demo');
+  }
+  await shards.admin(0, `CREATE TABLE big_all AS big ENGINE = Distributed(${CLUSTER}, default, big)`);
+  const rows = Number((await shards.admin(0, 'SELECT count() FROM big_all FORMAT TSV')).trim());
+  const url = shards.servers[0]!.url;
+  const started = Date.now();
+  await shards.admin(0, 'SELECT count() FROM big_all FORMAT TSV');
+  const countSeconds = (Date.now() - started) / 1000;
+  // count() alone is answered from part metadata; a read of the role columns is the scan floor
+  const floorStart = Date.now();
+  await shards.admin(0, 'SELECT count(), sum(propensity), uniqExact(promotion), max(logged_at), sum(ordered) FROM big_all FORMAT TSV');
+  const floorSeconds = (Date.now() - floorStart) / 1000;
+  const env = { ...process.env, CLICKHOUSE_USER: 'default', CLICKHOUSE_PASSWORD: '' };
+  const clickhouse = await timed(['audit', `clickhouse://127.0.0.1:${shards.servers[0]!.httpPort}/default.big_all`, ...ROLES, '--json', path.join(out, 'ch.json')], env);
+  const duckdb = await timed(['audit', parquet, ...ROLES, '--json', path.join(out, 'duck.json')], env);
+  const load = (await import('node:os')).loadavg();
+  console.log(JSON.stringify({ rows, server: url, clickhouseAudit: clickhouse, bareCountSeconds: countSeconds, roleColumnsScanSeconds: floorSeconds, duckdbParquetAudit: duckdb, loadAverage: load.map((x) => Number(x.toFixed(1))) }, null, 2));
+} finally {
+  await shards.stop();
+  rmSync(out, { recursive: true, force: true });
+}
