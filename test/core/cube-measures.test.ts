@@ -92,7 +92,7 @@ describe('each measure\'s in-memory term (the per-check test builder\'s) answers
   const ps = [null, Number.NaN, -0.1, 0, 0.005, 0.2, 0.5, 1, 1.2];
   const rs = [null, Number.NaN, Infinity, 0, 1, 2.5, -3];
   const rows = ps.flatMap((p) => rs.map((r) => ({ p, r, d: r })));
-  const x = { floor: 0.01 };
+  const x = { floor: 0.01, d: duckdb };
   const lit = (v: number | null) => (v === null ? 'NULL' : Number.isNaN(v) ? "'NaN'::DOUBLE" : v === Infinity ? "'Infinity'::DOUBLE" : `${v}::DOUBLE`);
   const values = rows.map((row) => `(${lit(row.p)}, ${lit(row.r)}, ${lit(row.d)})`).join(', ');
 

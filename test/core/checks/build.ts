@@ -47,7 +47,7 @@ export function cellOf(rows: readonly Rows[], floor = FLOOR): CubeCell {
     const r = g.r === undefined ? 0 : g.r;
     const row = { p: g.p, r, d: r };
     for (const m of CELL_MEASURES) {
-      const v = m.term(row, { floor });
+      const v = m.term(row, { floor, d: duckdb });
       if (v === null) continue;
       const now = cell[m.field] as number | null;
       cell[m.field] = m.merge === 'sum' ? (now as number) + k * v : now === null ? v : m.merge === 'min' ? Math.min(now, v) : Math.max(now, v);
