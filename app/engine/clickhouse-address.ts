@@ -14,7 +14,7 @@ export interface TableAddress {
 
 const CLICKHOUSE_SCHEME = 'clickhouse://';
 
-function isClickHouseAddress(source: string): boolean {
+export function isClickHouseAddress(source: string): boolean {
   return source.toLowerCase().startsWith(CLICKHOUSE_SCHEME);
 }
 

@@ -78,7 +78,7 @@ export interface ColumnPlan {
 const NUMERIC = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT|FLOAT|DOUBLE|REAL|DECIMAL(\(\d+,\s*\d+\))?)$/;
 const TEMPORAL = /^(DATE|TIMESTAMP(_S|_MS|_NS)?|TIMESTAMP WITH TIME ZONE|TIMESTAMPTZ)$/;
 
-function columnKind(type: string): ColumnKind {
+export function columnKind(type: string): ColumnKind {
   const t = type.toUpperCase();
   if (NUMERIC.test(t)) return 'numeric';
   if (TEMPORAL.test(t)) return 'temporal';

@@ -3,7 +3,7 @@ import type { Dialect, DialectName } from './dialect.ts';
 import { clickhouse } from './dialect-clickhouse.ts';
 import { duckdb } from './dialect-duckdb.ts';
 
-const DIALECTS: Readonly<Record<DialectName, Dialect>> = { duckdb, clickhouse };
+export const DIALECTS: Readonly<Record<DialectName, Dialect>> = { duckdb, clickhouse };
 
 export function dialectNamed(name: string): Dialect {
   const d = (DIALECTS as Readonly<Record<string, Dialect>>)[name];
