@@ -26,14 +26,19 @@ describe('loadCubeSession', () => {
       const session = await loadCubeSession(tables, cubeToArrowIpc(cells), cells, ['region', 'device']);
       expect(session.versions).toEqual(['v7', 'v8']);
       expect(session.queriesRun).toBe(0);
-      const [rows, minP] = await session.segmentMap(['region']);
-      expect(rows).toEqual(segmentMap(cells, ['region', 'device'], ['region'])[0]);
+      const layers = await session.segmentMap(['region']);
+      expect(layers).toEqual(segmentMap(cells, ['region', 'device'], ['region']));
+      const layer = (unit: string, of = layers) => of.find((s) => s.unit === unit);
+      const rows = layer('rows');
       // Hand count: old-town logs 40 + 10 free-delivery and 10 bakery; riverside 7 bakery.
       expect(rows?.y).toEqual(['old-town', 'riverside']);
       expect(rows?.x).toEqual(['bakery', 'free-delivery']);
       expect(rows?.values).toEqual([[10, 50], [7, 0]]);
-      expect(minP?.values).toEqual([[0.5, 0.5], [0.25, null]]);
-      const [v8] = await session.segmentMap(['device'], { versions: ['v8'] });
+      // the exploration layer the map opens on: each action's share of its group's rows (10/60, 50/60; 7/7), never-logged cells null
+      expect(layers[0]?.unit).toBe("share of the segment's rows");
+      expect(layers[0]?.values).toEqual([[10 / 60, 50 / 60], [1, null]]);
+      expect(layer('propensity')?.values).toEqual([[0.5, 0.5], [0.25, null]]);
+      const v8 = layer('rows', await session.segmentMap(['device'], { versions: ['v8'] }));
       expect(v8?.values).toEqual([[0, 10], [7, 0]]);
       expect(session.queriesRun).toBe(2);
     } finally {
