@@ -4,40 +4,15 @@
  * would show up there), and the 10M-row Parquet log audited through hosted mode. The logs come from the demo generator and are cached
  * in the system temp folder, keyed by row count, so reruns skip generating them.
  */
-import { spawn } from 'node:child_process';
-import { existsSync, mkdirSync, renameSync, rmSync, statSync } from 'node:fs';
-import os from 'node:os';
+import { statSync } from 'node:fs';
 import path from 'node:path';
 import { expect, test, type CDPSession, type Page } from '@playwright/test';
 import { newToken } from '../../scripts/web/access.ts';
 import { createHostedServer } from '../../scripts/web/hosted-server.ts';
+import { demoLog, PARQUET_ROWS } from './large-logs.ts';
 
-const ROOT = process.cwd();
-const CACHE = path.join(os.tmpdir(), 'counterweight-large');
 const CSV_ROWS = Number(process.env.CW_LARGE_CSV_ROWS ?? 5_000_000);
-const PARQUET_ROWS = 10_000_000;
 import { PAGE_ORIGIN } from './page-origin.ts';
-
-/** The generator's demo log of `rows` decisions, generated once into the cache. */
-async function demoLog(rows: number, format: 'csv' | 'parquet'): Promise<string> {
-  const dir = path.join(CACHE, `rows-${rows}`);
-  const file = path.join(dir, `maple-row-demo.${format}`);
-  if (existsSync(file)) return file;
-  const partial = path.join(CACHE, `rows-${rows}-${format}.partial`);
-  rmSync(partial, { recursive: true, force: true });
-  mkdirSync(partial, { recursive: true });
-  await new Promise<void>((resolve, reject) => {
-    const child = spawn(process.execPath, ['--import', 'tsx', 'sample-data/generate.ts', '--rows', String(rows), '--out', partial, '--formats', format, '--demo-only'], { cwd: ROOT, stdio: ['ignore', 'ignore', 'pipe'] });
-    let stderr = '';
-    child.stderr.on('data', (d: Buffer) => (stderr += String(d)));
-    child.on('error', reject);
-    child.on('close', (code) => (code === 0 ? resolve() : reject(new Error(`the generator failed (exit ${code}): ${stderr}`))));
-  });
-  mkdirSync(dir, { recursive: true });
-  renameSync(path.join(partial, `maple-row-demo.${format}`), file);
-  rmSync(partial, { recursive: true, force: true });
-  return file;
-}
 
 interface HeapUsage { usedSize: number; backingStorageSize?: number }
 

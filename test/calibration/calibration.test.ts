@@ -5,10 +5,13 @@
  * 99.9% quantile of Binomial(seeds, level) failures (scipy.stats.binom.ppf), the level being balance.q =
  * 0.01 for the deciding checks (Benjamini–Hochberg at q bounds the chance of any rejection by q when every
  * null holds; Benjamini & Hochberg 1995, Theorem 1) and drift.reward.q / drift.policy.q = 0.05 for the
- * warnings of the drift checks. The figures are printed, and summarised in README.md ("What the audit checks").
+ * warnings of the drift checks. Planted defects (mis-logged propensities in otherwise honest logs, one with an
+ * odd below-floor row added) must be detected and located in at least 19 of 20 logs. The figures are printed,
+ * and summarised in README.md ("What the audit checks").
  */
-import { describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { runChecks } from '../../app/core/audit.ts';
+import { balanceWeights } from '../../app/core/checks/balance-weights.ts';
 import { BLOCKING } from '../../app/core/checks/registry.ts';
 import type { CheckResult } from '../../app/core/model/report.ts';
 import { doublyRobust, ips, snips } from '../../app/core/stats/estimators.ts';
@@ -107,12 +110,65 @@ const DESIGNS: readonly Design[] = [
   },
 ];
 
+/** A defect planted in an otherwise honest uniform log (6 segments × 5000 rows, 5 actions at p = 0.2, 10 days). */
+interface Planted {
+  readonly name: string;
+  /** the logging policy's real probabilities in segment s on day b */
+  readonly draw?: (s: number, b: number) => readonly number[];
+  /** the propensity the log records for action a drawn with probability p */
+  readonly logged?: (s: number, a: number, b: number, p: number) => number;
+  readonly extra?: readonly Rows[];
+  /** a balance.weights failure finds it when it names the action and either the segment or a window over the day */
+  readonly action: string;
+  readonly segment?: string;
+  readonly day?: number;
+}
+
+const A5 = ['a', 'b', 'c', 'd', 'e'];
+const UNIFORM5 = [0.2, 0.2, 0.2, 0.2, 0.2];
+const ODD_ROW: Rows = { segment: ['s0'], action: 'a', bucket: 0, p: 0.005, r: 0 };
+const PLANTED: readonly Planted[] = [
+  { name: 'a\'s propensity logged doubled on day 4 in every segment', logged: (_s, a, b, p) => (a === 0 && b === 4 ? 2 * p : p), action: 'a', day: 4 },
+  { name: 'the same, with one odd row of a at p = 0.005 elsewhere', logged: (_s, a, b, p) => (a === 0 && b === 4 ? 2 * p : p), extra: [ODD_ROW], action: 'a', day: 4 },
+  { name: 'a\'s propensity logged at half its value in segment s2, the whole log', logged: (s, a, _b, p) => (a === 0 && s === 2 ? p / 2 : p), action: 'a', segment: 's2' },
+  { name: 'segment s1 logs the old propensities from day 5 while a new policy favours a (0.6)', draw: (s, b) => (s === 1 && b >= 5 ? [0.6, 0.1, 0.1, 0.1, 0.1] : UNIFORM5), action: 'a', segment: 's1', day: 7 },
+];
+
+function plantedRows(random: () => number, d: Planted): Rows[] {
+  const counts = new Map<string, { segment: string[]; action: string; bucket: number; p: number; r: number; count: number }>();
+  for (let s = 0; s < 6; s++) {
+    for (let i = 0; i < 5000; i++) {
+      const bucket = Math.floor(random() * 10);
+      const probs = d.draw ? d.draw(s, bucket) : UNIFORM5;
+      const a = draw(random, probs);
+      const p = d.logged ? d.logged(s, a, bucket, UNIFORM5[a] as number) : (UNIFORM5[a] as number);
+      const r = random() < 0.2 + 0.05 * (a % 4) + 0.1 * (s % 3) ? 1 : 0;
+      const k = `${s}|${a}|${bucket}|${r}|${p}`;
+      const e = counts.get(k);
+      if (e) e.count++;
+      else counts.set(k, { segment: [`s${s}`], action: A5[a] as string, bucket, p, r, count: 1 });
+    }
+  }
+  return [...counts.values(), ...(d.extra ?? [])];
+}
+
+const DAY_MS = 86_400_000;
+/** whether a balance.weights finding locates the planted defect (the per-check builder's days start 2026-01-01) */
+function locates(f: { status: string; action?: string; segment: Record<string, string>; window?: { from: string; to: string } }, d: Planted): boolean {
+  if (f.status !== 'fail' || f.action !== d.action) return false;
+  const inSegment = d.segment !== undefined && f.segment.s0 === d.segment;
+  const origin = Date.UTC(2026, 0, 1);
+  const overDay = d.day !== undefined && !!f.window && Date.parse(f.window.from) <= origin + (d.day + 1) * DAY_MS - 1 && Date.parse(f.window.to) > origin + d.day * DAY_MS && (d.segment === undefined || f.segment.s0 === undefined || f.segment.s0 === d.segment);
+  return inSegment || overDay;
+}
+
 const table: string[] = [];
 const print = () => console.log(['calibration: failures / seeds on honest logs', ...table].join('\n'));
 
 describe('calibration on honest logs', () => {
+  afterAll(print);
   for (const design of DESIGNS) {
-    it(`no deciding check fails more often than its nominal level: ${design.name}`, () => {
+    it(`no deciding check fails more often than its nominal level: ${design.name}`, { timeout: 600_000 }, () => {
       const fails = new Map<string, number>();
       const warns = new Map<string, number>();
       const verdicts = new Map<string, number>();
@@ -137,6 +193,20 @@ describe('calibration on honest logs', () => {
         expect(verdicts.get('not-supported') ?? 0).toBe(0);
         expect(verdicts.get('supported') ?? 0).toBeGreaterThanOrEqual(design.seeds - driftTol);
       }
+    });
+  }
+
+  for (const defect of PLANTED) {
+    it(`detects the planted defect in at least 19 of 20 logs: ${defect.name}`, () => {
+      let found = 0;
+      const seeds = 20;
+      for (let seed = 1; seed <= seeds; seed++) {
+        const random = stream(5000 + 31 * seed + defect.name.length);
+        const r = balanceWeights.run(contextOf(plantedRows(random, defect), { days: 10, targets: [{ spec: 'uniform' }] }));
+        if (r.status === 'fail' && r.findings.some((f) => locates(f, defect))) found++;
+      }
+      table.push(`  planted: ${defect.name}: detected and located in ${found} of ${seeds} logs`);
+      expect(found).toBeGreaterThanOrEqual(19);
     });
   }
 
@@ -173,7 +243,6 @@ describe('calibration on honest logs', () => {
     }
     const rate = { dr: covered.dr / replicates, ips: covered.ips / replicates, snips: covered.snips / replicates };
     table.push(`  2 rows per cell, ${replicates} replicates: 95% interval coverage DR ${rate.dr.toFixed(3)}, IPS ${rate.ips.toFixed(3)}, SNIPS ${rate.snips.toFixed(3)}`);
-    print();
     expect(rate.dr).toBeGreaterThanOrEqual(0.92);
     expect(rate.dr).toBeLessThanOrEqual(0.98);
   });

@@ -33,7 +33,7 @@ function cells(count: number, withTarget: boolean, seed = 7): CubeCell[] {
       n: 10, nPNull: 1, nPNaN: 0, nPNonPositive: 1, nPAboveOne: 0, nPBelowFloor: 1, nPInvalid: 2, nPOne: 1, nRNull: 1, nP: 8,
       sumInvP: sum(), sumInvP2: sum(), minP: p, maxP: p === null ? null : Math.min(1, p + r()),
       nRw: 7, sumInvPRw: sum(), sumInvP2Rw: sum(), sumR: sum(), sumR2: sum(), sumRInvP: sum(), sumRInvP2: sum(), sumR2InvP2: sum(),
-      nRAll: 9, sumRAll: sum(), sumR2All: sum(), sumD: sum(), sumD2: sum(), sumDAll: sum(), sumD2All: sum(), target,
+      nRAll: 9, sumRAll: sum(), sumR2All: sum(), sumD: sum(), sumD2: sum(), sumDInvP: sum(), sumDInvP2: sum(), sumD2InvP: sum(), sumD2InvP2: sum(), sumDAll: sum(), sumD2All: sum(), target,
     });
   });
 }

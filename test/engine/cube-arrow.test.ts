@@ -28,7 +28,7 @@ beforeAll(async () => {
 const base: CubeCell = cubeCell({
   segment: ['old-town', 'web', 'new'], action: 'bakery', bucket: 3, version: 'v8', n: 4, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0,
   nPInvalid: 0, nPOne: 0, nRNull: 0, nP: 4, sumInvP: 40, sumInvP2: 400, minP: 0.1, maxP: 0.1, nRw: 4, sumInvPRw: 40, sumInvP2Rw: 400, sumR: 1, sumR2: 1,
-  sumRInvP: 10, sumRInvP2: 100, sumR2InvP2: 100, nRAll: 4, sumRAll: 1, sumR2All: 1, sumD: 0.5, sumD2: 0.25, sumDAll: 0.5, sumD2All: 0.25, target: null,
+  sumRInvP: 10, sumRInvP2: 100, sumR2InvP2: 100, nRAll: 4, sumRAll: 1, sumR2All: 1, sumD: 0.5, sumD2: 0.25, sumDInvP: 5, sumDInvP2: 50, sumD2InvP: 2.5, sumD2InvP2: 25, sumDAll: 0.5, sumD2All: 0.25, target: null,
 });
 
 describe('cube ⇄ Arrow IPC', () => {

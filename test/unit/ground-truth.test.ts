@@ -125,11 +125,10 @@ describe('ground truth on UCI optdigits (supervised-to-bandit conversion)', () =
     expect(covers(run(drawCells(1)))).toBe(true);
   });
 
-  // Measured while writing this test (8000 draws): IPS and SNIPS SEs match the spread of their estimates
-  // (RMS SE / SD ≈ 1.01); DR's runs about 6% narrow (coverage ≈ 0.93), because its SE treats the
-  // in-sample cell-mean model as fixed while some (segment, action) cells hold only a handful of rows
-  // (p ≥ 0.02 on ~300 rows per segment).
-  it(`over ${DRAWS} re-drawn logs each estimator is unbiased, its SE matches its spread, coverage lies in [0.92, 0.98]`, () => {
+  // Measured (5000 draws): RMS SE / SD = 1.013 (IPS), 1.014 (SNIPS), 1.007 (DR, leave-one-out cell means);
+  // coverage 0.945, 0.949, 0.944. With 5000 draws the Monte Carlo SD of a coverage near 0.95 is about 0.003,
+  // and of SE / SD about 1%, so the bounds below sit 4 to 5 Monte Carlo SDs from the nominal values.
+  it(`over ${DRAWS} re-drawn logs each estimator is unbiased, its SE matches its spread within ±5%, coverage lies in [0.935, 0.965]`, () => {
     const results = ESTIMATORS.map(() => [] as Estimate[]);
     for (let draw = 0; draw < DRAWS; draw += 1) {
       const cells = drawCells(1000 + draw);
@@ -152,10 +151,10 @@ describe('ground truth on UCI optdigits (supervised-to-bandit conversion)', () =
     );
     for (const { mean, sd, rmsSe, coverage } of summaries) {
       expect(Math.abs(mean - trueValue)).toBeLessThan((4 * sd) / Math.sqrt(DRAWS));
-      expect(rmsSe / sd).toBeGreaterThan(0.85);
-      expect(rmsSe / sd).toBeLessThan(1.15);
-      expect(coverage).toBeGreaterThanOrEqual(0.92);
-      expect(coverage).toBeLessThanOrEqual(0.98);
+      expect(rmsSe / sd).toBeGreaterThan(0.95);
+      expect(rmsSe / sd).toBeLessThan(1.05);
+      expect(coverage).toBeGreaterThanOrEqual(0.935);
+      expect(coverage).toBeLessThanOrEqual(0.965);
     }
   });
 });

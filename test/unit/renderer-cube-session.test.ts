@@ -10,7 +10,7 @@ import { cubeCell } from '../fixtures/cube-cell.ts';
 const cell = (segment: string[], action: string, version: string, n: number, p: number): CubeCell => cubeCell({
   segment, action, version, bucket: 0, n, nPNull: 0, nPNaN: 0, nPNonPositive: 0, nPAboveOne: 0, nPBelowFloor: 0, nPInvalid: 0, nPOne: p === 1 ? n : 0, nRNull: 0,
   nP: n, sumInvP: n / p, sumInvP2: n / (p * p), minP: p, maxP: p, nRw: n, sumInvPRw: n / p, sumInvP2Rw: n / (p * p), sumR: 0, sumR2: 0,
-  sumRInvP: 0, sumRInvP2: 0, sumR2InvP2: 0, nRAll: n, sumRAll: 0, sumR2All: 0, sumD: 0, sumD2: 0, sumDAll: 0, sumD2All: 0, target: null,
+  sumRInvP: 0, sumRInvP2: 0, sumR2InvP2: 0, nRAll: n, sumRAll: 0, sumR2All: 0, sumD: 0, sumD2: 0, sumDInvP: 0, sumDInvP2: 0, sumD2InvP: 0, sumD2InvP2: 0, sumDAll: 0, sumD2All: 0, target: null,
 });
 
 describe('loadCubeSession', () => {

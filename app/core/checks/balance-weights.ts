@@ -6,6 +6,9 @@ import { segmentAxis, segmentText } from '../segment-map.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
 import { bestChangePoint } from '../stats/changepoint.ts';
 import { countBalance } from '../stats/balance.ts';
+import { balanceBiasBound, rewardScale } from '../stats/balance-bias.ts';
+import { ips } from '../stats/estimators.ts';
+import type { Probability } from '../targets/analysis.ts';
 import { bucketWindow, describeSegment, finite, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
 
@@ -28,27 +31,73 @@ interface Test {
   readonly count: number;
   readonly expected: number;
   readonly method: 'exact binomial' | 'normal';
-  /** the group holds a row of this action with a valid propensity below the floor: the test is left out */
-  readonly belowFloor: boolean;
   /** indexes (ascending) of the cells of the test's group, all actions */
   readonly members: readonly number[];
 }
 
-/** Actions never logged in the segment of cube cell i (the full segment: all segment columns). */
-type Ineligible = (i: number) => readonly string[];
+/**
+ * Per cube cell i, the actions whose balance tests leave the rows of i's full segment (all segment columns)
+ * out: actions never logged in the segment (support information, not a test), and actions logged there with
+ * a propensity below the floor somewhere in the log. Where the action's propensity drops below ε, a few rare
+ * huge weights carry B: a group that happens to hold none of them reads B ≈ 1 − (their share) although the
+ * propensities are right, and one that holds one reads far above 1. So those segments are set aside from
+ * the action's tests (every other row of every group is still tested), listed, and the check warns.
+ */
+interface Outside {
+  /** cell i's full segment, as an index into `neverIn` / `lowIn` */
+  readonly segmentOf: (i: number) => number;
+  /** per full segment: actions never logged there, and actions below the floor there (in `actions` order) */
+  readonly neverIn: readonly (readonly string[])[];
+  readonly lowIn: readonly (readonly string[])[];
+  /** the action is below the floor in cell i's full segment */
+  readonly isLow: (i: number, action: string) => boolean;
+  /** the rows of cell i are outside the tests of `action` */
+  readonly of: (i: number, action: string) => boolean;
+  /** per action, the segments set aside (cell indexes of their first cell) */
+  readonly setAside: ReadonlyMap<string, readonly number[]>;
+}
 
-function ineligibility(cells: readonly CubeCell[], segmentKeyOf: (c: CubeCell) => string, actions: readonly string[]): Ineligible {
-  const logged = new Map<string, Set<string>>();
-  for (const c of cells) {
+function outsideOf(cells: readonly CubeCell[], segmentKeyOf: (c: CubeCell) => string, actions: readonly string[], floor: number): Outside {
+  // segments by index, so every per-cell lookup below is an array read or a set membership (a 10^4-action log
+  // has 10^4 cells and as many actions in one segment's lists: nothing here may cost cells × actions)
+  const index = new Map<string, number>();
+  const first: number[] = [];
+  const logged: Set<string>[] = [];
+  const low: Set<string>[] = [];
+  const segmentOf = new Int32Array(cells.length);
+  cells.forEach((c, i) => {
     const k = segmentKeyOf(c);
-    let set = logged.get(k);
-    if (!set) logged.set(k, (set = new Set()));
-    if (c.nP > 0) set.add(c.action);
-  }
-  const missing = new Map<string, readonly string[]>();
-  for (const [k, set] of logged) missing.set(k, actions.filter((a) => !set.has(a)));
-  const keys = cells.map((c) => missing.get(segmentKeyOf(c)) ?? []);
-  return (i) => keys[i] ?? [];
+    let s = index.get(k);
+    if (s === undefined) {
+      index.set(k, (s = first.length));
+      first.push(i);
+      logged.push(new Set());
+      low.push(new Set());
+    }
+    segmentOf[i] = s;
+    if (c.nP > 0) (logged[s] as Set<string>).add(c.action);
+    if (c.minP !== null && c.minP < floor) (low[s] as Set<string>).add(c.action);
+  });
+  const neverIn = logged.map((set) => actions.filter((a) => !set.has(a)));
+  const neverSet = neverIn.map((list) => new Set(list));
+  const lowIn = low.map((set) => (set.size ? actions.filter((a) => set.has(a)) : []));
+  const setAside = new Map<string, number[]>();
+  lowIn.forEach((list, s) => {
+    for (const a of list) {
+      let firsts = setAside.get(a);
+      if (!firsts) setAside.set(a, (firsts = []));
+      firsts.push(first[s] as number);
+    }
+  });
+  const isLow = (i: number, action: string) => (low[segmentOf[i] as number] as Set<string>).has(action);
+  return {
+    segmentOf: (i) => segmentOf[i] as number,
+    neverIn,
+    lowIn,
+    isLow,
+    of: (i, action) => (neverSet[segmentOf[i] as number] as Set<string>).has(action) || isLow(i, action),
+    setAside,
+  };
 }
 
 /** An action with no logged row in a group of rows: support / eligibility information, not a balance test. */
@@ -67,28 +116,125 @@ interface GroupMeta {
   readonly version?: string;
 }
 
+/** One primary target's bias budget: its IPS standard error and the tolerance derived from it. */
+interface Budget {
+  readonly name: string;
+  readonly q: Probability | null;
+  readonly se: number | null;
+  /** min(balance.max_bias_se · SE, support.target.fail · R): the bias a deviation may put into the estimate */
+  readonly tolerance: number;
+}
+
+/** What a significant deviation is weighed against: R bounds |r|, one budget per primary target. */
+interface Materiality {
+  readonly scale: number | null;
+  readonly budgets: readonly Budget[];
+  /** valid-propensity rows of the whole log (the mass's denominator) */
+  readonly rows: number;
+}
+
+export interface Assessment {
+  readonly bias: number;
+  readonly tolerance: number;
+  readonly target: string;
+}
+
+function materialityOf(ctx: AuditContext, cells: readonly CubeCell[]): Materiality {
+  const reward = ctx.roles.reward ? ctx.profile.columns.find((c) => c.name === ctx.roles.reward) : undefined;
+  const scale = reward?.kind === 'boolean' ? 1 : rewardScale(reward?.min ?? null, reward?.max ?? null);
+  const rewarded = cells.reduce((s, c) => s + c.nRw, 0);
+  const rows = cells.reduce((s, c) => s + c.nP, 0);
+  const k = ctx.settings['balance.max_bias_se'];
+  const share = ctx.settings['support.target.fail'];
+  const budgets = scale === null ? [] : ctx.primaryTargets.map((t): Budget => {
+    let se: number | null = null;
+    try {
+      se = ips(t.estimatorCells, rewarded).se;
+    } catch {
+      se = null;
+    }
+    const budget = share * scale;
+    return { name: t.target.name, q: t.q, se, tolerance: se !== null && Number.isFinite(se) ? Math.min(k * se, budget) : budget };
+  });
+  return { scale, budgets, rows };
+}
+
+/**
+ * The bias bound of a deviation B of `action` over the cells `members` (those `skip` marks left out) for each
+ * primary target, relative to its tolerance; the target with the largest ratio. Null when there is nothing to
+ * weigh against (no reward scale or no primary target): significance alone decides then.
+ */
+function assess(m: Materiality, cells: readonly CubeCell[], members: readonly number[], action: string, balance: number, outside: Outside, skip?: Uint8Array): Assessment | null {
+  if (m.scale === null || m.budgets.length === 0 || m.rows === 0) return null;
+  let worst: Assessment | null = null;
+  let worstRatio = -1;
+  for (const b of m.budgets) {
+    let mass = 0;
+    if (b.q) {
+      for (const i of members) {
+        if (skip?.[i] || outside.of(i, action)) continue;
+        const c = cells[i] as CubeCell;
+        mass += c.nP * (b.q(c.segment, action) ?? 0);
+      }
+    } else {
+      // a target column gives q on the logged action's rows only: π̄ ≈ Σ q/p ÷ Σ 1/p over them (a ratio free of B)
+      let rows = 0, sw = 0, s1 = 0;
+      for (const i of members) {
+        if (skip?.[i] || outside.of(i, action)) continue;
+        const c = cells[i] as CubeCell;
+        rows += c.nP;
+        if (c.action !== action) continue;
+        sw += c.target?.sumW ?? 0;
+        s1 += c.sumInvP;
+      }
+      mass = s1 > 0 ? (rows * sw) / s1 : 0;
+    }
+    const bias = balanceBiasBound(balance, mass / m.rows, m.scale);
+    const ratio = b.tolerance > 0 ? bias / b.tolerance : bias > 0 ? Infinity : 0;
+    if (ratio > worstRatio) {
+      worstRatio = ratio;
+      worst = { bias, tolerance: b.tolerance, target: b.name };
+    }
+  }
+  return worst;
+}
+
+/** A significant deviation matters where its bias bound exceeds the tolerance of some primary target. */
+const material = (a: Assessment | null): boolean => a === null || a.bias > a.tolerance;
+
 /**
  * Groups rows, then for every action a logged in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1), tested
  * by countBalance (exact binomial below `minExpected` expected events, normal above). Actions not logged
  * in the group go to `never`. `key` names a cell's group (null: in none); `meta` describes a group from its first cell.
  */
-function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: number, minExpected: number, key: (c: CubeCell, i: number) => string | null, meta: (c: CubeCell) => GroupMeta, actions: readonly string[], ineligible: Ineligible, never: NeverLogged[]): Test[] {
-  const groups = new Map<string, { meta: GroupMeta; nP: number; outside: Map<string, number>; byAction: Map<string, { c: number; s1: number; s2: number; low: boolean }>; members: number[] }>();
+function testsFor(scope: Test['scope'], cells: readonly CubeCell[], minExpected: number, key: (c: CubeCell, i: number) => string | null, meta: (c: CubeCell) => GroupMeta, actions: readonly string[], outside: Outside, never: NeverLogged[]): Test[] {
+  const groups = new Map<string, { meta: GroupMeta; nP: number; outside: Map<string, number>; aside: Set<string>; bySegment: Map<number, number>; byAction: Map<string, { c: number; s1: number; s2: number }>; members: number[] }>();
   cells.forEach((c, i) => {
     const k = key(c, i);
     if (k === null) return;
     let e = groups.get(k);
-    if (!e) groups.set(k, (e = { meta: meta(c), nP: 0, outside: new Map(), byAction: new Map(), members: [] }));
+    if (!e) groups.set(k, (e = { meta: meta(c), nP: 0, outside: new Map(), aside: new Set(), bySegment: new Map(), byAction: new Map(), members: [] }));
     e.members.push(i);
     e.nP += c.nP;
-    for (const a of ineligible(i)) e.outside.set(a, (e.outside.get(a) ?? 0) + c.nP);
+    const s = outside.segmentOf(i);
+    e.bySegment.set(s, (e.bySegment.get(s) ?? 0) + c.nP);
+    if (outside.isLow(i, c.action)) return;
     let a = e.byAction.get(c.action);
-    if (!a) e.byAction.set(c.action, (a = { c: 0, s1: 0, s2: 0, low: false }));
+    if (!a) e.byAction.set(c.action, (a = { c: 0, s1: 0, s2: 0 }));
     a.c += c.nP;
     a.s1 += c.sumInvP;
     a.s2 += c.sumInvP2;
-    a.low ||= c.minP !== null && c.minP < floor;
   });
+  // rows outside each action's support, once per (group, full segment) rather than once per cell
+  for (const e of groups.values()) {
+    for (const [s, rows] of e.bySegment) {
+      for (const a of outside.neverIn[s] as readonly string[]) e.outside.set(a, (e.outside.get(a) ?? 0) + rows);
+      for (const a of outside.lowIn[s] as readonly string[]) {
+        e.outside.set(a, (e.outside.get(a) ?? 0) + rows);
+        e.aside.add(a);
+      }
+    }
+  }
   const out: Test[] = [];
   for (const e of groups.values()) {
     const where = { segment: e.meta.segment, ...(e.meta.bucket !== undefined ? { bucket: e.meta.bucket } : {}), ...(e.meta.version !== undefined ? { version: e.meta.version } : {}) };
@@ -97,12 +243,14 @@ function testsFor(scope: Test['scope'], cells: readonly CubeCell[], floor: numbe
       // rows of segments where the action was never logged are outside its support: not part of its test
       const n = e.nP - (e.outside.get(action) ?? 0);
       if (!s || s.c === 0) {
+        // logged only where it is set aside (below the floor): listed as set aside, neither tested nor never logged
+        if (e.aside.has(action) && n === 0) continue;
         if (n === e.nP || scope === 'segment' || scope === 'segment value') never.push({ scope, ...where, action, n: e.nP });
         continue;
       }
       if (n < 2) continue;
       const wb = countBalance(n, s.c, s.s1, s.s2, minExpected);
-      out.push({ scope, ...where, action, n, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, count: s.c, expected: wb.expected, method: wb.method, belowFloor: s.low, members: e.members });
+      out.push({ scope, ...where, action, n, balance: wb.balance, se: wb.se, z: wb.z, p: wb.pValue, count: s.c, expected: wb.expected, method: wb.method, members: e.members });
     }
   }
   return out;
@@ -117,35 +265,36 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const floor = ctx.settings['support.floor.epsilon'];
   const minExpected = ctx.settings['balance.min_expected'];
   const never: NeverLogged[] = [];
-  const ineligible = ineligibility(cells, ctx.view.segmentKeyOf, actions);
+  const outside = outsideOf(cells, ctx.view.segmentKeyOf, actions, floor);
   const tests: Test[] = [
-    ...testsFor('action', cells, floor, minExpected, () => 'all', () => ({ segment: {} }), actions, ineligible, never),
-    ...cols.flatMap((col, j) => testsFor('segment value', cells, floor, minExpected, (c) => c.segment[j] as string, (c) => ({ segment: { [col]: c.segment[j] as string } }), actions, ineligible, never)),
-    ...(cols.length > 1 ? testsFor('segment', cells, floor, minExpected, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions, ineligible, never) : []),
-    ...(ctx.buckets ? testsFor('time bucket', cells, floor, minExpected, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions, ineligible, never) : []),
+    ...testsFor('action', cells, minExpected, () => 'all', () => ({ segment: {} }), actions, outside, never),
+    ...cols.flatMap((col, j) => testsFor('segment value', cells, minExpected, (c) => c.segment[j] as string, (c) => ({ segment: { [col]: c.segment[j] as string } }), actions, outside, never)),
+    ...(cols.length > 1 ? testsFor('segment', cells, minExpected, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions, outside, never) : []),
+    ...(ctx.buckets ? testsFor('time bucket', cells, minExpected, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions, outside, never) : []),
     ...(ctx.roles.policy_version
       ? cols.flatMap((col, j) => {
         const key = pairKeys((v, version) => `${v}${SEP}${version}`);
-        return testsFor('policy version', cells, floor, minExpected, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions, ineligible, never);
+        return testsFor('policy version', cells, minExpected, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions, outside, never);
       })
       : []),
   ];
   const q = ctx.settings['balance.q'];
-  const minEffect = ctx.settings['balance.min_effect'];
-  // Where a group holds a row of the action with a propensity below the floor, a few huge weights
-  // dominate B, so the test is unreliable there; it is left out of that group only (support.floor
-  // reports those cells), listed in a finding, and the check warns.
-  const tested = tests.filter((t) => !t.belowFloor);
-  const leftOut = tests.filter((t) => t.belowFloor);
+  const materiality = materialityOf(ctx, cells);
+  const tested = tests;
   const bh = benjaminiHochberg(tested.map((t) => t.p), q);
-  const significant = tested.map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean })).filter((x) => x.rejected && Math.abs(x.t.balance - 1) > minEffect);
-  const fails = failsWithout(cells, ineligible, minEffect, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
+  const significant = tested
+    .map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean }))
+    .filter((x) => x.rejected)
+    .map((x) => ({ ...x, bias: assess(materiality, cells, x.t.members, x.t.action, x.t.balance, outside) }))
+    .filter((x) => material(x.bias));
+  const weigh = (members: readonly number[], action: string, balance: number, covered: Uint8Array) => material(assess(materiality, cells, members, action, balance, outside, covered));
+  const fails = failsWithout(cells, outside, weigh, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
   const causes = smallestCauses(significant, cells.length, fails);
   const flagged = [...causes.chosen, ...explainAway(causes.rest, causes.removed, fails)];
   const versionWindows = versionSpans(ctx);
-  const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj }) => {
+  const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj, bias }) => {
     const accounts = causes.accounts.get(t);
-    const episode = accounts !== undefined && ctx.buckets ? changeWindow(t, cells, ineligible) : null;
+    const episode = accounts !== undefined && ctx.buckets ? changeWindow(t, cells, outside) : null;
     const win = t.bucket !== undefined && ctx.buckets ? bucketWindow(ctx.buckets, t.bucket, t.bucket + 1) : episode && ctx.buckets ? bucketWindow(ctx.buckets, episode[0], episode[1] + 1) : t.version !== undefined ? versionWindows.get(t.version) : undefined;
     const segPred = segmentPredicate(ctx.rows!, cols, t.segment);
     const where = and(segPred, t.bucket !== undefined ? windowPredicate(ctx.rows!, ctx.buckets, t.bucket, t.bucket) : undefined, t.version !== undefined && ctx.rows!.version ? `${ctx.rows!.version} = ${ctx.rows!.dialect.literal(t.version)}` : undefined, `${ctx.rows!.action} = ${ctx.rows!.dialect.literal(t.action)}`);
@@ -156,8 +305,8 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
       action: t.action,
       ...(win ? { window: win } : {}),
       status: 'fail' as const,
-      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, ...(t.version !== undefined ? { version: t.version } : {}), ...(accounts !== undefined ? { accounts_for: accounts } : {}) },
-      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}${accountNote}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
+      metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, bias_bound: bias?.bias ?? null, bias_tolerance: bias?.tolerance ?? null, bias_target: bias?.target ?? null, ...(t.version !== undefined ? { version: t.version } : {}), ...(accounts !== undefined ? { accounts_for: accounts } : {}) },
+      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}${accountNote}${bias ? `; it could bias ${bias.target}'s estimate by up to ${fmt(bias.bias)}, above the ${fmt(bias.tolerance)} it tolerates` : ''}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
       ...(where ? { where } : {}),
     };
   });
@@ -167,25 +316,26 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
     s1 += c.sumInvP;
   }
   const meanInvP = nP > 0 ? s1 / nP : null;
-  findings.push(...leftOutFindings(leftOut, floor));
-  const status = flagged.length ? 'fail' : leftOut.length ? 'warn' : 'pass';
+  const aside = setAsideFindings(outside.setAside, cells, ctx.view.segmentKeyOf, cols, floor);
+  findings.push(...aside.findings);
+  const status = flagged.length ? 'fail' : aside.segments ? 'warn' : 'pass';
   const overall = tests.filter((t) => t.scope === 'action');
   const neverSegments = never.filter((x) => x.scope === (cols.length > 1 ? 'segment' : 'segment value'));
   const neverNote = neverSegments.length ? ` ${neverSegments.length} segment × action cell(s) were never logged: support information (support.target weighs them against each target), not a balance test.` : '';
-  const leftNote = leftOut.length ? ` ${leftOut.length} test(s) left out where their own group holds a propensity below ε = ${floor}.` : '';
+  const leftNote = aside.segments ? ` ${aside.segments} segment × action pair(s) (${aside.rows} rows) set aside from their action's tests, where the action's propensity falls below ε = ${floor}.` : '';
   const summary = flagged.length
-    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, |B − 1| > ${minEffect}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}`
-    : `All ${tested.length} balance tests hold (BH q = ${q}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.${leftNote}${neverNote}`;
+    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}`
+    : `${significantOnly(bh.rejected.filter(Boolean).length, tested.length)} (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.${leftNote}${neverNote}`;
   return result(
     'balance.weights',
     status,
     summary,
-    { tests: tested.length, skipped_below_floor: leftOut.length, exact_tests: tested.filter((t) => t.method === 'exact binomial').length, never_logged: never.length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length },
+    { tests: tested.length, set_aside: aside.segments, set_aside_rows: aside.rows, exact_tests: tested.filter((t) => t.method === 'exact binomial').length, never_logged: never.length, significant: bh.rejected.filter(Boolean).length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length, reward_scale: materiality.scale },
     findings,
-    ['balance.q', 'balance.min_effect', 'balance.min_expected', 'support.floor.epsilon'],
+    ['balance.q', 'balance.max_bias_se', 'balance.min_expected', 'support.floor.epsilon', 'support.target.fail'],
     [
       { name: 'balance B by action', kind: 'bars', x: overall.map((t) => t.action), values: [overall.map((t) => t.balance)], labels: ['B'], unit: 'B (expected 1)' },
-      balanceHeatmap(tests.filter((t) => t.scope === (cols.length > 1 ? 'segment' : 'segment value')), neverSegments, cols, actions),
+      balanceHeatmap(tests.filter((t) => t.scope === (cols.length > 1 ? 'segment' : 'segment value')), neverSegments, [...outside.setAside].flatMap(([action, firsts]) => firsts.map((i) => ({ action, segment: segmentRecord(cols, (cells[i] as CubeCell).segment) }))), cols, actions),
     ],
   );
 }
@@ -193,13 +343,15 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
 /** Whether a test still fails with the marked cells left out of its group (false when too few rows remain). */
 type FailsWithout = (t: Test, removed: Uint8Array) => boolean;
 
-function failsWithout(cells: readonly CubeCell[], ineligible: Ineligible, minEffect: number, pCut: number, minExpected: number): FailsWithout {
+/** A failing test fails on significance (p at most the BH cut) and on its bias bound (`weigh`), as in checkBalance. */
+function failsWithout(cells: readonly CubeCell[], outside: Outside, weigh: (members: readonly number[], action: string, balance: number, covered: Uint8Array) => boolean, pCut: number, minExpected: number): FailsWithout {
   return (t, removed) => {
     let nP = 0, k = 0, s1 = 0, s2 = 0;
     for (const i of t.members) {
       if (removed[i]) continue;
+      if (outside.of(i, t.action)) continue;
       const c = cells[i] as CubeCell;
-      if (!ineligible(i).includes(t.action)) nP += c.nP;
+      nP += c.nP;
       if (c.action === t.action) {
         k += c.nP;
         s1 += c.sumInvP;
@@ -208,7 +360,7 @@ function failsWithout(cells: readonly CubeCell[], ineligible: Ineligible, minEff
     }
     if (nP < 2 || k === 0) return false;
     const wb = countBalance(nP, k, s1, s2, minExpected);
-    return wb.pValue <= pCut && Math.abs(wb.balance - 1) > minEffect;
+    return wb.pValue <= pCut && weigh(t.members, t.action, wb.balance, removed);
   };
 }
 
@@ -258,13 +410,13 @@ function smallestCauses<T extends { t: Test }>(failing: readonly T[], cellCount:
  * the group's buckets (bestChangePoint) cuts off the side nearer 1 when it lies within a quarter of the other
  * side's distance from 1 (so noise inside a steady episode cuts nothing), and once more inside what is left.
  */
-function changeWindow(t: Test, cells: readonly CubeCell[], ineligible: Ineligible): [number, number] | null {
+function changeWindow(t: Test, cells: readonly CubeCell[], outside: Outside): [number, number] | null {
   const byBucket = new Map<number, { n: number; sum: number; sumSq: number }>();
   for (const i of t.members) {
     const c = cells[i] as CubeCell;
-    if (c.bucket < 0) continue;
+    if (c.bucket < 0 || outside.of(i, t.action)) continue;
     const g = byBucket.get(c.bucket) ?? { n: 0, sum: 0, sumSq: 0 };
-    if (!ineligible(i).includes(t.action)) g.n += c.nP;
+    g.n += c.nP;
     if (c.action === t.action) {
       g.sum += c.sumInvP;
       g.sumSq += c.sumInvP2;
@@ -302,34 +454,53 @@ function explainAway<T extends { t: Test }>(flagged: readonly T[], covered: Uint
   return kept;
 }
 
-/** One warning per action listing the tests left out because their own group holds a below-floor propensity. */
-function leftOutFindings(leftOut: readonly Test[], floor: number): DraftFinding[] {
-  const byAction = new Map<string, Test[]>();
-  for (const t of leftOut) byAction.set(t.action, [...(byAction.get(t.action) ?? []), t]);
-  return [...byAction].map(([action, list]) => {
-    const names = list.map((t) => `${t.scope} ${describeSegment(t.segment)}${t.bucket !== undefined ? ` bucket ${t.bucket}` : ''}${t.version !== undefined ? ` version ${t.version}` : ''}`);
+/** The failing rule in words, for the summary. */
+function ruleText(m: Materiality, k: number, share: number): string {
+  if (m.scale === null) return 'the reward gives no scale, so significance alone decides';
+  if (m.budgets.length === 0) return 'no primary target to weigh a deviation against, so significance alone decides';
+  return `failing where |B − 1| · target mass · R (R = ${fmt(m.scale)}) exceeds min(${k} SE, ${share} R) of a primary target's IPS estimate`;
+}
+
+const significantOnly = (n: number, tests: number): string => (n ? `None of ${tests} balance tests fails: ${n} deviate significantly, each too little to bias a primary target's estimate beyond its tolerance` : `All ${tests} balance tests hold`);
+
+/**
+ * One warning per action naming the segments set aside from its balance tests because its propensity falls
+ * below the floor there (support.floor reports those cells), with the rows set aside.
+ */
+function setAsideFindings(setAside: ReadonlyMap<string, readonly number[]>, cells: readonly CubeCell[], segmentKeyOf: (c: CubeCell) => string, cols: readonly string[], floor: number): { findings: DraftFinding[]; segments: number; rows: number } {
+  const rowsOf = new Map<string, number>();
+  for (const c of cells) rowsOf.set(segmentKeyOf(c), (rowsOf.get(segmentKeyOf(c)) ?? 0) + c.nP);
+  let segments = 0, total = 0;
+  const findings = [...setAside].map(([action, firsts]): DraftFinding => {
+    const segs = firsts.map((i) => cells[i] as CubeCell);
+    const rows = segs.reduce((s, c) => s + (rowsOf.get(segmentKeyOf(c)) ?? 0), 0);
+    segments += segs.length;
+    total += rows;
+    const names = segs.map((c) => describeSegment(segmentRecord(cols, c.segment)));
     const shown = names.slice(0, MAX_LISTED).join('; ') + (names.length > MAX_LISTED ? `; and ${names.length - MAX_LISTED} more` : '');
     return {
-      segment: {},
+      segment: segs.length === 1 ? segmentRecord(cols, (segs[0] as CubeCell).segment) : {},
       action,
       status: 'warn' as const,
-      metrics: { left_out: list.length, ...Object.fromEntries(['action', 'segment value', 'segment', 'time bucket', 'policy version'].map((s) => [`left_out.${s}`, list.filter((t) => t.scope === s).length])) },
-      message: `${list.length} balance test(s) of ${action} left out because their group holds a propensity below ε = ${floor} (a few huge weights make B unreliable there; support.floor lists the cells): ${shown}`,
+      metrics: { set_aside: segs.length, set_aside_rows: rows },
+      message: `${segs.length} segment(s), ${rows} rows, set aside from the balance tests of ${action}, because its propensity falls below ε = ${floor} there (a few rare huge weights carry B there, so B says little either way; support.floor lists the cells): ${shown}`,
     };
   });
+  return { findings, segments, rows: total };
 }
 
 /**
  * z by segment × action. Cells without a z are null, with the reason beside them in `null_reasons`: an
  * action never logged in the segment (support information), or a segment too small to test.
  */
-function balanceHeatmap(tests: readonly Test[], never: readonly NeverLogged[], cols: readonly string[], actions: readonly string[]): Series {
+function balanceHeatmap(tests: readonly Test[], never: readonly NeverLogged[], aside: readonly { segment: Record<string, string>; action: string }[], cols: readonly string[], actions: readonly string[]): Series {
   const parts = (s: Record<string, string>) => cols.filter((c) => s[c] !== undefined).map((c) => ({ column: c, value: s[c] as string }));
   const label = (s: Record<string, string>) => segmentText(parts(s));
-  const { labels: segs, keys } = segmentAxis('y', [...tests, ...never].map((t) => parts(t.segment)));
+  const { labels: segs, keys } = segmentAxis('y', [...tests, ...never, ...aside].map((t) => parts(t.segment)));
   const idx = new Map(tests.map((t) => [`${label(t.segment)}|${t.action}`, finite(t.z)]));
   const unlogged = new Set(never.map((t) => `${label(t.segment)}|${t.action}`));
-  const reason = (k: string) => (unlogged.has(k) ? 'never logged' : 'not tested');
+  const below = new Set(aside.map((t) => `${label(t.segment)}|${t.action}`));
+  const reason = (k: string) => (unlogged.has(k) ? 'never logged' : below.has(k) ? 'below ε' : 'not tested');
   return {
     name: 'balance z by segment and action',
     kind: 'heatmap',
@@ -361,6 +532,6 @@ export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck({
   title: 'Weight balance',
   blocking: true,
   panel: 'weights',
-  settings: ['balance.q', 'balance.min_effect', 'balance.min_expected', 'support.floor.epsilon'],
+  settings: ['balance.q', 'balance.max_bias_se', 'balance.min_expected', 'support.floor.epsilon', 'support.target.fail'],
   run: checkBalance,
 });

@@ -1,7 +1,7 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import type { CubeCell } from '../cube/types.ts';
 import type { Series } from '../model/report.ts';
-import { weightBalance } from '../stats/balance.ts';
+import { countBalance } from '../stats/balance.ts';
 import { benjaminiHochberg } from '../stats/bh.ts';
 import { chiSquareHomogeneity } from '../stats/chisq.ts';
 import { populationStabilityIndex } from '../stats/psi.ts';
@@ -27,6 +27,8 @@ interface Window {
    * standard error unreliable in a window that happens to hold none of them (support.floor reports them) */
   lowFloor: Set<number>;
   nP: number;
+  /** valid-propensity rows of each action (the count the balance test compares with its expectation) */
+  logged: number[];
   s1: number[];
   s2: number[];
   counts: number[];
@@ -67,15 +69,19 @@ export function switchMarks(switches: readonly VersionSwitch[], b: { readonly or
 }
 
 function emptyWindow(k: number): Window {
-  return { lowFloor: new Set(), nP: 0, s1: new Array(k).fill(0), s2: new Array(k).fill(0), counts: new Array(k).fill(0), versions: new Map() };
+  return { lowFloor: new Set(), nP: 0, logged: new Array(k).fill(0), s1: new Array(k).fill(0), s2: new Array(k).fill(0), counts: new Array(k).fill(0), versions: new Map() };
 }
 
-/** Do logged propensities agree with the action mix in this window? (E[1{A=a}/p] = 1 for every action) */
-function balanced(w: Window, minEffect: number, alpha: number): boolean {
+/**
+ * Do logged propensities agree with the action mix in this window? (E[1{A=a}/p] = 1 for every action), tested
+ * as balance.weights tests it (countBalance: exact binomial below `minExpected` expected events, normal above).
+ */
+function balanced(w: Window, minEffect: number, alpha: number, minExpected: number): boolean {
   if (w.nP < MIN_WINDOW_ROWS) return true;
   return w.s1.every((s1, a) => {
-    if (s1 === 0 || w.lowFloor.has(a)) return true;
-    const r = weightBalance(w.nP, s1, w.s2[a] as number);
+    const logged = w.logged[a] as number;
+    if (s1 === 0 || logged === 0 || w.lowFloor.has(a)) return true;
+    const r = countBalance(w.nP, logged, s1, w.s2[a] as number, minExpected);
     return !(r.pValue < alpha && Math.abs(r.balance - 1) > minEffect);
   });
 }
@@ -105,6 +111,7 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
     const w = c.bucket < edge ? g.first : c.bucket >= b.count - edge ? g.last : null;
     if (!w) return;
     w.nP += c.nP;
+    w.logged[a] = (w.logged[a] as number) + c.nP;
     w.s1[a] = (w.s1[a] as number) + c.sumInvP;
     w.s2[a] = (w.s2[a] as number) + c.sumInvP2;
     w.counts[a] = (w.counts[a] as number) + c.n;
@@ -131,14 +138,15 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   }
   const q = ctx.settings['drift.policy.q'];
   const psiWarn = ctx.settings['drift.policy.psi_warn'];
-  const minEffect = ctx.settings['balance.min_effect'];
+  const minEffect = ctx.settings['drift.policy.min_effect'];
+  const minExpected = ctx.settings['balance.min_expected'];
   const alpha = ctx.settings['balance.q'] / Math.max(1, actions.length);
   const list = [...groups.values()].map((g) => {
     const rows = g.counts.filter((r) => r.reduce((s, x) => s + x, 0) >= MIN_BUCKET_ROWS);
     const chi = rows.length >= 2 ? chiSquareHomogeneity(rows) : null;
     const psi = g.first.counts.some((x) => x > 0) && g.last.counts.some((x) => x > 0) ? populationStabilityIndex(g.first.counts, g.last.counts) : 0;
     const dom = (w: Window) => [...w.versions.entries()].sort((x, y) => y[1] - x[1])[0]?.[0] ?? '';
-    return { g, p: chi ? chi.pValue : 1, psi, explainedByPropensities: balanced(g.first, minEffect, alpha) && balanced(g.last, minEffect, alpha), versionFrom: dom(g.first), versionTo: dom(g.last) };
+    return { g, p: chi ? chi.pValue : 1, psi, explainedByPropensities: balanced(g.first, minEffect, alpha, minExpected) && balanced(g.last, minEffect, alpha, minExpected), versionFrom: dom(g.first), versionTo: dom(g.last) };
   });
   const bh = benjaminiHochberg(list.map((x) => x.p), q);
   const switches = versionSwitches(ctx);
@@ -160,6 +168,7 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
       const w = c.bucket < edge ? first : c.bucket >= b.count - edge ? last : null;
       if (!w) continue;
       w.nP += c.nP;
+      w.logged[a] = (w.logged[a] as number) + c.nP;
       w.s1[a] = (w.s1[a] as number) + c.sumInvP;
       w.s2[a] = (w.s2[a] as number) + c.sumInvP2;
       if (c.minP !== null && c.minP < floor) w.lowFloor.add(a);
@@ -173,7 +182,7 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   for (const { x } of candidates) {
     const member = membersOf(x.g);
     const w = windowOf(member);
-    if (balanced(w.first, minEffect, alpha) && balanced(w.last, minEffect, alpha)) x.explainedByPropensities = true;
+    if (balanced(w.first, minEffect, alpha, minExpected) && balanced(w.last, minEffect, alpha, minExpected)) x.explainedByPropensities = true;
     else member.forEach((m, i) => {
       if (m) excluded[i] = 1;
     });
@@ -215,7 +224,7 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
     unit: 'share of rows',
     ...(switches.length ? { marks: switchMarks(switches, b) } : {}),
   };
-  return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'balance.min_effect', 'balance.q', 'support.floor.epsilon'], [mix]);
+  return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'drift.policy.min_effect', 'balance.q', 'balance.min_expected', 'support.floor.epsilon'], [mix]);
 }
 
 export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck({
@@ -223,6 +232,6 @@ export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck({
   title: 'Logging-policy drift',
   blocking: false,
   panel: 'drift',
-  settings: ['drift.policy.q', 'drift.policy.psi_warn', 'balance.q', 'balance.min_effect', 'support.floor.epsilon'],
+  settings: ['drift.policy.q', 'drift.policy.psi_warn', 'drift.policy.min_effect', 'balance.q', 'balance.min_expected', 'support.floor.epsilon'],
   run: checkPolicyDrift,
 });

@@ -7,7 +7,8 @@
  * Row sets (p is the logged propensity, r the reward, q a mapped target_propensity):
  *   - all rows:          n, the invalid-p counts, nPOne, nRNull
  *   - valid-p rows:      nP, sumInvP, sumInvP2, minP, maxP, nPBelowFloor        (0 < p <= 1)
- *   - rewarded rows:     valid p AND finite r:  nRw, sumInvPRw, sumInvP2Rw, sumR, sumR2, sumRInvP, sumRInvP2, sumR2InvP2
+ *   - rewarded rows:     valid p AND finite r:  nRw, sumInvPRw, sumInvP2Rw, sumR, sumR2, sumRInvP, sumRInvP2, sumR2InvP2,
+ *                        and over d = r − shift: sumD, sumD2, sumDInvP, sumDInvP2, sumD2InvP, sumD2InvP2
  *   - any finite reward: nRAll, sumRAll, sumR2All                               (on-policy value, reward drift)
  */
 import type { Dialect } from '../sql/dialect.ts';
@@ -127,6 +128,11 @@ export const CELL_MEASURES = [
    */
   measure('sumD', 's_d', 'sum', (x) => sum('d', RW(x)), (x) => sum('s_d', PV(x)), onValid((_, __, d) => d, true)),
   measure('sumD2', 's_d2', 'sum', (x) => sum('d * d', RW(x)), (x) => sum('s_d2', PV(x)), onValid((_, __, d) => d * d, true)),
+  /** the same over the rewarded rows weighted by 1/p and 1/p², for the IPS, SNIPS and DR standard errors */
+  measure('sumDInvP', 's_dip', 'sum', (x) => sum('d / p', RW(x)), (x) => sum('s_d / p', PV(x)), onValid((p, __, d) => d / p, true)),
+  measure('sumDInvP2', 's_dip2', 'sum', (x) => sum('d / (p * p)', RW(x)), (x) => sum('s_d / (p * p)', PV(x)), onValid((p, __, d) => d / (p * p), true)),
+  measure('sumD2InvP', 's_d2ip', 'sum', (x) => sum('d * d / p', RW(x)), (x) => sum('s_d2 / p', PV(x)), onValid((p, __, d) => (d * d) / p, true)),
+  measure('sumD2InvP2', 's_d2ip2', 'sum', (x) => sum('d * d / (p * p)', RW(x)), (x) => sum('s_d2 / (p * p)', PV(x)), onValid((p, __, d) => (d * d) / (p * p), true)),
   measure('sumDAll', 's_dall', 'sum', (x) => sum('d', VR(x)), () => sum('s_d'), onReward((_, d) => d)),
   measure('sumD2All', 's_d2all', 'sum', (x) => sum('d * d', VR(x)), () => sum('s_d2'), onReward((_, d) => d * d)),
 ] as const;

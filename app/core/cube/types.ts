@@ -42,7 +42,22 @@ export interface EstimatorCell {
   readonly sumRInvP: number;
   readonly sumRInvP2: number;
   readonly sumR2InvP2: number;
+  /** Σ r²/p when known (the cube has it over d, not r): DR's Σδ²/p is then exact for any reward */
+  readonly sumR2InvP?: number;
+  /** The same sums over d = r − shift (the cube's centred sums), for standard errors that do not cancel */
+  readonly centred?: CentredSums;
   /** The sums already carry a per-row target probability (a target_propensity column): the "InvP"
    * sums are Σq/p, Σq²/p², Σqr/p, Σq²r/p², Σq²r²/p², and q is 1. */
   readonly preweighted?: boolean;
+}
+
+/** Sums over d = r − shift of one estimator cell's rows (measures.ts), with the shift they were taken about. */
+export interface CentredSums {
+  readonly shift: number;
+  readonly sumD: number;
+  readonly sumD2: number;
+  readonly sumDInvP: number;
+  readonly sumDInvP2: number;
+  readonly sumD2InvP: number;
+  readonly sumD2InvP2: number;
 }

@@ -127,6 +127,8 @@ export interface TargetAnalysis {
 export function analyseTarget(target: TargetPolicy, view: CubeView): TargetAnalysis {
   const q = probabilityOf(target, view);
   const actions = targetActions(target, view);
+  // the cube's one reward shift: Σr − Σd = n·shift over the rewarded rows (exact up to one rounding)
+  const shift = view.total.nRw > 0 ? (view.total.sumR - view.total.sumD) / view.total.nRw : 0;
   const rows = Math.max(1, view.rows);
   const cellByKey = new Map(view.cells.map((c) => [`${segmentKey(c.segment)}${SEP}${SEP}${c.action}`, c]));
   let n = 0, sumW = 0, sumW2 = 0, maxWeight = 0, deficit = 0, undefinedRows = 0, rewardedRows = 0;
@@ -164,7 +166,7 @@ export function analyseTarget(target: TargetPolicy, view: CubeView): TargetAnaly
         sw2 += qa * qa * t.sumInvP2;
         if (qa > 0 && t.minP !== null) maxWeight = Math.max(maxWeight, qa / t.minP);
         if (t.nRw > 0) {
-          estimatorCells.push({ segmentKey: key, action: a, q: qa, n: t.nRw, sumInvP: t.sumInvPRw, sumInvP2: t.sumInvP2Rw, sumR: t.sumR, sumR2: t.sumR2, sumRInvP: t.sumRInvP, sumRInvP2: t.sumRInvP2, sumR2InvP2: t.sumR2InvP2 });
+          estimatorCells.push({ segmentKey: key, action: a, q: qa, n: t.nRw, sumInvP: t.sumInvPRw, sumInvP2: t.sumInvP2Rw, sumR: t.sumR, sumR2: t.sumR2, sumRInvP: t.sumRInvP, sumRInvP2: t.sumRInvP2, sumR2InvP2: t.sumR2InvP2, centred: { shift, sumD: t.sumD, sumD2: t.sumD2, sumDInvP: t.sumDInvP, sumDInvP2: t.sumDInvP2, sumD2InvP: t.sumD2InvP, sumD2InvP2: t.sumD2InvP2 } });
         }
       } else if (t?.target) {
         sw += t.target.sumW;

@@ -95,17 +95,57 @@ describe('balance.weights', () => {
     expect(f?.metrics.balance).toBeCloseTo(0.5, 12);
   });
 
-  it('one odd below-floor row elsewhere leaves the defect found; only tests of its own groups are left out, listed, and the check is not a pass', () => {
+  it('the failing day explains the other significant tests away: once its rows are left out, the rest balances exactly (by hand: B = 16·500/8000 = 1), so one group is reported', () => {
+    // every test of a that holds day 3 deviates (overall B = 9000/10000 = 0.9, each segment 0.9); the explain-away step
+    // recomputes B over the uncovered rows from Σ1/p, and the normal test's SE from Σ1/p² (Σ1/p² = 25 per row at p = 0.2)
+    const r = run(doubled(), { days: 5 });
+    expect(r.metrics.failing as number).toBeGreaterThan(1);
+    expect(r.metrics.groups).toBe(1);
+    expect(r.findings.filter((x) => x.status === 'fail').map((x) => x.window?.from)).toEqual(['2026-01-04T00:00:00.000Z']);
+  });
+
+  it('explaining away recomputes the normal test\'s SE from Σ1/p² of the uncovered rows: what is left after the worst segment holds (by hand: z = 0.63)', () => {
+    // x logs a at p = 0.25 though it is drawn at 0.5 (B = 2000/1000 = 2); y is honest, a 510 of 1000 at 0.5 (B = 1.02).
+    // The overall test of a (B = 3020/2000 = 1.51) fails, but over y's rows alone Σ(X − B)² = 510·4 − 1000·1.02² = 999.6,
+    // SE = sqrt(999.6/999/1000) = 0.0316, z = 0.02/0.0316 = 0.63, p = 0.53: explained by x, so one group is reported.
+    const rows: Rows[] = [
+      { segment: ['x'], action: 'a', p: 0.25, count: 500 }, { segment: ['x'], action: 'b', p: 0.5, count: 500 },
+      { segment: ['y'], action: 'a', p: 0.5, count: 510 }, { segment: ['y'], action: 'b', p: 0.5, count: 490 },
+    ];
+    const r = run(rows);
+    expect(r.metrics.failing).toBe(2);
+    expect(r.metrics.groups).toBe(1);
+    expect(r.findings.filter((x) => x.status === 'fail').map((x) => x.segment)).toEqual([{ s0: 'x' }]);
+  });
+
+  it('one odd below-floor row elsewhere leaves the defect found; only its own segment is set aside from the action\'s tests, listed, and the check is not a pass', () => {
     const rows = [...doubled(), { segment: ['n'], action: 'a', bucket: 0, p: 0.005 }];
     const r = run(rows, { days: 5 });
     expect(r.status).toBe('fail');
     const f = r.findings.find((x) => x.status === 'fail' && x.window);
     expect(f?.window?.from).toBe('2026-01-04T00:00:00.000Z');
-    const left = r.findings.find((x) => x.status === 'warn');
-    // the overall test of a, segment value n, and day 0 hold the odd row: 3 tests left out, no others
-    expect(left?.metrics.left_out).toBe(3);
-    expect(left?.message).toMatch(/time bucket all rows bucket 0/);
-    expect(r.metrics.skipped_below_floor).toBe(3);
+    // day 3 without segment n: 3 segments × 100 rows of a at p = 0.4 over 3 × 500 rows, B = 750/1500 = 0.5 (by hand)
+    expect(f?.metrics.balance).toBeCloseTo(0.5, 12);
+    const aside = r.findings.find((x) => x.status === 'warn');
+    // segment n: 5 days × 500 rows, plus the odd row
+    expect(aside?.metrics).toMatchObject({ set_aside: 1, set_aside_rows: 2501 });
+    expect(aside?.message).toMatch(/s0=n/);
+    expect(r.metrics.set_aside).toBe(1);
+  });
+
+  it('an honest action near the floor that happens not to be drawn on a day does not fail that day (B there would read 1 − its share)', () => {
+    // x: a at 0.3 (300 of 1000 a day), y: a at 0.002, drawn once in 5 days (500 rows a day; 5 expected). On day 3 the rows of a
+    // weigh 300/0.3 = 1000 over 1500 rows: B = 0.667, significant, although every propensity is right.
+    const rows: Rows[] = [];
+    for (let d = 0; d < 5; d++) {
+      rows.push({ segment: ['x'], action: 'a', bucket: d, p: 0.3, count: 300 }, { segment: ['x'], action: 'b', bucket: d, p: 0.7, count: 700 });
+      rows.push({ segment: ['y'], action: 'b', bucket: d, p: 0.998, count: d === 0 ? 499 : 500 });
+    }
+    rows.push({ segment: ['y'], action: 'a', bucket: 0, p: 0.002 });
+    const r = run(rows, { days: 5 });
+    expect(r.status).toBe('warn');
+    expect(r.metrics.failing).toBe(0);
+    expect(r.findings.find((x) => x.status === 'warn')?.metrics.set_aside_rows).toBe(2500);
   });
 
   it('a below-floor row alone makes the check warn, never pass silently', () => {
@@ -146,4 +186,50 @@ describe('balance.weights', () => {
     expect(r.metrics.groups).toBe(1);
     expect(first.message).toMatch(/a in region=r2, policy v1, from 2026-01-03 to 2026-01-06: B = /);
   });
+
+  describe('the effect size is the bias a deviation could put into a primary target\'s IPS estimate: |B − 1| · target mass · R (Dudík, Langford & Li 2011, Theorem 1)', () => {
+    /** `segments` segments of 200 rows, a and b at p = 0.5, reward 1 on a and 0 on b (R = 1); s0 logs a 150 times (B = 1.5). */
+    const sparse = (segments: number, r = 1): Rows[] => Array.from({ length: segments }, (_, i) => [
+      { segment: [`s${i}`], action: 'a', p: 0.5, r, count: i === 0 ? 150 : 100 },
+      { segment: [`s${i}`], action: 'b', p: 0.5, r: 0, count: i === 0 ? 50 : 100 },
+    ]).flat();
+    // 400 segments: uniform puts mass (200/80000) · 0.5 = 0.00125 on s0's rows of a, so the bound is 0.5 · 0.00125 · 1 = 0.000625.
+    // IPS of uniform has w = 1 on every row: SE = sqrt((40050 − 40050²/80000) / 79999 / 80000) = 0.0017678 (sample SD of r over √n).
+    const se = Math.sqrt((40050 - 40050 ** 2 / 80000) / 79999 / 80000);
+    it.each<{ name: string; settings: Record<string, number>; r: number; status: string }>([
+      { name: 'below 0.5 SE (the default): a significant but harmless deviation passes', settings: {}, r: 1, status: 'pass' },
+      { name: 'above 0.25 SE: the same deviation fails', settings: { 'balance.max_bias_se': 0.25 }, r: 1, status: 'fail' },
+      { name: 'a reward that is 0 on every row gives no scale: significance alone decides', settings: {}, r: 0, status: 'fail' },
+    ])('$name', ({ settings, r, status }) => {
+      const res = run(sparse(400, r), { settings });
+      expect(res.status).toBe(status);
+      expect(res.metrics.significant as number).toBeGreaterThan(0);
+      const f = res.findings.find((x) => x.status === 'fail');
+      if (status === 'fail' && r === 1) {
+        expect(f?.metrics.bias_bound as number).toBeCloseTo(0.000625, 12);
+        expect(f?.metrics.bias_tolerance as number).toBeCloseTo(0.25 * se, 9);
+      }
+      if (status === 'pass') expect(res.summary).toMatch(/deviate significantly, each too little/);
+      if (r === 0) expect(res.summary).toMatch(/no scale/);
+    });
+
+    it('a 5% deviation on every row fails, though |B − 1| = 0.05 is below the 0.1 the rule used to require', () => {
+      // 100,000 rows at p = 0.5 for both actions, a drawn 47,500 times: B = 0.95; exact z ≈ −15.8. Bound 0.05 · 0.5 · 1 = 0.025.
+      const r = run([{ action: 'a', p: 0.5, r: 1, count: 47500 }, { action: 'b', p: 0.5, r: 0, count: 52500 }]);
+      expect(r.status).toBe('fail');
+      const f = r.findings.find((x) => x.action === 'a')!;
+      expect(f.metrics.balance).toBeCloseTo(0.95, 12);
+      expect(f.metrics.bias_bound as number).toBeCloseTo(0.025, 12);
+    });
+
+    it.each([
+      { target: 'uniform', status: 'fail' },
+      { target: 'always:b', status: 'pass' },
+    ])('a mis-logged action matters only to a target that picks it: a\'s p logged half its true value, primary target $target → $status', ({ target, status }) => {
+      // a: 1000 rows logged at p = 0.25 though drawn at 0.5 (B = 4000/2000 = 2); b: 1000 rows at 0.5 (B = 1). always:b puts no mass on a.
+      const rows: Rows[] = [{ action: 'a', p: 0.25, r: 1, count: 1000 }, { action: 'b', p: 0.5, r: 0, count: 1000 }];
+      expect(run(rows, { targets: [{ spec: target }] }).status).toBe(status);
+    });
+  });
 });
+
