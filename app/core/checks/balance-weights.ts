@@ -374,7 +374,7 @@ const MAX_CAUSE_CANDIDATES = 48;
  * The smallest groups that account for the failing tests: greedily, the segment value × action (× version)
  * group whose rows, left out, make the most still-unexplained failing tests hold, ties to the group with fewer
  * rows (so riverside under v8 wins over riverside, which explains the same tests) and then to the larger
- * deviation. A group must account for more than its own test. What no such group explains is returned in
+ * deviation; between two actions of one scope, to the larger deviation. A group must account for more than its own test. What no such group explains is returned in
  * `rest`, with the cells already accounted for in `removed`.
  */
 function smallestCauses<T extends { t: Test }>(failing: readonly T[], cellCount: number, fails: FailsWithout): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
@@ -393,7 +393,10 @@ function smallestCauses<T extends { t: Test }>(failing: readonly T[], cellCount:
       for (const i of x.t.members) mark[i] = 1;
       const explains = new Set(open.filter((y) => !fails(y.t, mark)));
       if (explains.size < 2) continue;
-      const better = !best || explains.size > best.explains.size || (explains.size === best.explains.size && (x.t.n < best.x.t.n || (x.t.n === best.x.t.n && Math.abs(x.t.balance - 1) > Math.abs(best.x.t.balance - 1))));
+      // between actions of one scope the larger deviation wins: their row counts differ only by the segments set aside per action
+      const sameScope = best !== null && x.t.scope === best.x.t.scope && x.t.version === best.x.t.version && JSON.stringify(x.t.segment) === JSON.stringify(best.x.t.segment);
+      const deviates = best !== null && Math.abs(x.t.balance - 1) > Math.abs(best.x.t.balance - 1);
+      const better = !best || explains.size > best.explains.size || (explains.size === best.explains.size && (sameScope ? deviates : x.t.n < best.x.t.n || (x.t.n === best.x.t.n && deviates)));
       if (better) best = { x, explains };
     }
     if (!best) break;

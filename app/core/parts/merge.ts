@@ -98,6 +98,11 @@ function reshift(c: CubeCell, from: number, to: number): CubeCell {
     ...c,
     sumD: c.sumD + delta * c.nRw,
     sumD2: c.sumD2 + 2 * delta * c.sumD + delta * delta * c.nRw,
+    // the same moves weighted by 1/p and 1/p² over the same rewarded rows
+    sumDInvP: c.sumDInvP + delta * c.sumInvPRw,
+    sumDInvP2: c.sumDInvP2 + delta * c.sumInvP2Rw,
+    sumD2InvP: c.sumD2InvP + 2 * delta * c.sumDInvP + delta * delta * c.sumInvPRw,
+    sumD2InvP2: c.sumD2InvP2 + 2 * delta * c.sumDInvP2 + delta * delta * c.sumInvP2Rw,
     sumDAll: c.sumDAll + delta * c.nRAll,
     sumD2All: c.sumD2All + 2 * delta * c.sumDAll + delta * delta * c.nRAll,
   };
