@@ -62,6 +62,8 @@ async function openCell(page: Page): Promise<Locator> {
   await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Segment map' }).click();
   // Regroup by region × device (from the cube, no scan) so the map has the manifest's two-column cell.
   await page.getByTestId('group-by-tenure').uncheck();
+  // the regrouped map opens on exploration shares; the cell's row count is on the rows layer
+  await page.getByRole('group', { name: 'Map to show' }).getByRole('button', { name: /^rows by / }).click();
   await page.getByRole('button', { name: 'Show as table (keyboard)' }).click();
   await page.getByRole('button', { name: new RegExp(`^${cell?.segment.region} · ${cell?.segment.device}, ${cell?.action}:`) }).click();
   const section = page.locator('section.cell-rows');
@@ -179,6 +181,7 @@ test.describe.serial('row drill-down, hosted mode on the demo Parquet log', () =
     expect(expected.v8).toBeGreaterThan(0);
     expect(expected.v8).toBeLessThan(expected.rows.length);
     await page.getByTestId('segment-map-version').selectOption('v8');
+    await page.getByRole('group', { name: 'Map to show' }).getByRole('button', { name: /^rows by / }).click();
     await page.getByRole('button', { name: `old-town · web, free-delivery: ${formatValue(expected.v8)}` }).click();
     const section = page.locator('section.cell-rows');
     await expect(section.getByRole('heading', { name: 'Rows behind old-town · web · free-delivery (policy version v8)' })).toBeVisible();

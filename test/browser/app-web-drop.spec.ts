@@ -69,6 +69,8 @@ test.describe.serial('standalone web mode: drop and cancel', () => {
     await expect(page.locator('section[aria-labelledby="segments-title"]')).toHaveAttribute('data-regroup-source', 'cube-sql');
     // old-town · web is greedy (free-delivery only): regrouped by region and device it is one row with one non-zero cell
     await page.getByTestId('group-by-region').check();
+    // the regrouped map opens on exploration shares, as the report's map; the row counts are their own layer
+    await page.getByRole('group', { name: 'Map to show' }).getByRole('button', { name: /^rows by / }).click();
     const row = page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^old-town · web$/ }) });
     await expect(row.locator('td button')).toHaveText(['0', '4,851', '0', '0', '0', '0', '0'].map((v) => new RegExp(`^${v}$`)));
   });
