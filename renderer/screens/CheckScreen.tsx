@@ -4,7 +4,8 @@ import { MetricsTable } from '../components/MetricsTable.tsx';
 import { SeriesView } from '../components/SeriesView.tsx';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import { shownStatus } from '../../app/charts/labels.ts';
-import { REMEDIES_FOR, type RemedyKind } from '../../app/core/remedies/links.ts';
+import { REMEDIES_FOR } from '../../app/core/checks/registry.ts';
+import type { RemedyKind } from '../../app/core/remedies/links.ts';
 import { RemedyLinks } from '../components/RemedyLinks.tsx';
 
 export function CheckScreen({ check, onBack, onRemedies }: { check: CheckResult; onBack: () => void; onRemedies?: (kind: RemedyKind) => void }) {

@@ -9,7 +9,7 @@ import { countBalance } from '../stats/balance.ts';
 import { balanceBiasBound, rewardScale } from '../stats/balance-bias.ts';
 import { ips } from '../stats/estimators.ts';
 import type { Probability } from '../targets/analysis.ts';
-import { bucketWindow, describeSegment, finite, fmt, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { bucketWindow, describeSegment, finite, fmt, notListed, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
 
 const MAX_FINDINGS = 25;
@@ -322,15 +322,16 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const overall = tests.filter((t) => t.scope === 'action');
   const neverSegments = never.filter((x) => x.scope === (cols.length > 1 ? 'segment' : 'segment value'));
   const neverNote = neverSegments.length ? ` ${neverSegments.length} segment × action cell(s) were never logged: support information (support.target weighs them against each target), not a balance test.` : '';
+  const left = notListed(Math.max(0, flagged.length - MAX_FINDINGS), MAX_FINDINGS, 'explaining groups');
   const leftNote = aside.segments ? ` ${aside.segments} segment × action pair(s) (${aside.rows} rows) set aside from their action's tests, where the action's propensity falls below ε = ${floor}.` : '';
   const summary = flagged.length
-    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}`
+    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}${left.note}`
     : `${significantOnly(bh.rejected.filter(Boolean).length, tested.length)} (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.${leftNote}${neverNote}`;
   return result(
     'balance.weights',
     status,
     summary,
-    { tests: tested.length, set_aside: aside.segments, set_aside_rows: aside.rows, exact_tests: tested.filter((t) => t.method === 'exact binomial').length, never_logged: never.length, significant: bh.rejected.filter(Boolean).length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length, reward_scale: materiality.scale },
+    { tests: tested.length, set_aside: aside.segments, set_aside_rows: aside.rows, exact_tests: tested.filter((t) => t.method === 'exact binomial').length, never_logged: never.length, significant: bh.rejected.filter(Boolean).length, failing: significant.length, groups: flagged.length, mean_inverse_propensity: meanInvP, actions: actions.length, reward_scale: materiality.scale, ...left.metrics },
     findings,
     ['balance.q', 'balance.max_bias_se', 'balance.min_expected', 'support.floor.epsilon', 'support.target.fail'],
     [
@@ -530,11 +531,7 @@ function versionSpans(ctx: AuditContext): Map<string, { from: string; to: string
   return out;
 }
 
-export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck({
-  id: 'balance.weights',
-  title: 'Weight balance',
-  blocking: true,
-  panel: 'weights',
+export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck('balance.weights', {
+  title: 'Weight balance', blocking: true, panel: 'weights', remedies: ['plan'],
   settings: ['balance.q', 'balance.max_bias_se', 'balance.min_expected', 'support.floor.epsilon', 'support.target.fail'],
-  run: checkBalance,
-});
+}, checkBalance);

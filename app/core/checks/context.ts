@@ -55,13 +55,20 @@ export function result(
   return { id, title: id, status, summary, metrics, findings, settings_used: settingsUsed, ...(series && series.length ? { series } : {}) };
 }
 
+/** What a capped finding list says about the findings it leaves out (see `notListed`). */
+export interface NotListed {
+  /** the sentence the check's summary ends with; '' when nothing was left out */
+  readonly note: string;
+  /** `{ findings_not_listed: n }` when n > 0, else `{}`: spread last into the check's metrics */
+  readonly metrics: { readonly findings_not_listed?: number };
+}
+
 /**
- * The sentence a capped finding list adds to its check's summary ('' when nothing was left out); the count itself
- * goes into the check's `findings_not_listed` metric, which a comparison reads so that a finding merely left off
- * the list is not taken for a resolved one (app/core/compare/compare.ts).
+ * The sentence and the metric for a finding list capped at `max` entries that left `leftOut` candidates off. A comparison reads
+ * `findings_not_listed` so that a finding merely left off the list is not taken for a resolved one (app/core/compare/compare.ts).
  */
-export function notListedNote(notListed: number, max: number, what: string): string {
-  return notListed > 0 ? ` The findings list the first ${max} ${what}; ${notListed} more are not listed.` : '';
+export function notListed(leftOut: number, max: number, what: string): NotListed {
+  return leftOut > 0 ? { note: ` The findings list the first ${max} ${what}; ${leftOut} more are not listed.`, metrics: { findings_not_listed: leftOut } } : { note: '', metrics: {} };
 }
 
 export function skipped(id: CheckId, why: string, settingsUsed: readonly SettingKey[] = []): CheckResult {

@@ -227,11 +227,7 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   return result('drift.policy', status, summary, { groups: list.length, shifts: findings.length, unexplained: warnCount, version_switches: switches.map((s) => `${s.from}→${s.to}@${s.at}`).join('; ') || null }, findings, ['drift.policy.q', 'drift.policy.psi_warn', 'drift.policy.min_effect', 'balance.q', 'balance.min_expected', 'support.floor.epsilon'], [mix]);
 }
 
-export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck({
-  id: 'drift.policy',
-  title: 'Logging-policy drift',
-  blocking: false,
-  panel: 'drift',
+export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck('drift.policy', {
+  title: 'Logging-policy drift', blocking: false, panel: 'drift', remedies: ['plan'],
   settings: ['drift.policy.q', 'drift.policy.psi_warn', 'drift.policy.min_effect', 'balance.q', 'balance.min_expected', 'support.floor.epsilon'],
-  run: checkPolicyDrift,
-});
+}, checkPolicyDrift);

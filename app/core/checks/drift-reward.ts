@@ -9,7 +9,7 @@ import { chiSquareHomogeneity } from '../stats/chisq.ts';
 import { cmhGeneralAssociation } from '../stats/cmh.ts';
 import type { GroupMoments } from '../stats/moments.ts';
 import { normalQuantile } from '../stats/distributions.ts';
-import { bucketWindow, describeSegment, fmt, isoUs, notListedNote, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { bucketWindow, describeSegment, fmt, isoUs, notListed, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, finiteReward, segmentPredicate, windowPredicate } from './predicates.ts';
 import { rewardKind } from './reward-validity.ts';
 import { switchMarks, versionSwitches } from './drift-policy.ts';
@@ -136,7 +136,8 @@ function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   const summary = flagged.length
     ? `Reward drifts in ${flagged.length} of ${tests.length} segment × action series (BH q = ${q}, change ≥ ${pct(minChange, 0)}), mostly in ${[...bySegment.entries()].sort((a, c) => c[1] - a[1]).slice(0, 2).map(([s, n]) => `${s} (${n} series)`).join(', ')}.`
     : `No reward drift across ${tests.length} segment × action series (${binary ? 'chi-square' : 'ANOVA'}, BH q = ${q}).`;
-  return result('drift.reward', status, summary + notListedNote(flagged.length - findings.length, MAX_FINDINGS, 'series, smallest adjusted p first'), { tests: tests.length, drifting: flagged.length, test: binary ? 'chi-square homogeneity' : 'one-way ANOVA', ...(flagged.length > findings.length ? { findings_not_listed: flagged.length - findings.length } : {}) }, findings, ['drift.reward.q', 'drift.reward.min_relative_change'], series);
+  const left = notListed(flagged.length - findings.length, MAX_FINDINGS, 'series, smallest adjusted p first');
+  return result('drift.reward', status, summary + left.note, { tests: tests.length, drifting: flagged.length, test: binary ? 'chi-square homogeneity' : 'one-way ANOVA', ...left.metrics }, findings, ['drift.reward.q', 'drift.reward.min_relative_change'], series);
 }
 
 /**
@@ -221,11 +222,7 @@ function driftSeries(t: RewardDriftTest, originUs: number, widthUs: number, bina
   };
 }
 
-export const driftReward: CheckDefinition<'drift.reward'> = defineCheck({
-  id: 'drift.reward',
-  title: 'Reward drift',
-  blocking: false,
-  panel: 'drift',
+export const driftReward: CheckDefinition<'drift.reward'> = defineCheck('drift.reward', {
+  title: 'Reward drift', blocking: false, panel: 'drift', remedies: ['plan'],
   settings: ['drift.reward.q', 'drift.reward.min_relative_change'],
-  run: checkRewardDrift,
-});
+}, checkRewardDrift);

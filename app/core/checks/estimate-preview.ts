@@ -82,11 +82,7 @@ function checkEstimates(ctx: AuditContext): ReturnType<typeof result> {
   return result('estimate.preview', status, summary, metrics, findings, ['estimate.preview.max_relative_halfwidth']);
 }
 
-export const estimatePreview: CheckDefinition<'estimate.preview'> = defineCheck({
-  id: 'estimate.preview',
-  title: 'Estimate preview',
-  blocking: false,
-  panel: 'estimates',
+export const estimatePreview: CheckDefinition<'estimate.preview'> = defineCheck('estimate.preview', {
+  title: 'Estimate preview', blocking: false, panel: 'estimates', remedies: ['caps', 'plan'],
   settings: ['estimate.preview.max_relative_halfwidth'],
-  run: checkEstimates,
-});
+}, checkEstimates);

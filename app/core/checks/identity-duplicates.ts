@@ -24,11 +24,7 @@ function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
   return result('identity.duplicates', status, summary, { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share }, findings, ['identity.duplicates.fail_share']);
 }
 
-export const identityDuplicates: CheckDefinition<'identity.duplicates'> = defineCheck({
-  id: 'identity.duplicates',
-  title: 'Duplicate decision ids',
-  blocking: true,
-  panel: 'data',
+export const identityDuplicates: CheckDefinition<'identity.duplicates'> = defineCheck('identity.duplicates', {
+  title: 'Duplicate decision ids', blocking: true, panel: 'data', remedies: ['plan'],
   settings: ['identity.duplicates.fail_share'],
-  run: checkDuplicates,
-});
+}, checkDuplicates);

@@ -108,11 +108,7 @@ export function explorationMap(ctx: AuditContext, segs: readonly SegmentExplorat
   };
 }
 
-export const propensityExploration: CheckDefinition<'propensity.exploration'> = defineCheck({
-  id: 'propensity.exploration',
-  title: 'Exploration by segment',
-  blocking: true,
-  panel: 'data',
+export const propensityExploration: CheckDefinition<'propensity.exploration'> = defineCheck('propensity.exploration', {
+  title: 'Exploration by segment', blocking: true, panel: 'data', remedies: ['restricted', 'plan'],
   settings: ['propensity.exploration.top_action_share', 'propensity.exploration.min_segment_share'],
-  run: checkExploration,
-});
+}, checkExploration);

@@ -34,11 +34,7 @@ function opt(where: string | undefined): { where?: string } {
   return where ? { where } : {};
 }
 
-export const propensityRange: CheckDefinition<'propensity.range'> = defineCheck({
-  id: 'propensity.range',
-  title: 'Propensity values',
-  blocking: true,
-  panel: 'data',
+export const propensityRange: CheckDefinition<'propensity.range'> = defineCheck('propensity.range', {
+  title: 'Propensity values', blocking: true, panel: 'data', remedies: ['restricted', 'plan'],
   settings: ['propensity.range.fail_share'],
-  run: checkPropensityRange,
-});
+}, checkPropensityRange);

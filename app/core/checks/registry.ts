@@ -1,6 +1,7 @@
 /** The checks in report order; every list about checks derives from this one (see ./define.ts). */
 import { balanceWeights } from './balance-weights.ts';
 import type { CheckDefinition, CheckPanel } from './define.ts';
+import type { RemedyKind } from '../remedies/links.ts';
 import { driftPolicy } from './drift-policy.ts';
 import { driftReward } from './drift-reward.ts';
 import { estimatePreview } from './estimate-preview.ts';
@@ -52,3 +53,6 @@ export const BLOCKING: ReadonlySet<CheckId> = new Set(CHECKS.filter((c) => c.blo
 export function checksOnPanel(panel: CheckPanel): readonly CheckId[] {
   return CHECKS.filter((c) => c.panel === panel).map((c) => c.id);
 }
+
+/** Which remedies address a failing or warning check, from each check's definition. */
+export const REMEDIES_FOR = Object.fromEntries(CHECKS.map((c): [string, readonly RemedyKind[]] => [c.id, c.remedies])) as Readonly<Record<CheckId, readonly RemedyKind[]>>;

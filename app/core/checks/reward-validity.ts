@@ -65,11 +65,7 @@ function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
   );
 }
 
-export const rewardValidity: CheckDefinition<'reward.validity'> = defineCheck({
-  id: 'reward.validity',
-  title: 'Reward values',
-  blocking: true,
-  panel: 'drift',
+export const rewardValidity: CheckDefinition<'reward.validity'> = defineCheck('reward.validity', {
+  title: 'Reward values', blocking: true, panel: 'drift', remedies: ['plan'],
   settings: ['reward.validity.warn_null', 'reward.validity.fail_null'],
-  run: checkRewardValidity,
-});
+}, checkRewardValidity);

@@ -31,11 +31,7 @@ function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
   return result('schema.roles', status, summary, metrics, findings, []);
 }
 
-export const schemaRoles: CheckDefinition<'schema.roles'> = defineCheck({
-  id: 'schema.roles',
-  title: 'Column roles',
-  blocking: true,
-  panel: 'data',
+export const schemaRoles: CheckDefinition<'schema.roles'> = defineCheck('schema.roles', {
+  title: 'Column roles', blocking: true, panel: 'data', remedies: ['plan'],
   settings: [],
-  run: checkSchemaRoles,
-});
+}, checkSchemaRoles);

@@ -1,5 +1,5 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
-import { cellHeatmap, describeSegment, fmt, notListedNote, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { cellHeatmap, describeSegment, fmt, notListed, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { and, segmentPredicate, validPropensity } from './predicates.ts';
 
@@ -36,23 +36,20 @@ function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> {
     };
   });
   const lowest = patterns[0];
-  const summary = `${pct(share, 2)} of rows have propensity below ε = ${eps} (warn above ${pct(maxShare)}); ${patterns.length} place(s) with cells under the floor${lowest ? `, lowest ${fmt(lowest.minP)}` : ''}.${notListedNote(patterns.length - findings.length, MAX_FINDINGS, 'places, lowest propensity first')}`;
+  const left = notListed(patterns.length - findings.length, MAX_FINDINGS, 'places, lowest propensity first');
+  const summary = `${pct(share, 2)} of rows have propensity below ε = ${eps} (warn above ${pct(maxShare)}); ${patterns.length} place(s) with cells under the floor${lowest ? `, lowest ${fmt(lowest.minP)}` : ''}.${left.note}`;
   return result(
     'support.floor',
     status,
     summary,
-    { epsilon: eps, rows_below_floor: t.nPBelowFloor, share_below_floor: share, min_propensity: t.minP, cells_below_floor: items.filter((i) => i.flagged).length, ...(patterns.length > findings.length ? { findings_not_listed: patterns.length - findings.length } : {}) },
+    { epsilon: eps, rows_below_floor: t.nPBelowFloor, share_below_floor: share, min_propensity: t.minP, cells_below_floor: items.filter((i) => i.flagged).length, ...left.metrics },
     findings,
     ['support.floor.epsilon', 'support.floor.max_share'],
     [cellHeatmap(ctx, 'minimum propensity by segment and action', 'propensity', (t) => t.minP, null)],
   );
 }
 
-export const supportFloor: CheckDefinition<'support.floor'> = defineCheck({
-  id: 'support.floor',
-  title: 'Propensity floor',
-  blocking: false,
-  panel: 'weights',
+export const supportFloor: CheckDefinition<'support.floor'> = defineCheck('support.floor', {
+  title: 'Propensity floor', blocking: false, panel: 'weights', remedies: ['restricted', 'caps', 'plan'],
   settings: ['support.floor.epsilon', 'support.floor.max_share'],
-  run: checkSupportFloor,
-});
+}, checkSupportFloor);

@@ -1,7 +1,7 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import { segmentKey } from '../cube/rollup.ts';
 import type { Status } from '../model/report.ts';
-import { describeSegment, notListedNote, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
+import { describeSegment, notListed, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 
 const MAX_FINDINGS_PER_TARGET = 10;
@@ -14,7 +14,7 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
   const findings: DraftFinding[] = [];
   const statuses: Status[] = [];
   const metrics: Record<string, number> = {};
-  let notListed = 0;
+  let leftOut = 0;
   for (const t of ctx.targets) {
     if (t.target.kind === 'column') continue;
     const primary = ctx.primaryTargets.includes(t);
@@ -29,7 +29,7 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
     const patterns = coverByPatterns(items.filter((i) => i.flagged || !unsupportedKeys.has(`${segmentKey(i.values.slice(0, -1))}|${i.values[i.values.length - 1]}`)))
       .map((p) => ({ ...p, mass: p.items.reduce((s, x) => s + x.mass, 0) }))
       .sort((a, b) => b.mass - a.mass);
-    notListed += Math.max(0, patterns.length - MAX_FINDINGS_PER_TARGET);
+    leftOut += Math.max(0, patterns.length - MAX_FINDINGS_PER_TARGET);
     for (const p of patterns.slice(0, MAX_FINDINGS_PER_TARGET)) {
       const mass = p.mass;
       const action = p.values[p.values.length - 1] as string;
@@ -56,15 +56,12 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
   const status = statuses.length ? worst(...statuses) : 'pass';
   const primaries = ctx.primaryTargets.filter((t) => t.target.kind !== 'column');
   if (primaries.length === 0) return skipped('support.target', 'only column targets were given; their support is covered by weights.ess', ['support.target.warn', 'support.target.fail']);
-  const summary = primaries.map((t) => `${t.target.name}: ${pct(t.supportDeficit, 2)} of its mass is unsupported`).join('; ') + ` (warn above ${pct(warnAt)}, fail above ${pct(failAt)}).` + notListedNote(notListed, MAX_FINDINGS_PER_TARGET, 'places per target, largest mass first');
-  return result('support.target', status, summary, { ...metrics, ...(notListed ? { findings_not_listed: notListed } : {}) }, findings, ['support.target.warn', 'support.target.fail']);
+  const left = notListed(leftOut, MAX_FINDINGS_PER_TARGET, 'places per target, largest mass first');
+  const summary = primaries.map((t) => `${t.target.name}: ${pct(t.supportDeficit, 2)} of its mass is unsupported`).join('; ') + ` (warn above ${pct(warnAt)}, fail above ${pct(failAt)}).` + left.note;
+  return result('support.target', status, summary, { ...metrics, ...left.metrics }, findings, ['support.target.warn', 'support.target.fail']);
 }
 
-export const supportTarget: CheckDefinition<'support.target'> = defineCheck({
-  id: 'support.target',
-  title: 'Support for each target',
-  blocking: true,
-  panel: 'weights',
+export const supportTarget: CheckDefinition<'support.target'> = defineCheck('support.target', {
+  title: 'Support for each target', blocking: true, panel: 'weights', remedies: ['restricted', 'plan'],
   settings: ['support.target.warn', 'support.target.fail'],
-  run: checkSupportTarget,
-});
+}, checkSupportTarget);

@@ -48,14 +48,10 @@ function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
   );
 }
 
-export const timeCoverage: CheckDefinition<'time.coverage'> = defineCheck({
-  id: 'time.coverage',
-  title: 'Time coverage',
-  blocking: false,
-  panel: 'drift',
+export const timeCoverage: CheckDefinition<'time.coverage'> = defineCheck('time.coverage', {
+  title: 'Time coverage', blocking: false, panel: 'drift', remedies: ['plan'],
   settings: ['time.bucket', 'time.max_buckets'],
-  run: checkTimeCoverage,
-});
+}, checkTimeCoverage);
 
 /** A bucket width in words: "1 day", "6 hours", "90 seconds" (the largest whole unit). */
 export function durationWords(us: number): string {

@@ -81,11 +81,7 @@ function checkEss(ctx: AuditContext): ReturnType<typeof result> {
   return result('weights.ess', status, summary, metrics, findings, ['weights.ess.warn_fraction', 'weights.ess.fail_min'], series);
 }
 
-export const weightsEss: CheckDefinition<'weights.ess'> = defineCheck({
-  id: 'weights.ess',
-  title: 'Effective sample size',
-  blocking: true,
-  panel: 'weights',
+export const weightsEss: CheckDefinition<'weights.ess'> = defineCheck('weights.ess', {
+  title: 'Effective sample size', blocking: true, panel: 'weights', remedies: ['caps', 'plan'],
   settings: ['weights.ess.warn_fraction', 'weights.ess.fail_min'],
-  run: checkEss,
-});
+}, checkEss);

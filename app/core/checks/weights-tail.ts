@@ -63,11 +63,7 @@ function checkTail(ctx: AuditContext): ReturnType<typeof result> {
   return result('weights.tail', status, summary, metrics, findings, ['weights.tail.warn_khat']);
 }
 
-export const weightsTail: CheckDefinition<'weights.tail'> = defineCheck({
-  id: 'weights.tail',
-  title: 'Weight tail (PSIS k̂)',
-  blocking: true,
-  panel: 'weights',
+export const weightsTail: CheckDefinition<'weights.tail'> = defineCheck('weights.tail', {
+  title: 'Weight tail (PSIS k̂)', blocking: true, panel: 'weights', remedies: ['caps', 'plan'],
   settings: ['weights.tail.warn_khat'],
-  run: checkTail,
-});
+}, checkTail);

@@ -12,11 +12,12 @@ import type { Estimate } from '../stats/estimators.ts';
 import type { ClippedEstimate } from '../stats/clipped-ips.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
 import { capsFor, type ClipRow } from './caps.ts';
-import { REMEDIES_FOR } from './links.ts';
+import { REMEDIES_FOR } from '../checks/registry.ts';
 import { planInputs, planNextLog, type PlanRow } from './plan.ts';
 import { notCovered, restrictedEstimate, supportedRegion } from './region.ts';
 
-export { REMEDIES_FOR, REMEDY_KINDS, REMEDY_TITLES, type RemedyKind } from './links.ts';
+export { REMEDIES_FOR } from '../checks/registry.ts';
+export { REMEDY_KINDS, REMEDY_TITLES, type RemedyKind } from './links.ts';
 export { supportedRegion, restrictedEstimate, notCovered, type SupportedRegion, type RestrictedEstimate, type ExcludedCell } from './region.ts';
 export { capsFor, capGrid, canonicalRows, fullSums, type CapsInput, type CapsResult, type ClipRow } from './caps.ts';
 export { planInputs, planNextLog, type Plan, type PlanInputs, type PlanOptions, type PlanRow } from './plan.ts';

@@ -231,5 +231,26 @@ describe('balance.weights', () => {
       expect(run(rows, { targets: [{ spec: target }] }).status).toBe(status);
     });
   });
-});
 
+  it('a capped list says what it leaves out: 30 independent groups, 25 listed, findings_not_listed = 5', () => {
+    // 10 segments log a 500 of 1000 times at p = 0.25 (B = 2000/1000 = 2), 20 log it 250 times at p = 0.5 (B = 500/1000 = 0.5),
+    // b balances in each (B = 1); overall a is 30000/30000 = 1, so no wider test explains the segments away.
+    // By hand for a B = 2 segment: sum (X - B)^2 = 500*4 + 500*4 = 4000, SE = sqrt(4000/999/1000) = 0.0633, z = 15.8.
+    const rows: Rows[] = Array.from({ length: 30 }, (_, i): Rows[] =>
+      i % 3 === 0
+        ? [{ segment: [`s${i}`], action: 'a', p: 0.25, count: 500 }, { segment: [`s${i}`], action: 'b', p: 0.5, count: 500 }]
+        : [{ segment: [`s${i}`], action: 'a', p: 0.5, count: 250 }, { segment: [`s${i}`], action: 'b', p: 0.75, count: 750 }],
+    ).flat();
+    const r = run(rows);
+    expect(r.metrics.groups).toBe(30);
+    expect(r.findings.filter((f) => f.status === 'fail')).toHaveLength(25);
+    expect(r.metrics.findings_not_listed).toBe(5);
+    expect(r.summary).toContain('The findings list the first 25 explaining groups; 5 more are not listed.');
+    expect(r.findings.find((f) => f.segment.s0 === 's0')?.metrics.z as number).toBeCloseTo(1 / Math.sqrt(4000 / 999 / 1000), 6);
+    // as many groups as the cap: nothing left out, no metric and no sentence
+    const fewer = run(rows.filter((x) => !['s1', 's2', 's4', 's5', 's7'].includes(x.segment![0]!)));
+    expect(fewer.metrics.groups).toBe(25);
+    expect(fewer.metrics.findings_not_listed).toBeUndefined();
+    expect(fewer.summary).not.toContain('not listed');
+  });
+});

@@ -1,7 +1,8 @@
 /** The check registry is the one list of checks: the schema's enum, the verdict's blocking set and the audit order follow it. */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { BLOCKING, CHECKS, CHECK_IDS, checksOnPanel } from '../../../app/core/checks/registry.ts';
+import { BLOCKING, CHECKS, CHECK_IDS, REMEDIES_FOR, checksOnPanel } from '../../../app/core/checks/registry.ts';
+import { REMEDY_KINDS } from '../../../app/core/remedies/links.ts';
 import { runChecks } from '../../../app/core/audit.ts';
 import { verdictOf } from '../../../app/core/verdict.ts';
 import { SETTINGS } from '../../../app/core/settings.ts';
@@ -18,6 +19,15 @@ describe('check registry', () => {
   it('ids are unique and every setting a check declares exists', () => {
     expect(new Set(CHECK_IDS).size).toBe(CHECKS.length);
     for (const c of CHECKS) for (const s of c.settings) expect(Object.keys(SETTINGS)).toContain(s);
+  });
+
+  it('every check declares at least one known remedy, and REMEDIES_FOR is read from the definitions', () => {
+    expect(Object.keys(REMEDIES_FOR)).toEqual([...CHECK_IDS]);
+    for (const c of CHECKS) {
+      expect(c.remedies.length).toBeGreaterThan(0);
+      for (const k of c.remedies) expect(REMEDY_KINDS).toContain(k);
+      expect(REMEDIES_FOR[c.id]).toEqual(c.remedies);
+    }
   });
 
   it('every check belongs to one panel and the panels cover every check', () => {
