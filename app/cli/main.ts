@@ -9,6 +9,7 @@ import { compareSpec, runCompare } from './commands/compare.ts';
 import { historySpec, runHistory } from './commands/history.ts';
 import { inspectSpec, runInspect } from './commands/inspect.ts';
 import { keygenSpec, runKeygen } from './commands/keygen.ts';
+import { planSpec, runPlan } from './commands/plan.ts';
 import { renderSpec, runRender } from './commands/render.ts';
 import { rolesSpec, runRoles } from './commands/roles.ts';
 import { runSchema, schemaSpec } from './commands/schema.ts';
@@ -25,6 +26,7 @@ const COMMANDS: Command[] = [
   { spec: compareSpec, run: runCompare },
   { spec: historySpec, run: runHistory },
   { spec: inspectSpec, run: runInspect },
+  { spec: planSpec, run: runPlan },
   { spec: rolesSpec, run: runRoles },
   { spec: schemaSpec, run: (a, io) => runSchema(io, a) },
   { spec: signSpec, run: runSign },

@@ -1,6 +1,8 @@
+import { createHash } from 'node:crypto';
 import { renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import type { Report, Verdict } from '../../core/model/report.ts';
+import type { InputFile, Report, Verdict } from '../../core/model/report.ts';
+import type { Dialect } from '../../core/sql/dialect.ts';
 import type { Engine } from '../../engine/types.ts';
 import { fingerprintFiles } from '../../report/fingerprint.ts';
 import { serializeReport } from '../../report/json.ts';
@@ -36,6 +38,9 @@ export const auditSpec: CommandSpec = {
     settings: { kind: 'string', value: 'FILE', help: 'thresholds from a .json or .yaml file of setting: value pairs' },
     engine: ENGINE_FLAG,
     ...MEMORY_FLAGS,
+    cube: { kind: 'string', value: 'FILE', help: "audit from the results of an exported plan (counterweight plan): FILE is the cube statement's result; the others (describe, profile-first-rows, profile, tails, duplicates) are read beside it" },
+    tails: { kind: 'string', value: 'FILE', help: 'with --cube: the tails statement\'s result, when it is not beside the cube as tails.<ext>' },
+    dialect: { kind: 'string', value: 'duckdb|clickhouse', choices: ['duckdb', 'clickhouse'], help: 'with --cube: the dialect the plan was printed in (default duckdb)' },
     where: { kind: 'string', value: 'CONDITION', help: 'with clickhouse://HOST:PORT/DB.TABLE: audit only the rows where this ClickHouse SQL condition holds (e.g. a date range)' },
     json: { kind: 'string', value: 'FILE|-', help: 'write the JSON report to FILE, or to stdout with -' },
     html: { kind: 'string', value: 'FILE', help: 'write the self-contained HTML report' },
@@ -81,7 +86,10 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const addParts = listFlag(flags, 'add-part');
   if (addParts.length && !partsDir) throw new UsageError('--add-part needs --parts DIR, the folder that keeps the parts read so far');
   if (partsDir && positionals.length) throw new UsageError(`with --parts, give new parts with --add-part FILE, not as sources (got ${positionals.join(' ')})`);
-  if (!partsDir && positionals.length === 0) throw new UsageError("'audit' needs a source (usage: counterweight audit <source...> [options]), or --parts DIR");
+  const cubeFile = stringFlag(flags, 'cube');
+  if (!cubeFile && (flags.tails !== undefined || flags.dialect !== undefined)) throw new UsageError('--tails and --dialect go with --cube FILE');
+  if (cubeFile && (partsDir || positionals.length)) throw new UsageError('--cube audits from an exported plan\'s results: give no sources and no --parts');
+  if (!partsDir && !cubeFile && positionals.length === 0) throw new UsageError("'audit' needs a source (usage: counterweight audit <source...> [options]), or --parts DIR");
   const core = await loadAuditCore();
 
   let engine: Engine | undefined;
@@ -94,12 +102,25 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
     if (signal?.aborted) throw new InterruptedError();
   };
   try {
+    if (cubeFile) {
+      progress.stage('reading the plan\'s results');
+      const tails = stringFlag(flags, 'tails');
+      const cube = path.resolve(io.cwd, cubeFile);
+      const { auditFromResults } = await import('../plan-files.ts');
+      const { report, columns, files } = await auditFromResults(core, { cube, ...(tails ? { tails: path.resolve(io.cwd, tails) } : {}), dialect: stringFlag(flags, 'dialect') ?? 'duckdb', roles, targets, ...(settings ? { settings } : {}), cwd: io.cwd, peakRssMb });
+      guardOutputs([jsonOut, htmlOut, planOut], files, io.cwd);
+      progress.stop();
+      return await finish(report, files.join(', '), columns);
+    }
     if (partsDir) {
       const dir = path.resolve(io.cwd, partsDir);
-      guardOutputs([jsonOut, htmlOut, planOut], addParts, io.cwd);
+      guardOutputs([jsonOut, htmlOut, planOut], addParts.filter((p) => !isClickHouseAddress(p)), io.cwd);
+      const partWhere = stringFlag(flags, 'where');
+      if (partWhere !== undefined && !addParts.some(isClickHouseAddress)) throw new UsageError('--where filters a table in a server: with --parts, give the part as --add-part clickhouse://HOST:PORT/DB.TABLE --where COND (one day, say)');
+      if (partWhere !== undefined && addParts.length > 1) throw new UsageError('--where picks one part of a ClickHouse table: add one part at a time');
       for (const part of addParts) {
         progress.stage(`reading the part ${part}`);
-        await addPart(dir, part, { roles, targets, settings, engineChoice, memory, cwd: io.cwd, signal });
+        await addPart(dir, part, { roles, targets, settings, engineChoice, memory, cwd: io.cwd, signal, where: partWhere, env: io.env });
         stopIfInterrupted();
       }
       const state = readState(dir);
@@ -178,18 +199,37 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
  * Reads one part into the parts folder: only this part is scanned. The first part fixes the roles (given,
  * or suggested from it and then kept as given), targets and settings every later part is read with.
  */
-async function addPart(dir: string, part: string, o: { roles: RoleOverrides; targets: readonly TargetInput[]; settings: Readonly<Record<string, number | string | boolean>> | undefined; engineChoice: ReturnType<typeof engineChoiceOf>; memory: ReturnType<typeof memoryFlags>; cwd: string; signal: AbortSignal | undefined }): Promise<void> {
-  const engine = await openEngine(o.engineChoice, o.memory);
+async function addPart(dir: string, part: string, o: { roles: RoleOverrides; targets: readonly TargetInput[]; settings: Readonly<Record<string, number | string | boolean>> | undefined; engineChoice: ReturnType<typeof engineChoiceOf>; memory: ReturnType<typeof memoryFlags>; cwd: string; signal: AbortSignal | undefined; where: string | undefined; env: CliIo['env'] }): Promise<void> {
+  const table = isClickHouseAddress(part);
+  let engine: Engine;
+  let source: { relation: string; format: string } = { relation: '', format: '' };
+  let file: InputFile | undefined;
+  let dialect: Dialect | undefined;
+  if (table) {
+    const { openClickHouseTable } = await import('../warehouse.ts');
+    const opened = await openClickHouseTable(part, o.where, o.env);
+    ({ engine, dialect } = opened);
+    source = { relation: opened.relation, format: 'clickhouse' };
+    // a table part is named by its address and filter (the name is the part's file name in DIR: no '/' in it)
+    const address = `${part}${o.where ? `?where=${encodeURIComponent(o.where.trim())}` : ''}`;
+    file = { path: address, bytes: 0, sha256: createHash('sha256').update(`${opened.table?.server ?? ''}\n${address}`).digest('hex') };
+  } else {
+    engine = await openEngine(o.engineChoice, o.memory);
+  }
   try {
-    const source = await registerSources(engine, [part], o.cwd);
-    const [file] = await fingerprintFiles(source.files, o.cwd);
-    if (!file || source.files.length !== 1) throw new UsageError(`--add-part takes one file per part, got ${source.files.length} for ${part}`);
+    if (!table) {
+      const registered = await registerSources(engine, [part], o.cwd);
+      source = registered;
+      [file] = await fingerprintFiles(registered.files, o.cwd);
+      if (!file || registered.files.length !== 1) throw new UsageError(`--add-part takes one file per part, got ${registered.files.length} for ${part}`);
+    }
+    if (!file) throw new UsageError(`cannot read the part ${part}`);
     const run = (sql: string) => engine.query(sql, o.signal ? { signal: o.signal } : {});
     let state = stateFor(dir, { roles: o.roles, targets: o.targets, settings: o.settings, format: source.format });
     if (state.parts.length === 0) {
       const { inspectRoles } = await import('../../core/audit.ts');
       const { resolveRoles, SINGLE_ROLES } = await import('../../core/roles/roles.ts');
-      const inspected = await inspectRoles(run, source.relation);
+      const inspected = await inspectRoles(run, source.relation, dialect);
       const resolved = resolveRoles(inspected.profile, o.roles, inspected.evidence);
       const kept: Record<string, string | null | readonly string[]> = { segments: resolved.segments };
       // a role the first part lacks stays unset (as in an audit of the whole log), so its reason reads the same
@@ -197,7 +237,7 @@ async function addPart(dir: string, part: string, o: { roles: RoleOverrides; tar
       state = { ...state, roles: kept as RoleOverrides };
     }
     const { scanPart } = await import('../../core/parts/scan.ts');
-    storePart(dir, state, file, await scanPart(run, source.relation, state.roles, state.settings, rangeSoFar(state)));
+    storePart(dir, state, file, await scanPart(run, source.relation, state.roles, state.settings, rangeSoFar(state), dialect));
   } finally {
     await engine.close();
   }

@@ -6,6 +6,7 @@ import { z } from 'zod';
 import { COMPARISON_SCHEMA_ID, ComparisonSchema } from '../compare/contract.ts';
 import { HISTORY_SCHEMA_ID, HistorySchema } from '../compare/history.ts';
 import { REPORT_SCHEMA_ID, ReportSchema } from './report.ts';
+import { cubeJsonSchema } from '../plan/cube-schema.ts';
 
 export interface JsonSchemaHeader {
   readonly id: string;
@@ -55,4 +56,5 @@ export const GENERATED_SCHEMAS: readonly { readonly file: string; readonly schem
   { file: 'report.schema.json', schema: reportJsonSchema },
   { file: 'comparison.schema.json', schema: comparisonJsonSchema },
   { file: 'history.schema.json', schema: historyJsonSchema },
+  { file: 'cube.schema.json', schema: cubeJsonSchema },
 ];

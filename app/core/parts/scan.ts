@@ -3,7 +3,7 @@
  * its cube uncapped, in buckets of `storageWidth` from the epoch, its weight groups, and its decision ids grouped exactly with their
  * 64-bit hashes. Four statements over the part (the profile may take two), none over any other part.
  */
-import { cubeSql, groupsByPropensity, parseCube, rewardShift } from '../scan/cube.ts';
+import { cubePreludeSql, cubeSql, groupsByPropensity, parseCube, rewardShift } from '../scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, validPropensity, finiteReward } from '../scan/expressions.ts';
 import { profileLog, type Profile } from '../scan/profile.ts';
 import type { QueryRecord } from '../model/report.ts';
@@ -15,13 +15,13 @@ import type { RunQuery, Table } from '../table.ts';
 import { HOUR_US, PartsError, type PartCube, type WeightGroups } from './merge.ts';
 
 /** Rows grouped by segment values, action, valid propensity and finite reward (or null), with their count. */
-export function weightGroupsSql(relation: string, segments: readonly string[], action: string, propensity: string, reward: string): string {
+export function weightGroupsSql(relation: string, segments: readonly string[], action: string, propensity: string, reward: string, dialect: Dialect = duckdb): string {
   const seg = segments.map((e, i) => `${e} AS s${i}`);
   const keys = [...segments.map((_, i) => `s${i}`), 'a', 'p', 'r'];
   return [
-    `SELECT ${keys.join(', ')}, count(*)::DOUBLE AS c FROM (`,
-    `  SELECT *, CASE WHEN ${finiteReward('r0')} THEN r0 END AS r FROM (SELECT ${[...seg, `${action} AS a`, `${propensity} AS p`, `${reward} AS r0`].join(', ')} FROM ${relation}) AS src`,
-    `  WHERE ${validPropensity('p')}`,
+    `SELECT ${keys.join(', ')}, ${dialect.toDouble('count(*)')} AS c FROM (`,
+    `  SELECT *, CASE WHEN ${finiteReward('r0', dialect)} THEN r0 END AS r FROM (SELECT ${[...seg, `${action} AS a`, `${propensity} AS p`, `${reward} AS r0`].join(', ')} FROM ${relation}) AS src`,
+    `  WHERE ${validPropensity('p', dialect)}`,
     `) AS rows GROUP BY ${keys.join(', ')} ORDER BY ${keys.join(', ')}`,
   ].join('\n');
 }
@@ -30,7 +30,7 @@ export function weightGroupsSql(relation: string, segments: readonly string[], a
 export function idGroupsSql(relation: string, idColumn: string, dialect: Dialect = duckdb): string {
   const id = dialect.ident(idColumn);
   const text = dialect.toText(id);
-  return `SELECT ${dialect.hash64('id')} AS h, id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL) GROUP BY id ORDER BY h, id`;
+  return `SELECT ${dialect.hash64('id')} AS h, id, ${dialect.toDouble('count(*)')} AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL) GROUP BY id ORDER BY h, id`;
 }
 
 export interface PartIdGroups {
@@ -67,25 +67,35 @@ export function storageWidth(earlier: TimeRange | null, range: TimeRange | null,
 
 const col = (t: Table, name: string) => t.columns[t.names.indexOf(name)] as readonly unknown[];
 
-/** Reads one part with the roles of the whole log (every role given, as the parts' state records them). */
-export async function scanPart(run: RunQuery, relation: string, overrides: RoleOverrides, settingsIn: Readonly<Record<string, number | string | boolean>> | undefined, earlier: TimeRange | null = null): Promise<PartScan> {
+/**
+ * Reads one part with the roles of the whole log (every role given, as the parts' state records them), in the
+ * dialect of the engine `run` speaks (a ClickHouse table filtered to one day, say). Id hashes differ between
+ * dialects, so the parts of one folder are all read by one kind of engine.
+ */
+export async function scanPart(run: RunQuery, relation: string, overrides: RoleOverrides, settingsIn: Readonly<Record<string, number | string | boolean>> | undefined, earlier: TimeRange | null = null, d: Dialect = duckdb): Promise<PartScan> {
   const queries: QueryRecord[] = [];
   const record = (name: string, sql: string, scans: boolean) => {
     queries.push({ name, sql, scans_source: scans });
     return sql;
   };
   const settings = resolveSettings(settingsIn);
-  const profile = await profileLog(run, relation, record);
+  const profile = await profileLog(run, relation, record, d);
   const roles = resolveRoles(profile, overrides);
   if (!roles.action || !roles.propensity || !roles.reward) throw new PartsError('a part needs the action, propensity and reward roles');
   if (roles.target_propensity) throw new PartsError('an audit merged from parts does not read a target_propensity column (its sums are row-level)');
   const range = timeRangeUs(roles, profile);
   const width = roles.time ? storageWidth(earlier, range, settings['time.bucket'], settings['time.max_buckets']) : null;
-  const rows = rowExpressions(roles, profile, width === null ? null : { originUs: 0, widthUs: width, count: 1, label: '' });
+  const rows = rowExpressions(roles, profile, width === null ? null : { originUs: 0, widthUs: width, count: 1, label: '' }, d);
   const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
   const byPropensity = groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity));
-  const cells = profile.rows === 0 ? [] : parseCube(await run(record('cube', cubeSql({ relation, rows, capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows }), true)), rows.segments.length);
-  const g = await run(record('weight groups', weightGroupsSql(relation, rows.segments, rows.action, rows.propensity, rows.reward), true));
+  const spec = { relation, rows, capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
+  let cells: ReturnType<typeof parseCube> = [];
+  if (profile.rows > 0) {
+    const preludeSql = cubePreludeSql(spec);
+    const prelude = preludeSql ? await run(record('cube scales', preludeSql, true)) : null;
+    cells = parseCube(await run(record('cube', cubeSql(spec, prelude), true)), rows.segments.length);
+  }
+  const g = await run(record('weight groups', weightGroupsSql(relation, rows.segments, rows.action, rows.propensity, rows.reward, d), true));
   const groups: WeightGroups = {
     segments: rows.segments.map((_, i) => col(g, `s${i}`).map(String)),
     action: col(g, 'a').map(String),
@@ -95,7 +105,7 @@ export async function scanPart(run: RunQuery, relation: string, overrides: RoleO
   };
   let ids: PartIdGroups | null = null;
   if (roles.decision_id) {
-    const t = await run(record('decision ids', idGroupsSql(relation, roles.decision_id), true));
+    const t = await run(record('decision ids', idGroupsSql(relation, roles.decision_id, d), true));
     ids = { hashes: col(t, 'h').map((v) => BigInt(v as bigint)), ids: col(t, 'id').map(String), rows: col(t, 'c').map(Number) };
   }
   return { profile, cube: { cells, shift: reward?.shift ?? 0, bucketUs: width ?? HOUR_US }, groups, ids, queries, timeRange: range };
