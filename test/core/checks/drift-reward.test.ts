@@ -40,3 +40,36 @@ describe('drift.reward', () => {
     expect(r.findings.filter((x) => x.segment.s0 === 'y')).toEqual([]);
   });
 });
+
+/**
+ * Benjamini–Hochberg, not raw p ≤ q: 20 segments logging one action (p = 1) over 2 days, 100 rows a day.
+ * Segment x0 rewards 20 of 100 on day 0 and 33 of 100 on day 1: raw p = 0.03726 (scipy 1.17:
+ * scipy.stats.chi2_contingency([[20, 80], [33, 67]], correction=False).pvalue = 0.03726325708596981), below
+ * q = 0.05. The other 19 reward 25 of 100 both days (p = 1), and the whole log's test is far from significant,
+ * so among the 21 tests (the whole log and each segment, action a) BH adjusts x0's p to 21 · 0.03726 = 0.7825
+ * (Benjamini & Hochberg 1995: min over j ≥ rank of p₍ⱼ₎ · m / j).
+ */
+function oneOfTwenty(): Rows[] {
+  const rows: Rows[] = [];
+  for (let s = 0; s < 20; s++) for (const [day, ones] of [[0, s === 0 ? 20 : 25], [1, s === 0 ? 33 : 25]] as const) {
+    rows.push({ segment: [`x${s}`], action: 'a', bucket: day, p: 1, r: 1, count: ones }, { segment: [`x${s}`], action: 'a', bucket: day, p: 1, r: 0, count: 100 - ones });
+  }
+  return rows;
+}
+
+describe('drift.reward adjusts for the number of tests (Benjamini–Hochberg)', () => {
+  it('one segment of 20 with raw p = 0.037 < q = 0.05 is within chance once adjusted: a pass', () => {
+    const r = driftReward.run(contextOf(oneOfTwenty(), { days: 2 }));
+    expect(r.metrics.tests).toBe(21);
+    expect(r.status).toBe('pass');
+    expect(r.findings.filter((f) => f.status !== 'pass')).toEqual([]);
+  });
+
+  it('the same deviation is flagged once q is above its adjusted p, which is 21 × scipy\'s raw p', () => {
+    const r = driftReward.run(contextOf(oneOfTwenty(), { days: 2, settings: { 'drift.reward.q': 0.9 } }));
+    expect(r.status).toBe('warn');
+    const f = r.findings.filter((x) => x.status !== 'pass');
+    expect(f.map((x) => x.segment.s0)).toEqual(['x0']);
+    expect(f[0]?.metrics.p_adjusted as number).toBeCloseTo(21 * 0.03726325708596981, 9);
+  });
+});
