@@ -1,49 +1,70 @@
-/** A one-line progress display on stderr: stage name, elapsed time, rows scanned when the engine knows. */
+/**
+ * A one-line progress display on stderr: the step in words and, while the audit runs, stage k of n, the
+ * share of the log the running pass has read, the share of the audit done and the time left
+ * (app/core/progress.ts), then the elapsed time.
+ */
+import { ProgressTracker, progressWords, type AuditProgressEvent } from '../core/progress.ts';
 import type { OutStream } from './io.ts';
-
-export interface RowProgress {
-  rowsProcessed: number;
-  totalRows: number;
-}
 
 const FRAMES = ['⠋', '⠙', '⠹', '⠸', '⠼', '⠴', '⠦', '⠧', '⠇', '⠏'];
 
 export class ProgressLine {
   private stageName = '';
-  private readonly started = Date.now();
+  private readonly started: number;
   private timer: ReturnType<typeof setInterval> | undefined;
   private frame = 0;
-  private lastRows: RowProgress | undefined;
+  private tracker: ProgressTracker | undefined;
 
   constructor(
     private readonly stream: OutStream,
     private readonly enabled: boolean,
-    private readonly rows?: () => RowProgress | undefined,
-  ) {}
+    /** The engine's query progress, 0…100, or null when it cannot tell. */
+    private readonly percentage?: () => number | null | undefined,
+    private readonly now: () => number = Date.now,
+  ) {
+    this.started = now();
+  }
 
+  /** A step before or after the audit proper (opening the log, fingerprinting). */
   stage(name: string): void {
     this.stageName = name;
+    this.start();
+  }
+
+  /** What the audit says (a stage or pass starts, a stage ends). */
+  audit(event: AuditProgressEvent, name: string): void {
+    this.tracker ??= new ProgressTracker(this.now());
+    this.tracker.event(event, this.now());
+    if (!event.done) this.stageName = name;
+    this.start();
+  }
+
+  private start(): void {
     if (!this.enabled) return;
     this.timer ??= setInterval(() => this.draw(), 120);
     this.timer.unref?.();
     this.draw();
   }
 
+  /** The text drawn now (without the spinner). */
+  line(): string {
+    const seconds = ((this.now() - this.started) / 1000).toFixed(1);
+    let detail = '';
+    if (this.tracker) {
+      let pct: number | null | undefined = null;
+      try {
+        pct = this.percentage?.();
+      } catch {
+        // progress is best-effort; a failing probe never stops the audit
+      }
+      detail = ` · ${progressWords(this.tracker.sample(pct, this.now()))}`;
+    }
+    return `${this.stageName}${detail} · ${seconds} s`;
+  }
+
   private draw(): void {
-    const seconds = ((Date.now() - this.started) / 1000).toFixed(1);
-    let rows = '';
-    try {
-      const r = this.rows?.();
-      if (r && r.rowsProcessed > 0) this.lastRows = r;
-    } catch {
-      // progress is best-effort; a failing probe never stops the audit
-    }
-    if (this.lastRows) {
-      const { rowsProcessed, totalRows } = this.lastRows;
-      rows = totalRows > 0 ? ` · ${rowsProcessed.toLocaleString('en-US')} of ${totalRows.toLocaleString('en-US')} rows scanned` : ` · ${rowsProcessed.toLocaleString('en-US')} rows scanned`;
-    }
     this.frame = (this.frame + 1) % FRAMES.length;
-    this.stream.write(`\r\x1b[K${FRAMES[this.frame]} ${this.stageName}${rows} · ${seconds} s`);
+    this.stream.write(`\r\x1b[K${FRAMES[this.frame]} ${this.line()}`);
   }
 
   stop(): void {

@@ -26,13 +26,14 @@ import type { Cell, RunQuery, Table } from './table.ts';
 import { analyseTarget, cubeView, type CubeView, type TargetAnalysis } from './targets/analysis.ts';
 import { checkTargetActions, resolveTargets, parseTarget, type TargetInput, type TargetPolicy } from './targets/targets.ts';
 import { psisTailLength } from './stats/psis.ts';
+import { passOf, type AuditProgressEvent, type AuditStage, type PassKind, type StagePlan } from './progress.ts';
 import { verdictOf, readiness } from './verdict.ts';
 import { TOOL_VERSION } from './version.ts';
 
 export type { TargetInput } from './targets/targets.ts';
 export type { RoleSuggestion } from './roles/roles.ts';
 
-export type AuditStage = 'profile' | 'cube' | 'tails' | 'checks';
+export type { AuditStage } from './progress.ts';
 
 export interface AuditRequest {
   /** quoted relation name of the registered source */
@@ -47,7 +48,8 @@ export interface AuditRequest {
   readonly roles?: RoleOverrides;
   readonly targets?: readonly TargetInput[];
   readonly settings?: Readonly<Record<string, number | string | boolean>>;
-  readonly onProgress?: (p: { stage: AuditStage; done?: boolean }) => void;
+  /** Stage starts (with the passes it plans), pass starts and stage ends (progress.ts turns them into shares). */
+  readonly onProgress?: (p: AuditProgressEvent) => void;
   readonly engine: string;
   /** anything with `aborted` (an AbortSignal); checked between stages */
   readonly signal?: { readonly aborted: boolean };
@@ -153,14 +155,19 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const now = request.now ?? Date.now;
   const started = now();
   const queries: QueryRecord[] = [];
+  let stageNow: AuditStage = 'profile';
   const record = (name: string, sql: string, scans: boolean) => {
     queries.push({ name, sql, scans_source: scans });
+    if (scans) request.onProgress?.({ stage: stageNow, pass: passOf(name) });
     return sql;
   };
   const guard = () => {
     if (request.signal?.aborted) throw new AuditCancelled();
   };
-  const progress = (stage: AuditStage, done = false) => request.onProgress?.({ stage, ...(done ? { done } : {}) });
+  const progress = (stage: AuditStage, done = false, plan?: StagePlan, cells?: number) => {
+    if (!done) stageNow = stage;
+    request.onProgress?.({ stage, ...(done ? { done } : {}), ...(plan ? { plan } : {}), ...(cells === undefined ? {} : { cells }) });
+  };
   const settings = resolveSettings(request.settings);
   const { relation, scans } = request;
   if (scans && !request.inspection) throw new Error('an audit from given scans needs the inspection (the profile) too');
@@ -168,8 +175,8 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   if (request.scanSql) queries.push({ name: 'source', sql: `CREATE VIEW ${relation} AS ${request.scanSql}`, scans_source: false });
 
   guard();
-  progress('profile');
   const inspected = request.inspection;
+  progress('profile', false, { passes: inspected ? [] : needsEvidence(request.roles) ? ['profile-first', 'profile', 'evidence'] : ['profile-first', 'profile'] });
   if (inspected) queries.push(...inspected.queries.profile);
   const profile = inspected ? inspected.profile : await profileLog(run, relation, record, d);
   if (profile.rows === 0) throw new EmptyLogError(request.input.files, profile);
@@ -210,7 +217,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   let targets: TargetAnalysis[] = [];
   guard();
   if (rowsExpr) {
-    progress('cube');
+    progress('cube', false, { passes: scans ? [] : d.name === 'clickhouse' ? ['scales', 'cube'] : ['cube'] });
     const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
     let cappedDistinct: Map<number, number>;
     if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, shift: reward?.shift ?? 0 }));
@@ -226,16 +233,19 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       const c = segmentColumns[i] as string;
       caps[c] = { distinct, kept: cap };
     }
-    progress('cube', true);
+    progress('cube', true, undefined, cells.length);
   }
   const view = cubeView(cells, segmentColumns);
   if (rowsExpr) checkTargetActions(explicit, view.actions);
   guard();
-  progress('tails');
-  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5, d), true)));
   if (rowsExpr) {
     const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
     targets = policies.map((p) => analyseTarget(p, view));
+  }
+  const tailPasses: PassKind[] = scans ? [] : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
+  progress('tails', false, { passes: tailPasses });
+  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5, d), true)));
+  if (rowsExpr) {
     for (const t of targets) {
       guard();
       if (t.n < 2) continue;
@@ -259,7 +269,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   }
   progress('tails', true);
   guard();
-  progress('checks');
+  progress('checks', false, { passes: scans || settings['examples.per_finding'] === 0 ? [] : ['examples'], cells: cells.length });
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
   const drafts = runChecks(ctx);
   const checks = await attachExamples(run, record, relation, view, drafts, scans ? 0 : settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile, d), request.input.format === 'parquet', d);

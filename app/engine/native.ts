@@ -66,8 +66,8 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     const db = await DuckDBInstance.create(':memory:', config);
     const conn = await db.connect();
     try {
-      // No query progress is read (the host sends none), and nothing may print to the terminal.
-      await conn.run('SET enable_progress_bar = false');
+      // Query progress is tracked for the progress line and the host's progress messages; nothing prints to the terminal.
+      await conn.run('SET enable_progress_bar = true; SET enable_progress_bar_print = false; SET progress_bar_time = 100');
       if (restricted) await conn.run(lockDownSql(files));
       for (const [relation, scanSql] of views) await conn.run(createViewSql(relation, scanSql));
     } catch (error) {
@@ -205,6 +205,11 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       if (running && !closed) connection.interrupt();
     },
     get sourceScans() { return scans; },
+    queryProgress() {
+      if (!running || closed) return null;
+      const p = connection.progress.percentage;
+      return Number.isFinite(p) && p >= 0 ? p : null;
+    },
     async close() {
       if (closed) return;
       if (running) connection.interrupt();

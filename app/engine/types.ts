@@ -34,6 +34,8 @@ export interface Engine {
   cancel(): Promise<void>;
   /** How many queries so far read a registered source (scans of the log), for the scan budget test. */
   readonly sourceScans: number;
+  /** The running query's share of its input read, 0…100 (DuckDB's query progress); null when nothing runs or the engine cannot tell. */
+  queryProgress?(): number | null;
   close(): Promise<void>;
 }
 

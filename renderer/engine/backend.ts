@@ -1,4 +1,5 @@
 import type { Report } from '../../app/core/model/report.ts';
+import type { ProgressPoint } from '../../app/core/progress.ts';
 import type { DrillRoles, DrillSelection, PageRequest } from '../../app/core/scan/drill.ts';
 import type { Table } from '../../app/core/table.ts';
 import type { AuditDraft } from '../state/draft.ts';
@@ -7,6 +8,8 @@ import type { AuditWorkspace, OpenedSource, Stage } from './status.ts';
 export interface Progress {
   readonly stage: Stage;
   readonly done?: boolean;
+  /** Where the audit is: stage k of n, share of the log read by the running pass, share done, time left. */
+  readonly point?: ProgressPoint;
 }
 
 /**

@@ -1,5 +1,6 @@
 import { inspectRoles, runAuditDetailed, type AuditRequest, type RoleInspection } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
+import { ProgressTracker, type AuditProgressEvent } from '../../app/core/progress.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
 import type { RunQuery } from '../../app/core/table.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
@@ -108,11 +109,20 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
       tables?.catch(() => undefined);
       const onAbort = () => { void engine.cancel(); };
       signal.addEventListener('abort', onAbort, { once: true });
+      // Where the audit is (app/core/progress.ts), from the audit's own events and the engine's query progress when it tells.
+      const tracker = new ProgressTracker(Date.now());
+      let stage: AuditProgressEvent['stage'] = 'profile';
+      const ticker = setInterval(() => onProgress({ stage, point: tracker.sample(engine.queryProgress?.() ?? null, Date.now()) }), 500);
+      const onAudit = (p: AuditProgressEvent): void => {
+        stage = p.stage;
+        onProgress({ stage: p.stage, ...(p.done ? { done: true } : {}), point: tracker.event(p, Date.now()) });
+      };
       try {
-        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), onProgress, signal });
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), onProgress: onAudit, signal });
         const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
         return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {
+        clearInterval(ticker);
         signal.removeEventListener('abort', onAbort);
       }
     },

@@ -5,6 +5,7 @@ import type { Profile } from '../../app/core/scan/profile.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
 import type { TargetInput } from '../../app/core/targets/targets.ts';
 import type { CubeSession } from './cube-session.ts';
+import type { ProgressPoint } from '../../app/core/progress.ts';
 
 export type Stage = 'profile' | 'cube' | 'tails' | 'checks';
 export const STAGES: readonly Stage[] = ['profile', 'cube', 'tails', 'checks'];
@@ -42,7 +43,7 @@ export type EngineStatus =
   | { readonly kind: 'idle' }
   | { readonly kind: 'loading'; readonly message: string }
   | { readonly kind: 'ready'; readonly source: OpenedSource }
-  | { readonly kind: 'running'; readonly source: OpenedSource; readonly stage: Stage; readonly finished: readonly Stage[] }
+  | { readonly kind: 'running'; readonly source: OpenedSource; readonly stage: Stage; readonly finished: readonly Stage[]; readonly point?: ProgressPoint }
   | { readonly kind: 'failed'; readonly message: string; readonly source: OpenedSource | null }
   | { readonly kind: 'done'; readonly report: Report; readonly source: OpenedSource | null; readonly workspace?: AuditWorkspace };
 
@@ -51,7 +52,7 @@ export type StatusEvent =
   | { readonly type: 'loading'; readonly message: string }
   | { readonly type: 'opened'; readonly source: OpenedSource }
   | { readonly type: 'started' }
-  | { readonly type: 'progress'; readonly stage: Stage; readonly done?: boolean }
+  | { readonly type: 'progress'; readonly stage: Stage; readonly done?: boolean; readonly point?: ProgressPoint }
   | { readonly type: 'finished'; readonly report: Report; readonly workspace?: AuditWorkspace }
   | { readonly type: 'failed'; readonly message: string }
   | { readonly type: 'cancelled' }
@@ -78,7 +79,7 @@ export function nextStatus(status: EngineStatus, event: StatusEvent): EngineStat
     case 'progress': {
       if (status.kind !== 'running') return status;
       const finished = event.done && !status.finished.includes(event.stage) ? [...status.finished, event.stage] : status.finished;
-      return { ...status, stage: event.stage, finished };
+      return { ...status, stage: event.point?.stage ?? event.stage, finished, ...(event.point ? { point: event.point } : {}) };
     }
     case 'finished':
       return { kind: 'done', report: event.report, source: sourceOf(status), ...(event.workspace ? { workspace: event.workspace } : {}) };

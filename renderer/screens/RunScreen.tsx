@@ -1,5 +1,6 @@
 import { useEngine } from '../engine/EngineProvider.tsx';
 import { STAGES, type Stage } from '../engine/status.ts';
+import { timeLeftWords, type ProgressPoint } from '../../app/core/progress.ts';
 
 const STAGE_WORDS: Record<Stage, { title: string; what: string }> = {
   profile: { title: 'Profile', what: 'types, nulls and value ranges of the mapped columns' },
@@ -15,6 +16,7 @@ export function RunScreen({ onBack }: { onBack: () => void }) {
     <section aria-labelledby="run-title" className="screen">
       <h1 id="run-title">{running ? 'Auditing the log…' : status.kind === 'failed' ? 'The audit stopped' : 'Audit'}</h1>
       {running && <p className="lead">{status.source.label}: {status.source.profile.rows.toLocaleString('en')} rows. The page stays usable while the engine works.</p>}
+      {running && <RunProgress point={status.point} />}
       <ol className="stages" aria-label="Audit stages">
         {STAGES.map((stage) => {
           const finished = running && status.finished.includes(stage);
@@ -38,5 +40,22 @@ export function RunScreen({ onBack }: { onBack: () => void }) {
         </div>
       )}
     </section>
+  );
+}
+
+/** Stage k of n, the share of the log the running pass has read, the share of the audit done and the time left. */
+function RunProgress({ point }: { point: ProgressPoint | undefined }) {
+  const share = point ? Math.floor(point.share * 100) : 0;
+  return (
+    <div className="run-progress" data-testid="run-progress">
+      <p className="run-progress-line">
+        <strong>Stage {point ? point.stageIndex : 1} of {point ? point.stageCount : STAGES.length}</strong>
+        {' · '}{STAGE_WORDS[point?.stage ?? 'profile'].title}
+        {point?.logShare != null && <>{' · '}this pass has read {Math.floor(point.logShare * 100)}% of the log</>}
+        {' · '}{share}% of the audit done
+        {' · '}<span className="run-progress-left">{timeLeftWords(point?.secondsLeft ?? null)}</span>
+      </p>
+      <progress className="run-progress-bar" max={100} value={share} aria-label={`${share}% of the audit done`} />
+    </div>
   );
 }

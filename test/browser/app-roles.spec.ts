@@ -13,6 +13,9 @@ import { everyControlByKeyboard, noSeriousViolations, openApp } from './app-step
 const dir = mkdtempSync(path.join(tmpdir(), 'cw-booking-'));
 const LOG = path.join(dir, 'harbour-stays.csv');
 writeFileSync(LOG, roleLog(BOOKING_SPEC, 30_000, 21).csv);
+/** Large enough that the audit stays on the Run screen while axe reads it. */
+const BIG_LOG = path.join(dir, 'harbour-stays-season.csv');
+writeFileSync(BIG_LOG, roleLog(BOOKING_SPEC, 600_000, 22).csv);
 
 /** With CW_SHOT_DIR set, each screen is also saved there at 1280×800 (to look at; nothing compares them). */
 async function shot(page: Page, name: string): Promise<void> {
@@ -134,4 +137,31 @@ test('a booking log with unseen column names: roles right with no edits, actions
   await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible();
   await nav.getByRole('button', { name: 'Open a log' }).click();
   await expect(page.getByText(/Still open: harbour-stays\.csv/)).toBeVisible();
+});
+
+test('the Run screen says stage k of n, the share of the audit done and the time left, and passes axe while it runs', async ({ page }) => {
+  test.setTimeout(240_000);
+  await openApp(page);
+  await page.getByTestId('log-file-input').setInputFiles(BIG_LOG);
+  await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 120_000 });
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await page.getByRole('button', { name: 'Run the audit' }).click();
+  await expect(page.getByRole('heading', { name: 'Auditing the log…' })).toBeVisible();
+  const line = page.getByTestId('run-progress');
+  await expect(line).toHaveText(/^Stage [1-4] of 4 · (Profile|Cube|Tails|Checks)( · this pass has read \d+% of the log)? · \d+% of the audit done · (estimating the time left|about \d+ (s|min) left|almost done)$/);
+  await accessible(page, 'run');
+  // axe read the Run screen while the audit ran (not the overview after it)
+  await expect(page.getByRole('heading', { name: 'Auditing the log…' })).toBeVisible();
+  // the stage moves on, in order, and the share done never goes back
+  const seen: { stage: number; share: number }[] = [];
+  while (await page.getByRole('heading', { name: 'Auditing the log…' }).isVisible()) {
+    const text = await line.innerText().catch(() => '');
+    const m = /^Stage (\d) of 4.* (\d+)% of the audit done/.exec(text);
+    if (m) seen.push({ stage: Number(m[1]), share: Number(m[2]) });
+    await page.waitForTimeout(100);
+  }
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 180_000 });
+  expect(seen.length).toBeGreaterThan(0);
+  expect(seen.every((p, i) => i === 0 || (p.stage >= (seen[i - 1] as { stage: number }).stage && p.share >= (seen[i - 1] as { share: number }).share))).toBe(true);
+  expect(new Set(seen.map((p) => p.stage)).size).toBeGreaterThan(1);
 });

@@ -11,7 +11,7 @@ import { listFlag, stringFlag } from '../args.ts';
 import { loadSettingsFile, parseRoleFlags, readTargets } from '../audit-options.ts';
 import { EXIT, InterruptedError, UsageError } from '../errors.ts';
 import { useColour, type CliIo } from '../io.ts';
-import { ProgressLine, type RowProgress } from '../progress.ts';
+import { ProgressLine } from '../progress.ts';
 import { peakRssMb } from '../../engine/memory.ts';
 import { isClickHouseAddress } from '../../engine/clickhouse-address.ts';
 import type { OpenedSource } from '../warehouse.ts';
@@ -93,10 +93,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
   const core = await loadAuditCore();
 
   let engine: Engine | undefined;
-  const progress = new ProgressLine(io.stderr, !quiet && io.stderr.isTTY === true, () => {
-    const e = engine as (Engine & { progress?: () => RowProgress }) | undefined;
-    return e?.progress?.();
-  });
+  const progress = new ProgressLine(io.stderr, !quiet && io.stderr.isTTY === true, () => engine?.queryProgress?.());
   const { signal } = io;
   const stopIfInterrupted = (): void => {
     if (signal?.aborted) throw new InterruptedError();
@@ -162,7 +159,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       roles,
       targets,
       ...(settings ? { settings } : {}),
-      onProgress: (p) => { if (!p.done) progress.stage(STAGE_NAMES[p.stage] ?? p.stage); },
+      onProgress: (p) => progress.audit(p, STAGE_NAMES[p.stage] ?? p.stage),
       engine: engine.kind,
       peakRssMb,
       ...(signal ? { signal } : {}),

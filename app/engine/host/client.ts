@@ -2,7 +2,7 @@
  * The client side of the host protocol (no Node imports: the browser uses it too). It asks for named
  * things only (messages.ts); there is no way to send the host a statement.
  */
-import type { AuditStage } from '../../core/audit.ts';
+import type { AuditStage, ProgressPoint } from '../../core/progress.ts';
 import type { InputFile, Report } from '../../core/model/report.ts';
 import type { DrillRoles, DrillSelection, PageRequest } from '../../core/scan/drill.ts';
 import type { Profile } from '../../core/scan/profile.ts';
@@ -27,7 +27,8 @@ export interface HostAuditResult {
   readonly cubeIpc: Uint8Array;
 }
 
-export type AuditProgress = { readonly stage: AuditStage; readonly done?: boolean };
+/** A stage starts or ends; `point` says where the audit is in the log's terms (app/core/progress.ts). */
+export type AuditProgress = { readonly stage: AuditStage; readonly done?: boolean; readonly point?: ProgressPoint };
 
 /** What a page asks the host to audit: a source it registered, and the user's choices. */
 export type HostAuditRequest = WireAuditRequest;
@@ -87,7 +88,7 @@ export function createHostEngine(transport: Transport, options: { onClosed?: () 
       return;
     }
     if (reply.kind === 'audit-progress') {
-      progressListeners.get(reply.id)?.({ stage: reply.stage, ...(reply.done ? { done: true } : {}) });
+      progressListeners.get(reply.id)?.({ stage: reply.stage, ...(reply.done ? { done: true } : {}), ...(reply.point ? { point: reply.point } : {}) });
       return;
     }
     const waiting = pending.get(reply.id);

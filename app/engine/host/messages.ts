@@ -141,7 +141,22 @@ export const hostReply = z.discriminatedUnion('kind', [
     inputs: z.array(inputFile),
   }),
   z.strictObject({ kind: z.literal('profiled'), id, profile: wireCell, evidence: wireCell.optional() }),
-  z.strictObject({ kind: z.literal('audit-progress'), id, stage: z.enum(AUDIT_STAGES), done: z.literal(true).optional() }),
+  /** A stage starts or ends, or (every quarter second while it runs) where the audit is: app/core/progress.ts's ProgressPoint. */
+  z.strictObject({
+    kind: z.literal('audit-progress'),
+    id,
+    stage: z.enum(AUDIT_STAGES),
+    done: z.literal(true).optional(),
+    point: z.strictObject({
+      stage: z.enum(AUDIT_STAGES),
+      stageIndex: z.number().int().positive(),
+      stageCount: z.number().int().positive(),
+      logShare: z.number().min(0).max(1).nullable(),
+      share: z.number().min(0).max(1),
+      secondsLeft: z.number().nonnegative().nullable(),
+      elapsedSeconds: z.number().nonnegative(),
+    }).optional(),
+  }),
   /** The report in the cell wire form (lossless) and the cube as Arrow IPC bytes (app/engine/cube-arrow.ts). */
   z.strictObject({ kind: z.literal('audit-result'), id, report: wireReport, cube: z.custom<Uint8Array>((v) => v instanceof Uint8Array, 'must be the bytes of the cube') }),
   z.strictObject({ kind: z.literal('rows'), id, table: wireTable }),

@@ -7,6 +7,7 @@
  */
 import { AuditCancelled, inspectRoles, runAuditDetailed, type RoleInspection } from '../../core/audit.ts';
 import type { InputFile } from '../../core/model/report.ts';
+import { ProgressTracker, type AuditStage, type ProgressPoint } from '../../core/progress.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../core/scan/drill.ts';
 import { describeSql, parseDescribe } from '../../core/scan/profile.ts';
 import { cubeToArrowIpc } from '../cube-arrow.ts';
@@ -82,6 +83,18 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
     const source = sourceOf(relation);
     const signal = { aborted: false };
     audits.set(id, signal);
+    // Where the audit is, in the log's terms (app/core/progress.ts): sent on every stage change and every quarter second.
+    const tracker = new ProgressTracker(Date.now());
+    let stage: AuditStage = 'profile';
+    let last = '';
+    const send = (point: ProgressPoint, done?: boolean): void => {
+      const key = `${point.stageIndex} ${Math.floor(point.share * 100)} ${point.logShare === null ? '' : Math.floor(point.logShare * 100)} ${point.secondsLeft === null ? '' : Math.round(point.secondsLeft)} ${done ? 'done' : ''}`;
+      if (key === last && !done) return;
+      last = key;
+      reply({ kind: 'audit-progress', id, stage, ...(done ? { done: true as const } : {}), point });
+    };
+    const ticker = setInterval(() => send(tracker.sample(engine.queryProgress?.() ?? null, Date.now())), 250);
+    ticker.unref?.();
     try {
       const { report, cells } = await runAuditDetailed((sql) => engine.query(sql), {
         relation,
@@ -93,7 +106,11 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
         peakRssMb,
-        onProgress: (p) => reply({ kind: 'audit-progress', id, stage: p.stage, ...(p.done ? { done: true as const } : {}) }),
+        onProgress: (p) => {
+          stage = p.stage;
+          const point = tracker.event(p, Date.now());
+          if (p.done || !p.pass) send(point, p.done);
+        },
         signal,
       });
       if (signal.aborted) throw new AuditCancelled();
@@ -107,6 +124,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
       // The core's own errors (a role that names no column, a malformed target table) keep their words.
       throw error instanceof EngineError ? error : new EngineError('internal', error instanceof Error ? error.message : String(error));
     } finally {
+      clearInterval(ticker);
       audits.delete(id);
     }
   }
