@@ -11,15 +11,15 @@ import type { AuditCore } from './commands/core.ts';
 import type { AuditScans, RoleInspection, TargetInput } from '../core/audit.ts';
 import type { InputFile, Report } from '../core/model/report.ts';
 import type { RoleOverrides } from '../core/roles/roles.ts';
-import type { CubeCell } from '../core/cube/types.ts';
 import type { Profile } from '../core/scan/profile.ts';
-import { clipOf, duplicatesOf, mergeCells, mergeProfiles, tailOf, withSegmentDistincts, type PartIds, type WeightGroups } from '../core/parts/merge.ts';
+import { clipOf, duplicatesOf, mergeGroups, mergeProfiles, tailOf, weightGroupsOf, withExactDistincts, type PartIds } from '../core/parts/merge.ts';
+import type { RowGroups } from '../core/parts/replay.ts';
 import type { PartScan } from '../core/parts/scan.ts';
 import { TOOL_VERSION } from '../core/version.ts';
 import { UsageError } from './errors.ts';
 
 const STATE_SCHEMA = 'counterweight.parts/1';
-const PART_SCHEMA = 'counterweight.part/1';
+const PART_SCHEMA = 'counterweight.part/2';
 
 export interface PartsState {
   readonly schema: typeof STATE_SCHEMA;
@@ -35,10 +35,9 @@ interface PartFile {
   readonly schema: typeof PART_SCHEMA;
   readonly name: string;
   readonly profile: Profile;
-  readonly shift: number;
   readonly bucket_us: number;
-  readonly cells: readonly CubeCell[];
-  readonly groups: WeightGroups;
+  /** the row groups, with a propensity that JSON cannot hold (NaN, ±∞) written as its text */
+  readonly groups: Omit<RowGroups, 'p'> & { readonly p: readonly (number | string | null)[] };
   readonly repeated: readonly (readonly [string, number])[];
 }
 
@@ -100,7 +99,8 @@ export function storePart(dir: string, state: PartsState, file: InputFile, scan:
     start.push(ids.hashes.length);
     hashes = BigUint64Array.from(distinct);
   }
-  const part: PartFile = { schema: PART_SCHEMA, name, profile: scan.profile, shift: scan.cube.shift, bucket_us: scan.cube.bucketUs, cells: scan.cube.cells, groups: scan.groups, repeated };
+  const groups = { ...scan.groups, p: scan.groups.p.map((p) => (p === null || Number.isFinite(p) ? p : String(p))) };
+  const part: PartFile = { schema: PART_SCHEMA, name, profile: scan.profile, bucket_us: scan.bucketUs, groups, repeated };
   writeAtomically(path.join(dir, `${name}.hashes`), new Uint8Array(hashes.buffer));
   writeAtomically(path.join(dir, `${name}.ids.json`), JSON.stringify({ start, ids: ids?.ids ?? [], rows: ids?.rows ?? [] }));
   writeAtomically(path.join(dir, `${name}.part.json`), JSON.stringify(part));
@@ -128,17 +128,21 @@ function readPartIds(dir: string, name: string, repeated: readonly (readonly [st
 /** The audit of every part in the folder together, from their stored scans: no part is read again. */
 export async function auditParts(core: AuditCore, dir: string, state: PartsState, peakRssMb?: () => number): Promise<{ report: Report; columns: readonly { name: string; type: string }[] }> {
   if (state.parts.length === 0) throw new UsageError(`${dir} holds no parts yet: add one with --add-part FILE`);
-  const parts = state.parts.map((p) => JSON.parse(readFileSync(path.join(dir, `${p.name}.part.json`), 'utf8')) as PartFile);
+  const parts = state.parts.map((p) => {
+    const file = JSON.parse(readFileSync(path.join(dir, `${p.name}.part.json`), 'utf8')) as PartFile;
+    if (file.schema !== PART_SCHEMA) throw new UsageError(`${p.name}.part.json in ${dir} is not a ${PART_SCHEMA} part: read the parts again into a new folder`);
+    return { ...file, groups: { ...file.groups, p: file.groups.p.map((v) => (typeof v === 'string' ? Number(v) : v)) } as RowGroups };
+  });
   const segmentColumns = state.roles.segments ?? [];
-  const cubes = parts.map((p) => ({ cells: p.cells, shift: p.shift, bucketUs: p.bucket_us }));
-  const allCells = cubes.flatMap((c) => c.cells);
-  const profile = withSegmentDistincts(mergeProfiles(parts.map((p) => p.profile)), segmentColumns, allCells);
-  const groups = parts.map((p) => p.groups);
+  const rowGroups = parts.map((p) => ({ groups: p.groups, bucketUs: p.bucket_us }));
+  const profile = withExactDistincts(mergeProfiles(parts.map((p) => p.profile)), segmentColumns, state.roles.propensity ?? null, parts.map((p) => p.groups));
+  let weights: ReturnType<typeof weightGroupsOf>[] | null = null;
+  const groups = () => (weights ??= parts.map((p) => weightGroupsOf(p.groups)));
   const scans: AuditScans = {
-    cube: ({ capped, cap, buckets, shift }) => mergeCells(cubes, buckets, shift, capped, cap),
+    cube: ({ capped, cap, buckets, reward, floor, byPropensity, rowCount }) => mergeGroups(rowGroups, buckets, { reward, floor, byPropensity, rowCount }, capped, cap),
     duplicates: (examples) => duplicatesOf(parts.map((p) => readPartIds(dir, p.name, p.repeated)), examples),
-    tail: (target, segs, actions, limit) => tailOf(groups, target, segs, actions, limit),
-    clip: (target, segs, actions, above, limit) => clipOf(groups, target, segs, actions, above, limit),
+    tail: (target, segs, actions, limit) => tailOf(groups(), target, segs, actions, limit),
+    clip: (target, segs, actions, above, limit) => clipOf(groups(), target, segs, actions, above, limit),
   };
   const inspection = { profile, evidence: { columns: [] }, suggestions: [], queries: { profile: [], evidence: [] } } as unknown as RoleInspection;
   const report = await core.runAudit(() => Promise.reject(new Error('an audit merged from parts reads no log')), {

@@ -13,7 +13,7 @@ import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputF
 import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
-import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift } from './scan/cube.ts';
+import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates, type TailResult } from './scan/rows.ts';
@@ -73,7 +73,7 @@ export interface AuditRequest {
 
 /** The row-level scans' answers, as their parsers give them (app/core/scan/cube.ts, rows.ts). */
 export interface AuditScans {
-  cube(spec: { readonly capped: readonly number[]; readonly cap: number; readonly buckets: TimeBuckets | null; readonly shift: number }): { cells: CubeCell[]; cappedDistinct: Map<number, number> };
+  cube(spec: { readonly capped: readonly number[]; readonly cap: number; readonly buckets: TimeBuckets | null; readonly reward: RewardShift | null; readonly floor: number; readonly byPropensity: boolean; readonly rowCount: number }): { cells: CubeCell[]; cappedDistinct: Map<number, number> };
   duplicates(examples: number): Duplicates;
   tail(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): TailResult;
   clip(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): { w: number; r: number | null }[];
@@ -220,7 +220,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     progress('cube', false, { passes: scans ? [] : d.name === 'clickhouse' ? ['scales', 'cube'] : ['cube'] });
     const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
     let cappedDistinct: Map<number, number>;
-    if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, shift: reward?.shift ?? 0 }));
+    if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, reward, floor: settings['support.floor.epsilon'], byPropensity, rowCount: profile.rows }));
     else {
       const spec = { relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
       const preludeSql = cubePreludeSql(spec);

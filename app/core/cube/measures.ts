@@ -54,6 +54,23 @@ export interface Measure<F extends string = string, M extends Merge = Merge> {
    * (test/core/checks/build.ts) fills cells from it; test/core/cube-measures.test.ts holds it to the SQL.
    */
   readonly term: (row: MeasureRow, x: MeasureContext) => number | null;
+  /**
+   * The same as `groups` over one (cell keys, p) group held in memory: the term the group adds (the value it
+   * offers, for a minimum or maximum), or null when the group is outside the aggregate's filter. An audit
+   * merged from parts (app/core/parts/merge.ts, replayCube) forms the cube from it as the cube query does.
+   */
+  readonly group: (g: MeasureGroup, x: MeasureContext) => number | null;
+}
+
+/** One (cell keys, p) group as the grouped cube query's `g` level holds it (app/core/scan/cube.ts). */
+export interface MeasureGroup {
+  readonly p: number | null;
+  readonly c: number;
+  readonly c_r: number;
+  readonly s_r: number;
+  readonly s_r2: number;
+  readonly s_d: number;
+  readonly s_d2: number;
 }
 
 /** One row as the cube's base projection reads it: p, r, and d = r − shift; null where the log holds none. */
@@ -79,6 +96,9 @@ const onValid = (value: (p: number, r: number, d: number) => number, rewarded: b
   validP(p) && (!rewarded || validR(r)) ? value(p, r as number, d as number) : null;
 /** `value` where the reward is finite, whatever the propensity. */
 const onReward = (value: (r: number, d: number) => number) => ({ r, d }: MeasureRow): number | null => (validR(r) ? value(r, d as number) : null);
+/** `value` of a group where its propensity is valid (the groups' filter PV), else null; `always`: every group. */
+const gValid = (value: (g: MeasureGroup, p: number) => number) => (g: MeasureGroup): number | null => (validP(g.p) ? value(g, g.p) : null);
+const always = (value: (g: MeasureGroup) => number) => (g: MeasureGroup): number | null => value(g);
 const when = (holds: (row: MeasureRow, x: MeasureContext) => boolean) => (row: MeasureRow, x: MeasureContext): number | null => (holds(row, x) ? 1 : null);
 
 /** rows where `where` holds: over rows a count, over groups a sum of group sizes */
@@ -88,11 +108,14 @@ const sum = (term: string, where?: string): Aggregate => ({ sum: term, ...(where
 
 /** A count of rows satisfying `where` (a condition on p only, so it holds for a whole (keys, p) group). */
 function count<F extends string>(field: F, column: string, where: (x: MeasureContext) => string | undefined, holds: (row: MeasureRow, x: MeasureContext) => boolean): Measure<F, 'sum'> {
-  return { field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)), term: when(holds) };
+  return {
+    field, column, merge: 'sum', rows: (x) => rowCount(where(x)), groups: (x) => groupCount(where(x)), term: when(holds),
+    group: (g, x) => (holds({ p: g.p, r: null, d: null }, x) ? g.c : null),
+  };
 }
 
-function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: (x: MeasureContext) => Aggregate, groups: (x: MeasureContext) => Aggregate, term: Measure['term']): Measure<F, M> {
-  return { field, column, merge, rows, groups, term };
+function measure<F extends string, M extends Merge>(field: F, column: string, merge: M, rows: (x: MeasureContext) => Aggregate, groups: (x: MeasureContext) => Aggregate, term: Measure['term'], group: Measure['group']): Measure<F, M> {
+  return { field, column, merge, rows, groups, term, group };
 }
 
 /** The measures of every cell, in the cube query's column order. */
@@ -104,43 +127,44 @@ export const CELL_MEASURES = [
   count('nPAboveOne', 'n_p_above', (x) => `p > 1 AND NOT ${x.d.isNaN('p')}`, ({ p }) => p !== null && p > 1),
   count('nPOne', 'n_p_one', () => 'p = 1', ({ p }) => p === 1),
   count('nPBelowFloor', 'n_p_floor', (x) => `${PV(x)} AND p < ${x.d.double(x.floor)}`, ({ p }, x) => validP(p) && p < x.floor),
-  measure('nRNull', 'n_r_null', 'sum', (x) => rowCount(x.d.notTrue(VR(x))), () => ({ sum: 'c - c_r', integral: true }), when(({ r }) => !validR(r))),
+  measure('nRNull', 'n_r_null', 'sum', (x) => rowCount(x.d.notTrue(VR(x))), () => ({ sum: 'c - c_r', integral: true }), when(({ r }) => !validR(r)), always((g) => g.c - g.c_r)),
   count('nP', 'n_p', PV, ({ p }) => validP(p)),
-  measure('sumInvP', 's_ip', 'sum', (x) => sum('1 / p', PV(x)), (x) => sum('c / p', PV(x)), onValid((p) => 1 / p, false)),
-  measure('sumInvP2', 's_ip2', 'sum', (x) => sum('1 / (p * p)', PV(x)), (x) => sum('c / (p * p)', PV(x)), onValid((p) => 1 / (p * p), false)),
-  measure('minP', 'min_p', 'min', (x) => ({ min: 'p', where: PV(x) }), (x) => ({ min: 'p', where: PV(x) }), onValid((p) => p, false)),
-  measure('maxP', 'max_p', 'max', (x) => ({ max: 'p', where: PV(x) }), (x) => ({ max: 'p', where: PV(x) }), onValid((p) => p, false)),
-  measure('nRw', 'n_rw', 'sum', (x) => rowCount(RW(x)), (x) => ({ sum: 'c_r', where: PV(x), integral: true }), onValid(() => 1, true)),
-  measure('sumInvPRw', 's_ip_rw', 'sum', (x) => sum('1 / p', RW(x)), (x) => sum('c_r / p', PV(x)), onValid((p) => 1 / p, true)),
-  measure('sumInvP2Rw', 's_ip2_rw', 'sum', (x) => sum('1 / (p * p)', RW(x)), (x) => sum('c_r / (p * p)', PV(x)), onValid((p) => 1 / (p * p), true)),
-  measure('sumR', 's_r', 'sum', (x) => sum('r', RW(x)), (x) => sum('s_r', PV(x)), onValid((_, r) => r, true)),
-  measure('sumR2', 's_r2', 'sum', (x) => sum('r * r', RW(x)), (x) => sum('s_r2', PV(x)), onValid((_, r) => r * r, true)),
-  measure('sumRInvP', 's_rip', 'sum', (x) => sum('r / p', RW(x)), (x) => sum('s_r / p', PV(x)), onValid((p, r) => r / p, true)),
-  measure('sumRInvP2', 's_rip2', 'sum', (x) => sum('r / (p * p)', RW(x)), (x) => sum('s_r / (p * p)', PV(x)), onValid((p, r) => r / (p * p), true)),
-  measure('sumR2InvP2', 's_r2ip2', 'sum', (x) => sum('r * r / (p * p)', RW(x)), (x) => sum('s_r2 / (p * p)', PV(x)), onValid((p, r) => (r * r) / (p * p), true)),
-  measure('nRAll', 'n_rall', 'sum', (x) => rowCount(VR(x)), () => ({ sum: 'c_r', integral: true }), onReward(() => 1)),
-  measure('sumRAll', 's_rall', 'sum', (x) => sum('r', VR(x)), () => sum('s_r'), onReward((r) => r)),
-  measure('sumR2All', 's_r2all', 'sum', (x) => sum('r * r', VR(x)), () => sum('s_r2'), onReward((r) => r * r)),
+  measure('sumInvP', 's_ip', 'sum', (x) => sum('1 / p', PV(x)), (x) => sum('c / p', PV(x)), onValid((p) => 1 / p, false), gValid((g, p) => g.c / p)),
+  measure('sumInvP2', 's_ip2', 'sum', (x) => sum('1 / (p * p)', PV(x)), (x) => sum('c / (p * p)', PV(x)), onValid((p) => 1 / (p * p), false), gValid((g, p) => g.c / (p * p))),
+  measure('minP', 'min_p', 'min', (x) => ({ min: 'p', where: PV(x) }), (x) => ({ min: 'p', where: PV(x) }), onValid((p) => p, false), gValid((_, p) => p)),
+  measure('maxP', 'max_p', 'max', (x) => ({ max: 'p', where: PV(x) }), (x) => ({ max: 'p', where: PV(x) }), onValid((p) => p, false), gValid((_, p) => p)),
+  measure('nRw', 'n_rw', 'sum', (x) => rowCount(RW(x)), (x) => ({ sum: 'c_r', where: PV(x), integral: true }), onValid(() => 1, true), gValid((g) => g.c_r)),
+  measure('sumInvPRw', 's_ip_rw', 'sum', (x) => sum('1 / p', RW(x)), (x) => sum('c_r / p', PV(x)), onValid((p) => 1 / p, true), gValid((g, p) => g.c_r / p)),
+  measure('sumInvP2Rw', 's_ip2_rw', 'sum', (x) => sum('1 / (p * p)', RW(x)), (x) => sum('c_r / (p * p)', PV(x)), onValid((p) => 1 / (p * p), true), gValid((g, p) => g.c_r / (p * p))),
+  measure('sumR', 's_r', 'sum', (x) => sum('r', RW(x)), (x) => sum('s_r', PV(x)), onValid((_, r) => r, true), gValid((g) => g.s_r)),
+  measure('sumR2', 's_r2', 'sum', (x) => sum('r * r', RW(x)), (x) => sum('s_r2', PV(x)), onValid((_, r) => r * r, true), gValid((g) => g.s_r2)),
+  measure('sumRInvP', 's_rip', 'sum', (x) => sum('r / p', RW(x)), (x) => sum('s_r / p', PV(x)), onValid((p, r) => r / p, true), gValid((g, p) => g.s_r / p)),
+  measure('sumRInvP2', 's_rip2', 'sum', (x) => sum('r / (p * p)', RW(x)), (x) => sum('s_r / (p * p)', PV(x)), onValid((p, r) => r / (p * p), true), gValid((g, p) => g.s_r / (p * p))),
+  measure('sumR2InvP2', 's_r2ip2', 'sum', (x) => sum('r * r / (p * p)', RW(x)), (x) => sum('s_r2 / (p * p)', PV(x)), onValid((p, r) => (r * r) / (p * p), true), gValid((g, p) => g.s_r2 / (p * p))),
+  measure('nRAll', 'n_rall', 'sum', (x) => rowCount(VR(x)), () => ({ sum: 'c_r', integral: true }), onReward(() => 1), always((g) => g.c_r)),
+  measure('sumRAll', 's_rall', 'sum', (x) => sum('r', VR(x)), () => sum('s_r'), onReward((r) => r), always((g) => g.s_r)),
+  measure('sumR2All', 's_r2all', 'sum', (x) => sum('r * r', VR(x)), () => sum('s_r2'), onReward((r) => r * r), always((g) => g.s_r2)),
   /**
    * Centred reward sums, d = r − shift with the cube's one shift (the middle of the reward's range):
    * a variance formed from them, Σd² − (Σd)²/n, does not cancel as Σr² − (Σr)²/n does when the mean is
    * large against the spread (Chan, Golub & LeVeque 1983, "Algorithms for computing the sample variance").
    */
-  measure('sumD', 's_d', 'sum', (x) => sum('d', RW(x)), (x) => sum('s_d', PV(x)), onValid((_, __, d) => d, true)),
-  measure('sumD2', 's_d2', 'sum', (x) => sum('d * d', RW(x)), (x) => sum('s_d2', PV(x)), onValid((_, __, d) => d * d, true)),
+  measure('sumD', 's_d', 'sum', (x) => sum('d', RW(x)), (x) => sum('s_d', PV(x)), onValid((_, __, d) => d, true), gValid((g) => g.s_d)),
+  measure('sumD2', 's_d2', 'sum', (x) => sum('d * d', RW(x)), (x) => sum('s_d2', PV(x)), onValid((_, __, d) => d * d, true), gValid((g) => g.s_d2)),
   /** the same over the rewarded rows weighted by 1/p and 1/p², for the IPS, SNIPS and DR standard errors */
-  measure('sumDInvP', 's_dip', 'sum', (x) => sum('d / p', RW(x)), (x) => sum('s_d / p', PV(x)), onValid((p, __, d) => d / p, true)),
-  measure('sumDInvP2', 's_dip2', 'sum', (x) => sum('d / (p * p)', RW(x)), (x) => sum('s_d / (p * p)', PV(x)), onValid((p, __, d) => d / (p * p), true)),
-  measure('sumD2InvP', 's_d2ip', 'sum', (x) => sum('d * d / p', RW(x)), (x) => sum('s_d2 / p', PV(x)), onValid((p, __, d) => (d * d) / p, true)),
-  measure('sumD2InvP2', 's_d2ip2', 'sum', (x) => sum('d * d / (p * p)', RW(x)), (x) => sum('s_d2 / (p * p)', PV(x)), onValid((p, __, d) => (d * d) / (p * p), true)),
-  measure('sumDAll', 's_dall', 'sum', (x) => sum('d', VR(x)), () => sum('s_d'), onReward((_, d) => d)),
-  measure('sumD2All', 's_d2all', 'sum', (x) => sum('d * d', VR(x)), () => sum('s_d2'), onReward((_, d) => d * d)),
+  measure('sumDInvP', 's_dip', 'sum', (x) => sum('d / p', RW(x)), (x) => sum('s_d / p', PV(x)), onValid((p, __, d) => d / p, true), gValid((g, p) => g.s_d / p)),
+  measure('sumDInvP2', 's_dip2', 'sum', (x) => sum('d / (p * p)', RW(x)), (x) => sum('s_d / (p * p)', PV(x)), onValid((p, __, d) => d / (p * p), true), gValid((g, p) => g.s_d / (p * p))),
+  measure('sumD2InvP', 's_d2ip', 'sum', (x) => sum('d * d / p', RW(x)), (x) => sum('s_d2 / p', PV(x)), onValid((p, __, d) => (d * d) / p, true), gValid((g, p) => g.s_d2 / p)),
+  measure('sumD2InvP2', 's_d2ip2', 'sum', (x) => sum('d * d / (p * p)', RW(x)), (x) => sum('s_d2 / (p * p)', PV(x)), onValid((p, __, d) => (d * d) / (p * p), true), gValid((g, p) => g.s_d2 / (p * p))),
+  measure('sumDAll', 's_dall', 'sum', (x) => sum('d', VR(x)), () => sum('s_d'), onReward((_, d) => d), always((g) => g.s_d)),
+  measure('sumD2All', 's_d2all', 'sum', (x) => sum('d * d', VR(x)), () => sum('s_d2'), onReward((_, d) => d * d), always((g) => g.s_d2)),
 ] as const;
 
 /** Row-level only: a target-propensity column makes the cube read every row. */
 const rowsOnly = <F extends string>(field: F, column: string, rows: (x: MeasureContext) => Aggregate): Measure<F, 'sum'> => ({
   field, column, merge: 'sum', rows, groups: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
   term: () => { throw new Error(`cube measure ${field} reads a target_propensity column, which rows in memory do not carry`); },
+  group: () => { throw new Error(`cube measure ${field} has no propensity-grouped form`); },
 });
 
 /** Sums for a mapped target_propensity column q (row weight q/p), same row sets; on cell.target. */

@@ -3,22 +3,23 @@
  * is read part by part, each part's scan results are kept, and the audit of the whole log is made from them
  * without reading the earlier parts again. What each part keeps, and how parts merge:
  *   - its profile: counts add, minima and maxima combine (mergeProfiles);
- *   - its cube cells, uncapped, in buckets from the epoch no wider than the merged log's (scan.ts storageWidth): re-bucketed into the whole log's buckets,
- *     centred sums moved to the whole log's shift, merged (sums add, minima and maxima combine), then capped
- *     as the cube query caps (mergeCells);
- *   - its weight groups (segment values, action, p, finite r or null, rows): every target's largest weights,
- *     histogram and clip rows follow from them exactly, whatever the whole log's tail length (tailOf, clipOf);
+ *   - its row groups: rows sharing (segment values, action, version, bucket, p, finite r or null), in buckets from
+ *     the epoch no wider than the merged log's (scan.ts storageWidth), with their count. Re-bucketed into the whole
+ *     log's buckets, they give the whole log's cube to the bit: the cube query's fixed-point sums are sums of
+ *     integers (rows × the rounded term), formed here at the whole log's scales and shift (replay.ts, mergeGroups);
+ *     and every target's largest weights, histogram and clip rows, whatever the whole log's tail length
+ *     (weightGroupsOf, tailOf, clipOf);
  *   - its decision ids grouped exactly with their 64-bit hashes, sorted by hash: ids shared by two parts have
  *     equal hashes, so only hashes held by more than one part have their ids compared (duplicatesOf).
  * Pure: the part files are read and written by app/cli/parts.ts.
  */
-import { addInto, emptyTotals, SEP } from '../cube/rollup.ts';
+import { SEP } from '../cube/rollup.ts';
 import type { CubeCell } from '../cube/types.ts';
-import { blankCell } from '../cube/measures.ts';
-import type { ColumnProfile, Profile } from '../scan/profile.ts';
+import { EXACT_DISTINCT_MAX, type ColumnProfile, type Profile } from '../scan/profile.ts';
 import { NULL_LABEL, OTHER_LABEL, type TimeBuckets } from '../scan/expressions.ts';
 import { LOG10_BIN, type Duplicates, type TailResult } from '../scan/rows.ts';
 import type { TargetPolicy } from '../targets/targets.ts';
+import { replayCappedMerge, replayRaw, type KeyedGroup, type ReplaySpec, type RowGroups } from './replay.ts';
 
 export const HOUR_US = 3_600_000_000;
 
@@ -70,88 +71,71 @@ export function mergeProfiles(parts: readonly Profile[]): Profile {
   return { rows, columns };
 }
 
-/** The profile with each segment column's distinct count exact over all rows, from the parts' uncapped cells. */
-export function withSegmentDistincts(profile: Profile, segmentColumns: readonly string[], cells: readonly CubeCell[]): Profile {
+/**
+ * The profile with each segment column's distinct count exact over all rows, and the propensity column's
+ * where the whole log's profile would count it exactly (few values: profile.ts's EXACT_DISTINCT_MAX), from
+ * the parts' row groups: the cube then groups by propensity exactly when the whole log's does.
+ */
+export function withExactDistincts(profile: Profile, segmentColumns: readonly string[], propensity: string | null, parts: readonly RowGroups[]): Profile {
   const values = segmentColumns.map(() => new Set<string>());
-  for (const c of cells) c.segment.forEach((v, i) => { if (v !== NULL_LABEL) values[i]?.add(v); });
+  const ps = new Set<number>();
+  for (const g of parts) {
+    g.segments.forEach((s, i) => { for (const v of s) if (v !== NULL_LABEL) values[i]?.add(v); });
+    for (const p of g.p) if (p !== null) ps.add(p);
+  }
   return {
     ...profile,
     columns: profile.columns.map((c) => {
       const i = segmentColumns.indexOf(c.name);
-      return i < 0 ? c : { ...c, distinct: values[i]?.size ?? 0, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
+      if (i >= 0) return { ...c, distinct: values[i]?.size ?? 0, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
+      if (c.name === propensity && ps.size <= EXACT_DISTINCT_MAX && ps.size <= Math.max(1, 0.5 * c.nonNull)) return { ...c, distinct: ps.size, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
+      return c;
     }),
-  };
-}
-
-/** One part's cube: cells uncapped, in buckets of `bucketUs` from the epoch, with the reward shift its centred sums were taken about. */
-export interface PartCube {
-  readonly cells: readonly CubeCell[];
-  readonly shift: number;
-  readonly bucketUs: number;
-}
-
-/** A cell's centred sums moved from shift `from` to shift `to`: Σ(d+δ) = Σd + δn, Σ(d+δ)² = Σd² + 2δΣd + δ²n. */
-function reshift(c: CubeCell, from: number, to: number): CubeCell {
-  const delta = from - to;
-  if (delta === 0) return c;
-  return {
-    ...c,
-    sumD: c.sumD + delta * c.nRw,
-    sumD2: c.sumD2 + 2 * delta * c.sumD + delta * delta * c.nRw,
-    // the same moves weighted by 1/p and 1/p² over the same rewarded rows
-    sumDInvP: c.sumDInvP + delta * c.sumInvPRw,
-    sumDInvP2: c.sumDInvP2 + delta * c.sumInvP2Rw,
-    sumD2InvP: c.sumD2InvP + 2 * delta * c.sumDInvP + delta * delta * c.sumInvPRw,
-    sumD2InvP2: c.sumD2InvP2 + 2 * delta * c.sumDInvP2 + delta * delta * c.sumInvP2Rw,
-    sumDAll: c.sumDAll + delta * c.nRAll,
-    sumD2All: c.sumD2All + 2 * delta * c.sumDAll + delta * delta * c.nRAll,
   };
 }
 
 const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
 
-/** Cells sharing (segment, action, version, bucket) merged, in the cube query's order (ORDER BY s0…, a, v, b). */
-function mergeByKey(cells: readonly CubeCell[]): CubeCell[] {
-  const groups = new Map<string, { keys: CubeCell; totals: ReturnType<typeof emptyTotals> }>();
-  for (const c of cells) {
-    const k = `${c.segment.join(SEP)}${SEP}${c.action}${SEP}${c.version}${SEP}${c.bucket}`;
-    const g = groups.get(k);
-    if (g) g.totals = addInto(g.totals, c);
-    else groups.set(k, { keys: c, totals: addInto(emptyTotals(c.target !== null), c) });
+/** The cube query's ORDER BY s0…, a, v, b. */
+export function cellOrder(a: CubeCell, b: CubeCell): number {
+  for (let i = 0; i < a.segment.length; i++) {
+    const d = compareText(a.segment[i] as string, b.segment[i] as string);
+    if (d) return d;
   }
-  const out = [...groups.values()].map(({ keys, totals }) => {
-    const cell = blankCell();
-    Object.assign(cell, totals, { segment: keys.segment, action: keys.action, version: keys.version, bucket: keys.bucket });
-    return cell as unknown as CubeCell;
-  });
-  return out.sort((a, b) => {
-    for (let i = 0; i < a.segment.length; i++) {
-      const d = compareText(a.segment[i] as string, b.segment[i] as string);
-      if (d) return d;
-    }
-    return compareText(a.action, b.action) || compareText(a.version, b.version) || a.bucket - b.bucket;
-  });
+  return compareText(a.action, b.action) || compareText(a.version, b.version) || a.bucket - b.bucket;
+}
+
+/** One part's row groups, in buckets of `bucketUs` from the epoch. */
+export interface PartGroups {
+  readonly groups: RowGroups;
+  readonly bucketUs: number;
 }
 
 /**
- * The whole log's cube from its parts' cubes: each hour re-bucketed into `buckets` (the whole log's, from
- * the merged profile), centred sums moved to the whole log's shift, cells merged, and the `capped` segment
- * columns cut to their `cap` most frequent values as the cube query cuts them (rows descending, then the
- * value), the rest merged into "(other)". Returns the cells and each capped column's distinct count before capping.
+ * The whole log's cube from its parts' row groups, to the bit what the cube query answers over the whole log
+ * (replay.ts): groups re-bucketed into `buckets` (the whole log's, from the merged profile), the cells formed
+ * with the query's fixed-point sums at the whole log's scales, and the `capped` segment columns cut to their
+ * `cap` most frequent values as the cube query cuts them (rows descending, then the value), the rest merged
+ * into "(other)" in fixed point again. Returns the cells and each capped column's distinct count before capping.
  */
-export function mergeCells(parts: readonly PartCube[], buckets: TimeBuckets | null, shift: number, capped: readonly number[], cap: number): { cells: CubeCell[]; cappedDistinct: Map<number, number> } {
-  const moved: CubeCell[] = [];
+export function mergeGroups(parts: readonly PartGroups[], buckets: TimeBuckets | null, spec: ReplaySpec, capped: readonly number[], cap: number): { cells: CubeCell[]; cappedDistinct: Map<number, number> } {
+  const keyed: KeyedGroup[] = [];
   for (const part of parts) {
-    const w = part.bucketUs ?? HOUR_US;
+    const w = part.bucketUs;
     if (buckets && (buckets.widthUs % w !== 0 || buckets.originUs % w !== 0)) {
-      throw new PartsError(`a part's cells are kept in buckets of ${w / 1e6} s, which do not divide the merged log's ${buckets.label} buckets (${buckets.widthUs / 1e6} s); set time.bucket to 1h, 6h, 1d, 7d or 30d before the first part`);
+      throw new PartsError(`a part's rows are kept in buckets of ${w / 1e6} s, which do not divide the merged log's ${buckets.label} buckets (${buckets.widthUs / 1e6} s); set time.bucket to 1h, 6h, 1d, 7d or 30d before the first part`);
     }
-    for (const c of part.cells) {
-      const bucket = c.bucket < 0 ? -1 : buckets ? Math.floor((c.bucket * w - buckets.originUs) / buckets.widthUs) : 0;
-      moved.push({ ...reshift(c, part.shift, shift), bucket });
+    const g = part.groups;
+    for (let i = 0; i < g.rows.length; i++) {
+      const b0 = g.bucket[i] as number;
+      const bucket = b0 < 0 ? -1 : buckets ? Math.floor((b0 * w - buckets.originUs) / buckets.widthUs) : 0;
+      const segment = g.segments.map((s) => s[i] as string);
+      const action = g.action[i] as string;
+      const version = g.version[i] as string;
+      keyed.push({ key: `${segment.join(SEP)}${SEP}${action}${SEP}${version}${SEP}${bucket}`, segment, action, version, bucket, p: g.p[i] ?? null, r: g.r[i] ?? null, rows: g.rows[i] as number });
     }
   }
-  const raw = mergeByKey(moved);
+  const raw = replayRaw(keyed, spec, cellOrder);
   const cappedDistinct = new Map<number, number>();
   if (capped.length === 0) return { cells: raw, cappedDistinct };
   const kept = capped.map((i) => {
@@ -161,7 +145,32 @@ export function mergeCells(parts: readonly PartCube[], buckets: TimeBuckets | nu
     return new Set([...rows.entries()].sort((a, b) => b[1] - a[1] || compareText(a[0], b[0])).slice(0, cap).map(([v]) => v));
   });
   const relabelled = raw.map((c) => ({ ...c, segment: c.segment.map((v, i) => { const k = capped.indexOf(i); return k < 0 || kept[k]?.has(v) ? v : OTHER_LABEL; }) }));
-  return { cells: mergeByKey(relabelled), cappedDistinct };
+  return { cells: replayCappedMerge(relabelled, spec, cellOrder), cappedDistinct };
+}
+
+/** The weight groups (segment values, action, valid p, finite r or null) of row groups, over every version and bucket. */
+export function weightGroupsOf(groups: RowGroups): WeightGroups {
+  const at = new Map<string, number>();
+  const segments: string[][] = groups.segments.map(() => []);
+  const action: string[] = [];
+  const p: number[] = [];
+  const r: (number | null)[] = [];
+  const rows: number[] = [];
+  for (let i = 0; i < groups.rows.length; i++) {
+    const pi = groups.p[i];
+    if (pi === null || pi === undefined || !(pi > 0 && pi <= 1)) continue;
+    const ri = groups.r[i] ?? null;
+    const key = `${groups.segments.map((s) => s[i]).join(SEP)}${SEP}${groups.action[i]}${SEP}${pi}${SEP}${ri}`;
+    const j = at.get(key);
+    if (j !== undefined) { rows[j] = (rows[j] as number) + (groups.rows[i] as number); continue; }
+    at.set(key, rows.length);
+    groups.segments.forEach((s, k) => segments[k]?.push(s[i] as string));
+    action.push(groups.action[i] as string);
+    p.push(pi);
+    r.push(ri);
+    rows.push(groups.rows[i] as number);
+  }
+  return { segments, action, p, r, rows };
 }
 
 /**

@@ -1,10 +1,10 @@
 /**
  * What one part of a partitioned log is read for (app/core/parts/merge.ts says how parts merge): its profile,
- * its cube uncapped, in buckets of `storageWidth` from the epoch, its weight groups, and its decision ids grouped exactly with their
- * 64-bit hashes. Four statements over the part (the profile may take two), none over any other part.
+ * its row groups (rows sharing cell keys, in buckets of `storageWidth` from the epoch, propensity and reward), and its
+ * decision ids grouped exactly with their 64-bit hashes. Three statements over the part (the profile may take two),
+ * none over any other part.
  */
-import { cubePreludeSql, cubeSql, groupsByPropensity, parseCube, rewardShift } from '../scan/cube.ts';
-import { chooseBuckets, rowExpressions, timeRangeUs, validPropensity, finiteReward } from '../scan/expressions.ts';
+import { chooseBuckets, finiteReward, rowExpressions, timeRangeUs, validPropensity, type RowExpressions } from '../scan/expressions.ts';
 import { profileLog, type Profile } from '../scan/profile.ts';
 import type { QueryRecord } from '../model/report.ts';
 import { resolveRoles, type RoleOverrides } from '../roles/roles.ts';
@@ -12,9 +12,24 @@ import { resolveSettings } from '../settings.ts';
 import type { Dialect } from '../sql/dialect.ts';
 import { duckdb } from '../sql/dialect-duckdb.ts';
 import type { RunQuery, Table } from '../table.ts';
-import { HOUR_US, PartsError, type PartCube, type WeightGroups } from './merge.ts';
+import { HOUR_US, PartsError } from './merge.ts';
+import type { RowGroups } from './replay.ts';
 
-/** Rows grouped by segment values, action, valid propensity and finite reward (or null), with their count. */
+/**
+ * Rows grouped by everything a row adds to the cube: segment values, action, version, bucket (the part's
+ * width), propensity and the reward when finite (null otherwise), with their count (replay.ts, RowGroups).
+ */
+export function rowGroupsSql(relation: string, rows: RowExpressions, dialect: Dialect = duckdb): string {
+  const seg = rows.segments.map((e, i) => `${e} AS s${i}`);
+  const keys = [...rows.segments.map((_, i) => `s${i}`), 'a', 'v', 'b', 'p', 'r'];
+  return [
+    `SELECT ${keys.join(', ')}, ${dialect.toDouble('count(*)')} AS c FROM (`,
+    `  SELECT *, CASE WHEN ${finiteReward('r0', dialect)} THEN r0 END AS r FROM (SELECT ${[...seg, `${rows.action} AS a`, `${rows.version ?? "''"} AS v`, `${rows.bucket} AS b`, `${rows.propensity} AS p`, `${rows.reward} AS r0`].join(', ')} FROM ${relation}) AS src`,
+    `) AS rows GROUP BY ${keys.join(', ')} ORDER BY ${keys.join(', ')}`,
+  ].join('\n');
+}
+
+/** Rows grouped by segment values, action, valid propensity and finite reward (or null), with their count (an exported plan's tails). */
 export function weightGroupsSql(relation: string, segments: readonly string[], action: string, propensity: string, reward: string, dialect: Dialect = duckdb): string {
   const seg = segments.map((e, i) => `${e} AS s${i}`);
   const keys = [...segments.map((_, i) => `s${i}`), 'a', 'p', 'r'];
@@ -41,8 +56,9 @@ export interface PartIdGroups {
 
 export interface PartScan {
   readonly profile: Profile;
-  readonly cube: PartCube;
-  readonly groups: WeightGroups;
+  /** the part's rows grouped by (cell keys, p, r), in buckets of `bucketUs` from the epoch */
+  readonly groups: RowGroups;
+  readonly bucketUs: number;
   readonly ids: PartIdGroups | null;
   readonly queries: readonly QueryRecord[];
   /** the part's time range in microseconds (null without a time role) */
@@ -86,27 +102,22 @@ export async function scanPart(run: RunQuery, relation: string, overrides: RoleO
   const range = timeRangeUs(roles, profile);
   const width = roles.time ? storageWidth(earlier, range, settings['time.bucket'], settings['time.max_buckets']) : null;
   const rows = rowExpressions(roles, profile, width === null ? null : { originUs: 0, widthUs: width, count: 1, label: '' }, d);
-  const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
-  const byPropensity = groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity));
-  const spec = { relation, rows, capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
-  let cells: ReturnType<typeof parseCube> = [];
-  if (profile.rows > 0) {
-    const preludeSql = cubePreludeSql(spec);
-    const prelude = preludeSql ? await run(record('cube scales', preludeSql, true)) : null;
-    cells = parseCube(await run(record('cube', cubeSql(spec, prelude), true)), rows.segments.length);
-  }
-  const g = await run(record('weight groups', weightGroupsSql(relation, rows.segments, rows.action, rows.propensity, rows.reward, d), true));
-  const groups: WeightGroups = {
-    segments: rows.segments.map((_, i) => col(g, `s${i}`).map(String)),
-    action: col(g, 'a').map(String),
-    p: col(g, 'p').map(Number),
-    r: col(g, 'r').map((v) => (v === null ? null : Number(v))),
-    rows: col(g, 'c').map(Number),
-  };
+  const g = profile.rows === 0 ? null : await run(record('row groups', rowGroupsSql(relation, rows, d), true));
+  const groups: RowGroups = g === null
+    ? { segments: rows.segments.map(() => []), action: [], version: [], bucket: [], p: [], r: [], rows: [] }
+    : {
+      segments: rows.segments.map((_, i) => col(g, `s${i}`).map(String)),
+      action: col(g, 'a').map(String),
+      version: col(g, 'v').map((v) => String(v ?? '')),
+      bucket: col(g, 'b').map((v) => (v === null ? 0 : Number(v))),
+      p: col(g, 'p').map((v) => (v === null ? null : Number(v))),
+      r: col(g, 'r').map((v) => (v === null ? null : Number(v))),
+      rows: col(g, 'c').map(Number),
+    };
   let ids: PartIdGroups | null = null;
   if (roles.decision_id) {
     const t = await run(record('decision ids', idGroupsSql(relation, roles.decision_id, d), true));
     ids = { hashes: col(t, 'h').map((v) => BigInt(v as bigint)), ids: col(t, 'id').map(String), rows: col(t, 'c').map(Number) };
   }
-  return { profile, cube: { cells, shift: reward?.shift ?? 0, bucketUs: width ?? HOUR_US }, groups, ids, queries, timeRange: range };
+  return { profile, groups, bucketUs: width ?? HOUR_US, ids, queries, timeRange: range };
 }

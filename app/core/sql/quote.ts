@@ -10,10 +10,15 @@ export function literal(value: string): string {
   return value.includes('\0') ? `(${quoted.split('\0').join("' || chr(0) || '")})` : quoted;
 }
 
-/** A finite number as a DOUBLE literal; non-finite input is a programming error. */
+/**
+ * A finite number as a DOUBLE literal; non-finite input is a programming error. Written as text cast to
+ * DOUBLE: DuckDB reads a bare decimal literal such as 0.19380120266269746 as a DECIMAL first, and its
+ * DECIMAL → DOUBLE cast is not correctly rounded (0.19380120266269743), while its text → DOUBLE cast is,
+ * so the SQL holds exactly the double written here.
+ */
 export function double(value: number): string {
   if (!Number.isFinite(value)) throw new Error(`cannot write non-finite number ${value} into SQL`);
-  return `CAST(${String(value)} AS DOUBLE)`;
+  return `CAST('${String(value)}' AS DOUBLE)`;
 }
 
 export function integer(value: number): string {
