@@ -25,7 +25,8 @@ function FindingItem({ finding }: { finding: Finding }) {
         </dl>
       )}
       {examples.length > 0 && (
-        <div className="table-scroll">
+        // a region that scrolls sideways takes the focus, so the keyboard can scroll it (axe scrollable-region-focusable)
+        <div className="table-scroll" tabIndex={0} role="region" aria-label={`Example rows: ${segmentLabel(finding.segment)}${finding.action !== undefined ? `, action ${finding.action}` : ""}`}>
           <table className="examples">
             <caption>Example rows</caption>
             <thead><tr>{columns.map((c) => <th key={c} scope="col">{c}</th>)}</tr></thead>

@@ -9,7 +9,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
-import { auditWithV9Table, exportedReportText, V9_POLICY } from './app-steps.ts';
+import { auditWithV9Table, exportedReportText, noSeriousViolations, V9_POLICY } from './app-steps.ts';
 import { inBothWebModes } from './hosted-page.ts';
 
 const ROOT = process.cwd();
@@ -44,6 +44,7 @@ async function auditAndCompare(page: Page, mode: string): Promise<void> {
   await expect(page.getByText(/New fail finding: balance\.weights \(.*action recipe-kit/).first()).toBeVisible();
   await expect(page.getByText(/Resolved: propensity\.range \(device=android\)/)).toBeVisible();
   await page.screenshot({ path: `test-results/screens/30-compare-${mode}.png`, fullPage: false });
+  await noSeriousViolations(page, `compare (${mode})`);
 
   const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export comparison JSON' }).click()]);
   const ui = readFileSync(await download.path(), 'utf8');
@@ -67,6 +68,7 @@ async function auditAndCompare(page: Page, mode: string): Promise<void> {
   await page.getByRole('navigation', { name: 'Steps and results' }).getByRole('button', { name: 'Compare' }).click();
   await page.locator('tr[data-finding-state="new"]').filter({ hasText: 'propensity.exploration' }).getByRole('button', { name: 'Rows behind it' }).click();
   await expect(page.getByRole('heading', { name: /Exploration/ }).first()).toBeVisible();
+  await noSeriousViolations(page, `check detail (${mode})`);
 }
 
 inBothWebModes('compare the week after with the demo log\'s report', { timeoutMs: 240_000, logFolders: [SAMPLE] }, async (page, mode) => {
