@@ -4,12 +4,17 @@
  * the physical floor (a bare scan of the role columns), the cube query alone and the full audit,
  * on every engine, plus a hand-written Arrow baseline. Median of --runs timed runs after a warm-up.
  *
- *   npm run bench -- [--sizes 1m,10m,30m,100m] [--engines native,host,wasm,browser,baseline] [--runs N]
+ *   npm run bench -- [--sizes 1m,10m,30m,100m] [--engines native,host,wasm,browser,baseline,clickhouse] [--runs N]
+ *                    [--clickhouse-size 1m|10m|30m|100m]
  *                    [--kinds floor,cube,audit] [--formats parquet,csv,arrow] [--smoke] [--out FILE] [--memory-limit 2GB]
  * (--memory-limit: DuckDB's memory_limit for the native engine instead of its default (app/engine/memory.ts); it
  * spills to bench/cache/spill; use with --out to keep those results apart. --no-determinism: skip the extra
  * 1-thread audit whose body digest fills the determinism column.) After the rows, a summary per size, engine and
  * format: floor, cube, audit, audit/cube, peak RSS, and whether the body digest was the same on 1 and 2 threads.
+ * The warehouse row (engine `clickhouse`, bench/clickhouse.ts): the audit of a table on two local ClickHouse
+ * shards of --clickhouse-size rows (default 10m; 1m with --smoke) against its bare count(), a scan of the role
+ * columns and the native DuckDB audit of the same rows as Parquet, with our process's peak RSS; skipped with the
+ * reason when clickhouse-server is not installed.
  */
 import { execFile, spawn } from 'node:child_process';
 import { mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
@@ -63,19 +68,25 @@ export interface Options {
   /** measure only logs in these formats (parquet, csv, arrow) */
   formats?: Row['format'][];
   log: (line: string) => void;
+  /** the warehouse row's size (null: not measured) */
+  clickhouse: string | null;
 }
 
 export function parseOptions(argv: readonly string[]): Options {
   const { values } = parseArgs({
     args: [...argv],
-    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, 'no-determinism': { type: 'boolean' }, kinds: { type: 'string' }, formats: { type: 'string' } },
+    options: { sizes: { type: 'string' }, engines: { type: 'string' }, runs: { type: 'string' }, smoke: { type: 'boolean' }, out: { type: 'string' }, 'no-warmup': { type: 'boolean' }, 'memory-limit': { type: 'string' }, 'no-determinism': { type: 'boolean' }, kinds: { type: 'string' }, formats: { type: 'string' }, 'clickhouse-size': { type: 'string' } },
     strict: true,
   });
   const smoke = values.smoke ?? false;
   const sizes = (values.sizes ?? (smoke ? '1m' : '1m,10m,100m')).split(',').map((s) => s.trim().toLowerCase());
   for (const s of sizes) if (!(s in SIZES)) throw new Error(`--sizes takes ${Object.keys(SIZES).join(', ')}, got "${s}"`);
-  const engines = (values.engines ?? (smoke ? 'native,host,wasm,baseline' : ENGINES.join(','))).split(',').map((e) => e.trim()) as EngineName[];
-  for (const e of engines) if (!ENGINES.includes(e)) throw new Error(`--engines takes ${ENGINES.join(', ')}, got "${e}"`);
+  const named = (values.engines ?? (smoke ? 'native,host,wasm,baseline' : [...ENGINES, 'clickhouse'].join(','))).split(',').map((e) => e.trim());
+  for (const e of named) if (!(ENGINES as readonly string[]).includes(e) && e !== 'clickhouse') throw new Error(`--engines takes ${ENGINES.join(', ')}, clickhouse, got "${e}"`);
+  const engines = named.filter((e) => e !== 'clickhouse') as EngineName[];
+  const clickhouseSize = (values['clickhouse-size'] ?? (smoke ? '1m' : '10m')).trim().toLowerCase();
+  if (!(clickhouseSize in SIZES)) throw new Error(`--clickhouse-size takes ${Object.keys(SIZES).join(', ')}, got "${clickhouseSize}"`);
+  const clickhouse = named.includes('clickhouse') || values['clickhouse-size'] !== undefined ? clickhouseSize : null;
   const runs = Number(values.runs ?? (smoke ? 1 : 3));
   if (!Number.isInteger(runs) || runs < 1) throw new Error(`--runs must be a whole number of at least 1, got "${values.runs}"`);
   const kinds = values.kinds?.split(',').map((k) => k.trim()) as Kind[] | undefined;
@@ -84,7 +95,7 @@ export function parseOptions(argv: readonly string[]): Options {
   for (const f of formats ?? []) if (!['parquet', 'csv', 'arrow'].includes(f)) throw new Error(`--formats takes parquet, csv, arrow, got "${f}"`);
   const memoryLimit = values['memory-limit'];
   if (memoryLimit !== undefined && !/^\d+(\.\d+)?\s*(KB|MB|GB|TB|KiB|MiB|GiB|TiB)$/i.test(memoryLimit)) throw new Error(`--memory-limit takes a size such as 2GB, got "${memoryLimit}"`);
-  return { sizes, engines, runs, warmup: !smoke && !values['no-warmup'], smoke, determinism: !values['no-determinism'], ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), ...(formats ? { formats } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
+  return { sizes, engines, clickhouse, runs, warmup: !smoke && !values['no-warmup'], smoke, determinism: !values['no-determinism'], ...(memoryLimit ? { memoryLimit } : {}), ...(kinds ? { kinds } : {}), ...(formats ? { formats } : {}), out: values.out ?? join(smoke ? CACHE : BENCH, smoke ? 'results-smoke.json' : 'results.json'), log: (line) => process.stdout.write(`${line}\n`) };
 }
 
 const dirOf = (size: string) => join(CACHE, `rows-${size}`);
@@ -250,11 +261,44 @@ export function summary(rows: readonly Row[]): string {
   return [fmt(head), widths.map((w) => '-'.repeat(w)).join('  '), ...lines.map(fmt)].join('\n');
 }
 
+/** The demo log has this many rows; the warehouse row's table is the demo repeated to the size asked for. */
+const DEMO_ROWS = 125_375;
+
+/** bench/clickhouse.ts in a child process: one JSON object, or the reason it could not run. */
+async function warehouseRow(size: string, log: Options['log']): Promise<Record<string, unknown>> {
+  const { clickhouseBinary } = await import('../test/engine/clickhouse-servers.ts');
+  const binary = clickhouseBinary();
+  if (binary.path === null) {
+    log(`${size}/clickhouse: skipped (${binary.reason})`);
+    return { size, skipped: binary.reason };
+  }
+  const copies = Math.max(1, Math.round(SIZES[size]! / DEMO_ROWS));
+  log(`${size}/clickhouse: the demo ${copies} times on two local shards, audited there and as Parquet natively ...`);
+  const t0 = performance.now();
+  try {
+    const { stdout } = await runChild(['--import', 'tsx', join(BENCH, 'clickhouse.ts'), '--copies', String(copies)], false);
+    const row = { size, copies, ...(JSON.parse(stdout.slice(stdout.indexOf('{'))) as Record<string, unknown>), wallSeconds: (performance.now() - t0) / 1000 };
+    log(warehouseLine(row));
+    return row;
+  } catch (error) {
+    log(`${size}/clickhouse: error ${(error as Error).message}`);
+    return { size, error: (error as Error).message };
+  }
+}
+
+function warehouseLine(w: Record<string, unknown>): string {
+  if (w.skipped || w.error) return `warehouse ${String(w.size)}: ${w.skipped ? `skipped (${String(w.skipped)})` : `error ${String(w.error)}`}`;
+  const ch = w.clickhouseAudit as { seconds: number; peakRssMb: number };
+  const duck = w.duckdbParquetAudit as { seconds: number; peakRssMb: number };
+  return `warehouse ${String(w.rows)} rows on two ClickHouse shards: audit ${ch.seconds.toFixed(1)} s at ${ch.peakRssMb.toFixed(0)} MB peak RSS of ours; bare count() ${Number(w.bareCountSeconds).toFixed(3)} s, role-column scan ${Number(w.roleColumnsScanSeconds).toFixed(2)} s; native DuckDB audit of the same rows as Parquet ${duck.seconds.toFixed(1)} s at ${duck.peakRssMb.toFixed(0)} MB; same verdict: ${String(w.sameVerdict)}, same statuses: ${String(w.sameVerdictAndStatuses)}${w.sameVerdictAndStatuses ? '' : ` (${JSON.stringify(w.statusDifferences)})`}; load ${(w.loadAverage as number[]).join(' ')}`;
+}
+
 export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Record<string, number>; file: string }> {
   const { log } = options;
   const steps = plan(options);
   const previous: Row[] = options.smoke ? [] : await readFile(options.out, 'utf8').then((t) => (JSON.parse(t) as { results: Row[] }).results, () => []);
   const fresh: Row[] = [];
+  let warehouse: Record<string, unknown> | null = options.smoke ? null : await readFile(options.out, 'utf8').then((t) => (JSON.parse(t) as { warehouse?: Record<string, unknown> }).warehouse ?? null, () => null);
   const mergeAll = (): Row[] => {
     const merged = [...previous.filter((p) => !fresh.some((f) => key(f) === key(p))), ...fresh];
     const order = (r: Row) => [SIZES[r.size]!, ENGINES.indexOf(r.engine), r.format, ['floor', 'cube', 'audit'].indexOf(r.kind)] as const;
@@ -264,7 +308,7 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
     });
   };
   const save = async (merged: Row[]) => {
-    const output = { schema: 'counterweight.bench/1', generated_at: new Date().toISOString(), machine: await machine(), options: { runs: options.runs, warmup: options.warmup, smoke: options.smoke, memory_limit: options.memoryLimit ?? null }, results: merged, ratios: ratios(merged), linear_fit: slope(merged) };
+    const output = { schema: 'counterweight.bench/1', generated_at: new Date().toISOString(), machine: await machine(), options: { runs: options.runs, warmup: options.warmup, smoke: options.smoke, memory_limit: options.memoryLimit ?? null }, results: merged, ratios: ratios(merged), linear_fit: slope(merged), ...(warehouse ? { warehouse } : {}) };
     await mkdir(dirname(options.out), { recursive: true });
     await writeFile(`${options.out}.partial`, `${JSON.stringify(output, null, 2)}\n`);
     await rename(`${options.out}.partial`, options.out);
@@ -300,6 +344,10 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
     // written after every measurement, so an interrupted run keeps what it measured
     await save(mergeAll());
   }
+  if (options.clickhouse) {
+    warehouse = await warehouseRow(options.clickhouse, log);
+    await save(mergeAll());
+  }
   const merged = mergeAll();
   const extra = ratios(merged);
   const fit = slope(merged);
@@ -307,6 +355,7 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
   log(`${summary(merged)}\n`);
   for (const [k, v] of Object.entries(extra)) if (/wasm|host|browser|baseline/.test(k) && !/audit\/(cube|floor)/.test(k)) log(`${k}: ${v.toFixed(2)}`);
   if (fit) log(`native Parquet audit: ${fit.secondsPerMillionRows.toFixed(3)} s per million rows + ${fit.interceptSeconds.toFixed(2)} s (least squares over ${fit.points} sizes)`);
+  if (warehouse) log(warehouseLine(warehouse));
   await save(merged);
   log(`wrote ${options.out}`);
   return { rows: merged, ratios: extra, file: options.out };
