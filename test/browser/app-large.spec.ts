@@ -24,7 +24,7 @@ interface Peak { raw: number; live: number; liveHeap: number; liveBacking: numbe
  * found ("raw", which includes garbage not yet collected, such as file slices already copied into the
  * engine) and after a forced collection ("live": what the thread still holds).
  */
-async function heapSampler(page: Page): Promise<{ sample(): Promise<void>; peaks: Map<string, Peak> }> {
+async function heapSampler(page: Page): Promise<{ sample(): Promise<void>; every(ms: number, after?: () => void): () => Promise<void>; peaks: Map<string, Peak> }> {
   const cdp: CDPSession = await page.context().newCDPSession(page);
   const workers = new Map<string, string>();
   const pending = new Map<number, (v: unknown) => void>();
@@ -56,68 +56,90 @@ async function heapSampler(page: Page): Promise<{ sample(): Promise<void>; peaks
       liveBacking: Math.max(p.liveBacking, live.backingStorageSize ?? 0),
     });
   };
+  const sample = async (): Promise<void> => {
+    const raw = (await cdp.send('Runtime.getHeapUsage').catch(() => null)) as HeapUsage | null;
+    await cdp.send('HeapProfiler.collectGarbage').catch(() => null);
+    note('page', raw, (await cdp.send('Runtime.getHeapUsage').catch(() => null)) as HeapUsage | null);
+    for (const [sessionId, who] of [...workers]) {
+      const r = (await inWorker(sessionId, 'Runtime.getHeapUsage')) as HeapUsage | null;
+      await inWorker(sessionId, 'HeapProfiler.collectGarbage');
+      note(who, r, (await inWorker(sessionId, 'Runtime.getHeapUsage')) as HeapUsage | null);
+    }
+  };
   return {
     peaks,
-    async sample() {
-      const raw = (await cdp.send('Runtime.getHeapUsage').catch(() => null)) as HeapUsage | null;
-      await cdp.send('HeapProfiler.collectGarbage').catch(() => null);
-      note('page', raw, (await cdp.send('Runtime.getHeapUsage').catch(() => null)) as HeapUsage | null);
-      for (const [sessionId, who] of [...workers]) {
-        const r = (await inWorker(sessionId, 'Runtime.getHeapUsage')) as HeapUsage | null;
-        await inWorker(sessionId, 'HeapProfiler.collectGarbage');
-        note(who, r, (await inWorker(sessionId, 'Runtime.getHeapUsage')) as HeapUsage | null);
-      }
+    sample,
+    /** Samples every `ms` (then calls `after`) until the returned stop is awaited; stopping twice is harmless. */
+    every(ms, after) {
+      let sampling = true;
+      const loop = (async () => { while (sampling) { await sample(); after?.(); await new Promise((r) => setTimeout(r, ms)); } })();
+      return async () => { sampling = false; await loop; };
     },
   };
 }
 
 const MB = 1024 * 1024;
+const mb = (v: number) => `${(v / MB).toFixed(1)} MB`;
+
+/** The demo log of this many rows (generated once, then cached), with when its generation started and ended. */
+async function timedDemoLog(rows: number, format: 'csv' | 'parquet'): Promise<{ file: string; started: number; generated: number }> {
+  const started = Date.now();
+  const file = await demoLog(rows, format);
+  return { file, started, generated: Date.now() };
+}
+
+/** Stops the sampling and takes a last sample; both the page's and the engine worker's heaps must have been seen. */
+async function lastPeaks(heap: Awaited<ReturnType<typeof heapSampler>>, stop: () => Promise<void>): Promise<Record<string, string>> {
+  await stop();
+  await heap.sample();
+  expect(heap.peaks.get('page')?.live, 'the page heap was sampled').toBeGreaterThan(0);
+  expect(heap.peaks.get('duckdb worker')?.live, 'the engine worker heap was sampled').toBeGreaterThan(0);
+  return peakHeaps(heap.peaks);
+}
+
+/** Each thread's peak heaps, written out for the log line. */
+function peakHeaps(peaks: ReadonlyMap<string, Peak>): Record<string, string> {
+  return Object.fromEntries([...peaks].map(([k, v]) => [k, `raw ${mb(v.raw)}, live ${mb(v.live)} (heap ${mb(v.liveHeap)}, array buffers ${mb(v.liveBacking)})`]));
+}
+
+/** From the Columns screen of an opened demo log to the overview of its audit: not supported, all its rows read. */
+async function auditToOverview(page: Page, rows: number, timeout: number): Promise<void> {
+  await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
+  await page.getByRole('button', { name: 'Run the audit' }).click();
+  await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout });
+  await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
+  await expect(page.locator('.verdict-card')).toContainText(`${(rows * 1.003).toLocaleString('en')} rows`);
+}
 
 test.describe.serial('large logs @large', () => {
   test.skip(!process.env.CW_LARGE, 'set CW_LARGE=1 to audit the 5M-row CSV and the 10M-row Parquet log');
 
   test(`a ${(CSV_ROWS / 1e6).toFixed(0)}M-row CSV audits in standalone web mode with the file never held in the page's or the workers' heaps`, async ({ page }) => {
     test.setTimeout(600_000);
-    const started = Date.now();
-    const file = await demoLog(CSV_ROWS, 'csv');
-    const generated = Date.now();
+    const { file, started, generated } = await timedDemoLog(CSV_ROWS, 'csv');
     const size = statSync(file).size;
     const heap = await heapSampler(page);
-    let sampling = true;
-    const loop = (async () => { while (sampling) { await heap.sample(); await new Promise((r) => setTimeout(r, 2000)); } })();
+    const stop = heap.every(2000);
     try {
       await page.goto('/');
       await page.getByTestId('log-file-input').setInputFiles(file);
       await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 300_000 });
       const opened = Date.now();
       await expect(page.locator('#role-action')).toHaveValue('promotion');
-      await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-      await page.getByRole('button', { name: 'Run the audit' }).click();
-      await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 540_000 });
-      await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
-      await expect(page.locator('.verdict-card')).toContainText(`${(CSV_ROWS * 1.003).toLocaleString('en')} rows`);
+      await auditToOverview(page, CSV_ROWS, 540_000);
       const done = Date.now();
-      sampling = false;
-      await loop;
-      await heap.sample();
-      const mb = (v: number) => `${(v / MB).toFixed(1)} MB`;
-      const peaks = Object.fromEntries([...heap.peaks].map(([k, v]) => [k, `raw ${mb(v.raw)}, live ${mb(v.live)} (heap ${mb(v.liveHeap)}, array buffers ${mb(v.liveBacking)})`]));
+      const peaks = await lastPeaks(heap, stop);
       console.log(`${CSV_ROWS} rows, ${(size / MB).toFixed(0)} MB CSV: generate/cache ${((generated - started) / 1000).toFixed(1)} s, open ${((opened - generated) / 1000).toFixed(1)} s, audit ${((done - opened) / 1000).toFixed(1)} s; peak heaps ${JSON.stringify(peaks)}`);
-      expect(heap.peaks.get('page')?.live, 'the page heap was sampled').toBeGreaterThan(0);
-      expect(heap.peaks.get('duckdb worker')?.live, 'the engine worker heap was sampled').toBeGreaterThan(0);
       // Holding the log in memory would need at least its size; what each thread holds stays under a quarter of it.
       for (const [who, p] of heap.peaks) expect(p.live, `${who} peak live heap`).toBeLessThan(0.25 * size);
     } finally {
-      sampling = false;
-      await loop;
+      await stop();
     }
   });
 
   test('a 10M-row Parquet log audits in standalone web mode, read row group by row group, with every thread\'s live JS heap far below the file size', async ({ page }) => {
     test.setTimeout(600_000);
-    const started = Date.now();
-    const file = await demoLog(PARQUET_ROWS, 'parquet');
-    const generated = Date.now();
+    const { file, started, generated } = await timedDemoLog(PARQUET_ROWS, 'parquet');
     const size = statSync(file).size;
     const heap = await heapSampler(page);
     await page.goto('/');
@@ -130,8 +152,7 @@ test.describe.serial('large logs @large', () => {
     // The engine's worker starts when the log is opened: its baseline is its heap when first seen (DuckDB-Wasm's
     // own module code, about 35 MB, at most a row group in flight by then).
     const noteFirst = () => { for (const [who, p] of heap.peaks) if (!before.has(who)) before.set(who, p.liveHeap); };
-    let sampling = true;
-    const loop = (async () => { while (sampling) { await heap.sample(); noteFirst(); await new Promise((r) => setTimeout(r, 2000)); } })();
+    const stop = heap.every(2000, noteFirst);
     try {
       await page.getByTestId('log-file-input').setInputFiles(file);
       await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 300_000 });
@@ -140,20 +161,10 @@ test.describe.serial('large logs @large', () => {
       await heap.sample();
       const whileOpening = new Map([...heap.peaks].map(([who, p]) => [who, p.liveHeap]));
       await expect(page.locator('#role-action')).toHaveValue('promotion');
-      await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-      await page.getByRole('button', { name: 'Run the audit' }).click();
-      await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 480_000 });
-      await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
-      await expect(page.locator('.verdict-card')).toContainText(`${(PARQUET_ROWS * 1.003).toLocaleString('en')} rows`);
+      await auditToOverview(page, PARQUET_ROWS, 480_000);
       const done = Date.now();
-      sampling = false;
-      await loop;
-      await heap.sample();
-      const mb = (v: number) => `${(v / MB).toFixed(1)} MB`;
-      const peaks = Object.fromEntries([...heap.peaks].map(([k, v]) => [k, `raw ${mb(v.raw)}, live ${mb(v.live)} (heap ${mb(v.liveHeap)}, array buffers ${mb(v.liveBacking)})`]));
+      const peaks = await lastPeaks(heap, stop);
       console.log(`${PARQUET_ROWS} rows, ${(size / MB).toFixed(0)} MB Parquet in standalone web mode: generate/cache ${((generated - started) / 1000).toFixed(1)} s, open (load) ${((opened - generated) / 1000).toFixed(1)} s, audit ${((done - opened) / 1000).toFixed(1)} s; live JS heap before opening ${JSON.stringify(Object.fromEntries([...before].map(([k, v]) => [k, mb(v)])))}; peak heaps ${JSON.stringify(peaks)}`);
-      expect(heap.peaks.get('page')?.live, 'the page heap was sampled').toBeGreaterThan(0);
-      expect(heap.peaks.get('duckdb worker')?.live, 'the engine worker heap was sampled').toBeGreaterThan(0);
       // The decoded columns (about 0.9 GB of Arrow for this log) live in DuckDB-Wasm's own memory; what
       // JavaScript holds while the file is read is one or two row groups' Arrow at a time, so opening the
       // log adds to each thread's live JS heap far less than the file's size.
@@ -162,16 +173,13 @@ test.describe.serial('large logs @large', () => {
       // the rows; still well under the file's size.
       for (const [who, p] of heap.peaks) expect(p.liveHeap - (before.get(who) ?? 0), `${who}: live JS heap added by the log and its audit`).toBeLessThan(0.5 * size);
     } finally {
-      sampling = false;
-      await loop;
+      await stop();
     }
   });
 
   test('a 10M-row Parquet log audits through hosted mode', async ({ page }) => {
     test.setTimeout(600_000);
-    const started = Date.now();
-    const file = await demoLog(PARQUET_ROWS, 'parquet');
-    const generated = Date.now();
+    const { file, started, generated } = await timedDemoLog(PARQUET_ROWS, 'parquet');
     const token = newToken();
     const server = await createHostedServer({ port: 0, token, origin: PAGE_ORIGIN, logFolders: [path.dirname(file)] });
     try {
@@ -179,11 +187,7 @@ test.describe.serial('large logs @large', () => {
       await page.getByTestId('log-file-input').setInputFiles(file);
       await expect(page.getByRole('heading', { name: 'Which column is which?' })).toBeVisible({ timeout: 120_000 });
       const opened = Date.now();
-      await page.getByRole('button', { name: 'Next: targets and thresholds' }).click();
-      await page.getByRole('button', { name: 'Run the audit' }).click();
-      await expect(page.getByRole('heading', { name: 'Audit overview' })).toBeVisible({ timeout: 480_000 });
-      await expect(page.locator('.verdict-card [data-verdict="not-supported"]')).toBeVisible();
-      await expect(page.locator('.verdict-card')).toContainText(`${(PARQUET_ROWS * 1.003).toLocaleString('en')} rows`);
+      await auditToOverview(page, PARQUET_ROWS, 480_000);
       console.log(`${PARQUET_ROWS} rows Parquet via hosted mode: generate/cache ${((generated - started) / 1000).toFixed(1)} s, open ${((opened - generated) / 1000).toFixed(1)} s, audit ${((Date.now() - opened) / 1000).toFixed(1)} s`);
     } finally {
       await server.close();
