@@ -9,31 +9,20 @@
  * first rows, and a cluster's first rows are whichever shard answers first. system.query_log on each
  * shard names the statements that ran there.
  */
-import { spawn, spawnSync } from 'node:child_process';
+import { spawn } from 'node:child_process';
 import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createNativeEngine } from '../../app/engine/native.ts';
-import { loadShards } from './clickhouse-load.ts';
-import { CLUSTER, clickhouseBinary, clickhouseRequired, startLocalShards, type LocalShards } from './clickhouse-servers.ts';
+import { BIN, cli, DEMO, demoOnTwoShards, env, ROLES, ROOT } from './clickhouse-demo.ts';
+import { clickhouseBinary, clickhouseRequired, type LocalShards } from './clickhouse-servers.ts';
 
-const ROOT = path.resolve('.');
-const BIN = path.join(ROOT, 'bin/counterweight.mjs');
-const DEMO = 'sample-data/maple-row-demo.parquet';
-const ROLES = ['--role', 'decision_id=decision_id', '--role', 'time=logged_at', '--role', 'action=promotion', '--role', 'propensity=propensity', '--role', 'reward=ordered', '--role', 'policy_version=policy_version', '--segments', 'region,device,tenure'];
 const TARGETS = ['--target', 'table:sample-data/maple-row-v9-policy.csv', '--target', 'uniform'];
 
 const binary = clickhouseBinary();
 const missing = binary.path === null ? binary.reason : null;
 if (missing && !clickhouseRequired()) console.warn(`ClickHouse audit tests skipped: ${missing}`);
-
-const env = { ...process.env, NO_COLOR: '1', CLICKHOUSE_USER: 'default', CLICKHOUSE_PASSWORD: '' };
-function cli(args: readonly string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env, timeout: 600_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 type Json = null | boolean | number | string | Json[] | { [k: string]: Json };
 
@@ -73,17 +62,9 @@ describe.skipIf(missing !== null && !clickhouseRequired())('audit of a table on 
 
   beforeAll(async () => {
     if (missing) throw new Error(`the ClickHouse tests must run here: ${missing}`);
-    shards = await startLocalShards(2);
-    const engine = await createNativeEngine();
-    try {
-      const log = await engine.query(`SELECT * FROM read_parquet('${path.resolve(DEMO)}')`);
-      const sizes = await loadShards(shards, 'demo', log, (i) => i % 2);
-      expect(sizes).toEqual([62688, 62687]);
-    } finally {
-      await engine.close();
-    }
-    await shards.admin(0, `CREATE TABLE demo_all AS demo ENGINE = Distributed(${CLUSTER}, default, demo)`);
-    address = `clickhouse://127.0.0.1:${shards.servers[0]!.httpPort}/default.demo_all`;
+    const demo = await demoOnTwoShards();
+    ({ shards, address } = demo);
+    expect(demo.sizes).toEqual([62688, 62687]);
   }, 180_000);
 
   afterAll(async () => {

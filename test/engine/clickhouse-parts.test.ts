@@ -8,31 +8,19 @@
  * number to 1e-12 relative (as test/core/parts-merge.test.ts holds DuckDB's own parts to it); findings of a
  * merged audit carry no example rows.
  */
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createNativeEngine } from '../../app/engine/native.ts';
-import { loadShards } from './clickhouse-load.ts';
-import { CLUSTER, clickhouseBinary, clickhouseRequired, startLocalShards, type LocalShards } from './clickhouse-servers.ts';
+import { cli, DEMO, demoOnTwoShards, ROLES } from './clickhouse-demo.ts';
+import { clickhouseBinary, clickhouseRequired, type LocalShards } from './clickhouse-servers.ts';
 import { firstDifference } from '../core/audit-helpers.ts';
 
-const ROOT = path.resolve('.');
-const BIN = path.join(ROOT, 'bin/counterweight.mjs');
-const DEMO = 'sample-data/maple-row-demo.parquet';
-const ROLES = ['--role', 'decision_id=decision_id', '--role', 'time=logged_at', '--role', 'action=promotion', '--role', 'propensity=propensity', '--role', 'reward=ordered', '--role', 'policy_version=policy_version', '--segments', 'region,device,tenure'];
 const TARGETS = ['--target', 'table:sample-data/maple-row-v9-policy.csv'];
 
 const binary = clickhouseBinary();
 const missing = binary.path === null ? binary.reason : null;
 if (missing && !clickhouseRequired()) console.warn(`ClickHouse parts tests skipped: ${missing}`);
-
-const env = { ...process.env, NO_COLOR: '1', CLICKHOUSE_USER: 'default', CLICKHOUSE_PASSWORD: '' };
-function cli(args: readonly string[]) {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: 'utf8', env, timeout: 600_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
 
 interface Report { verdict: string; reasons: { check: string }[]; checks: { id: string; status: string; findings: Record<string, unknown>[]; metrics: unknown }[]; input: { rows: number; files: { path: string }[] }; roles: unknown; targets: { max_weight: number }[]; queries: unknown; run: unknown; signoff: unknown }
 const withoutExamples = (r: Report) => ({ ...r, checks: r.checks.map((c) => ({ ...c, findings: c.findings.map(({ examples: _e, sql: _s, ...f }) => f) })) });
@@ -49,18 +37,10 @@ describe.skipIf(missing !== null && !clickhouseRequired())('an audit merged from
 
   beforeAll(async () => {
     if (missing) throw new Error(`the ClickHouse tests must run here: ${missing}`);
-    shards = await startLocalShards(2);
-    const engine = await createNativeEngine();
-    try {
-      const log = await engine.query(`SELECT * FROM read_parquet('${path.resolve(DEMO)}')`);
-      await loadShards(shards, 'demo', log, (i) => i % 2);
+    ({ shards, address } = await demoOnTwoShards(async (engine) => {
       const list = await engine.query(`SELECT DISTINCT strftime(logged_at, '%Y-%m-%d') AS d FROM read_parquet('${path.resolve(DEMO)}') ORDER BY 1`);
       days = (list.columns[0] as unknown[]).map(String);
-    } finally {
-      await engine.close();
-    }
-    await shards.admin(0, `CREATE TABLE demo_all AS demo ENGINE = Distributed(${CLUSTER}, default, demo)`);
-    address = `clickhouse://127.0.0.1:${shards.servers[0]!.httpPort}/default.demo_all`;
+    }));
   }, 180_000);
 
   afterAll(async () => {
