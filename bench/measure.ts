@@ -43,6 +43,8 @@ export interface MeasureSpec {
 
 export interface MeasureResult {
   seconds: number[];
+  /** process CPU seconds (user + system, DuckDB's threads included) of each timed run; absent for the host and the browser, whose work runs in another process */
+  cpuSeconds?: number[];
   /** a few numbers of the answer, to see that engines agree */
   answer: Record<string, number | string>;
   /** sampled in this process (and in the engine host's process, read from /proc) */
@@ -99,16 +101,20 @@ async function openEngine(name: EngineName, memoryLimit?: string, threads?: numb
   }
 }
 
-/** Runs `once` (after an untimed warm-up when asked) and returns the timed runs' wall seconds. */
-async function timed<T>(spec: MeasureSpec, once: () => Promise<T>): Promise<{ seconds: number[]; last: T }> {
+/** Runs `once` (after an untimed warm-up when asked) and returns the timed runs' wall seconds and this process's CPU seconds. */
+async function timed<T>(spec: MeasureSpec, once: () => Promise<T>): Promise<{ seconds: number[]; cpuSeconds: number[]; last: T }> {
   let last = spec.warmup ? await once() : undefined;
   const seconds: number[] = [];
+  const cpuSeconds: number[] = [];
   for (let i = 0; i < spec.runs; i++) {
+    const c0 = process.cpuUsage();
     const t0 = performance.now();
     last = await once();
     seconds.push((performance.now() - t0) / 1000);
+    const c = process.cpuUsage(c0);
+    cpuSeconds.push((c.user + c.system) / 1e6);
   }
-  return { seconds, last: last as T };
+  return { seconds, cpuSeconds, last: last as T };
 }
 
 export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
@@ -118,8 +124,8 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
   const targets = [{ spec: `table:${spec.policy}`, tableText: policyText }];
   try {
     if (spec.engine === 'baseline') {
-      const { seconds, last } = await timed(spec, () => baselineAudit(spec.file, policyText));
-      return { seconds, answer: { rows: last.rows, ess: last.ess, max_weight: last.maxWeight, cells: last.cells, duplicate_ids: last.duplicateIds }, peakRssMb: await peakRssOf(process.pid), peakHeapMb: peakHeap / 2 ** 20 };
+      const { seconds, cpuSeconds, last } = await timed(spec, () => baselineAudit(spec.file, policyText));
+      return { seconds, cpuSeconds, answer: { rows: last.rows, ess: last.ess, max_weight: last.maxWeight, cells: last.cells, duplicate_ids: last.duplicateIds }, peakRssMb: await peakRssOf(process.pid), peakHeapMb: peakHeap / 2 ** 20 };
     }
     if (spec.engine === 'browser') {
       const { measureInBrowser } = await import('./browser.ts');
@@ -129,26 +135,32 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
     const engine = await openEngine(spec.engine, spec.memoryLimit);
     try {
       const opening = performance.now();
+      const openCpu = process.cpuUsage();
       const source = await engine.register({ kind: 'path', paths: [spec.file] });
       // DuckDB-Wasm loads a Parquet log into its memory when it is opened (app/engine/parquet/): that load is
       // part of every audit of the file, so it is added to each timed run (measured once; opening twice would load twice).
-      const openSeconds = spec.engine === 'wasm' && source.format === 'parquet' ? (performance.now() - opening) / 1000 : 0;
+      const loadsOnOpen = spec.engine === 'wasm' && source.format === 'parquet';
+      const openSeconds = loadsOnOpen ? (performance.now() - opening) / 1000 : 0;
+      const openCpuUsage = process.cpuUsage(openCpu);
+      const openCpuSeconds = loadsOnOpen ? (openCpuUsage.user + openCpuUsage.system) / 1e6 : 0;
       const run: RunQuery = (sql) => engine.query(sql);
-      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, peakRssMb };
+      // a CSV is parsed once for the row-level statements, as the command and the app audit it (Engine.project)
+      const project = engine.project?.bind(engine);
+      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, peakRssMb, ...(project ? { project: (columns: readonly string[]) => project(source.relation, columns) } : {}) };
       const audit = () => runAudit(run, request);
-      let result: { seconds: number[]; answer: Record<string, number | string> };
+      let result: { seconds: number[]; cpuSeconds: number[]; answer: Record<string, number | string> };
       if (spec.kind === 'audit') {
-        const { seconds, last } = await timed(spec, audit);
+        const { seconds, cpuSeconds, last } = await timed(spec, audit);
         const answer: Record<string, number | string> = { ...auditAnswer(last), ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}) };
         if (spec.engine === 'native' && spec.determinism !== false) answer.deterministic = (await oneThreadDigest(spec, targets)) === answer.body ? 'yes' : 'no';
-        result = { seconds: seconds.map((s) => s + openSeconds), answer };
+        result = { seconds: seconds.map((s) => s + openSeconds), cpuSeconds: cpuSeconds.map((s) => s + openCpuSeconds), answer };
       } else if (spec.kind === 'cube') {
         const cubeSql = await auditCubeSql(run, source.relation);
-        const { seconds, last } = await timed(spec, () => engine.query(cubeSql));
-        result = { seconds, answer: { cells: last.rowCount } };
+        const { seconds, cpuSeconds, last } = await timed(spec, () => engine.query(cubeSql));
+        result = { seconds, cpuSeconds, answer: { cells: last.rowCount } };
       } else {
-        const { seconds, last } = await timed(spec, () => engine.query(FLOOR_SQL(source.relation)));
-        result = { seconds, answer: { rows: Number(last.columns[2]?.[0] ?? NaN) } };
+        const { seconds, cpuSeconds, last } = await timed(spec, () => engine.query(FLOOR_SQL(source.relation)));
+        result = { seconds, cpuSeconds, answer: { rows: Number(last.columns[2]?.[0] ?? NaN) } };
       }
       return { ...result, peakRssMb: await peakRssOf(process.pid), peakHeapMb: peakHeap / 2 ** 20 };
     } finally {
@@ -164,7 +176,7 @@ async function oneThreadDigest(spec: MeasureSpec, targets: { spec: string; table
   const engine = await openEngine('native', spec.memoryLimit, 1);
   try {
     const source = await engine.register({ kind: 'path', paths: [spec.file] });
-    const report = await runAudit((sql) => engine.query(sql), { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets });
+    const report = await runAudit((sql) => engine.query(sql), { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(source.relation, columns) } : {}) });
     return bodyDigest(report).slice(0, 16);
   } finally {
     await engine.close();

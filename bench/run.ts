@@ -42,6 +42,10 @@ export interface Row {
   kind: Kind;
   runs: number[];
   seconds: number;
+  /** median process CPU seconds of the timed runs (DuckDB's threads included; absent for the host and the browser) */
+  cpuSeconds?: number;
+  /** the 1-minute load average when the measurement started (the machine is shared) */
+  loadAverage?: number;
   rowsPerSecond: number;
   /** /usr/bin/time -v "Maximum resident set size" of the measuring process (the host's own shown apart) */
   peakRssMb: number;
@@ -191,6 +195,11 @@ export function plan(options: Pick<Options, 'sizes' | 'engines' | 'smoke' | 'kin
   return options.formats ? kept.filter((p) => options.formats!.includes(p.format)) : kept;
 }
 
+async function loadAverageNow(): Promise<number | undefined> {
+  const first = (await readFile('/proc/loadavg', 'utf8').catch(() => '')).split(' ')[0];
+  return first ? Number(first) : undefined;
+}
+
 async function machine(): Promise<Record<string, string | number>> {
   const cpuinfo = await readFile('/proc/cpuinfo', 'utf8').catch(() => '');
   return {
@@ -248,13 +257,13 @@ export function summary(rows: readonly Row[]): string {
   const ok = (r: Row | undefined) => (r && !r.error && !r.skipped ? r : undefined);
   const groups = new Map<string, Row[]>();
   for (const r of rows) groups.set(`${r.size}/${r.engine}/${r.format}`, [...(groups.get(`${r.size}/${r.engine}/${r.format}`) ?? []), r]);
-  const head = ['rows', 'engine', 'format', 'floor s', 'cube s', 'audit s', 'audit/cube', 'audit peak RSS MB', 'same body on 1 and 2 threads'];
+  const head = ['rows', 'engine', 'format', 'floor s', 'cube s', 'audit s', 'audit CPU s', 'audit/cube', 'audit peak RSS MB', 'same body on 1 and 2 threads', 'load at audit'];
   const lines = [...groups.values()].map((g) => {
     const [floor, cube, audit] = (['floor', 'cube', 'audit'] as const).map((k) => ok(g.find((r) => r.kind === k)));
     const rss = audit ? Math.max(audit.peakRssMb, audit.hostPeakRssMb ?? 0) : NaN;
     const det = audit?.answer.deterministic;
-    return [g[0]!.size, g[0]!.engine, g[0]!.format, floor?.seconds.toFixed(2) ?? '-', cube?.seconds.toFixed(2) ?? '-', audit?.seconds.toFixed(2) ?? '-',
-      audit && cube ? (audit.seconds / cube.seconds).toFixed(1) : '-', Number.isFinite(rss) ? rss.toFixed(0) : '-', typeof det === 'string' ? det : '-'];
+    return [g[0]!.size, g[0]!.engine, g[0]!.format, floor?.seconds.toFixed(2) ?? '-', cube?.seconds.toFixed(2) ?? '-', audit?.seconds.toFixed(2) ?? '-', audit?.cpuSeconds?.toFixed(1) ?? '-',
+      audit && cube ? (audit.seconds / cube.seconds).toFixed(1) : '-', Number.isFinite(rss) ? rss.toFixed(0) : '-', typeof det === 'string' ? det : '-', audit?.loadAverage?.toFixed(1) ?? '-'];
   });
   const widths = head.map((h, j) => Math.max(h.length, ...lines.map((l) => String(l[j]).length)));
   const fmt = (l: readonly string[]) => l.map((c, j) => (j >= 3 ? c.padStart(widths[j]!) : c.padEnd(widths[j]!))).join('  ');
@@ -331,11 +340,12 @@ export async function bench(options: Options): Promise<{ rows: Row[]; ratios: Re
         }
       }
       const spec: MeasureSpec = { engine: step.engine, kind: step.kind, file: logPath(step.size, step.format), policy: POLICY, runs: options.runs, warmup: options.warmup, determinism: options.determinism, ...(options.memoryLimit && step.engine === 'native' ? { memoryLimit: options.memoryLimit } : {}) };
+      const loadAverage = await loadAverageNow();
       const m = await measureInChild(spec);
       const seconds = median(m.seconds);
-      row = { ...base, runs: m.seconds, seconds, rowsPerSecond: rows / seconds, peakRssMb: m.timeRssMb, peakHeapMb: m.peakHeapMb, answer: m.answer,
+      row = { ...base, runs: m.seconds, seconds, ...(m.cpuSeconds?.length ? { cpuSeconds: median(m.cpuSeconds) } : {}), ...(loadAverage !== undefined ? { loadAverage } : {}), rowsPerSecond: rows / seconds, peakRssMb: m.timeRssMb, peakHeapMb: m.peakHeapMb, answer: m.answer,
         ...(m.hostPeakRssMb !== undefined ? { hostPeakRssMb: m.hostPeakRssMb } : {}), ...(m.browserPeakHeapMb !== undefined ? { browserPeakHeapMb: m.browserPeakHeapMb } : {}) };
-      log(`${key(step)}: ${seconds.toFixed(3)} s (runs ${m.seconds.map((s) => s.toFixed(3)).join(', ')}), peak RSS ${m.timeRssMb.toFixed(0)} MB${m.hostPeakRssMb ? `, host ${m.hostPeakRssMb.toFixed(0)} MB` : ''} ${JSON.stringify(m.answer)}`);
+      log(`${key(step)}: ${seconds.toFixed(3)} s${row.cpuSeconds !== undefined ? `, ${row.cpuSeconds.toFixed(2)} CPU s` : ''}${loadAverage !== undefined ? `, load ${loadAverage.toFixed(1)}` : ''} (runs ${m.seconds.map((s) => s.toFixed(3)).join(', ')}), peak RSS ${m.timeRssMb.toFixed(0)} MB${m.hostPeakRssMb ? `, host ${m.hostPeakRssMb.toFixed(0)} MB` : ''} ${JSON.stringify(m.answer)}`);
     } catch (error) {
       row = { ...base, runs: [], seconds: NaN, rowsPerSecond: NaN, peakRssMb: NaN, peakHeapMb: NaN, answer: {}, error: (error as Error).message };
       log(`${key(step)}: error ${(error as Error).message}`);

@@ -9,7 +9,7 @@ import type { Report } from '../core/model/report.ts';
 import type { RoleOverrides } from '../core/roles/roles.ts';
 import { sha256Hex } from '../report/signoff.ts';
 import { loadAuditCore } from './commands/core.ts';
-import { openEngine, registerSources, type EngineChoice } from './sources.ts';
+import { openEngine, projectionOf, registerSources, type EngineChoice } from './sources.ts';
 
 export interface ReauditOutcome {
   readonly same: boolean;
@@ -113,6 +113,7 @@ export async function reaudit(report: Report, files: readonly string[], cwd: str
         targets,
         settings: givenSettings(report),
         engine: engine.kind,
+        ...projectionOf(engine, source.relation),
         // the recorded start time: "future" timestamps are judged against it, as they were
         now: () => Date.parse(report.run.started_at),
       });

@@ -96,3 +96,9 @@ export async function countRows(engine: Engine, relation: string): Promise<numbe
   const table = await engine.query(`SELECT count(*)::DOUBLE AS n FROM ${relation}`);
   return Number(table.columns[0]?.[0] ?? 0);
 }
+
+/** The audit's projection hook for a registered relation: a CSV is parsed once for the row-level statements (Engine.project). */
+export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[]) => ReturnType<NonNullable<Engine['project']>> } {
+  const { project } = engine;
+  return project ? { project: (columns) => project.call(engine, relation, columns) } : {};
+}

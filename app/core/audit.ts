@@ -10,7 +10,7 @@ import { tailSummary } from './checks/weights-tail.ts';
 import { estimatesFor } from './checks/estimate-preview.ts';
 import type { CubeCell } from './cube/types.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type InputTable, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
-import { resolveRoles, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
+import { resolveRoles, SINGLE_ROLES, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
 import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
@@ -61,6 +61,13 @@ export interface AuditRequest {
    * is the one a fresh audit makes.
    */
   readonly inspection?: RoleInspection;
+  /**
+   * Copies the named columns of the log into a temporary table of the engine (Engine.project) and answers
+   * its name, or null when the log is cheap to read again (Parquet). Given for a CSV, the row-level
+   * statements (cube, duplicates, tails, clip rows) read that table, so the file is parsed once for all of
+   * them (the profile and the example rows read the log itself); the table is released before the checks run.
+   */
+  readonly project?: (columns: readonly string[]) => Promise<AuditProjection | null>;
   /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
   readonly peakRssMb?: () => number;
   /**
@@ -69,6 +76,19 @@ export interface AuditRequest {
    * example rows (their `sql` still says how to read them). Needs `inspection`.
    */
   readonly scans?: AuditScans;
+}
+
+/** A temporary table of some of the log's columns (app/engine/types.ts Projection). */
+export interface AuditProjection {
+  readonly relation: string;
+  readonly sql: string;
+  release(): Promise<void>;
+}
+
+/** The role and segment columns the row-level statements read, each once, in role order. */
+export function projectedColumns(roles: Pick<RolesReport, 'segments'> & { readonly [role: string]: unknown }, logColumns: readonly string[]): string[] {
+  const named = [...SINGLE_ROLES.map((r) => roles[r]), ...roles.segments];
+  return [...new Set(named.filter((c): c is string => typeof c === 'string' && logColumns.includes(c)))];
 }
 
 /** The row-level scans' answers, as their parsers give them (app/core/scan/cube.ts, rows.ts). */
@@ -216,56 +236,67 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const byPropensity = groupsByPropensity(propensityProfile);
   let targets: TargetAnalysis[] = [];
   guard();
-  if (rowsExpr) {
-    progress('cube', false, { passes: scans ? [] : d.name === 'clickhouse' ? ['scales', 'cube'] : ['cube'] });
-    const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
-    let cappedDistinct: Map<number, number>;
-    if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, reward, floor: settings['support.floor.epsilon'], byPropensity, rowCount: profile.rows }));
-    else {
-      const spec = { relation, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
-      const preludeSql = cubePreludeSql(spec);
-      const prelude = preludeSql ? await run(record('cube scales', preludeSql, true)) : null;
-      const cube = await run(record('cube', cubeSql(spec, prelude), true));
-      cells = parseCube(cube, segmentColumns.length);
-      cappedDistinct = parseCappedDistinct(cube, capped);
-    }
-    for (const [i, distinct] of cappedDistinct) {
-      const c = segmentColumns[i] as string;
-      caps[c] = { distinct, kept: cap };
-    }
-    progress('cube', true, undefined, cells.length);
-  }
-  const view = cubeView(cells, segmentColumns);
-  if (rowsExpr) checkTargetActions(explicit, view.actions);
-  guard();
-  if (rowsExpr) {
-    const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
-    targets = policies.map((p) => analyseTarget(p, view));
-  }
-  const tailPasses: PassKind[] = scans ? [] : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
-  progress('tails', false, { passes: tailPasses });
-  if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(relation, roles.decision_id, 5, d), true)));
-  if (rowsExpr) {
-    for (const t of targets) {
-      guard();
-      if (t.n < 2) continue;
-      const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-      tails.set(t.target.name, scans ? scans.tail(t.target, segmentColumns, view.actions, limit) : parseTail(await run(record(`tail ${t.target.name}`, tailSql(relation, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), true))));
-    }
-  }
-  const primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
+  // A CSV is parsed once for the row-level statements: they read a temporary table of the columns they use.
+  const projection = !scans && request.project && (rowsExpr || roles.decision_id) ? await request.project(projectedColumns(effectiveRoles, logColumns)) : null;
+  if (projection) queries.push({ name: 'projection', sql: projection.sql, scans_source: true });
+  const rowSource = projection ? projection.relation : relation;
+  const readsSource = !projection;
   const clips = new Map<string, TargetClips>();
-  if (rowsExpr) {
-    for (const t of primaryTargets) {
-      const tail = tails.get(t.target.name);
-      if (!tail || tail.weights.length === 0) continue;
-      guard();
-      // the rows above the tail's smallest listed weight are all listed; when the tail holds every positive weight, all of them
-      const complete = tail.counts.reduce((a, b) => a + b, 0) <= tail.weights.length;
-      const exactAbove = complete ? 0 : (tail.weights[tail.weights.length - 1] as number);
-      const rows = scans ? scans.clip(t.target, segmentColumns, view.actions, exactAbove, tail.weights.length) : parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(relation, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), true)));
-      clips.set(t.target.name, { exactAbove, rows, maxWeight: tail.weights[0] as number });
+  let view: CubeView;
+  let primaryTargets: TargetAnalysis[];
+  try {
+    if (rowsExpr) {
+      progress('cube', false, { passes: scans ? [] : d.name === 'clickhouse' ? ['scales', 'cube'] : ['cube'] });
+      const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
+      let cappedDistinct: Map<number, number>;
+      if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, reward, floor: settings['support.floor.epsilon'], byPropensity, rowCount: profile.rows }));
+      else {
+        const spec = { relation: rowSource, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
+        const preludeSql = cubePreludeSql(spec);
+        const prelude = preludeSql ? await run(record('cube scales', preludeSql, readsSource)) : null;
+        const cube = await run(record('cube', cubeSql(spec, prelude), readsSource));
+        cells = parseCube(cube, segmentColumns.length);
+        cappedDistinct = parseCappedDistinct(cube, capped);
+      }
+      for (const [i, distinct] of cappedDistinct) {
+        const c = segmentColumns[i] as string;
+        caps[c] = { distinct, kept: cap };
+      }
+      progress('cube', true, undefined, cells.length);
     }
+    view = cubeView(cells, segmentColumns);
+    if (rowsExpr) checkTargetActions(explicit, view.actions);
+    guard();
+    if (rowsExpr) {
+      const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
+      targets = policies.map((p) => analyseTarget(p, view));
+    }
+    const tailPasses: PassKind[] = scans ? [] : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
+    progress('tails', false, { passes: tailPasses });
+    if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d), readsSource)));
+    if (rowsExpr) {
+      for (const t of targets) {
+        guard();
+        if (t.n < 2) continue;
+        const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
+        tails.set(t.target.name, scans ? scans.tail(t.target, segmentColumns, view.actions, limit) : parseTail(await run(record(`tail ${t.target.name}`, tailSql(rowSource, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), readsSource))));
+      }
+    }
+    primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
+    if (rowsExpr) {
+      for (const t of primaryTargets) {
+        const tail = tails.get(t.target.name);
+        if (!tail || tail.weights.length === 0) continue;
+        guard();
+        // the rows above the tail's smallest listed weight are all listed; when the tail holds every positive weight, all of them
+        const complete = tail.counts.reduce((a, b) => a + b, 0) <= tail.weights.length;
+        const exactAbove = complete ? 0 : (tail.weights[tail.weights.length - 1] as number);
+        const rows = scans ? scans.clip(t.target, segmentColumns, view.actions, exactAbove, tail.weights.length) : parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(rowSource, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), readsSource)));
+        clips.set(t.target.name, { exactAbove, rows, maxWeight: tail.weights[0] as number });
+      }
+    }
+  } finally {
+    await projection?.release();
   }
   progress('tails', true);
   guard();

@@ -9,9 +9,9 @@ import { expandSource, lockDownSql } from './file-grants.ts';
 import { engineMemory } from './memory.ts';
 import { foldersAmong } from './node-paths.ts';
 import { assertReadStatement, STATEMENT_CHECK_SQL } from './read-only.ts';
-import { buildScan, createViewSql, globSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
+import { buildScan, createViewSql, dropProjectionSql, globSql, PROJECTED_FORMATS, projectionName, projectionSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
 import { EngineError } from './types.ts';
-import type { Engine, QueryOptions, RegisteredSource, SourceSpec } from './types.ts';
+import type { Engine, Projection, QueryOptions, RegisteredSource, SourceFormat, SourceSpec } from './types.ts';
 import { serialQueue } from './serial.ts';
 
 export interface NativeEngineOptions {
@@ -32,6 +32,8 @@ export interface NativeEngineOptions {
    * - DuckDB's allowed paths may be written as well as read, so every query passes a statement gate
    *   first (read-only.ts): one SELECT (DESCRIBE, SUMMARIZE) per call, checked by DuckDB's parser.
    * - A result is capped at `maxResultRows` rows.
+   * - project() makes a temporary table in the in-memory database (never a file) from a registered CSV or
+   *   NDJSON relation by the engine's own statement; the gate still refuses CREATE from query().
    * For the engine host, whose requests come from another process.
    */
   restrictFileAccess?: boolean;
@@ -44,6 +46,7 @@ export const MAX_RESULT_ROWS = 2_000_000;
 
 export interface NativeEngine extends Engine {
   readonly kind: 'native';
+  project(relation: string, columns: readonly string[]): Promise<Projection | null>;
 }
 
 export async function createNativeEngine(options: NativeEngineOptions = {}): Promise<NativeEngine> {
@@ -87,6 +90,9 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
   }
 
   const relations = new Set<string>();
+  const formats = new Map<string, SourceFormat>();
+  /** Temporary tables made by project() and not yet released (a locked registration's new database holds none). */
+  const projections = new Set<string>();
   let sequence = 0;
   let scans = 0;
   let closed = false;
@@ -125,6 +131,7 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
         const files = (await listed.getRows()).map((row) => String(row[0]));
         await createView(connection, relation, scan, files);
         relations.add(relation);
+        formats.set(relation, scan.format);
         views.set(relation, scan.sql);
         return { relation, format: scan.format, files, scanSql: scan.sql };
       } catch (error) {
@@ -159,8 +166,10 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       connection.closeSync();
       instance.closeSync();
       ({ instance, connection } = next);
+      projections.clear();
       granted = grown;
       relations.add(relation);
+      formats.set(relation, scan.format);
       views.set(relation, scan.sql);
       return { relation, format: scan.format, files, scanSql: scan.sql };
     });
@@ -197,10 +206,39 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     });
   }
 
+  function project(relation: string, columns: readonly string[]): Promise<Projection | null> {
+    return serial(async () => {
+      ensureOpen();
+      if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
+      if (!PROJECTED_FORMATS.has(formats.get(relation) as SourceFormat)) return null;
+      const name = projectionName(relation, projections);
+      const sql = projectionSql(name, relation, columns);
+      scans++;
+      running = true;
+      try {
+        await connection.run(sql);
+      } catch (error) {
+        throw toEngineError(error);
+      } finally {
+        running = false;
+      }
+      projections.add(name);
+      return {
+        relation: name,
+        sql,
+        release: () => serial(async () => {
+          if (closed || !projections.delete(name)) return;
+          await connection.run(dropProjectionSql(name));
+        }),
+      };
+    });
+  }
+
   return {
     kind: 'native',
     register,
     query,
+    project,
     async cancel() {
       if (running && !closed) connection.interrupt();
     },

@@ -91,6 +91,31 @@ export function relationName(sequence: number): string {
   return quoteIdentifier(`src_${sequence}`);
 }
 
+/** Text logs are parsed again by every read; a projection (Engine.project) parses them once per audit. */
+export const PROJECTED_FORMATS: ReadonlySet<SourceFormat> = new Set(['csv', 'ndjson']);
+
+/**
+ * The projection's name follows its relation's ("src_1" -> "src_1_columns"), so the same audit records the
+ * same statements however many audits the engine ran before; `taken` holds the names still in use.
+ */
+export function projectionName(relation: string, taken: ReadonlySet<string>): string {
+  const bare = relation.replace(/^"|"$/g, '').replaceAll('""', '"');
+  for (let k = 1; ; k++) {
+    const name = quoteIdentifier(k === 1 ? `${bare}_columns` : `${bare}_columns_${k}`);
+    if (!taken.has(name)) return name;
+  }
+}
+
+/** The temporary table of some columns of a registered relation, in the log's row order. */
+export function projectionSql(name: string, relation: string, columns: readonly string[]): string {
+  if (columns.length === 0) throw new EngineError('sql', 'A projection needs at least one column.');
+  return `CREATE TEMP TABLE ${name} AS SELECT ${[...new Set(columns)].map((c) => quoteIdentifier(c)).join(', ')} FROM ${relation}`;
+}
+
+export function dropProjectionSql(name: string): string {
+  return `DROP TABLE IF EXISTS temp.${name}`;
+}
+
 export function createViewSql(relation: string, scanSql: string): string {
   return `CREATE OR REPLACE VIEW ${relation} AS SELECT * FROM ${scanSql}`;
 }

@@ -22,6 +22,19 @@ export interface RegisteredSource {
   readonly scanSql: string;
 }
 
+/**
+ * A temporary table in the engine's own in-memory database holding some columns of a registered text log
+ * (CSV, NDJSON), so the statements of one audit parse the file once (Engine.project). Never a file.
+ */
+export interface Projection {
+  /** The quoted name to read it by, e.g. "src_1_columns". */
+  readonly relation: string;
+  /** The statement that made it, for the report's queries. */
+  readonly sql: string;
+  /** Drops the table; the memory is free again. */
+  release(): Promise<void>;
+}
+
 export interface QueryOptions {
   signal?: AbortSignal;
 }
@@ -32,6 +45,13 @@ export interface Engine {
   query(sql: string, options?: QueryOptions): Promise<Table>;
   /** Interrupts the running query, if any; the pending query rejects with EngineError code 'cancelled'. */
   cancel(): Promise<void>;
+  /**
+   * Copies `columns` of a registered CSV or NDJSON relation into a temporary table of the engine's in-memory
+   * database (one parse of the file) for the statements of one audit; null for a source that is cheap to read
+   * again (Parquet, Arrow already loaded, a server's table). The statement is the engine's own, built from a
+   * registered relation and quoted column names; query() still runs reads only. Absent on engines without it.
+   */
+  project?(relation: string, columns: readonly string[]): Promise<Projection | null>;
   /** How many queries so far read a registered source (scans of the log), for the scan budget test. */
   readonly sourceScans: number;
   /** The running query's share of its input read, 0…100 (DuckDB's query progress); null when nothing runs or the engine cannot tell. */

@@ -8,10 +8,10 @@ import type { Table } from '../core/table.ts';
 import { tableFromIpcChunks } from './convert/arrow.ts';
 import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts';
 import { toEngineError } from './errors.ts';
-import { createViewSql, quoteIdentifier, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
+import { createViewSql, dropProjectionSql, PROJECTED_FORMATS, projectionName, projectionSql, quoteIdentifier, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
 import type { Scan } from './sql-source.ts';
 import { EngineError } from './types.ts';
-import type { Engine, QueryOptions, RegisteredSource, SourceFormat } from './types.ts';
+import type { Engine, Projection, QueryOptions, RegisteredSource, SourceFormat } from './types.ts';
 import { serialQueue } from './serial.ts';
 
 /** DuckDB-Wasm's pending-query calls for one connection, sync (Node blocking build) or async (worker). */
@@ -90,6 +90,9 @@ export interface WasmCore {
 export function createWasmCore(parts: WasmCoreParts): WasmCore {
   const { api, yieldTurn } = parts;
   const relations = new Set<string>();
+  /** Relations over a text log (CSV), which project() may copy into a temporary table. */
+  const textRelations = new Set<string>();
+  const projections = new Set<string>();
   let sequence = 0;
   let scans = 0;
   let closed = false;
@@ -206,6 +209,7 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
       if (shape) throw raggedRowsError(files.length === 1 ? files[0] : undefined, shape, await runCounted(raggedLinesSql(relation, shape), {}, false, errorFiles));
     }
     relations.add(relation);
+    if (PROJECTED_FORMATS.has(scan.format)) textRelations.add(relation);
     return { relation, format: scan.format, files, scanSql: scan.sql };
   }
 
@@ -227,10 +231,30 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     }
   });
 
+  /** One parse of a CSV for the statements of an audit: a temporary table in DuckDB-Wasm's own memory. */
+  async function project(relation: string, columns: readonly string[]): Promise<Projection | null> {
+    ensureOpen();
+    if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
+    if (!textRelations.has(relation)) return null;
+    const name = projectionName(relation, projections);
+    const sql = projectionSql(name, relation, columns);
+    await runCounted(sql, {}, true);
+    projections.add(name);
+    return {
+      relation: name,
+      sql,
+      release: async () => {
+        if (closed || !projections.delete(name)) return;
+        await run(dropProjectionSql(name));
+      },
+    };
+  }
+
   return {
     engine: {
       kind: parts.kind,
       query: (sql, options = {}) => runCounted(sql, options, true),
+      project,
       async cancel() {
         if (current) current.cancelled = true;
       },

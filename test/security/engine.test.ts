@@ -100,6 +100,46 @@ describe('locked engine: nothing can write', () => {
   });
 });
 
+describe('locked engine: the projection of a CSV (project(), issue 14 item 4)', () => {
+  it('is a temporary table in memory: readable by SELECT, no file written, dropped on release; query() still refuses CREATE', async () => {
+    const src = await engine.register({ kind: 'path', paths: [tree.log] });
+    const projection = await engine.project(src.relation, ['decision_id', 'propensity']);
+    if (!projection) throw new Error('a CSV is projected');
+    expect(projection.relation).toBe('"src_1_columns"');
+    expect(projection.sql).toMatch(/^CREATE TEMP TABLE "src_1_columns" AS SELECT "decision_id", "propensity" FROM "src_1"$/);
+    const read = await engine.query(`SELECT decision_id, propensity::DOUBLE AS p FROM ${projection.relation} ORDER BY decision_id`);
+    expect(read.columns).toEqual([['d1', 'd2'], [0.5, 0.25]]);
+    // only the named columns are held
+    expect(await refused(`SELECT promotion FROM ${projection.relation}`)).toMatch(/promotion/);
+    expect(tree.listing()).toEqual(before.listing);
+    // the gate is unchanged: a caller cannot make a table of its own, nor write the projection anywhere
+    expect(await refused(`CREATE TEMP TABLE t AS SELECT * FROM ${src.relation}`)).toMatch(/reads only/);
+    expect(await refused(`COPY ${projection.relation} TO ${lit(path.join(tree.victim, 'copy.csv'))}`)).toMatch(/reads only/);
+    await projection.release();
+    expect(await refused(`SELECT * FROM ${projection.relation}`)).toMatch(/src_1_columns/);
+    await projection.release();
+    expect(tree.listing()).toEqual(before.listing);
+  });
+
+  it('takes registered relations only; a column name is an identifier, never SQL', async () => {
+    const src = await engine.register({ kind: 'path', paths: [tree.log] });
+    await expect(engine.project('"src_9"', ['decision_id'])).rejects.toMatchObject({ code: 'sql', message: expect.stringMatching(/No log is registered/) });
+    await expect(engine.project(`(SELECT * FROM read_text(${lit(tree.secret)}))`, ['content'])).rejects.toMatchObject({ code: 'sql' });
+    const injected = `decision_id" FROM ${src.relation}; COPY (SELECT 1) TO ${lit(path.join(tree.victim, 'planted.sh'))}; --`;
+    await expect(engine.project(src.relation, [injected])).rejects.toMatchObject({ message: expect.not.stringContaining(SECRET_TEXT) });
+    expect(tree.listing()).toEqual(before.listing);
+  });
+
+  it('a Parquet log is not projected (it is cheap to read again)', async () => {
+    const parquet = path.join(tree.logs, 'b.parquet');
+    const writer = await createNativeEngine({ threads: 1 });
+    await writer.query(`COPY (SELECT 'd1' AS decision_id, 0.5 AS propensity) TO ${lit(parquet)} (FORMAT parquet)`);
+    await writer.close();
+    const src = await engine.register({ kind: 'path', paths: [parquet] });
+    expect(await engine.project(src.relation, ['decision_id'])).toBeNull();
+  });
+});
+
 describe('locked engine: results are bounded', () => {
   it('issue 18 #5: SELECT range::DOUBLE FROM range(20000000) is refused past the row cap with a clear error', async () => {
     const error = await engine.query('SELECT range::DOUBLE FROM range(20000000)').then(() => null, (e: unknown) => e as Error & { code?: string });

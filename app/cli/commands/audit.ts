@@ -15,7 +15,7 @@ import { ProgressLine } from '../progress.ts';
 import { peakRssMb } from '../../engine/memory.ts';
 import { isClickHouseAddress } from '../../engine/clickhouse-address.ts';
 import type { OpenedSource } from '../warehouse.ts';
-import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, MEMORY_FLAGS, memoryFlags, openEngine, registerSources } from '../sources.ts';
+import { describeColumns, ENGINE_FLAG, engineChoice as engineChoiceOf, MEMORY_FLAGS, memoryFlags, openEngine, projectionOf, registerSources } from '../sources.ts';
 import { formatAuditSummary, painter } from '../summary.ts';
 import { emitComparison, FAIL_ON_CHANGE } from './compare.ts';
 import { loadAuditCore } from './core.ts';
@@ -161,6 +161,7 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       ...(settings ? { settings } : {}),
       onProgress: (p) => progress.audit(p, STAGE_NAMES[p.stage] ?? p.stage),
       engine: engine.kind,
+      ...projectionOf(engine, opened.relation),
       peakRssMb,
       ...(signal ? { signal } : {}),
     });

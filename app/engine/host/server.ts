@@ -105,6 +105,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(settings ? { settings } : {}),
         ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
+        project: (columns) => engine.project(relation, columns),
         peakRssMb,
         onProgress: (p) => {
           stage = p.stage;
