@@ -52,7 +52,7 @@ describe('an audit of a CSV over its projection', () => {
     } finally {
       await engine.close();
     }
-  }, 300_000);
+  }, 600_000);
 
   it('holds each role and segment column once, only columns of the log', () => {
     const roles = { decision_id: 'id', time: null, action: 'a', propensity: 'p', reward: 'r', policy_version: 'v', target_propensity: 'missing', propensity_vector: null, action_set_size: null, segments: ['s', 'a', 'v'] };
