@@ -72,6 +72,44 @@ export interface ReplaySpec {
 /** One fixed-point sum in progress: its exact integer, whether any term fell in, and a plain double sum for a scale that is not finite. */
 interface Acc { big: bigint; any: boolean; plain: number }
 
+/** One cell's running sums: exact fixed-point sums with their plain fallback, minima/maxima, and integral counts. */
+interface CellSums { acc: Acc[]; ext: (number | null)[]; counts: number[] }
+const emptySums = (n: number): CellSums => ({ acc: Array.from({ length: n }, () => ({ big: 0n, any: false, plain: 0 })), ext: new Array<number | null>(n).fill(null), counts: new Array<number>(n).fill(0) });
+
+/** Adds `weight` copies of one term `v` of measure i into a cell's sums, as the cube query does. */
+function addTerm(e: CellSums, m: Measure, integral: boolean, ki: number | null | undefined, i: number, v: number, weight: number): void {
+  if (m.merge === 'min') e.ext[i] = e.ext[i] === null ? v : Math.min(e.ext[i] as number, v);
+  else if (m.merge === 'max') e.ext[i] = e.ext[i] === null ? v : Math.max(e.ext[i] as number, v);
+  else if (integral) e.counts[i] = (e.counts[i] as number) + v * weight;
+  else {
+    const a = e.acc[i] as Acc;
+    a.any = true;
+    a.plain += v * weight;
+    if (ki !== null && ki !== undefined) a.big += BigInt(weight) * roundHalfEven(v * ki);
+  }
+}
+
+/** The cube cell a cell's sums make: exact sums back to doubles at their scale, derived measures added. */
+function cellOf(keys: { segment: readonly string[]; action: string; version: string; bucket: number }, e: CellSums, measures: readonly Measure[], integral: readonly boolean[], k: readonly (number | null)[]): CubeCell {
+  const cell = blankCell();
+  cell.segment = keys.segment as string[];
+  cell.action = keys.action;
+  cell.version = keys.version;
+  cell.bucket = keys.bucket;
+  measures.forEach((m, i) => {
+    if (m.merge !== 'sum') cell[m.field] = e.ext[i];
+    else if (integral[i]) cell[m.field] = e.counts[i];
+    else {
+      const a = e.acc[i] as Acc;
+      const ki = k[i];
+      cell[m.field] = !a.any ? 0 : ki === null || ki === undefined ? a.plain : hugeintToDouble(a.big) / ki;
+    }
+  });
+  for (const d of DERIVED_MEASURES) cell[d.field] = d.of.reduce((s, f) => s + (cell[f] as number), 0);
+  cell.target = null;
+  return cell as unknown as CubeCell;
+}
+
 const keyOf = (g: { segment: readonly string[]; action: string; version: string; bucket: number }) => `${g.segment.join(SEP)}${SEP}${g.action}${SEP}${g.version}${SEP}${g.bucket}`;
 
 /** Per measure, a scale over `count` sources from the largest |term|, as the scale CTE's max(abs(term)) FILTER (where). */
@@ -155,46 +193,17 @@ export function replayRaw(groups: readonly KeyedGroup[], spec: ReplaySpec, order
   }
   const terms = sources.map((s) => measures.map((m) => s.termOf(m)));
   const k = scales(measures, count, (visit) => { for (const t of terms) visit((_, i) => t[i] as number | null); });
-  const cells = new Map<string, { keys: KeyedGroup; acc: Acc[]; ext: (number | null)[]; counts: number[] }>();
+  const cells = new Map<string, { keys: KeyedGroup; sums: CellSums }>();
   sources.forEach((s, j) => {
     let c = cells.get(s.cell);
-    if (!c) cells.set(s.cell, (c = { keys: s.keys, acc: measures.map(() => ({ big: 0n, any: false, plain: 0 })), ext: measures.map(() => null), counts: measures.map(() => 0) }));
+    if (!c) cells.set(s.cell, (c = { keys: s.keys, sums: emptySums(measures.length) }));
     const t = terms[j] as (number | null)[];
     measures.forEach((m, i) => {
       const v = t[i];
-      if (v === null || v === undefined) return;
-      if (m.merge === 'min') c.ext[i] = c.ext[i] === null ? v : Math.min(c.ext[i] as number, v);
-      else if (m.merge === 'max') c.ext[i] = c.ext[i] === null ? v : Math.max(c.ext[i] as number, v);
-      else if (integral[i]) c.counts[i] = (c.counts[i] as number) + v * s.weight;
-      else {
-        const a = c.acc[i] as Acc;
-        a.any = true;
-        a.plain += v * s.weight;
-        const ki = k[i];
-        if (ki !== null && ki !== undefined) a.big += BigInt(s.weight) * roundHalfEven(v * ki);
-      }
+      if (v !== null && v !== undefined) addTerm(c.sums, m, integral[i] as boolean, k[i], i, v, s.weight);
     });
   });
-  const out: CubeCell[] = [];
-  for (const { keys, acc, ext, counts } of cells.values()) {
-    const cell = blankCell();
-    cell.segment = keys.segment;
-    cell.action = keys.action;
-    cell.version = keys.version;
-    cell.bucket = keys.bucket;
-    measures.forEach((m, i) => {
-      if (m.merge !== 'sum') cell[m.field] = ext[i];
-      else if (integral[i]) cell[m.field] = counts[i];
-      else {
-        const a = acc[i] as Acc;
-        const ki = k[i];
-        cell[m.field] = !a.any ? 0 : ki === null || ki === undefined ? a.plain : hugeintToDouble(a.big) / ki;
-      }
-    });
-    for (const d of DERIVED_MEASURES) cell[d.field] = d.of.reduce((s, f) => s + (cell[f] as number), 0);
-    cell.target = null;
-    out.push(cell as unknown as CubeCell);
-  }
+  const out = [...cells.values()].map(({ keys, sums }) => cellOf(keys, sums, measures, integral, k));
   return out.sort(order);
 }
 
@@ -209,46 +218,17 @@ export function replayCappedMerge(cells: readonly CubeCell[], spec: ReplaySpec, 
   const integral = measures.map((m) => integralOf(m, x, spec.byPropensity));
   const value = (c: CubeCell, m: Measure) => (c as unknown as Record<string, number | null>)[m.field] ?? null;
   const k = scales(measures, cells.length, (visit) => { for (const c of cells) visit((m, i) => (integral[i] ? null : value(c, m))); });
-  const merged = new Map<string, { first: CubeCell; acc: Acc[]; ext: (number | null)[]; counts: number[] }>();
+  const merged = new Map<string, { first: CubeCell; sums: CellSums }>();
   for (const c of cells) {
     const key = keyOf(c);
     let e = merged.get(key);
-    if (!e) merged.set(key, (e = { first: c, acc: measures.map(() => ({ big: 0n, any: false, plain: 0 })), ext: measures.map(() => null), counts: measures.map(() => 0) }));
-    const entry = e;
+    if (!e) merged.set(key, (e = { first: c, sums: emptySums(measures.length) }));
+    const sums = e.sums;
     measures.forEach((m, i) => {
       const v = value(c, m);
-      if (v === null) return;
-      if (m.merge === 'min') entry.ext[i] = entry.ext[i] === null ? v : Math.min(entry.ext[i] as number, v);
-      else if (m.merge === 'max') entry.ext[i] = entry.ext[i] === null ? v : Math.max(entry.ext[i] as number, v);
-      else if (integral[i]) entry.counts[i] = (entry.counts[i] as number) + v;
-      else {
-        const a = entry.acc[i] as Acc;
-        a.any = true;
-        a.plain += v;
-        const ki = k[i];
-        if (ki !== null && ki !== undefined) a.big += roundHalfEven(v * ki);
-      }
+      if (v !== null) addTerm(sums, m, integral[i] as boolean, k[i], i, v, 1);
     });
   }
-  const out: CubeCell[] = [];
-  for (const { first, acc, ext, counts } of merged.values()) {
-    const cell = blankCell();
-    cell.segment = first.segment;
-    cell.action = first.action;
-    cell.version = first.version;
-    cell.bucket = first.bucket;
-    measures.forEach((m, i) => {
-      if (m.merge !== 'sum') cell[m.field] = ext[i];
-      else if (integral[i]) cell[m.field] = counts[i];
-      else {
-        const a = acc[i] as Acc;
-        const ki = k[i];
-        cell[m.field] = !a.any ? 0 : ki === null || ki === undefined ? a.plain : hugeintToDouble(a.big) / ki;
-      }
-    });
-    for (const d of DERIVED_MEASURES) cell[d.field] = d.of.reduce((s, f) => s + (cell[f] as number), 0);
-    cell.target = null;
-    out.push(cell as unknown as CubeCell);
-  }
+  const out = [...merged.values()].map(({ first, sums }) => cellOf(first, sums, measures, integral, k));
   return out.sort(order);
 }
