@@ -98,7 +98,7 @@ export async function countRows(engine: Engine, relation: string): Promise<numbe
 }
 
 /** The audit's projection hook for a registered relation: a CSV is parsed once for the row-level statements (Engine.project). */
-export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[]) => ReturnType<NonNullable<Engine['project']>> } {
+export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: { readonly aborted: boolean }) => ReturnType<NonNullable<Engine['project']>> } {
   const { project } = engine;
-  return project ? { project: (columns) => project.call(engine, relation, columns) } : {};
+  return project ? { project: (columns, signal) => project.call(engine, relation, columns, signal ? { signal: signal as AbortSignal } : {}) } : {};
 }

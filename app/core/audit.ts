@@ -67,7 +67,8 @@ export interface AuditRequest {
    * statements (cube, duplicates, tails, clip rows) read that table, so the file is parsed once for all of
    * them (the profile and the example rows read the log itself); the table is released before the checks run.
    */
-  readonly project?: (columns: readonly string[]) => Promise<AuditProjection | null>;
+  /** The signal passed back is the request's own `signal` (the caller's AbortSignal), so the copy can be interrupted. */
+  readonly project?: (columns: readonly string[], signal?: AuditRequest['signal']) => Promise<AuditProjection | null>;
   /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
   readonly peakRssMb?: () => number;
   /**
@@ -237,7 +238,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   let targets: TargetAnalysis[] = [];
   guard();
   // A CSV is parsed once for the row-level statements: they read a temporary table of the columns they use.
-  const projection = !scans && request.project && (rowsExpr || roles.decision_id) ? await request.project(projectedColumns(effectiveRoles, logColumns)) : null;
+  const projection = !scans && request.project && (rowsExpr || roles.decision_id) ? await request.project(projectedColumns(effectiveRoles, logColumns), request.signal) : null;
   if (projection) queries.push({ name: 'projection', sql: projection.sql, scans_source: true });
   const rowSource = projection ? projection.relation : relation;
   const readsSource = !projection;

@@ -46,7 +46,7 @@ export const MAX_RESULT_ROWS = 2_000_000;
 
 export interface NativeEngine extends Engine {
   readonly kind: 'native';
-  project(relation: string, columns: readonly string[]): Promise<Projection | null>;
+  project(relation: string, columns: readonly string[], options?: QueryOptions): Promise<Projection | null>;
 }
 
 export async function createNativeEngine(options: NativeEngineOptions = {}): Promise<NativeEngine> {
@@ -206,14 +206,18 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     });
   }
 
-  function project(relation: string, columns: readonly string[]): Promise<Projection | null> {
+  function project(relation: string, columns: readonly string[], { signal }: QueryOptions = {}): Promise<Projection | null> {
     return serial(async () => {
       ensureOpen();
+      if (signal?.aborted) throw new EngineError('cancelled', 'The query was cancelled.');
       if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
       if (!PROJECTED_FORMATS.has(formats.get(relation) as SourceFormat)) return null;
       const name = projectionName(relation, projections);
       const sql = projectionSql(name, relation, columns);
       scans++;
+      // a Ctrl-C during the copy interrupts it as it does a query (the copy of a large CSV takes seconds)
+      const onAbort = (): void => connection.interrupt();
+      signal?.addEventListener('abort', onAbort, { once: true });
       running = true;
       try {
         await connection.run(sql);
@@ -221,6 +225,7 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
         throw toEngineError(error);
       } finally {
         running = false;
+        signal?.removeEventListener('abort', onAbort);
       }
       projections.add(name);
       return {

@@ -51,7 +51,7 @@ export interface Engine {
    * again (Parquet, Arrow already loaded, a server's table). The statement is the engine's own, built from a
    * registered relation and quoted column names; query() still runs reads only. Absent on engines without it.
    */
-  project?(relation: string, columns: readonly string[]): Promise<Projection | null>;
+  project?(relation: string, columns: readonly string[], options?: QueryOptions): Promise<Projection | null>;
   /** How many queries so far read a registered source (scans of the log), for the scan budget test. */
   readonly sourceScans: number;
   /** The running query's share of its input read, 0…100 (DuckDB's query progress); null when nothing runs or the engine cannot tell. */

@@ -232,13 +232,13 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
   });
 
   /** One parse of a CSV for the statements of an audit: a temporary table in DuckDB-Wasm's own memory. */
-  async function project(relation: string, columns: readonly string[]): Promise<Projection | null> {
+  async function project(relation: string, columns: readonly string[], options: QueryOptions = {}): Promise<Projection | null> {
     ensureOpen();
     if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
     if (!textRelations.has(relation)) return null;
     const name = projectionName(relation, projections);
     const sql = projectionSql(name, relation, columns);
-    await runCounted(sql, {}, true);
+    await runCounted(sql, options, true);
     projections.add(name);
     return {
       relation: name,

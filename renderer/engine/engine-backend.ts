@@ -118,7 +118,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
         onProgress({ stage: p.stage, ...(p.done ? { done: true } : {}), point: tracker.event(p, Date.now()) });
       };
       try {
-        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(source.relation, columns) } : {}), onProgress: onAudit, signal });
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...(engine.project ? { project: (columns: readonly string[], abort?: { readonly aborted: boolean }) => engine.project!(source.relation, columns, abort ? { signal: abort as AbortSignal } : {}) } : {}), onProgress: onAudit, signal });
         const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
         return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {

@@ -68,7 +68,21 @@ describe('the audit request', () => {
     const { report, cubeIpc } = await client.audit({ source: relation, targets: [v9Target()] }, (p) => progress.push(p));
     const ms = performance.now() - started;
     expect(wire.sent.slice(before).map((m) => m.kind)).toEqual(['audit']);
-    expect(progress).toEqual((['profile', 'cube', 'tails', 'checks'] as const).flatMap((stage) => [{ stage }, { stage, done: true }]));
+    // each stage starts and ends once, in order; ticks between (every 250 ms) repeat the running stage, and every
+    // message carries where the audit is (app/core/progress.ts), its share of the audit never going back
+    const stages = ['profile', 'cube', 'tails', 'checks'] as const;
+    expect(stages.map((st) => progress.filter((p) => p.stage === st && p.done).length)).toEqual([1, 1, 1, 1]);
+    expect(progress.map((p) => p.stage).filter((st, i, all) => i === 0 || all[i - 1] !== st)).toEqual([...stages]);
+    stages.forEach((st, i) => {
+      const start = progress.findIndex((p) => p.stage === st && !p.done);
+      const end = progress.findIndex((p) => p.stage === st && p.done);
+      expect(start).toBeGreaterThanOrEqual(0);
+      expect(end).toBeGreaterThan(start);
+      const next = stages[i + 1];
+      if (next) expect(progress.findIndex((p) => p.stage === next)).toBeGreaterThan(end);
+    });
+    const shares = progress.map((p) => p.point?.share ?? NaN);
+    expect(shares.every((x, i) => Number.isFinite(x) && (i === 0 || x >= (shares[i - 1] as number)))).toBe(true);
     const { run: _run, ...got } = report;
     const { run: _ref, ...want } = reference.report;
     expect(firstDifference(got, want, 0)).toBeNull();

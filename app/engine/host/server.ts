@@ -105,7 +105,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(settings ? { settings } : {}),
         ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
-        project: (columns) => engine.project(relation, columns),
+        project: (columns, signal) => engine.project(relation, columns, signal ? { signal: signal as AbortSignal } : {}),
         peakRssMb,
         onProgress: (p) => {
           stage = p.stage;
