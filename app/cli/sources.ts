@@ -2,6 +2,7 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { Engine, RegisteredSource } from '../engine/types.ts';
+import type { CancelSignal } from '../core/cancel.ts';
 import { stringFlag, type CommandSpec, type FlagValues } from './args.ts';
 import { UsageError } from './errors.ts';
 
@@ -98,7 +99,7 @@ export async function countRows(engine: Engine, relation: string): Promise<numbe
 }
 
 /** The audit's projection hook for a registered relation: a CSV is parsed once for the row-level statements (Engine.project). */
-export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: { readonly aborted: boolean }) => ReturnType<NonNullable<Engine['project']>> } {
+export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: CancelSignal) => ReturnType<NonNullable<Engine['project']>> } {
   const { project } = engine;
-  return project ? { project: (columns, signal) => project.call(engine, relation, columns, signal ? { signal: signal as AbortSignal } : {}) } : {};
+  return project ? { project: (columns, signal) => project.call(engine, relation, columns, signal ? { signal } : {}) } : {};
 }

@@ -9,6 +9,7 @@ import { essSummary } from './checks/weights-ess.ts';
 import { tailSummary } from './checks/weights-tail.ts';
 import { estimatesFor } from './checks/estimate-preview.ts';
 import type { CubeCell } from './cube/types.ts';
+import type { CancelSignal } from './cancel.ts';
 import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputFile, type InputTable, type QueryRecord, type Report, type RolesReport, type SettingValue, type TargetSummary } from './model/report.ts';
 import { resolveRoles, SINGLE_ROLES, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
@@ -51,8 +52,8 @@ export interface AuditRequest {
   /** Stage starts (with the passes it plans), pass starts and stage ends (progress.ts turns them into shares). */
   readonly onProgress?: (p: AuditProgressEvent) => void;
   readonly engine: string;
-  /** anything with `aborted` (an AbortSignal); checked between stages */
-  readonly signal?: { readonly aborted: boolean };
+  /** the caller's AbortSignal: checked between stages, and handed to `project` so a copy can be interrupted */
+  readonly signal?: CancelSignal;
   /** clock for started_at and "future" timestamps; defaults to the current time */
   readonly now?: () => number;
   /**
@@ -67,7 +68,6 @@ export interface AuditRequest {
    * statements (cube, duplicates, tails, clip rows) read that table, so the file is parsed once for all of
    * them (the profile and the example rows read the log itself); the table is released before the checks run.
    */
-  /** The signal passed back is the request's own `signal` (the caller's AbortSignal), so the copy can be interrupted. */
   readonly project?: (columns: readonly string[], signal?: AuditRequest['signal']) => Promise<AuditProjection | null>;
   /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
   readonly peakRssMb?: () => number;

@@ -1,3 +1,4 @@
+import type { CancelSignal } from '../core/cancel.ts';
 import type { Table } from '../core/table.ts';
 
 export type SourceFormat = 'parquet' | 'csv' | 'ndjson';
@@ -36,7 +37,7 @@ export interface Projection {
 }
 
 export interface QueryOptions {
-  signal?: AbortSignal;
+  signal?: CancelSignal;
 }
 
 export interface Engine {

@@ -1,5 +1,6 @@
 import { inspectRoles, runAuditDetailed, type AuditRequest, type RoleInspection } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
+import type { CancelSignal } from '../../app/core/cancel.ts';
 import { ProgressTracker, type AuditProgressEvent } from '../../app/core/progress.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
 import type { RunQuery } from '../../app/core/table.ts';
@@ -118,7 +119,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
         onProgress({ stage: p.stage, ...(p.done ? { done: true } : {}), point: tracker.event(p, Date.now()) });
       };
       try {
-        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...(engine.project ? { project: (columns: readonly string[], abort?: { readonly aborted: boolean }) => engine.project!(source.relation, columns, abort ? { signal: abort as AbortSignal } : {}) } : {}), onProgress: onAudit, signal });
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...(engine.project ? { project: (columns: readonly string[], abort?: CancelSignal) => engine.project!(source.relation, columns, abort ? { signal: abort } : {}) } : {}), onProgress: onAudit, signal });
         const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
         return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {

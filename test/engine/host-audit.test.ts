@@ -106,6 +106,22 @@ describe('the audit request', () => {
     expect(await client.ping()).toBe(2);
   });
 
+  it('audits the same log as CSV (read through a copy that takes the audit\'s signal) to the same verdict, checks and targets', async () => {
+    // The host once handed the CSV copy a plain { aborted } flag where an AbortSignal belongs, so every hosted CSV
+    // audit failed with "signal?.addEventListener is not a function". The core's CancelSignal type now forbids it.
+    const csv = await client.register({ kind: 'path', paths: [DEMO.replace(/\.parquet$/, '.csv')] });
+    const controller = new AbortController();
+    const cancelled = client.audit({ source: csv.source.relation, targets: [v9Target()] }, (p) => {
+      if (p.stage === 'cube' && !p.done) controller.abort();
+    }, controller.signal);
+    await expect(cancelled).rejects.toMatchObject({ code: 'cancelled' });
+    const { report } = await client.audit({ source: csv.source.relation, targets: [v9Target()] });
+    expect(report.input.format).toBe('csv');
+    expect(report.verdict).toStrictEqual(reference.report.verdict);
+    expect(report.checks.map((c) => [c.id, c.status])).toStrictEqual(reference.report.checks.map((c) => [c.id, c.status]));
+    expect(report.targets).toStrictEqual(reference.report.targets);
+  });
+
   it('passes the core\'s own error for a role naming no column', async () => {
     await expect(client.audit({ source: relation, roles: { action: 'nope' } })).rejects.toThrow(/column "nope" does not exist/);
   });

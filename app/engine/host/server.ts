@@ -52,8 +52,8 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
   };
   const sources = new Map<string, Source>();
   const inOrder = serialQueue();
-  /** Running audits by request id; a cancel naming one sets its flag, which the audit checks between stages. */
-  const audits = new Map<number, { aborted: boolean }>();
+  /** Running audits by request id; a cancel naming one aborts it (the audit checks between stages, a CSV's copy is interrupted). */
+  const audits = new Map<number, AbortController>();
 
   function sourceOf(relation: string): Source {
     const source = sources.get(relation);
@@ -81,8 +81,9 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
     const { id } = request;
     const { source: relation, roles, targets, settings } = request.request;
     const source = sourceOf(relation);
-    const signal = { aborted: false };
-    audits.set(id, signal);
+    const controller = new AbortController();
+    const { signal } = controller;
+    audits.set(id, controller);
     // Where the audit is, in the log's terms (app/core/progress.ts): sent on every stage change and every quarter second.
     const tracker = new ProgressTracker(Date.now());
     let stage: AuditStage = 'profile';
@@ -105,7 +106,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(settings ? { settings } : {}),
         ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
-        project: (columns, signal) => engine.project(relation, columns, signal ? { signal: signal as AbortSignal } : {}),
+        project: (columns, signal) => engine.project(relation, columns, signal ? { signal } : {}),
         peakRssMb,
         onProgress: (p) => {
           stage = p.stage;
@@ -137,7 +138,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         return;
       case 'cancel': {
         const target = request.target === undefined ? undefined : audits.get(request.target);
-        if (target) target.aborted = true;
+        target?.abort();
         await engine.cancel();
         reply({ kind: 'done', id: request.id });
         return;
