@@ -24,7 +24,7 @@ export class UsageError extends Error {
 }
 
 /** Errors from the core and the engine that describe bad input, not a bug: shown without a stack. */
-const INPUT_ERROR_NAMES = new Set(['UsageError', 'RoleError', 'TargetError', 'SettingsError', 'EngineError', 'CanonicalJsonError', 'EmptyLogError', 'PlanError']);
+const INPUT_ERROR_NAMES = new Set(['UsageError', 'RoleError', 'TargetError', 'SettingsError', 'EngineError', 'CanonicalJsonError', 'EmptyLogError', 'PlanError', 'PartsError']);
 
 export function isInputError(error: unknown): error is Error {
   return error instanceof Error && INPUT_ERROR_NAMES.has(error.name);

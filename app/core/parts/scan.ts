@@ -97,7 +97,8 @@ export async function scanPart(run: RunQuery, relation: string, overrides: RoleO
   const settings = resolveSettings(settingsIn);
   const profile = await profileLog(run, relation, record, d);
   const roles = resolveRoles(profile, overrides);
-  if (!roles.action || !roles.propensity || !roles.reward) throw new PartsError('a part needs the action, propensity and reward roles');
+  const missing = (['action', 'propensity', 'reward'] as const).filter((r) => !roles[r]);
+  if (missing.length) throw new PartsError(`a part needs the ${missing.join(', ')} role${missing.length > 1 ? 's' : ''}, and no column was left for ${missing.length > 1 ? 'them' : 'it'}: name ${missing.length > 1 ? 'them' : 'it'} with --role ROLE=COLUMN`);
   if (roles.target_propensity) throw new PartsError('an audit merged from parts does not read a target_propensity column (its sums are row-level)');
   const range = timeRangeUs(roles, profile);
   const width = roles.time ? storageWidth(earlier, range, settings['time.bucket'], settings['time.max_buckets']) : null;

@@ -79,9 +79,12 @@ describe.skipIf(!haveLogs)('counterweight audit (spawned)', () => {
       [['audit', 'sample-data/no-such-log.parquet'], 'no such file or folder: sample-data/no-such-log.parquet'],
       [['audit', DEMO, '--role', 'reward=no_such_column', '--quiet'], 'no_such_column'],
       [['audit', DEMO, '--json', DEMO], 'refusing to write a report over the input file'],
+      // a parts folder's own refusals (app/core/parts/scan.ts) print as one line too; no folder is left behind
+      [['audit', '--parts', path.join(tmpdir(), `cw-parts-refused-${process.pid}`), '--add-part', DEMO, '--role', 'target_propensity=propensity', '--quiet'], 'a part needs the propensity role, and no column was left for it'],
       // DESIGN of the demo (sample-data/README.md): seven promotions; a typo is an input error that lists them
       [['audit', DEMO, '--target', 'always:bakry', '--quiet'], 'target always:bakry: the log has no action "bakry"; its 7 actions are "bakery", "free-delivery", "household", "no-banner", "pantry-restock", "produce-box", "recipe-kit"'],
     ]);
+    expect(existsSync(path.join(tmpdir(), `cw-parts-refused-${process.pid}`))).toBe(false);
   });
 
   it('roles prints suggestions with reasons; inspect and schema answer', () => {
