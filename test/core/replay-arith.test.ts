@@ -6,6 +6,7 @@
  */
 import { DuckDBInstance } from '@duckdb/node-api';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ExactSums } from '../../app/core/parts/exact.ts';
 import { roundHalfEven, scaleOf } from '../../app/core/parts/replay.ts';
 import { double } from '../../app/core/sql/quote.ts';
 
@@ -41,4 +42,28 @@ describe('replayed arithmetic equals DuckDB\'s', () => {
     }
     expect(scaleOf(Infinity, 3)).toBeNull();
   });
+
+  it('adds rows × integers in 26-bit limbs to the double DuckDB forms from the HUGEINT sum (CAST(sum(x::HUGEINT · w) AS DOUBLE))', async () => {
+    // integer-valued doubles up to 2^123 of both signs (sums kept inside HUGEINT) (the replay's terms), with row counts up to 2^27 (past the BigInt edge 2^26)
+    let seed = 7;
+    const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+    const cases: [number, number][][] = [
+      [[2 ** 123, 1], [-(2 ** 123), 1], [3, 1]],
+      [[-1, 1]],
+      [[-(2 ** 64), 1], [1, 1]],
+      [[2 ** 64 - 2 ** 11, 1], [2 ** 10, 1]],
+      [[-(2 ** 70) + 2 ** 17, 3], [-5, 2 ** 27]],
+      Array.from({ length: 400 }, () => [Math.round((rand() - 0.45) * 2 ** 53) * 2 ** Math.floor(rand() * 40), 1 + Math.floor(rand() * 2 ** 20)] as [number, number]),
+      Array.from({ length: 400 }, () => [Math.round((rand() - 0.5) * 2 ** 40), 1 + Math.floor(rand() * 3)] as [number, number]),
+    ];
+    for (const terms of cases) {
+      const sums = new ExactSums(1);
+      for (const [t, w] of terms) sums.add(0, t, w);
+      const values = terms.map(([t, w]) => `(CAST(${double(t)} AS HUGEINT), ${w}::HUGEINT)`).join(', ');
+      const [want, exact] = await query(`SELECT CAST(sum(t * w) AS DOUBLE), CAST(sum(t * w) AS VARCHAR) FROM (VALUES ${values}) AS v(t, w)`);
+      expect(sums.bigint(0).toString()).toBe(exact);
+      expect(sums.double(0)).toBe(want);
+    }
+  });
 });
+
