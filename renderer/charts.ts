@@ -2,7 +2,7 @@ import type { EChartsCoreOption } from 'echarts';
 import { capsOption, chartForSeries as buildSeries, chartHeight, estimatesOption, historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../app/charts/index.ts';
 import type { ChartCap, ChartHistorySegment, ChartHistoryTarget } from '../app/charts/types.ts';
 import type { Series, TargetSummary } from '../app/core/model/report.ts';
-import { formatValue } from './format.ts';
+import { bucketLabel, bucketsNeedHour, formatValue } from './format.ts';
 
 /** The app/charts option for a series, or null when it holds nothing to draw (its table is shown). */
 export function chartForSeries(series: Series): EChartsCoreOption | null {
@@ -14,19 +14,20 @@ type Obj = Record<string, unknown>;
 const isObj = (v: unknown): v is Obj => typeof v === 'object' && v !== null && !Array.isArray(v);
 const ISO_TIME = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}/;
 
-/** "2026-03-02T00:00:00.000Z" -> "03-02", or "03-02 06:00" when the bucket does not start at midnight (UTC). */
-export function shortTime(label: string): string {
-  if (!ISO_TIME.test(label)) return label;
-  const day = label.slice(5, 10);
-  const time = label.slice(11, 16);
-  return time === '00:00' ? day : `${day} ${time}`;
+/**
+ * A time bucket's label: "2 Mar", or "2 Mar 06:00" when the chart's buckets are shorter than a day (some start
+ * other than at midnight); UTC, which the chart's caption says.
+ */
+export function shortTime(label: string, withHour = !label.includes('T00:00:00')): string {
+  return bucketLabel(label, withHour);
 }
 
 function readableAxis(axis: unknown): unknown {
   if (!isObj(axis) || !Array.isArray(axis.data)) return axis;
   const label = isObj(axis.axisLabel) ? axis.axisLabel : {};
   if (axis.data.every((d) => typeof d === 'string' && ISO_TIME.test(d))) {
-    return { ...axis, axisLabel: { ...label, rotate: 0, hideOverlap: true, interval: 'auto', formatter: shortTime } };
+    const withHour = bucketsNeedHour(axis.data);
+    return { ...axis, axisLabel: { ...label, rotate: 0, hideOverlap: true, interval: 'auto', formatter: (v: string) => shortTime(v, withHour) } };
   }
   // Dozens of segment names cannot all be printed under a bar chart; the table view lists them.
   return axis.data.length > 24 ? { ...axis, axisLabel: { ...label, interval: 'auto', hideOverlap: true } } : axis;

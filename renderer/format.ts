@@ -33,3 +33,46 @@ export function segmentLabel(segment: Readonly<Record<string, string>>): string 
   const parts = Object.entries(segment).map(([k, v]) => `${k}=${v}`);
   return parts.length === 0 ? 'all rows' : parts.join(', ');
 }
+
+/** An instant as the report writes it: ISO 8601 in UTC ("2026-03-17T06:00:00.000Z"). */
+const ISO_INSTANT = /(\d{4}-\d{2}-\d{2})T(\d{2}:\d{2})(?::\d{2}(?:\.\d+)?)?Z/;
+const ISO_INSTANTS = new RegExp(ISO_INSTANT.source, 'g');
+const ISO_RANGES = new RegExp(`${ISO_INSTANT.source} to ${ISO_INSTANT.source}`, 'g');
+const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', 'Oct', 'Nov', 'Dec'];
+
+const ONE_INSTANT = new RegExp(`^${ISO_INSTANT.source}$`);
+
+/** Whether a value is one instant as the report writes it (a metric such as a first or last decision). */
+export function isInstant(value: unknown): value is string {
+  return typeof value === 'string' && ONE_INSTANT.test(value);
+}
+
+/** "2026-03-17T06:00:00.000Z" -> "2026-03-17 06:00" (UTC, which the caller says once); other text as it is. */
+export function timeText(value: string): string {
+  const m = ISO_INSTANT.exec(value);
+  return m && m.index === 0 ? `${m[1]} ${m[2]}` : value;
+}
+
+/**
+ * A time bucket's label on a chart axis: "17 Mar", or "17 Mar 06:00" when the buckets are shorter than a day
+ * (`withHour`); UTC, which the chart's caption says.
+ */
+export function bucketLabel(value: string, withHour: boolean): string {
+  const m = ISO_INSTANT.exec(value);
+  if (!m || m.index !== 0) return value;
+  const [, day = '', hour = ''] = m;
+  const text = `${Number(day.slice(8, 10))} ${MONTHS[Number(day.slice(5, 7)) - 1] ?? ''}`;
+  return withHour ? `${text} ${hour}` : text;
+}
+
+/** Whether time-bucket labels need their hour: some bucket starts other than at midnight. */
+export function bucketsNeedHour(labels: readonly unknown[]): boolean {
+  return labels.some((l) => typeof l === 'string' && !l.includes('T00:00:00'));
+}
+
+/** Text with the report's ISO instants written for people: "A to B UTC", or "A UTC" for one alone. */
+export function withTimesInWords(text: string): string {
+  return text
+    .replace(ISO_RANGES, (_all, d1: string, h1: string, d2: string, h2: string) => `${d1} ${h1} to ${d2} ${h2} UTC`)
+    .replace(ISO_INSTANTS, (_all, d: string, h: string) => `${d} ${h} UTC`);
+}

@@ -30,9 +30,9 @@ function zMapOption(series: ChartSeries): ChartOption {
   const cellLabels = series.x.length * ys.length <= 800;
   return {
     ...baseOption(seriesTitle(series)),
-    grid: { left: 140, right: 24, top: 48, bottom: 110, containLabel: true },
+    grid: { left: 8, right: 24, top: 48, bottom: 110, containLabel: true },
     legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false },
-    xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
+    xAxis: actionAxes(series),
     yAxis: segmentAxis(series, ys),
     visualMap: [
       { type: 'continuous', seriesIndex: 0, min: -bound, max: bound, calculable: false, orient: 'horizontal', left: 'center', bottom: 24, inRange: { color: [...DIVERGING_RAMP] }, text: [`z ≥ +${bound} (more weight than expected)`, `z ≤ −${bound} (less)`] },
@@ -48,6 +48,42 @@ function zMapOption(series: ChartSeries): ChartOption {
     ],
     aria: { enabled: true, decal: { show: false } },
   };
+}
+
+/**
+ * The actions, named under the map and again over it: a map of dozens of segment rows is taller than a screen,
+ * and a reader in its middle or at its top must still see which column is which action. The cells are drawn
+ * on the first axis; the second repeats its labels.
+ */
+function actionAxes(series: ChartSeries): Record<string, unknown>[] {
+  const axis = { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } };
+  return [{ ...axis, position: 'bottom' }, { ...axis, position: 'top', splitArea: { show: false } }];
+}
+
+/** Segment rows a map shows at once on a page before its rows scroll (withRowWindow). */
+export const MAP_WINDOW_ROWS = 30;
+
+/**
+ * A map of more than `rows` segment rows, for a page: it shows `rows` of them at a time, with a scroll bar
+ * beside the map and the mouse wheel moving through them, so the action names above and below stay on screen.
+ * The HTML report, a printed page, draws every row (heatmapOption alone).
+ */
+export function withRowWindow(option: ChartOption, segmentRows: number, rows = MAP_WINDOW_ROWS): ChartOption {
+  if (segmentRows <= rows) return option;
+  const grid = (option.grid ?? {}) as Record<string, unknown>;
+  return {
+    ...option,
+    grid: { ...grid, right: 44 },
+    dataZoom: [
+      { type: 'slider', yAxisIndex: 0, startValue: 0, endValue: rows - 1, zoomLock: true, showDetail: false, brushSelect: false, showDataShadow: false, right: 8, width: 18, filterMode: 'empty' },
+      { type: 'inside', yAxisIndex: 0, zoomOnMouseWheel: false, moveOnMouseWheel: true, moveOnMouseMove: false, filterMode: 'empty' },
+    ],
+  };
+}
+
+/** Height of a map drawn by withRowWindow: `rows` rows at most, as chartHeight counts them. */
+export function windowedMapHeight(segmentRows: number, rows = MAP_WINDOW_ROWS): number {
+  return 210 + 18 * Math.min(segmentRows, rows);
 }
 
 /**
@@ -109,8 +145,8 @@ export function heatmapOption(series: ChartSeries): ChartOption {
   const scale = { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] };
   return {
     ...baseOption(seriesTitle(series)),
-    grid: { left: 140, right: 24, top: 48, bottom: 96, containLabel: true },
-    xAxis: { type: 'category', data: categoryLabels(series.x), axisLabel: { rotate: 30, interval: 0 }, splitArea: { show: true } },
+    grid: { left: 8, right: 24, top: 48, bottom: 96, containLabel: true },
+    xAxis: actionAxes(series),
     yAxis: segmentAxis(series, ys),
     ...(never.length ? { legend: { data: ['never logged'], bottom: 0, right: 8, selectedMode: false } } : {}),
     visualMap: never.length ? [scale, overlayColour(1, NEVER_LOGGED_FILL)] : scale,
@@ -131,6 +167,7 @@ function neverLogged(cells: readonly [number, number, number][]): Record<string,
 
 function formatValue(v: number | null): string {
   if (v === null) return '';
-  if (v !== 0 && Math.abs(v) < 0.01) return v.toExponential(1);
+  if (v !== 0 && Math.abs(v) < 0.0001) return v.toExponential(1);
+  if (v !== 0 && Math.abs(v) < 0.01) return v.toPrecision(2);
   return Number.isInteger(v) ? String(v) : v.toFixed(2);
 }

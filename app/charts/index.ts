@@ -2,7 +2,7 @@ import type { ChartOption, ChartSeries } from './types.ts';
 import { barsOption, rankedHeight } from './bars.ts';
 import { linesOption } from './lines.ts';
 import { heatmapOption } from './heatmap.ts';
-export { withSelectedCell } from './heatmap.ts';
+export { MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from './heatmap.ts';
 import { histogramOption } from './histogram.ts';
 import { pointsOption } from './points.ts';
 
@@ -27,7 +27,7 @@ export function chartForSeries(series: ChartSeries): ChartOption | null {
 
 /** Height that fits the chart's categories (heatmaps grow with their segment rows). */
 export function chartHeight(series: ChartSeries): number {
-  if (series.kind === 'heatmap') return Math.min(1800, 170 + 18 * (series.y?.length ?? series.values.length));
+  if (series.kind === 'heatmap') return Math.min(1840, 210 + 18 * (series.y?.length ?? series.values.length));
   return rankedHeight(series) ?? 300;
 }
 export { historyEstimateOption, historySegmentsHeight, historySegmentsOption, historyWeightsOption, segmentName } from './history.ts';

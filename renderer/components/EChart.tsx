@@ -22,7 +22,14 @@ export function EChart({ option, height = 320, label, onCellClick }: Props) {
     return () => { observer.disconnect(); instance.dispose(); chart.current = null; };
   }, []);
 
-  useEffect(() => { chart.current?.setOption(option, true); }, [option]);
+  useEffect(() => {
+    const instance = chart.current;
+    if (!instance) return;
+    const kept = scrolledWindow(instance, option);
+    instance.setOption(option, true);
+    // a new option (a cell chosen, another layer) keeps the rows the reader had scrolled to
+    if (kept) instance.dispatchAction({ type: 'dataZoom', dataZoomIndex: 0, start: kept.start, end: kept.end });
+  }, [option]);
 
   useEffect(() => {
     const instance = chart.current;
@@ -33,4 +40,19 @@ export function EChart({ option, height = 320, label, onCellClick }: Props) {
   }, [onCellClick]);
 
   return <div ref={element} className="chart" role="img" aria-label={label} style={{ height }} />;
+}
+
+type Zoomed = { dataZoom?: { start?: number; end?: number }[]; yAxis?: { data?: unknown[] }[] };
+
+/** The scrolled window of a chart whose rows scroll (a dataZoom), when the new option has the same rows. */
+function scrolledWindow(instance: echarts.ECharts, next: echarts.EChartsCoreOption): { start: number; end: number } | null {
+  const nextZoom = (next as { dataZoom?: unknown }).dataZoom;
+  if (!Array.isArray(nextZoom) || nextZoom.length === 0) return null;
+  const now = instance.getOption() as Zoomed | undefined;
+  const zoom = now?.dataZoom?.[0];
+  const rowsNow = now?.yAxis?.[0]?.data?.length;
+  const nextY = (next as { yAxis?: unknown }).yAxis;
+  const rowsNext = Array.isArray(nextY) ? (nextY[0] as { data?: unknown[] } | undefined)?.data?.length : (nextY as { data?: unknown[] } | undefined)?.data?.length;
+  if (!zoom || zoom.start === undefined || zoom.end === undefined || rowsNow === undefined || rowsNow !== rowsNext) return null;
+  return { start: zoom.start, end: zoom.end };
 }

@@ -1,5 +1,5 @@
 import type { Finding } from '../../app/core/model/report.ts';
-import { formatValue, segmentLabel } from '../format.ts';
+import { formatValue, isInstant, segmentLabel, timeText, withTimesInWords } from '../format.ts';
 import { StatusBadge } from './StatusBadge.tsx';
 import { SqlBlock } from './SqlBlock.tsx';
 import { Term } from './Term.tsx';
@@ -18,10 +18,10 @@ function FindingItem({ finding }: { finding: Finding }) {
           {finding.window && <> · {finding.window.from.slice(0, 16).replace('T', ' ')} to {finding.window.to.slice(0, 16).replace('T', ' ')} UTC</>}
         </span>
       </div>
-      <p>{finding.message}</p>
+      <p>{withTimesInWords(finding.message)}</p>
       {Object.keys(finding.metrics).length > 0 && (
         <dl className="finding-metrics">
-          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt><Term metric={k} /></dt><dd>{formatValue(v)}</dd></div>)}
+          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt><Term metric={k} /></dt><dd>{isInstant(v) ? `${timeText(v)} UTC` : formatValue(v)}</dd></div>)}
         </dl>
       )}
       {examples.length > 0 && (

@@ -1,15 +1,16 @@
 import type { Metrics } from '../../app/core/model/report.ts';
-import { formatValue } from '../format.ts';
+import { formatValue, isInstant, timeText } from '../format.ts';
 import { Term } from './Term.tsx';
 
 export function MetricsTable({ metrics, caption }: { metrics: Metrics; caption: string }) {
   const entries = Object.entries(metrics);
   if (entries.length === 0) return null;
+  const times = entries.some(([, v]) => isInstant(v));
   return (
     <table className="metrics">
-      <caption>{caption}</caption>
+      <caption>{caption}{times ? ' (times in UTC)' : ''}</caption>
       <tbody>
-        {entries.map(([k, v]) => <tr key={k}><th scope="row"><Term metric={k} /></th><td>{formatValue(v)}</td></tr>)}
+        {entries.map(([k, v]) => <tr key={k}><th scope="row"><Term metric={k} /></th><td>{isInstant(v) ? timeText(v) : formatValue(v)}</td></tr>)}
       </tbody>
     </table>
   );

@@ -1,5 +1,5 @@
 import type { Series } from '../../app/core/model/report.ts';
-import { formatValue } from '../format.ts';
+import { formatValue, isInstant, timeText } from '../format.ts';
 
 /** A series as a plain table: the accessible twin of its chart. */
 export function SeriesTable({ series }: { series: Series }) {
@@ -8,7 +8,7 @@ export function SeriesTable({ series }: { series: Series }) {
     <div className="table-scroll">
       <table className="series-table">
         <caption>{series.name}{series.unit ? ` (${series.unit})` : ''}</caption>
-        <thead><tr><th scope="col" />{series.x.map((x) => <th key={String(x)} scope="col">{x}</th>)}</tr></thead>
+        <thead><tr><th scope="col" />{series.x.map((x) => <th key={String(x)} scope="col">{isInstant(x) ? timeText(x) : x}</th>)}</tr></thead>
         <tbody>
           {series.values.map((row, i) => (
             <tr key={i}><th scope="row">{rows[i] ?? ''}</th>{row.map((v, j) => <td key={j}>{formatValue(v)}</td>)}</tr>

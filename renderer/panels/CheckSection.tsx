@@ -3,6 +3,7 @@ import { FindingList } from '../components/FindingList.tsx';
 import { SeriesView } from '../components/SeriesView.tsx';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import { shownStatus } from '../../app/charts/labels.ts';
+import { withTimesInWords } from '../format.ts';
 
 /** One check inside a themed panel: status, summary, its series, its findings folded away. */
 export function CheckSection({ report, id, onOpenCheck }: { report: Report; id: CheckId; onOpenCheck: (id: CheckId) => void }) {
@@ -11,7 +12,7 @@ export function CheckSection({ report, id, onOpenCheck }: { report: Report; id: 
   return (
     <section className="card check-section" aria-labelledby={`section-${id}`}>
       <h2 id={`section-${id}`}>{check.title} <StatusBadge status={shownStatus(check)} /></h2>
-      <p>{check.summary}</p>
+      <p>{withTimesInWords(check.summary)}</p>
       {(check.series ?? []).filter((s) => s.kind !== 'heatmap').map((s) => <SeriesView key={s.name} series={s} />)}
       {check.findings.length > 0 && (
         <details>

@@ -6,7 +6,7 @@ import { cellSelection, cellSql, findingSelection, rowFeed } from '../engine/row
 import { RowPager } from '../components/RowPager.tsx';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
-import { withSelectedCell } from '../../app/charts/index.ts';
+import { MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from '../../app/charts/index.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
 import { SqlBlock } from '../components/SqlBlock.tsx';
@@ -61,7 +61,8 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
   const [asTable, setAsTable] = useState(false);
   const current = maps[which];
   const base = useMemo(() => (current ? chartForSeries(current.series) : null), [current]);
-  const option = useMemo(() => (base ? withSelectedCell(base as Record<string, unknown>, cell) : null), [base, cell]);
+  // dozens of segment rows scroll inside the map, so the action names over and under it stay in view
+  const option = useMemo(() => (base && current ? withRowWindow(withSelectedCell(base as Record<string, unknown>, cell), current.series.values.length) : null), [base, cell, current]);
   const onChartClick = useCallback((data: unknown) => {
     if (Array.isArray(data) && typeof data[0] === 'number' && typeof data[1] === 'number') setCell({ col: data[0], row: data[1] });
   }, []);
@@ -121,8 +122,11 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
 
       <div className="map-layout">
         <div className="map">
+          {option && !asTable && series.values.length > MAP_WINDOW_ROWS && (
+            <p className="help">{MAP_WINDOW_ROWS} of {series.values.length} segment rows at a time: scroll over the map, or drag the bar at its right, for the others.</p>
+          )}
           {option && !asTable ? (
-            <EChart option={option} label={`${series.name}: segments by actions`} height={heightForSeries(series)} onCellClick={onChartClick} />
+            <EChart option={option} label={`${series.name}: segments by actions`} height={Math.min(heightForSeries(series), windowedMapHeight(series.values.length))} onCellClick={onChartClick} />
           ) : (
             <div className="table-scroll">
               <table className="heat-table">

@@ -7,13 +7,14 @@ import { shownStatus } from '../../app/charts/labels.ts';
 import { REMEDIES_FOR } from '../../app/core/checks/registry.ts';
 import type { RemedyKind } from '../../app/core/remedies/links.ts';
 import { RemedyLinks } from '../components/RemedyLinks.tsx';
+import { withTimesInWords } from '../format.ts';
 
 export function CheckScreen({ check, onBack, onRemedies }: { check: CheckResult; onBack: () => void; onRemedies?: (kind: RemedyKind) => void }) {
   return (
     <section aria-labelledby="check-title" className="screen">
       <button type="button" className="button link" onClick={onBack}>← Overview</button>
       <h1 id="check-title">{check.title} <StatusBadge status={shownStatus(check)} /></h1>
-      <p className="lead"><code>{check.id}</code> — {check.summary}</p>
+      <p className="lead"><code>{check.id}</code> — {withTimesInWords(check.summary)}</p>
       {onRemedies && (check.status === 'warn' || check.status === 'fail' || check.status === 'error') && <p><RemedyLinks kinds={REMEDIES_FOR[check.id]} onRemedies={onRemedies} about={check.title} /></p>}
       <div className="detail-grid">
         <MetricsTable metrics={check.metrics} caption="Numbers behind the status" />

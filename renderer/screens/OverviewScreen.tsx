@@ -3,6 +3,7 @@ import { StatusBadge } from '../components/StatusBadge.tsx';
 import { shownStatus } from '../../app/charts/labels.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { Cautions } from '../components/Cautions.tsx';
+import { withTimesInWords } from '../format.ts';
 import { RemedyLinks } from '../components/RemedyLinks.tsx';
 import type { RemedyKind } from '../../app/core/remedies/links.ts';
 
@@ -45,7 +46,7 @@ export function OverviewScreen({ report, onOpenCheck, onCompare, onRemedies }: {
                   <span><StatusBadge status={r.status} /></span>
                   <button type="button" className="button link" onClick={() => onOpenCheck(r.check)}>{titleOf(report, r.check)}</button>
                   <span>
-                    {withoutTitle(r.message, titleOf(report, r.check))}
+                    {withTimesInWords(withoutTitle(r.message, titleOf(report, r.check)))}
                     {onRemedies && report.remedies && <div><RemedyLinks kinds={r.remedies} onRemedies={onRemedies} about={titleOf(report, r.check)} /></div>}
                   </span>
                 </li>
@@ -63,7 +64,7 @@ export function OverviewScreen({ report, onOpenCheck, onCompare, onRemedies }: {
             <tr key={c.id} data-check={c.id}>
               <td><StatusBadge status={shownStatus(c)} /></td>
               <td><strong>{c.title}</strong><div className="muted"><code>{c.id}</code></div></td>
-              <td>{c.summary}</td>
+              <td>{withTimesInWords(c.summary)}</td>
               <td><button type="button" className="button small" onClick={() => onOpenCheck(c.id)} aria-label={`Details of ${c.title}`}>Details</button></td>
             </tr>
           ))}

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../renderer/engine/status.ts';
 import { chooseFormat } from '../../renderer/engine/source-files.ts';
 import { shortTime } from '../../renderer/charts.ts';
+import { bucketsNeedHour, isInstant, timeText, withTimesInWords } from '../../renderer/format.ts';
 import { detectMode } from '../../renderer/engine/mode.ts';
 import { EMPTY_DRAFT, roleProblems, targetProblems } from '../../renderer/state/draft.ts';
 import type { ColumnProfile, Profile } from '../../app/core/scan/profile.ts';
@@ -137,11 +138,22 @@ describe('recent audits', () => {
 
 describe('time bucket labels on page charts', () => {
   it.each([
-    ['2026-03-02T00:00:00.000Z', '03-02'],
-    ['2026-03-02T06:00:00.000Z', '03-02 06:00'],
+    ['2026-03-02T00:00:00.000Z', '2 Mar'],
+    ['2026-03-02T06:00:00.000Z', '2 Mar 06:00'],
+    ['2026-12-31T23:00:00.000Z', '31 Dec 23:00'],
     ['bakery', 'bakery'],
   ])('%s -> %s', (label, expected) => {
     expect(shortTime(label)).toBe(expected);
+  });
+  it('keeps the hour on every label of a chart whose buckets are shorter than a day, midnight included', () => {
+    expect(shortTime('2026-03-02T00:00:00.000Z', bucketsNeedHour(['2026-03-01T18:00:00.000Z', '2026-03-02T00:00:00.000Z']))).toBe('2 Mar 00:00');
+  });
+  it('writes the report\'s instants in text for people, UTC said once', () => {
+    expect(withTimesInWords('from 2026-03-01T00:00:00.000Z to 2026-03-14T23:59:19.680Z (14.0 days)')).toBe('from 2026-03-01 00:00 to 2026-03-14 23:59 UTC (14.0 days)');
+    expect(withTimesInWords('mean reward 0.1 → 0.2 from 2026-03-12T06:00:00.000Z (p = 0.01)')).toBe('mean reward 0.1 → 0.2 from 2026-03-12 06:00 UTC (p = 0.01)');
+    expect(timeText('2026-03-15T00:00:00.000Z')).toBe('2026-03-15 00:00');
+    expect(isInstant('2026-03-15T00:00:00.000Z')).toBe(true);
+    expect(isInstant('upgrade')).toBe(false);
   });
 });
 

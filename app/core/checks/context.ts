@@ -113,6 +113,11 @@ export function isoUs(us: number): string {
   return new Date(Math.floor(us / 1000)).toISOString();
 }
 
+/** A time for people, to the minute, in UTC as every time of the report: "2026-03-17 06:00" (the caller says "UTC" once). */
+export function timeText(us: number): string {
+  return isoUs(us).slice(0, 16).replace('T', ' ');
+}
+
 /** Finite numbers only: JSON carries no NaN or Infinity. */
 export function finite(x: number | null | undefined): number | null {
   return x === null || x === undefined || !Number.isFinite(x) ? null : x;

@@ -1,5 +1,5 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
-import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { bucketWindow, isoUs, pct, result, skipped, timeText, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
 
 /** time.coverage: timestamps parse; span; empty buckets (gaps); timestamps in the future. */
@@ -30,13 +30,13 @@ function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
     window: bucketWindow(buckets, a, b + 1),
     status: 'warn' as const,
     metrics: { empty_buckets: b - a + 1 },
-    message: `no rows from ${isoUs(buckets.originUs + a * buckets.widthUs)} to ${isoUs(buckets.originUs + (b + 1) * buckets.widthUs)} (${b - a + 1} empty ${buckets.label} bucket(s))`,
+    message: `no rows from ${timeText(buckets.originUs + a * buckets.widthUs)} to ${timeText(buckets.originUs + (b + 1) * buckets.widthUs)} UTC (${plural(b - a + 1, 'empty bucket')} of ${durationWords(buckets.widthUs)})`,
   }));
-  if (future) findings.push({ segment: {}, status: 'warn', metrics: { latest: isoUs(maxUs as number), rows_in_future_buckets: futureBuckets }, message: `the latest timestamp ${isoUs(maxUs as number)} is after the audit started` });
-  if (unparsed > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: unparsed, share: unparsed / rows }, message: `${unparsed} rows (${pct(unparsed / rows, 2)}) have a missing or unparseable time` });
+  if (future) findings.push({ segment: {}, status: 'warn', metrics: { latest: isoUs(maxUs as number), rows_in_future_buckets: futureBuckets }, message: `the latest timestamp ${timeText(maxUs as number)} UTC is after the audit started` });
+  if (unparsed > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: unparsed, share: unparsed / rows }, message: `${unparsed.toLocaleString('en')} rows (${pct(unparsed / rows, 2)}) have a missing or unparseable time` });
   const status = findings.length ? 'warn' : 'pass';
   const spanDays = minUs !== null && maxUs !== null ? (maxUs - minUs) / 86_400e6 : null;
-  const summary = `${minUs !== null ? isoUs(minUs) : '?'} to ${maxUs !== null ? isoUs(maxUs) : '?'} (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} buckets of ${durationWords(buckets.widthUs)} each; ${empty.length} empty bucket(s)${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
+  const summary = `${minUs !== null ? timeText(minUs) : '?'} to ${maxUs !== null ? timeText(maxUs) : '?'} UTC (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} buckets of ${durationWords(buckets.widthUs)} each; ${empty.length === 0 ? 'no empty buckets' : plural(empty.length, 'empty bucket')}${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
   return result(
     'time.coverage',
     status,
@@ -59,4 +59,9 @@ export function durationWords(us: number): string {
   const [size, unit] = units.find(([u]) => us >= u && us % u === 0) ?? [1e6, 'second'];
   const n = Math.round((us / size) * 100) / 100;
   return `${n.toLocaleString('en')} ${unit}${n === 1 ? '' : 's'}`;
+}
+
+/** "1 empty bucket", "4 empty buckets". */
+function plural(n: number, noun: string): string {
+  return `${n.toLocaleString('en')} ${noun}${n === 1 ? '' : 's'}`;
 }

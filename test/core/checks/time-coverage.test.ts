@@ -32,7 +32,10 @@ describe('time.coverage', () => {
       [{ from: '2026-01-04T00:00:00.000Z', to: '2026-01-07T00:00:00.000Z' }, 3],
       [{ from: '2026-01-09T00:00:00.000Z', to: '2026-01-10T00:00:00.000Z' }, 1],
     ]);
-    expect(r.summary).toContain('4 empty bucket(s)');
+    expect(r.summary).toContain('4 empty buckets');
+    // times for people, to the minute, UTC said once (the windows keep full ISO text for programs)
+    expect(r.findings[0]?.message).toBe('no rows from 2026-01-04 00:00 to 2026-01-07 00:00 UTC (3 empty buckets of 1 day)');
+    expect(r.summary).toMatch(/^2026-01-01 00:00 to 2026-01-10 \d\d:\d\d UTC \(/);
   });
 
   it('warns on rows without a time, with their share (50 of 2,050 rows = 2.44%, by hand)', () => {

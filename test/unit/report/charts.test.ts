@@ -1,7 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { Series, TargetSummary } from '../../../app/core/model/report.ts';
-import { chartForSeries, estimatesOption, heatmapOption, withSelectedCell, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
+import { chartForSeries, estimatesOption, heatmapOption, MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell, histogramOption, linesOption, OKABE_ITO, SERIES_COLOURS, STATUS_COLOURS, STATUS_LABELS } from '../../../app/charts/index.ts';
 import type { ChartHistorySegment, ChartHistoryTarget, ChartSeries, ChartTarget } from '../../../app/charts/types.ts';
 import { historyEstimateOption, historySegmentsOption, historyWeightsOption } from '../../../app/charts/history.ts';
 import { capsOption } from '../../../app/charts/remedies.ts';
@@ -63,6 +63,24 @@ describe('chart option builders', () => {
     const chosen = seriesOf(withSelectedCell(o, { col: 1, row: 0 }));
     expect(chosen.at(-1)?.data).toEqual([[1, 0, 0]]);
     expect(withSelectedCell(o, null)).toBe(o);
+  });
+
+  it('name a tall map\'s actions over it and under it, and on a page show 30 of its 60 rows at a time, action names still drawn', () => {
+    const ys = Array.from({ length: 60 }, (_, i) => `segment ${i}`);
+    const series = { name: 'share', kind: 'heatmap' as const, x: ['late-checkout', 'breakfast', 'upgrade'], y: ys, values: ys.map(() => [0.2, 0.3, 0.5]) };
+    const o = heatmapOption(series);
+    const axes = o.xAxis as Obj[];
+    expect(axes.map((a) => [a.position, a.data])).toEqual([['bottom', series.x], ['top', series.x]]);
+    expect(withRowWindow(o, 30)).toBe(o);
+    const windowed = withRowWindow(o, 60);
+    const [slider] = windowed.dataZoom as Obj[];
+    expect([slider?.yAxisIndex, slider?.startValue, slider?.endValue]).toEqual([0, 0, MAP_WINDOW_ROWS - 1]);
+    expect(windowedMapHeight(60)).toBe(210 + 18 * MAP_WINDOW_ROWS);
+    // drawn: both rows of action names, and only the window's segment labels
+    const svg = renderSvg(windowed, 800, windowedMapHeight(60));
+    expect(svg.split('>late-checkout<').length - 1).toBe(2);
+    expect(svg).toContain('>segment 29<');
+    expect(svg).not.toContain('>segment 30<');
   });
 
   it('label histogram bins by their edges and never pass NaN through', () => {
