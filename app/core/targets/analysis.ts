@@ -70,8 +70,11 @@ function probabilityOf(target: TargetPolicy, view: CubeView): Probability | null
       return (_s, a) => (a === target.action ? 1 : 0);
     case 'table': {
       const idx = target.keyColumns.map((c) => view.segmentColumns.indexOf(c));
+      // a segment's row of the table, looked up once per segment array (the checks ask for every cell × action, often)
+      const rows = new WeakMap<readonly string[], ReadonlyMap<string, number> | null>();
       return (s, a) => {
-        const m = target.probabilities.get(idx.map((i) => s[i] as string).join(SEP));
+        let m = rows.get(s);
+        if (m === undefined) rows.set(s, (m = target.probabilities.get(idx.map((i) => s[i] as string).join(SEP)) ?? null));
         return m ? m.get(a) ?? 0 : undefined;
       };
     }
