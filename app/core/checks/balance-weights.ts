@@ -272,10 +272,14 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
     ...(cols.length > 1 ? testsFor('segment', cells, minExpected, ctx.view.segmentKeyOf, (c) => ({ segment: segmentRecord(cols, c.segment) }), actions, outside, never) : []),
     ...(ctx.buckets ? testsFor('time bucket', cells, minExpected, (c) => (c.bucket < 0 ? null : String(c.bucket)), (c) => ({ segment: {}, bucket: c.bucket }), actions, outside, never) : []),
     ...(ctx.roles.policy_version
-      ? cols.flatMap((col, j) => {
-        const key = pairKeys((v, version) => `${v}${SEP}${version}`);
-        return testsFor('policy version', cells, minExpected, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions, outside, never);
-      })
+      ? [
+        // action × version over every segment: a defect of one version everywhere is one group, not one per segment value
+        ...testsFor('policy version', cells, minExpected, (c) => c.version, (c) => ({ segment: {}, version: c.version }), actions, outside, never),
+        ...cols.flatMap((col, j) => {
+          const key = pairKeys((v, version) => `${v}${SEP}${version}`);
+          return testsFor('policy version', cells, minExpected, (c) => key(c.segment[j] as string, c.version), (c) => ({ segment: { [col]: c.segment[j] as string }, version: c.version }), actions, outside, never);
+        }),
+      ]
       : []),
   ];
   const q = ctx.settings['balance.q'];
@@ -289,7 +293,7 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
     .filter((x) => material(x.bias));
   const weigh = (members: readonly number[], action: string, balance: number, covered: Uint8Array) => material(assess(materiality, cells, members, action, balance, outside, covered));
   const fails = failsWithout(cells, outside, weigh, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
-  const causes = smallestCauses(significant, cells.length, fails);
+  const causes = smallestCauses(significant, cells, fails);
   const flagged = [...causes.chosen, ...explainAway(causes.rest, causes.removed, fails)];
   const versionWindows = versionSpans(ctx);
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj, bias }) => {
@@ -365,7 +369,7 @@ function failsWithout(cells: readonly CubeCell[], outside: Outside, weigh: (memb
   };
 }
 
-/** Scopes a cause is named in: one segment value × action, or one segment value × action under one policy version. */
+/** Scopes a cause is named in: one segment value × action, or one action under one policy version, in every segment or in one segment value. */
 const CAUSE_SCOPES: ReadonlySet<Test['scope']> = new Set(['segment value', 'policy version']);
 /** Bounds the search: candidates × the cells read per candidate (every failing test's group once). */
 const CAUSE_WORK = 20_000_000;
@@ -373,32 +377,42 @@ const MAX_CAUSE_CANDIDATES = 48;
 
 /**
  * The smallest groups that account for the failing tests: greedily, the segment value × action (× version)
- * group whose rows, left out, make the most still-unexplained failing tests hold, ties to the group with fewer
- * rows (so riverside under v8 wins over riverside, which explains the same tests) and then to the larger
- * deviation; between two actions of one scope, to the larger deviation. A group must account for more than its own test. What no such group explains is returned in
- * `rest`, with the cells already accounted for in `removed`.
+ * or action × version (every segment) group whose rows, left out, make the most still-unexplained failing
+ * tests hold, so a defect of one version everywhere is one group however many segment values share it. Ties go
+ * to the group with fewer rows not yet accounted for (so riverside under v8 wins over riverside, which explains
+ * the same tests with more rows), then to the wider group (once a version's rows everywhere are accounted for,
+ * riverside and riverside under the other version name the same new rows, and riverside says it with fewer
+ * restrictions), then to the larger deviation (so between two actions of one group, to the larger deviation). A
+ * group must account for more than its own test. What no such group explains is returned in `rest`, with the
+ * cells already accounted for in `removed`.
  */
-function smallestCauses<T extends { t: Test }>(failing: readonly T[], cellCount: number, fails: FailsWithout): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
-  const removed = new Uint8Array(cellCount);
+function smallestCauses<T extends { t: Test }>(failing: readonly T[], cells: readonly CubeCell[], fails: FailsWithout): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
+  const removed = new Uint8Array(cells.length);
   const work = failing.reduce((s, x) => s + x.t.members.length, 0);
   const limit = Math.min(MAX_CAUSE_CANDIDATES, Math.floor(CAUSE_WORK / Math.max(1, work)));
   const candidates = failing.filter((x) => CAUSE_SCOPES.has(x.t.scope)).sort((a, b) => Math.abs(b.t.z) - Math.abs(a.t.z) || b.t.n - a.t.n).slice(0, limit);
+  // rows of a test's group, every action (so the actions of one group tie on rows), and those no chosen group accounts for yet
+  const rowsOf = (t: Test, skip?: Uint8Array): number => {
+    let rows = 0;
+    for (const i of t.members) if (!skip?.[i]) rows += (cells[i] as CubeCell).nP;
+    return rows;
+  };
   const chosen: T[] = [];
   const accounts = new Map<Test, number>();
   let open = [...failing];
   for (;;) {
-    let best: { x: T; explains: Set<T> } | null = null;
+    let best: { x: T; explains: Set<T>; left: number; all: number } | null = null;
     for (const x of candidates) {
       if (chosen.includes(x)) continue;
       const mark = removed.slice();
       for (const i of x.t.members) mark[i] = 1;
       const explains = new Set(open.filter((y) => !fails(y.t, mark)));
       if (explains.size < 2) continue;
-      // between actions of one scope the larger deviation wins: their row counts differ only by the segments set aside per action
-      const sameScope = best !== null && x.t.scope === best.x.t.scope && x.t.version === best.x.t.version && JSON.stringify(x.t.segment) === JSON.stringify(best.x.t.segment);
+      const left = rowsOf(x.t, removed), all = rowsOf(x.t);
+      // two actions of one group tie on both row counts, so the larger deviation wins between them
       const deviates = best !== null && Math.abs(x.t.balance - 1) > Math.abs(best.x.t.balance - 1);
-      const better = !best || explains.size > best.explains.size || (explains.size === best.explains.size && (sameScope ? deviates : x.t.n < best.x.t.n || (x.t.n === best.x.t.n && deviates)));
-      if (better) best = { x, explains };
+      const better = !best || explains.size > best.explains.size || (explains.size === best.explains.size && (left < best.left || (left === best.left && (all > best.all || (all === best.all && deviates)))));
+      if (better) best = { x, explains, left, all };
     }
     if (!best) break;
     chosen.push(best.x);

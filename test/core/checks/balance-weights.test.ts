@@ -187,6 +187,53 @@ describe('balance.weights', () => {
     expect(first.message).toMatch(/a in region=r2, policy v1, from 2026-01-03 to 2026-01-06: B = /);
   });
 
+  /**
+   * 4 regions × 3 devices × 10 days, policy v1 on days 0–4 and v2 after; a logged 40 times in 200 rows at p = 0.2, b 160 times
+   * at 0.8 (counts exactly as expected, B = 1). From the switch, v2 logs half of a's propensity everywhere (B = 40 · 10 / 200 = 2);
+   * with `stale`, region r2 logs a at 0.1 on every day under both versions (its own defect, as a stale propensity would be).
+   */
+  const wholeVersion = (stale = false): Rows[] => {
+    const rows: Rows[] = [];
+    for (let d = 0; d < 10; d++) for (const r of ['r1', 'r2', 'r3', 'r4']) for (const v of ['d1', 'd2', 'd3']) {
+      const version = d < 5 ? 'v1' : 'v2';
+      const halved = version === 'v2' || (stale && r === 'r2');
+      rows.push({ segment: [r, v], action: 'a', bucket: d, version, p: halved ? 0.1 : 0.2, count: 40 });
+      rows.push({ segment: [r, v], action: 'b', bucket: d, version, p: 0.8, count: 160 });
+    }
+    return rows;
+  };
+
+  it('a defect of one version in every segment is named as that action × version with no segment, not one group per segment value', () => {
+    const r = run(wholeVersion(), { days: 10, versions: true, segmentColumns: ['region', 'device'] });
+    expect(r.status).toBe('fail');
+    const first = r.findings[0]!;
+    expect(first.action).toBe('a');
+    expect(first.segment).toEqual({});
+    expect(first.metrics.scope).toBe('policy version');
+    expect(first.metrics.version).toBe('v2');
+    // every v2 row logs a at half its probability: B = 2 by construction
+    expect(first.metrics.balance).toBeCloseTo(2, 12);
+    // days 5–9: bucket 5 starts 2026-01-06, the log ends where bucket 10 would start
+    expect(first.window).toEqual({ from: '2026-01-06T00:00:00.000Z', to: '2026-01-11T00:00:00.000Z' });
+    expect(first.metrics.accounts_for).toBe(r.metrics.failing);
+    expect(r.metrics.groups).toBe(1);
+    expect(r.summary).toMatch(/worst: a in all rows, policy v2, from 2026-01-06 to 2026-01-11: B = 2 /);
+  });
+
+  it('with a second, whole-log defect in one region, that region is named over both versions once the version\'s rows are accounted for', () => {
+    // r2 under v2 is as off as every v2 row, so after a × v2 (every segment) what is left of r2 is its v1 rows: r2 and r2 × v1 account
+    // for the same rows and tests, and r2 alone says so with fewer restrictions (and its window is the whole log, where it was planted)
+    const r = run(wholeVersion(true), { days: 10, versions: true, segmentColumns: ['region', 'device'] });
+    const failing = r.findings.filter((f) => f.status === 'fail');
+    expect(failing.map((f) => [f.action, f.segment, f.metrics.version ?? null])).toEqual(expect.arrayContaining([['a', {}, 'v2'], ['a', { region: 'r2' }, null]]));
+    expect(r.metrics.groups).toBe(2);
+    const region = failing.find((f) => f.segment.region === 'r2')!;
+    // r2 logs a at 0.1 on every row: B = 2 by construction, over days 0–9
+    expect(region.metrics.balance).toBeCloseTo(2, 12);
+    expect(region.window).toEqual({ from: '2026-01-01T00:00:00.000Z', to: '2026-01-11T00:00:00.000Z' });
+    expect(failing.reduce((s, f) => s + (f.metrics.accounts_for as number), 0)).toBe(r.metrics.failing);
+  });
+
   describe('the effect size is the bias a deviation could put into a primary target\'s IPS estimate: |B − 1| · target mass · R (Dudík, Langford & Li 2011, Theorem 1)', () => {
     /** `segments` segments of 200 rows, a and b at p = 0.5, reward 1 on a and 0 on b (R = 1); s0 logs a 150 times (B = 1.5). */
     const sparse = (segments: number, r = 1): Rows[] => Array.from({ length: segments }, (_, i) => [
