@@ -2,6 +2,7 @@ import type { CheckId, Report } from '../../app/core/model/report.ts';
 import { formatShare, formatValue } from '../format.ts';
 import { checksOnPanel } from '../../app/core/checks/registry.ts';
 import { CheckSection } from './CheckSection.tsx';
+import { weightsRows } from '../state/weights-table.ts';
 
 export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
   return (
@@ -17,18 +18,18 @@ export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCh
           <thead>
             <tr>
               <th scope="col">Target</th><th scope="col">Effective sample size</th><th scope="col">ESS / rows</th><th scope="col">Largest weight</th>
-              <th scope="col">Weight held by top 1% of rows</th><th scope="col">Pareto k̂ (limit)</th><th scope="col">Mass on unlogged cells</th>
+              <th scope="col">Weight held by top 1% of rows</th><th scope="col">Pareto k̂ of the weight tail</th><th scope="col">Mass on unlogged cells</th>
             </tr>
           </thead>
           <tbody>
-            {report.targets.map((t) => (
+            {weightsRows(report).map(({ target: t, spec, khat, khatNote }) => (
               <tr key={t.name}>
-                <th scope="row">{t.name}<div className="muted"><code>{t.spec}</code></div></th>
+                <th scope="row">{t.name}{spec !== null && <div className="muted"><code>{spec}</code></div>}</th>
                 <td>{formatValue(t.ess)}</td>
                 <td>{formatShare(t.ess_fraction)}</td>
                 <td>{formatValue(t.max_weight)}</td>
                 <td>{formatShare(t.top1_weight_share)}</td>
-                <td>{formatValue(t.khat)} ({formatValue(t.khat_threshold)})</td>
+                <td>{khat}{khatNote !== null && <div className="muted">{khatNote}</div>}</td>
                 <td>{formatShare(t.support_deficit)}</td>
               </tr>
             ))}
