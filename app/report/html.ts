@@ -12,6 +12,7 @@ import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
 import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
 import { makeChart, type ChartFn, type HtmlOptions } from './html-chart.ts';
 import { html, reportPage, type SafeHtml } from './html-template.ts';
+import { weightsRows } from './target-words.ts';
 
 export { REPORT_CSP } from './html-style.ts';
 export type { HtmlOptions } from './html-chart.ts';
@@ -140,8 +141,8 @@ function targetsSection(targets: readonly TargetSummary[], report: Report, chart
   if (targets.length === 0) return html`<h2 id="targets">Targets and estimates</h2><p class="muted">No target policy was evaluated.</p>`;
   const onPolicy = report.checks.find((c) => c.id === 'estimate.preview')?.metrics.on_policy_value;
   return html`<h2 id="targets">Targets and estimates</h2>
-<table><thead><tr><th>Target</th><th>ESS</th><th>ESS / n</th><th>Max weight</th><th>Top 1% weight share</th><th>k̂ (threshold)</th><th>Support deficit</th></tr></thead><tbody>
-${targets.map((t) => html`<tr><td>${t.name}<br><code class="small">${t.spec}</code></td><td class="num">${fmtNumber(t.ess)}</td><td class="num">${fmtShare(t.ess_fraction)}</td><td class="num">${fmtNumber(t.max_weight)}</td><td class="num">${fmtShare(t.top1_weight_share)}</td><td class="num">${fmtNumber(t.khat)} (${fmtNumber(t.khat_threshold)}; tail ${fmtNumber(t.tail_length)})</td><td class="num">${fmtShare(t.support_deficit)}</td></tr>`)}
+<table><thead><tr><th>Target</th><th>ESS</th><th>ESS / n</th><th>Max weight</th><th>Top 1% weight share</th><th>k̂ (Pareto tail shape)</th><th>Support deficit</th></tr></thead><tbody>
+${weightsRows(report, (x) => fmtNumber(x)).map(({ target: t, spec, khat, khatNote }) => html`<tr><td>${t.name}${spec === null ? '' : html`<br><code class="small">${spec}</code>`}</td><td class="num">${fmtNumber(t.ess)}</td><td class="num">${fmtShare(t.ess_fraction)}</td><td class="num">${fmtNumber(t.max_weight)}</td><td class="num">${fmtShare(t.top1_weight_share)}</td><td class="num">${khat}${khatNote === null ? '' : html`<br><span class="small muted">${khatNote}</span>`}</td><td class="num">${fmtShare(t.support_deficit)}</td></tr>`)}
 </tbody></table>
 <table><thead><tr><th rowspan="2">Target</th><th colspan="2">IPS</th><th colspan="2">SNIPS</th><th colspan="2">Doubly robust</th><th rowspan="2">Detectable difference (80% power)</th></tr>
 <tr><th>value</th><th>95% CI</th><th>value</th><th>95% CI</th><th>value</th><th>95% CI</th></tr></thead><tbody>

@@ -2,7 +2,7 @@ import type { CheckId, Report } from '../../app/core/model/report.ts';
 import { formatShare, formatValue } from '../format.ts';
 import { checksOnPanel } from '../../app/core/checks/registry.ts';
 import { CheckSection } from './CheckSection.tsx';
-import { weightsRows } from '../state/weights-table.ts';
+import { weightsRows } from '../../app/report/target-words.ts';
 
 export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCheck: (id: CheckId) => void }) {
   return (
@@ -22,7 +22,7 @@ export function WeightsPanel({ report, onOpenCheck }: { report: Report; onOpenCh
             </tr>
           </thead>
           <tbody>
-            {weightsRows(report).map(({ target: t, spec, khat, khatNote }) => (
+            {weightsRows(report, formatValue).map(({ target: t, spec, khat, khatNote }) => (
               <tr key={t.name}>
                 <th scope="row">{t.name}{spec !== null && <div className="muted"><code>{spec}</code></div>}</th>
                 <td>{formatValue(t.ess)}</td>

@@ -1,6 +1,8 @@
-/** The rows of the Weights screen's target table: what each cell says, from the report (no statistic computed here). */
-import type { Report, TargetSummary } from '../../app/core/model/report.ts';
-import { formatValue } from '../format.ts';
+/**
+ * What each cell of a targets table says, from the report (no statistic computed here): the app's Weights screen
+ * and the HTML report's targets table use the same words, each with its own number format.
+ */
+import type { Report, TargetSummary } from '../core/model/report.ts';
 
 export interface WeightsRow {
   readonly target: TargetSummary;
@@ -17,7 +19,7 @@ export interface WeightsRow {
  * app/core/checks/weights-tail.ts) or a tail too short to fit; the number in brackets is the fail limit
  * min(1 − 1/log10 n, 0.7) (app/core/stats/psis.ts, paretoKThreshold).
  */
-export function weightsRows(report: Report): WeightsRow[] {
+export function weightsRows(report: Report, formatValue: (x: number) => string): WeightsRow[] {
   const tail = report.checks.find((c) => c.id === 'weights.tail');
   return report.targets.map((t) => {
     const bounded = tail?.findings.find((f) => f.target === t.name)?.metrics.bounded === true;
