@@ -12,10 +12,11 @@ import type { Table } from '../app/core/table.ts';
 import { decodeTable } from '../app/engine/host/codec.ts';
 import type { WireTable } from '../app/engine/host/messages.ts';
 import type { MeasureResult, MeasureSpec } from './measure.ts';
+import { stageOf } from './stage-label.ts';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const CHROMIUM = '/usr/bin/chromium';
-const PORT = 5191;
+const PORT = Number(process.env.CW_BENCH_PORT ?? 5191);
 const PAGE = `http://127.0.0.1:${PORT}/engine-harness.html`;
 
 type Answer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
@@ -76,10 +77,20 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
       if (!registered.ok) throw new Error(`${registered.code}: ${registered.message}`);
       // A Parquet log is loaded into DuckDB-Wasm when it is opened (app/engine/parquet/): part of every audit of it.
       const openSeconds = registered.value.format === 'parquet' ? (performance.now() - opening) / 1000 : 0;
+      const load = await page.evaluate(() => window.cwEngineHarness!.lastParquetLoad());
+      const loadSplit = load ? Object.entries(load).map(([k, v]) => `${k} ${k === 'appends' ? v : (v / 1000).toFixed(2)}`).join(', ') : '';
+      // Seconds per audit statement of the last audit (DuckDB-Wasm's own time, page.evaluate's round trip excluded).
+      let stages: [string, number][] = [];
+      // Seconds the audit's queries took as this process sees them (the page's answer through CDP included).
+      let roundTrips = 0;
       const run = async (sql: string): Promise<Table> => {
+        const t0 = performance.now();
         const answer = await page.evaluate((text) => window.cwEngineHarness!.query(text), sql) as Answer<WireTable>;
+        stages.push([stageOf(sql), answer.ms / 1000]);
         if (!answer.ok) throw new Error(`${answer.code}: ${answer.message}`);
-        return decodeTable(answer.value);
+        const table = decodeTable(answer.value);
+        roundTrips += (performance.now() - t0) / 1000;
+        return table;
       };
       const audit = () => runAudit(run, { relation: registered.value.relation, input: { files: [], format: registered.value.format }, engine: 'wasm-browser', targets });
       if (spec.warmup) await audit();
@@ -87,12 +98,14 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
       let last;
       for (let i = 0; i < spec.runs; i++) {
         const t0 = performance.now();
+        stages = [];
+        roundTrips = 0;
         last = await audit();
         seconds.push((performance.now() - t0) / 1000 + openSeconds);
       }
       await sample();
       const t = last?.targets[0];
-      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.input.rows ?? NaN, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}) }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
+      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.input.rows ?? NaN, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}), ...(loadSplit ? { load_s: loadSplit } : {}), queries_as_seen_s: +roundTrips.toFixed(2), statements_s: stages.map(([n, v]) => `${n} ${v.toFixed(2)}`).join(', ') }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
     } finally {
       clearInterval(sampler);
     }

@@ -7,13 +7,14 @@ import { readFileSync } from 'node:fs';
 import { runAudit } from '../app/core/audit.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
+import { stageOf } from './stage-label.ts';
 
 const V9 = new URL('../sample-data/maple-row-v9-policy.csv', import.meta.url).pathname;
 const wasm = process.argv.includes('--wasm');
 const [path, threadsArg, memoryLimit] = process.argv.slice(2).filter((a) => a !== '--wasm');
 if (!path) throw new Error('usage: bench/stages.ts <log path> [threads] [memory_limit] [--wasm]');
 const threads = threadsArg ? Number(threadsArg) : undefined;
-const engine = wasm ? await createWasmNodeEngine() : await createNativeEngine({ ...(threads ? { threads } : {}), ...(memoryLimit ? { memoryLimit } : {}) });
+const engine = wasm ? await createWasmNodeEngine({ onParquetLoad: (t) => console.log(`load: ${JSON.stringify(Object.fromEntries(Object.entries(t).map(([k, v]) => [k, k === 'appends' ? v : +(v / 1000).toFixed(2)])))} (s)`) }) : await createNativeEngine({ ...(threads ? { threads } : {}), ...(memoryLimit ? { memoryLimit } : {}) });
 if (memoryLimit && !wasm) await engine.query(`SET temp_directory = '${new URL('./cache/spill/', import.meta.url).pathname}'`);
 const open0 = performance.now();
 const openCpu0 = process.cpuUsage();
@@ -26,8 +27,7 @@ for (let round = 0; round < 2; round++) {
   const t0 = performance.now();
   const cpu0 = process.cpuUsage();
   await runAudit(async (sql) => {
-    const name = /^DESCRIBE/.test(sql) ? 'describe' : /"c0_nn"/.test(sql) ? (/LIMIT/.test(sql) ? 'profile1' : 'profile') : /AS n_p_null/.test(sql) ? 'cube' : /rows_in_duplicates/.test(sql) ? 'duplicates' : /__finding/.test(sql) ? 'examples' : /w DESC/.test(sql) ? 'tail' : 'other';
-    label = name;
+    label = stageOf(sql);
     const s = performance.now();
     const c0 = process.cpuUsage();
     const t = await engine.query(sql);

@@ -9,6 +9,7 @@ import type { WireTable } from '../app/engine/host/messages.ts';
 import { EngineError } from '../app/engine/types.ts';
 import type { RegisteredSource } from '../app/engine/types.ts';
 import { createWasmBrowserEngine } from '../app/engine/wasm-browser.ts';
+import type { LoadTimings } from '../app/engine/parquet/load.ts';
 
 export type HarnessAnswer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
 
@@ -16,6 +17,8 @@ export interface EngineHarness {
   registerFile(file: File | File[]): Promise<HarnessAnswer<RegisteredSource>>;
   query(sql: string): Promise<HarnessAnswer<WireTable>>;
   sourceScans(): number;
+  /** Where the last Parquet load's time went (bench/browser.ts). */
+  lastParquetLoad(): LoadTimings | null;
 }
 
 declare global {
@@ -37,11 +40,13 @@ async function answer<T>(work: () => Promise<T>): Promise<HarnessAnswer<T>> {
 
 const status = document.getElementById('status') as HTMLElement;
 try {
-  const engine = await createWasmBrowserEngine({ bundles: { mainModule: ehWasm, mainWorker: ehWorker } });
+  let lastLoad: LoadTimings | null = null;
+  const engine = await createWasmBrowserEngine({ bundles: { mainModule: ehWasm, mainWorker: ehWorker }, onParquetLoad: (t) => { lastLoad = t; } });
   window.cwEngineHarness = {
     registerFile: (file) => answer(() => engine.register({ kind: 'file', files: Array.isArray(file) ? file : [file] })),
     query: (sql) => answer(async () => encodeTable(await engine.query(sql))),
     sourceScans: () => engine.sourceScans,
+    lastParquetLoad: () => lastLoad,
   };
   status.textContent = 'ready';
 } catch (error) {

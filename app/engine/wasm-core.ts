@@ -13,6 +13,7 @@ import type { Scan } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, Projection, QueryOptions, RegisteredSource, SourceFormat } from './types.ts';
 import { serialQueue } from './serial.ts';
+import type { LoadTimings } from './parquet/load.ts';
 
 /** DuckDB-Wasm's pending-query calls for one connection, sync (Node blocking build) or async (worker). */
 export interface PendingQueryApi {
@@ -31,6 +32,8 @@ export interface WasmEngineOptions {
   extensionRepository?: string;
   /** Time allowed for fetching and loading an extension, in milliseconds. */
   extensionTimeoutMs?: number;
+  /** Told where each Parquet load's time went (bench/). */
+  onParquetLoad?: (timings: LoadTimings) => void;
 }
 
 const DEFAULT_EXTENSION_TIMEOUT_MS = 10_000;

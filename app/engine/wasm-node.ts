@@ -25,6 +25,8 @@ const require = createRequire(import.meta.url);
 export interface WasmNodeEngineOptions extends WasmEngineOptions {
   /** Memory the loaded columns of a Parquet log may take, in bytes (app/engine/parquet/load.ts). */
   parquetBudgetBytes?: number;
+  /** Rows per Arrow append of a Parquet load (app/engine/parquet/load.ts). */
+  parquetPieceRows?: number;
 }
 
 export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}): Promise<Engine & { readonly kind: 'wasm-node' }> {
@@ -101,7 +103,7 @@ export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}):
     for (const file of files) parts.push({ name: file, blob: await openAsBlob(file) });
     return core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {
       append: (table, ipc, create) => core.exclusive(async () => { conn.insertArrowFromIPCStream(ipc, { name: table, create }); }),
-    }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning }).then((l) => l.selectSql), 'parquet', scan.sql, files);
+    }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning, ...(options.parquetPieceRows ? { pieceRows: options.parquetPieceRows } : {}) }).then((l) => { options.onParquetLoad?.(l.timings); return l.selectSql; }), 'parquet', scan.sql, files);
   }
 
   async function listFiles(patterns: readonly string[], paths: readonly string[]): Promise<string[]> {

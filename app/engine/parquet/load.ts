@@ -8,7 +8,7 @@
 import type { FileMetaData } from 'hyparquet';
 import { quoteIdentifier, quoteLiteral } from '../sql-source.ts';
 import { EngineError } from '../types.ts';
-import { rowGroupAligner } from './align.ts';
+import { DUCKDB_ROW_GROUP_ROWS, rowGroupAligner } from './align.ts';
 import type { RowGroupDecoder } from './decoder.ts';
 import { readFooter } from './footer.ts';
 import { hiveValues, loadedBytes, topLevelColumns, unreadableColumn } from './schema.ts';
@@ -32,8 +32,25 @@ export interface LoadOptions {
   /** Memory the loaded columns may take, in bytes. */
   readonly budgetBytes: number;
   readonly hivePartitioning: boolean;
+  /** Rows of each append, a multiple of DuckDB's row-group size (align.ts); APPEND_ROWS when absent. */
+  readonly pieceRows?: number;
   /** Called after each row group, with rows loaded so far and in all. */
   readonly onRowGroup?: (loaded: number, total: number) => void;
+}
+
+/**
+ * Where a load's time went, in milliseconds (for bench/: decoding and appending overlap, so the parts add
+ * up to more than the wall time): `decode` the decoder's answers (in the browser, the decode worker's work
+ * plus the transfer), `align` re-cutting into DuckDB row groups, `append` DuckDB-Wasm's Arrow inserts,
+ * `waitAppend` time the next decode was ready but the previous append was not done.
+ */
+export interface LoadTimings {
+  wall: number;
+  decode: number;
+  align: number;
+  append: number;
+  waitAppend: number;
+  appends: number;
 }
 
 export interface LoadedParquet {
@@ -41,7 +58,15 @@ export interface LoadedParquet {
   readonly selectSql: string;
   readonly rows: number;
   readonly estimatedBytes: number;
+  readonly timings: LoadTimings;
 }
+
+/**
+ * Rows of each Arrow append: four DuckDB row groups. Each of DuckDB-Wasm's inserts has a fixed cost of its
+ * own; on the 10M-row log 82 appends of one row group took 46.8 s in Node, 21 of four 29.1 s, 11 of eight
+ * 33.4 s (load average 7–14, bench/NOTES.md "Fewer, larger appends"). A piece is about 30 MB of Arrow.
+ */
+export const APPEND_ROWS = 4 * DUCKDB_ROW_GROUP_ROWS;
 
 /** Default budget: DuckDB-Wasm is a 32-bit build (4 GiB of memory at most), and the audit's queries need room too. */
 export const DEFAULT_BUDGET_BYTES = 2 * 1024 ** 3;
@@ -118,6 +143,16 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
 
   let loaded = 0;
   const selects: string[] = [];
+  const started = performance.now();
+  const timings: LoadTimings = { wall: 0, decode: 0, align: 0, append: 0, waitAppend: 0, appends: 0 };
+  const timed = async <T>(key: 'decode' | 'append' | 'waitAppend', work: Promise<T>): Promise<T> => {
+    const t0 = performance.now();
+    try {
+      return await work;
+    } finally {
+      timings[key] += performance.now() - t0;
+    }
+  };
   for (const [k, part] of parts.entries()) {
     const footer = footers[k] as FileMetaData;
     const partColumns = columns[k] ?? [];
@@ -130,7 +165,7 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
       // The next row group is decoded while the engine appends the one before (in the browser they run on
       // two threads); so at most two row groups' Arrow exist at once. The engine gets pieces of whole
       // DuckDB row groups (align.ts), the first of which creates the part's table.
-      const aligner = rowGroupAligner();
+      const aligner = rowGroupAligner(options.pieceRows ?? APPEND_ROWS);
       let created = false;
       let appending: Promise<void> | null = null;
       const appendPieces = (pieces: readonly Uint8Array[], groupRows: number) => {
@@ -138,7 +173,8 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
         appending = (async () => {
           if (after) await after;
           for (const piece of pieces) {
-            await sink.append(table.slice(1, -1), piece, !created);
+            await timed('append', sink.append(table.slice(1, -1), piece, !created));
+            timings.appends++;
             created = true;
           }
           loaded += groupRows;
@@ -149,9 +185,11 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
       };
       let last: Uint8Array | null = null;
       for (const [index, group] of footer.row_groups.entries()) {
-        last = await decodeRowGroup(reader, part, index, partColumns, Number(group.num_rows));
+        last = await timed('decode', decodeRowGroup(reader, part, index, partColumns, Number(group.num_rows)));
+        const a0 = performance.now();
         const pieces = aligner.push(last);
-        if (appending) await appending;
+        timings.align += performance.now() - a0;
+        if (appending) await timed('waitAppend', appending);
         appendPieces(pieces, Number(group.num_rows));
       }
       const rest = aligner.rest();
@@ -174,5 +212,6 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
     }
     selects.push(`SELECT ${list.join(', ')} FROM ${table}`);
   }
-  return { selectSql: selects.join(' UNION ALL '), rows, estimatedBytes };
+  timings.wall = performance.now() - started;
+  return { selectSql: selects.join(' UNION ALL '), rows, estimatedBytes, timings };
 }
