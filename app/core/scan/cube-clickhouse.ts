@@ -211,19 +211,23 @@ function levels(spec: CubeSpec): Levels {
   const rowCount = spec.rowCount ?? 2 ** 40;
   const reward = spec.reward ?? null;
   const h = reward ? 2 * reward.halfRange : null;
+  // The limb sums are result columns of the grouping and the double is formed one level up, over the groups:
+  // written into one expression, 18.16 evaluates every copy of the same sumIf as an aggregate of its own.
   const groupSum = (id: string, x: string, bound: number | null) => {
-    if (bound === null) return { rows: [] as string[], sum: `toFloat64(sumIf(${x}, cw_dd IS NOT NULL))` };
+    if (bound === null) return { rows: [] as string[], cols: [`toFloat64(sumIf(${x}, cw_dd IS NOT NULL)) AS cw_${id}`], sum: `cw_${id}` };
     const k = scaleLiteral(bound, rowCount);
     const limbs = limbAliases(id, x, 'cw_dd IS NOT NULL', k);
-    const sum = (side: 'p' | 'n', limb: 'h' | 'm' | 'o') => `sumIf(toUInt64(${limbs[limb]}), ${limbs.t} ${side === 'p' ? '>' : '<'} 0)`;
-    return { rows: limbs.rows, sum: `${doubleInSql(sum)} / ${k}` };
+    const col = (side: 'p' | 'n', limb: 'h' | 'm' | 'o') => `cw_${id}__${side}${limb}`;
+    const cols = (['p', 'n'] as const).flatMap((side) => (['h', 'm', 'o'] as const).map((limb) => `sumIf(toUInt64(${limbs[limb]}), ${limbs.t} ${side === 'p' ? '>' : '<'} 0) AS ${col(side, limb)}`));
+    return { rows: limbs.rows, cols, sum: `${doubleInSql(col)} / ${k}` };
   };
   const sd = groupSum('g1', 'cw_dd', h);
   const sd2 = groupSum('g2', 'cw_dd * cw_dd', h === null ? null : h * h);
   const base = [...baseAliases(rows, shift), `if(ifNull(${finiteReward('cw_r', d)}, 0), cw_r - ${shift}, NULL) AS cw_dd`];
   const groupKeys = [...keys.map((k) => `cw_${k}`), 'cw_p'];
-  const byP = `${withList([...base, ...sd.rows, ...sd2.rows])}SELECT ${[...groupKeys, 'toFloat64(count()) AS cw_c', 'toFloat64(count(cw_dd)) AS cw_c_r', `${sd.sum} AS cw_s_d`, `${sd2.sum} AS cw_s_d2`].join(', ')}\nFROM ${spec.relation}\nGROUP BY ${groupKeys.join(', ')}`;
-  const g = `(SELECT *, cw_s_d + ${shift} * cw_c_r AS cw_s_r, cw_s_d2 + 2 * ${shift} * cw_s_d + ${shift} * ${shift} * cw_c_r AS cw_s_r2 FROM (\n${byP}\n))`;
+  const byP = `${withList([...base, ...sd.rows, ...sd2.rows])}SELECT ${[...groupKeys, 'toFloat64(count()) AS cw_c', 'toFloat64(count(cw_dd)) AS cw_c_r', ...sd.cols, ...sd2.cols].join(', ')}\nFROM ${spec.relation}\nGROUP BY ${groupKeys.join(', ')}`;
+  const sums = `SELECT ${[...groupKeys, 'cw_c', 'cw_c_r', `${sd.sum} AS cw_s_d`, `${sd2.sum} AS cw_s_d2`].join(', ')} FROM (\n${byP}\n)`;
+  const g = `(SELECT *, cw_s_d + ${shift} * cw_c_r AS cw_s_r, cw_s_d2 + 2 * ${shift} * cw_s_d + ${shift} * ${shift} * cw_c_r AS cw_s_r2 FROM (\n${sums}\n))`;
   return { source: g, base: [], grouped };
 }
 
@@ -257,5 +261,9 @@ export function cubeSqlClickHouse(spec: CubeSpec, scales: readonly (number | nul
   const lv = levels(spec);
   const { selects, rows } = aggregation(measureList(spec, lv.grouped), scales ?? []);
   const outKeys = keys.map((k) => `cw_${k} AS ${k}`);
+  // Over the (keys, p) groups the terms and their limbs are columns of a subquery, computed once per group;
+  // as WITH aliases 18.16 would expand them into every aggregate that reads them. Over the rows of a
+  // Distributed table they stay WITH aliases, so that the shards aggregate (a subquery would send its rows).
+  if (lv.grouped) return `SELECT ${[...outKeys, ...selects].join(',\n  ')}\nFROM (SELECT ${['*', ...rows].join(',\n  ')}\nFROM ${lv.source})\nGROUP BY ${keys.join(', ')}\nORDER BY ${keys.join(', ')}`;
   return `${withList([...lv.base, ...rows])}SELECT ${[...outKeys, ...selects].join(',\n  ')}\nFROM ${lv.source}\nGROUP BY ${keys.join(', ')}\nORDER BY ${keys.join(', ')}`;
 }
