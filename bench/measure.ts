@@ -9,7 +9,7 @@ import { readdir, readFile } from 'node:fs/promises';
 import { runAudit } from '../app/core/audit.ts';
 import type { Report } from '../app/core/model/report.ts';
 import { resolveRoles } from '../app/core/roles/roles.ts';
-import { cubeSql, groupsByPropensity } from '../app/core/scan/cube.ts';
+import { cubeSql, groupsByPropensity, groupsByReward, rewardShift } from '../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../app/core/scan/expressions.ts';
 import { profileLog } from '../app/core/scan/profile.ts';
 import { resolveSettings } from '../app/core/settings.ts';
@@ -88,7 +88,9 @@ export async function auditCubeSql(run: RunQuery, relation: string): Promise<str
   const settings = resolveSettings();
   const buckets = chooseBuckets(timeRangeUs(roles, profile), settings['time.bucket'], settings['time.max_buckets']);
   const p = profile.columns.find((c) => c.name === roles.propensity);
-  return cubeSql({ relation, rows: rowExpressions(roles, profile, buckets), capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity: groupsByPropensity(p) });
+  const r = profile.columns.find((c) => c.name === roles.reward);
+  // the reward's shift and the row count set the exact sums' scales, as in the audit (without them the sums are plain doubles)
+  return cubeSql({ relation, rows: rowExpressions(roles, profile, buckets), capped: [], cap: settings['segments.cap'], floor: settings['support.floor.epsilon'], byPropensity: groupsByPropensity(p), byReward: groupsByReward(r), reward: rewardShift(r), rowCount: profile.rows });
 }
 
 const SPILL = new URL('./cache/spill/', import.meta.url).pathname;

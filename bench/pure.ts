@@ -1,13 +1,14 @@
 /**
  * Time of the audit's pure part (everything after the SQL results arrive), in milliseconds:
- *   node --import tsx bench/pure.ts <log path> [--runs N] [--cold N] [--report out.json]
+ *   node --import tsx bench/pure.ts <log path> [--runs N] [--cold N] [--report out.json] [--save results.bin]
  * Every query of one audit on the native engine is answered once and kept by its SQL text; the audit
  * is then re-run against that cache, so only the checks and the report are timed:
  *   - cold: each run in a fresh Node process that loads the cached results (what one real audit pays,
  *     JIT warm-up included), `--cold` runs (default 5);
  *   - warm: `--runs` runs in this process after those (default 9).
  * Process CPU time is printed beside wall time: it is far less sensitive to other load on the machine.
- * `--report` writes the report of the first warm run (fixed clock) for before/after comparison.
+ * `--report` writes the report of the first warm run (fixed clock) for before/after comparison; `--save` keeps the
+ * cached results, so that one cold run can be profiled: node --cpu-prof --import tsx bench/pure.ts --child results.bin
  */
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -87,6 +88,8 @@ if (child) {
   try {
     const file = join(dir, 'results.bin');
     writeFileSync(file, serialize({ request: base, results: [...results] } satisfies Saved));
+    const keep = option('--save');
+    if (keep) writeFileSync(keep, readFileSync(file));
     const cold = Array.from({ length: coldRuns }, () => JSON.parse(execFileSync(process.execPath, [...process.execArgv, new URL(import.meta.url).pathname, '--child', file], { encoding: 'utf8' })) as { wall: number; cpu: number });
     if (coldRuns > 0) console.log(`pure part, cold (${coldRuns} fresh processes): wall ${summary(cold.map((c) => c.wall))}; CPU ${summary(cold.map((c) => c.cpu))}`);
   } finally {

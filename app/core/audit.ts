@@ -14,7 +14,7 @@ import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputF
 import { resolveRoles, SINGLE_ROLES, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
-import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
+import { cubePreludeSql, cubeSql, groupsByPropensity, groupsByReward, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates, type TailResult } from './scan/rows.ts';
@@ -252,7 +252,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       let cappedDistinct: Map<number, number>;
       if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, reward, floor: settings['support.floor.epsilon'], byPropensity, rowCount: profile.rows }));
       else {
-        const spec = { relation: rowSource, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, reward, rowCount: profile.rows, dialect: d };
+        const spec = { relation: rowSource, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, byReward: groupsByReward(profile.columns.find((c) => c.name === roles.reward)), reward, rowCount: profile.rows, dialect: d };
         const preludeSql = cubePreludeSql(spec);
         const prelude = preludeSql ? await run(record('cube scales', preludeSql, readsSource)) : null;
         const cube = await run(record('cube', cubeSql(spec, prelude), readsSource));

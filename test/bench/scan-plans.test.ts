@@ -7,7 +7,7 @@
 import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { resolveRoles } from '../../app/core/roles/roles.ts';
-import { cubeSql, parseCube } from '../../app/core/scan/cube.ts';
+import { cubeSql, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
 import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
@@ -30,6 +30,8 @@ beforeAll(async () => {
       [1.0, 0.0, NULL, 'Infinity'::DOUBLE, 2.5][1 + (i * 3) % 5] AS ordered,
       TIMESTAMP '2026-03-02' + INTERVAL (i * 7) MINUTE AS logged_at
     FROM range(5000) t(i)`);
+  // the same with a finite reward range (so the exact sums are fixed point), -0.0 beside 0.0 and NaN among the rewards
+  await engine.query(`CREATE TABLE odd_finite AS SELECT * REPLACE ([1.0, 0.0, NULL, 'NaN'::DOUBLE, 2.5, '-0.0'::DOUBLE, 0.3][1 + (hash(logged_at) % 7)::INTEGER] AS ordered) FROM odd`);
 });
 afterAll(async () => engine?.close());
 
@@ -89,6 +91,29 @@ describe('example rows', () => {
     for (const reread of [true, false]) expect(await engine.query(examplesSql(parquet, requests, n, order, reread))).toEqual(b);
     const csv = `read_csv('${SAMPLE}maple-row-demo.csv')`;
     expect(await engine.query(examplesSql(csv, requests, n, order, false))).toEqual(await engine.query(reference(csv, wheres, n, order)));
+  });
+});
+
+describe.each([
+  ['the demo log', `read_parquet('${SAMPLE}maple-row-demo.parquet')`],
+  ['a log with invalid propensities, NaN, null and -0.0 rewards', 'odd_finite'],
+])('rewards grouped first (%s)', (_name, relation) => {
+  it('give the exact row-level sums to the bit: Σ rows·round(d·2^s) is the same integer as Σ round(d·2^s)', async () => {
+    const cols = parseDescribe(await engine.query(describeSql(relation)));
+    const profile = parseProfile(await engine.query(profileSql(relation, cols)), cols);
+    const roles = resolveRoles(profile, { segments: ['region', 'device', 'tenure'], action: 'promotion', propensity: 'propensity', reward: 'ordered', time: 'logged_at' });
+    const rows = rowExpressions(roles, profile, chooseBuckets(timeRangeUs(roles, profile), 'auto', 60));
+    const rewardProfile = profile.columns.find((c) => c.name === 'ordered');
+    const reward = rewardShift(rewardProfile);
+    expect(reward).not.toBeNull();
+    expect(groupsByReward(rewardProfile)).toBe(true);
+    for (const capped of [[], [0]]) {
+      const cube = (byReward: boolean) => engine.query(cubeSql({ relation, rows, capped, cap: 1, floor: 0.01, byPropensity: true, byReward, reward, rowCount: profile.rows })).then((t) => parseCube(t, 3));
+      const [rowLevel, grouped] = [await cube(false), await cube(true)];
+      expect(rowLevel.length).toBeGreaterThan(capped.length ? 1 : 10);
+      expect(firstDifference(grouped, rowLevel, 0)).toBeNull();
+      expect(JSON.stringify(grouped)).toBe(JSON.stringify(rowLevel));
+    }
   });
 });
 

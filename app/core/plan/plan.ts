@@ -13,7 +13,7 @@ import type { AuditScans, RoleInspection } from '../audit.ts';
 import { clipOf, tailOf, type WeightGroups } from '../parts/merge.ts';
 import { weightGroupsSql } from '../parts/scan.ts';
 import { resolveRoles, type RoleOverrides } from '../roles/roles.ts';
-import { cubePreludeSql, cubeSql, groupsByPropensity, parseCappedDistinct, parseCube, rewardShift, type CubeSpec } from '../scan/cube.ts';
+import { cubePreludeSql, cubeSql, groupsByPropensity, groupsByReward, parseCappedDistinct, parseCube, rewardShift, type CubeSpec } from '../scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from '../scan/expressions.ts';
 import { profileLog, type Profile } from '../scan/profile.ts';
 import { duplicatesSql, parseDuplicates } from '../scan/rows.ts';
@@ -111,7 +111,7 @@ export async function planScans(request: PlanRequest): Promise<Plan> {
   const capped = segments.flatMap((c, i) => ((profile.columns.find((x) => x.name === c)?.distinct ?? 0) > cap ? [i] : []));
   const rows = rowExpressions(roles, profile, buckets, d);
   const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
-  const spec: CubeSpec = { relation: request.relation, rows, capped, cap, floor: settings['support.floor.epsilon'], byPropensity: groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity)), reward, rowCount: profile.rows, dialect: d };
+  const spec: CubeSpec = { relation: request.relation, rows, capped, cap, floor: settings['support.floor.epsilon'], byPropensity: groupsByPropensity(profile.columns.find((c) => c.name === roles.propensity)), byReward: groupsByReward(profile.columns.find((c) => c.name === roles.reward)), reward, rowCount: profile.rows, dialect: d };
   const cube = { spec, capped, segments, buckets };
   try {
     const preludeSql = cubePreludeSql(spec);

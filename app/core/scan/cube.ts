@@ -27,6 +27,13 @@ export interface CubeSpec {
    * of two dozen). Ignored when a target-propensity column is mapped.
    */
   readonly byPropensity?: boolean;
+  /**
+   * With byPropensity: group the rows by (cell keys, p, r) first, counting them, and form each (keys, p)
+   * group's Σd and Σd² from those groups as Σ rows·round(term·2^s): the same integers the row-level sums add,
+   * so the same doubles, for one count a row instead of two HUGEINT sums. Pays off when the reward takes few
+   * distinct values (groupsByReward); ignored without a finite reward range.
+   */
+  readonly byReward?: boolean;
   /** The reward's shift for the centred sums and a bound on |r − shift| (rewardShift); none: shift 0. */
   readonly reward?: RewardShift | null;
   /** Rows of the log (the profile's count), which bounds the row-level fixed-point sums. */
@@ -45,6 +52,14 @@ const BY_PROPENSITY_MAX_DISTINCT = 100_000;
  */
 export function groupsByPropensity(propensity: ColumnProfile | undefined): boolean {
   return !!propensity && propensity.distinctBasis === 'all rows' && propensity.distinct <= BY_PROPENSITY_MAX_DISTINCT;
+}
+
+/** Rewards grouped first (CubeSpec.byReward) while the reward column takes this few distinct values. */
+const BY_REWARD_MAX_DISTINCT = 1_000;
+
+/** Whether the cube groups rows by reward too: the profile counted the reward column's distinct values over every row and found few. */
+export function groupsByReward(reward: ColumnProfile | undefined): boolean {
+  return !!reward && reward.distinctBasis === 'all rows' && reward.distinct <= BY_REWARD_MAX_DISTINCT;
 }
 
 /**
@@ -163,9 +178,24 @@ export function cubeSql(spec: CubeSpec, prelude: Table | null = null): string {
     };
     // twice the half range: r − shift may round a little past it
     const h = reward ? 2 * reward.halfRange : null;
+    if (spec.byReward && h !== null) {
+      // rows sharing (keys, p, r) add the same integer each: Σ rows·round(d·2^s) is the row-level sum exactly
+      const groupSum = (x: string, bound: number) => {
+        const k = scaleLiteral(bound, rowCount);
+        return `coalesce(CAST(sum(CAST(${x} * ${k} AS HUGEINT) * nr) AS DOUBLE) / ${k}, 0)::DOUBLE`;
+      };
+      ctes.push(
+        `by_r AS (\n  SELECT ${groupKeys}, p, r, count(*) AS nr FROM base GROUP BY ${groupKeys}, p, r\n)`,
+        `by_p AS (\n  SELECT ${groupKeys}, p, sum(nr)::DOUBLE AS c, coalesce(sum(nr) FILTER (WHERE dd IS NOT NULL), 0)::DOUBLE AS c_r, ${groupSum('dd', h)} AS s_d, ${groupSum('dd * dd', h * h)} AS s_d2\n`
+          + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r - ${shift} END AS dd FROM by_r) GROUP BY ${groupKeys}, p\n)`,
+      );
+    } else {
+      ctes.push(
+        `by_p AS (\n  SELECT ${groupKeys}, p, count(*)::DOUBLE AS c, count(dd)::DOUBLE AS c_r, ${rowSum('dd', h)} AS s_d, ${rowSum('dd * dd', h === null ? null : h * h)} AS s_d2\n`
+          + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r - ${shift} END AS dd FROM base) GROUP BY ${groupKeys}, p\n)`,
+      );
+    }
     ctes.push(
-      `by_p AS (\n  SELECT ${groupKeys}, p, count(*)::DOUBLE AS c, count(dd)::DOUBLE AS c_r, ${rowSum('dd', h)} AS s_d, ${rowSum('dd * dd', h === null ? null : h * h)} AS s_d2\n`
-        + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r - ${shift} END AS dd FROM base) GROUP BY ${groupKeys}, p\n)`,
       `g AS (SELECT *, s_d + ${shift} * c_r AS s_r, s_d2 + 2 * ${shift} * s_d + ${shift} * ${shift} * c_r AS s_r2 FROM by_p)`,
     );
     const { selects, scale } = aggregation(list.map(([a, agg]) => [a, agg] as const), 'g', 'k_g');
