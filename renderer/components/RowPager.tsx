@@ -17,9 +17,14 @@ const MAX_SCROLL_PX = 8_000_000;
 const INTERNAL = /^cw:/;
 
 const INDEX_PX = 60;
-/** Approximate advance of one character at the table's font size (0.82rem of 15px), in px; headers are bold. */
-const CHAR_PX = 7.2;
-const HEAD_CHAR_PX = 7.9;
+/**
+ * Advance of one character at the table's font size (0.82rem of 15px), in px, in a wide sans-serif (DejaVu Sans,
+ * Linux's default, measured on the screenshots: 7.2 px cut ids and headers such as "shown_chance"); headers are bold.
+ */
+const CHAR_PX = 7.9;
+const HEAD_CHAR_PX = 8.8;
+/** Later pages may hold longer values than the first (ids grow a digit): room for two more characters. */
+const SLACK_CHARS = 2;
 
 /** Column widths from the header and the first page's values, so that most logs fit without scrolling sideways. */
 function widthsOf(page: Table, columns: readonly { name: string; j: number; type: string }[]): number[] {
@@ -27,7 +32,7 @@ function widthsOf(page: Table, columns: readonly { name: string; j: number; type
     let chars = 0;
     const values = page.columns[col.j] as readonly Cell[];
     for (const v of values) chars = Math.max(chars, textOf(v, col.type).length);
-    return Math.round(Math.min(280, Math.max(48, chars * CHAR_PX, col.name.length * HEAD_CHAR_PX) + 16));
+    return Math.round(Math.min(300, Math.max(48, (chars + SLACK_CHARS) * CHAR_PX, col.name.length * HEAD_CHAR_PX) + 18));
   });
 }
 

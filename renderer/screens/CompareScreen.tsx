@@ -6,6 +6,8 @@ import { StatusBadge } from '../components/StatusBadge.tsx';
 import { downloadText } from '../export/report-file.ts';
 import { comparisonOf, readBaselineFile, type Baseline } from '../state/comparison.ts';
 import type { RecentAudit } from '../state/recent.ts';
+import { VERDICT_WORDS } from '../components/VerdictBadge.tsx';
+import { withTimesInWords } from '../format.ts';
 
 interface Props {
   readonly report: Report;
@@ -27,7 +29,7 @@ function Status({ status }: { status: string | null }) {
 
 function Headlines({ items, empty }: { items: readonly Headline[]; empty: string }) {
   if (items.length === 0) return <p className="muted">{empty}</p>;
-  return <ul className="reasons">{items.map((h, i) => <li key={i}><span>{h.regression ? <strong>Regression</strong> : null}</span><span>{h.message}</span></li>)}</ul>;
+  return <ul className="reasons two">{items.map((h, i) => <li key={i}><span>{h.regression ? <strong>Regression</strong> : null}</span><span>{withTimesInWords(h.message)}</span></li>)}</ul>;
 }
 
 function FindingTable({ findings, onOpenCheck, current }: { findings: readonly FindingChange[]; onOpenCheck: (id: CheckId) => void; current: Report }) {
@@ -59,11 +61,11 @@ function ComparisonView({ c, current, onOpenCheck }: { c: Comparison; current: R
       {c.issues.length > 0 && (
         <div className={c.comparable ? 'notice' : 'problems'} role={c.comparable ? 'note' : 'alert'} data-testid="comparability">
           <strong>{c.comparable ? 'Before reading:' : 'These reports are not directly comparable.'}</strong>
-          <ul>{c.issues.map((i, k) => <li key={k}>{i.message}</li>)}</ul>
+          <ul>{c.issues.map((i, k) => <li key={k}>{withTimesInWords(i.message)}</li>)}</ul>
         </div>
       )}
       <div className="verdict-card" data-regression={String(c.regression)}>
-        <p><span className="muted">Verdict</span> {c.verdict.baseline} → <strong>{c.verdict.current}</strong> ({c.verdict.change === 'same' ? 'unchanged' : c.verdict.change})</p>
+        <p><span className="muted">Verdict</span> {VERDICT_WORDS[c.verdict.baseline].words} → <strong>{VERDICT_WORDS[c.verdict.current].words}</strong> ({c.verdict.change === 'same' ? 'unchanged' : c.verdict.change})</p>
         <p><strong>{c.regression ? 'Regression: something that decides the verdict got worse.' : 'No regression.'}</strong></p>
         <button type="button" className="button small" onClick={() => downloadText(serializeComparison(c), 'comparison.json')}>Export comparison JSON</button>
       </div>
@@ -125,7 +127,7 @@ export function CompareScreen({ report, baseline, recent, onBaseline, onOpenChec
           <>
             <p className="muted">or a recent audit in this browser:</p>
             <ul className="recent-list">
-              {stored.map((r) => <li key={r.id}><span className="recent-label">{r.label}</span> <span className="muted">{r.at}</span> <button type="button" className="button small" onClick={() => { onBaseline({ label: `${r.label} (${r.at})`, report: r.report! }); setProblem(null); }}>Use as baseline</button></li>)}
+              {stored.map((r) => <li key={r.id}><span className="recent-label">{r.label}</span> <span className="muted">{withTimesInWords(r.at)}</span> <button type="button" className="button small" onClick={() => { onBaseline({ label: `${r.label} (${withTimesInWords(r.at)})`, report: r.report! }); setProblem(null); }}>Use as baseline</button></li>)}
             </ul>
           </>
         )}

@@ -33,7 +33,7 @@ export function OverviewScreen({ report, onOpenCheck, onCompare, onRemedies }: {
         <p>{VERDICT_SENTENCE[report.verdict]}</p>
         <p className="muted">
           {report.input.rows.toLocaleString('en')} rows from {report.input.files.map((f) => f.path).join(', ')} ·
-          {' '}{counts.fail} failed, {counts.error ? `${counts.error} could not run, ` : ''}{counts.warn} warnings, {counts.pass} passed, {counts.skipped} skipped ·
+          {' '}{counts.fail} failed, {counts.error ? `${counts.error} could not run, ` : ''}{counts.warn} {counts.warn === 1 ? 'warning' : 'warnings'}, {counts.pass} passed, {counts.skipped} skipped ·
           {' '}engine {report.run.engine}, {report.run.seconds.toFixed(1)} s
         </p>
         {onCompare && <button type="button" className="button small" onClick={onCompare}>Compare with…</button>}
