@@ -16,6 +16,9 @@ import { clipOf, duplicatesOf, mergeGroups, mergeProfiles, tailOf, weightGroupsO
 import type { RowGroups } from '../core/parts/replay.ts';
 import type { PartScan } from '../core/parts/scan.ts';
 import { TOOL_VERSION } from '../core/version.ts';
+import type { Table } from '../core/table.ts';
+import type { Engine } from '../engine/types.ts';
+import { fingerprintFiles } from '../report/fingerprint.ts';
 import { UsageError } from './errors.ts';
 
 const STATE_SCHEMA = 'counterweight.parts/1';
@@ -126,7 +129,31 @@ function readPartIds(dir: string, name: string, repeated: readonly (readonly [st
 }
 
 /** The audit of every part in the folder together, from their stored scans: no part is read again. */
-export async function auditParts(core: AuditCore, dir: string, state: PartsState, peakRssMb?: () => number): Promise<{ report: Report; columns: readonly { name: string; type: string }[] }> {
+/**
+ * Where a merged audit reads its findings' example rows: the part files recorded in the state, again, when
+ * every one is where it was with the same SHA-256, as one log (the whole log's example statement over the
+ * same rows gives the same rows); null otherwise (a file moved, changed or gone, or a part read off a server).
+ */
+export interface PartExamples {
+  readonly cwd: string;
+  readonly open: () => Promise<Engine>;
+}
+
+async function partExamples(state: PartsState, from: PartExamples, sql: (relation: string) => string): Promise<Table | null> {
+  const files = state.parts.map((p) => path.resolve(from.cwd, p.path));
+  if (!files.every((f) => existsSync(f))) return null;
+  const now = await fingerprintFiles(files, from.cwd);
+  if (now.some((f, i) => f.sha256 !== state.parts[i]?.sha256)) return null;
+  const engine = await from.open();
+  try {
+    const source = await engine.register({ kind: 'path', paths: files });
+    return await engine.query(sql(source.relation));
+  } finally {
+    await engine.close();
+  }
+}
+
+export async function auditParts(core: AuditCore, dir: string, state: PartsState, peakRssMb?: () => number, examplesFrom?: PartExamples): Promise<{ report: Report; columns: readonly { name: string; type: string }[] }> {
   if (state.parts.length === 0) throw new UsageError(`${dir} holds no parts yet: add one with --add-part FILE`);
   const parts = state.parts.map((p) => {
     const file = JSON.parse(readFileSync(path.join(dir, `${p.name}.part.json`), 'utf8')) as PartFile;
@@ -143,6 +170,7 @@ export async function auditParts(core: AuditCore, dir: string, state: PartsState
     duplicates: (examples) => duplicatesOf(parts.map((p) => readPartIds(dir, p.name, p.repeated)), examples),
     tail: (target, segs, actions, limit) => tailOf(groups(), target, segs, actions, limit),
     clip: (target, segs, actions, above, limit) => clipOf(groups(), target, segs, actions, above, limit),
+    ...(examplesFrom ? { examples: (sql: (relation: string) => string) => partExamples(state, examplesFrom, sql) } : {}),
   };
   const inspection = { profile, evidence: { columns: [] }, suggestions: [], queries: { profile: [], evidence: [] } } as unknown as RoleInspection;
   const report = await core.runAudit(() => Promise.reject(new Error('an audit merged from parts reads no log')), {

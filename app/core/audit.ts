@@ -98,6 +98,12 @@ export interface AuditScans {
   duplicates(examples: number): Duplicates;
   tail(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): TailResult;
   clip(target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): { w: number; r: number | null }[];
+  /**
+   * The example-rows statement run over the log's rows where they still are (an audit merged from parts: its
+   * part files), `sql` giving it for a relation; null when the rows cannot all be read (the findings then
+   * carry no examples). Absent: no example rows.
+   */
+  examples?(sql: (relation: string) => string): Promise<Table | null>;
 }
 
 export class AuditCancelled extends Error {
@@ -301,10 +307,12 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   }
   progress('tails', true);
   guard();
-  progress('checks', false, { passes: scans || settings['examples.per_finding'] === 0 ? [] : ['examples'], cells: cells.length });
+  const perFinding = scans && !scans.examples ? 0 : settings['examples.per_finding'];
+  progress('checks', false, { passes: perFinding === 0 ? [] : ['examples'], cells: cells.length });
   const ctx: AuditContext = { profile, roles: effectiveRoles, roleProblems, cells, view, segmentColumns, buckets, settings, targets, tails, duplicates, nowUs: started * 1000, rows: rowsExpr, primaryTargets };
   const drafts = runChecks(ctx);
-  const checks = await attachExamples(run, record, relation, view, drafts, scans ? 0 : settings['examples.per_finding'], settings['examples.max_findings'], exampleOrder(effectiveRoles, profile, d), request.input.format === 'parquet', d);
+  const examplesOf = scans?.examples ? scans.examples.bind(scans) : (sql: (relation: string) => string) => run(sql(relation));
+  const checks = await attachExamples(examplesOf, record, relation, view, drafts, perFinding, settings['examples.max_findings'], exampleOrder(effectiveRoles, profile, d), request.input.format === 'parquet', d);
   progress('checks', true);
   const verdictReasons = verdictOf(checks);
   const remedies = remediesOf(ctx, clips);
@@ -384,7 +392,7 @@ function cellRows(view: CubeView, segment: Readonly<Record<string, string>>, act
   return n;
 }
 
-async function attachExamples(run: RunQuery, record: (n: string, s: string, scans: boolean) => string, relation: string, view: CubeView, checks: CheckResult[], perFinding: number, maxFindings: number, order: readonly string[], rereadIsCheap: boolean, d: Dialect): Promise<CheckResult[]> {
+async function attachExamples(run: (sql: (relation: string) => string) => Promise<Table | null>, record: (n: string, s: string, scans: boolean) => string, relation: string, view: CubeView, checks: CheckResult[], perFinding: number, maxFindings: number, order: readonly string[], rereadIsCheap: boolean, d: Dialect): Promise<CheckResult[]> {
   const wanted: { check: number; finding: number; where: string }[] = [];
   const empty = new Set<string>();
   checks.forEach((c, ci) => c.findings.forEach((f, fi) => {
@@ -396,7 +404,9 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
     else wanted.push({ check: ci, finding: fi, where: w });
   }));
   let table: Table | null = null;
-  if (wanted.length) table = await run(record('examples', examplesSql(relation, wanted, perFinding, order, rereadIsCheap, d), true));
+  if (wanted.length) table = await run((rel) => record('examples', examplesSql(rel, wanted, perFinding, order, rereadIsCheap, d), true));
+  // the rows could not all be read (an audit merged from parts whose part files are gone): no examples, rather than some
+  const unread = wanted.length > 0 && table === null;
   const byRequest = new Map<number, Record<string, Cell>[]>();
   if (table) {
     const fcol = table.columns[0] as readonly Cell[];
@@ -414,7 +424,7 @@ async function attachExamples(run: RunQuery, record: (n: string, s: string, scan
     findings: c.findings.map((f, fi): Finding => {
       const { where, ...rest } = f as DraftFinding;
       const k = wanted.findIndex((w) => w.check === ci && w.finding === fi);
-      const examples = k >= 0 ? byRequest.get(k) ?? [] : empty.has(`${ci}/${fi}`) ? [] : undefined;
+      const examples = k >= 0 ? (unread ? undefined : byRequest.get(k) ?? []) : empty.has(`${ci}/${fi}`) ? [] : undefined;
       return { ...rest, ...(where ? { sql: findingSql(where) } : {}), ...(examples ? { examples } : {}) };
     }),
   }));

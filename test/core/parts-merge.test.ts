@@ -64,6 +64,7 @@ const body = (r: Report) => {
 describe('an audit merged from daily parts equals the audit of the whole log', () => {
   let whole: Report;
   let merged: Report;
+  let mergedAsked: Report;
   beforeAll(async () => {
     const engine = await createNativeEngine({ threads: 2 });
     try {
@@ -80,7 +81,14 @@ describe('an audit merged from daily parts equals the audit of the whole log', (
       rmSync(copy);
     }
     merged = (await auditParts(core, join(dir, 'state'), state)).report;
+    mergedAsked = (await auditParts(core, join(dir, 'state'), state, undefined, { cwd: process.cwd(), open: () => createNativeEngine({ threads: 2 }) })).report;
   }, 300_000);
+
+  it('with part examples asked for but the day files gone, lists no example rows rather than some (the rest as without)', () => {
+    expect(whole.checks.some((c) => c.findings.some((f) => f.examples?.length))).toBe(true);
+    expect(mergedAsked.checks.some((c) => c.findings.some((f) => f.examples !== undefined))).toBe(false);
+    expect(JSON.stringify(body(mergedAsked))).toBe(JSON.stringify(body(whole)));
+  });
 
   it('splits the demo into its 30 days', () => {
     expect(days).toHaveLength(30);
@@ -140,7 +148,20 @@ describe('copies of one id in different parts', () => {
     const report = (await auditParts(core, stateDir, state)).report;
     const m = report.checks.find((x) => x.id === 'identity.duplicates')?.metrics as Record<string, number>;
     expect([m.duplicated_ids, m.rows_in_duplicates]).toEqual(await exactDuplicates(DEMO));
-  }, 120_000);
+    // the part files are still there: the findings' example rows read from them equal the whole log's audit's
+    const withExamples = (await auditParts(core, stateDir, state, undefined, { cwd: process.cwd(), open: () => createNativeEngine({ threads: 2 }) })).report;
+    const engine = await createNativeEngine({ threads: 2 });
+    let whole: Report;
+    try {
+      whole = await auditFile(engine, DEMO, { targets: [v9Target()], roles: DEMO_ROLES });
+    } finally {
+      await engine.close();
+    }
+    const examples = (r: Report) => r.checks.map((c) => c.findings.map((f) => f.examples ?? null));
+    expect(examples(whole).flat().filter((e) => e?.length).length).toBeGreaterThan(0);
+    expect(JSON.stringify(examples(withExamples))).toBe(JSON.stringify(examples(whole)));
+    expect(withExamples.queries.some((q) => q.name === 'examples')).toBe(true);
+  }, 240_000);
 });
 
 describe('duplicate ids across parts are confirmed exactly', () => {

@@ -31,6 +31,7 @@ export const auditSpec: CommandSpec = {
   positionals: { name: 'source', min: 0, max: Infinity },
   flags: {
     parts: { kind: 'string', value: 'DIR', help: 'audit the parts kept in DIR together (a partitioned log read part by part); with --add-part, read those parts first' },
+    'part-examples': { kind: 'boolean', help: 'with --parts: read the part files again (where they are unchanged) for the findings\' example rows, as the whole log\'s audit lists them' },
     'add-part': { kind: 'list', value: 'FILE', help: 'with --parts: read this part (one day\'s file, say) into DIR; only the new part is scanned' },
     role: { kind: 'list', value: 'NAME=COLUMN', help: 'map a column to a role (decision_id, time, action, propensity, reward, policy_version, target_propensity, propensity_vector, action_set_size, segments)' },
     segments: { kind: 'string', value: 'COL,COL', help: "segment columns, comma-separated ('none' for no segments)" },
@@ -123,7 +124,8 @@ export async function runAuditCommand(args: ParsedArgs, io: CliIo): Promise<numb
       const state = readState(dir);
       if (!state) throw new UsageError(`${partsDir} holds no parts yet: add one with --add-part FILE`);
       progress.stage('merging the parts');
-      const { report, columns } = await auditParts(core, dir, state, peakRssMb);
+      const examplesFrom = flags['part-examples'] === true ? { cwd: io.cwd, open: () => openEngine(engineChoice, memory) } : undefined;
+      const { report, columns } = await auditParts(core, dir, state, peakRssMb, examplesFrom);
       progress.stop();
       return await finish(report, state.parts.map((p) => p.path).join(', '), columns);
     }
