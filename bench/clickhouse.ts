@@ -64,6 +64,7 @@ async function statementCosts(shards: Awaited<ReturnType<typeof startLocalShards
 
 const { values } = parseArgs({ options: { copies: { type: 'string', default: '16' }, 'no-duckdb': { type: 'boolean' } } });
 const copies = Number(values.copies);
+const BATCH = 40;
 const out = mkdtempSync(path.join(tmpdir(), 'cw-bench-clickhouse-'));
 const shards = await startLocalShards(2);
 try {
@@ -75,8 +76,10 @@ try {
   await engine.close();
   for (const s of [0, 1]) {
     await shards.admin(s, 'CREATE TABLE big AS demo ENGINE = MergeTree() ORDER BY tuple()');
-    // each shard holds its half of every copy: the same rows as the Parquet file, K times the demo
-    for (let k = 0; k < copies; k++) await shards.admin(s, 'INSERT INTO big SELECT * FROM demo');
+    // each shard holds its half of every copy: the same rows as the Parquet file, K times the demo. Up to 40
+    // copies an INSERT (each demo row repeated by ARRAY JOIN), so 100M rows are 20 inserts a shard, not the 800
+    // parts that would pass 18.16's limit of 300 active parts (parts_to_throw_insert) before merges catch up
+    for (let k = 0; k < copies; k += BATCH) await shards.admin(s, `INSERT INTO big SELECT * FROM demo ARRAY JOIN range(toUInt64(${Math.min(BATCH, copies - k)})) AS cw_copy`);
   }
   await shards.admin(0, `CREATE TABLE big_all AS big ENGINE = Distributed(${CLUSTER}, default, big)`);
   const rows = Number((await shards.admin(0, 'SELECT count() FROM big_all FORMAT TSV')).trim());
