@@ -1,7 +1,7 @@
 /**
  * Web mode in Debian Chromium: the renderer's engine harness page (DuckDB-Wasm in a Web Worker,
- * the log read lazily from a picked File) answers the audit's queries; the audit's pure part runs in
- * this process, and its cost is negligible next to the scans.
+ * the log read lazily from a picked File) loads the log and runs the whole audit inside the page, as the
+ * app's renderer does (CW_BENCH_AUDIT=node: the pure part in this process, each result crossing page.evaluate).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { access } from 'node:fs/promises';
@@ -11,6 +11,7 @@ import { runAudit, type TargetInput } from '../app/core/audit.ts';
 import type { Table } from '../app/core/table.ts';
 import { decodeTable } from '../app/engine/host/codec.ts';
 import type { WireTable } from '../app/engine/host/messages.ts';
+import type { HarnessAudit } from '../renderer/engine-harness.ts';
 import type { MeasureResult, MeasureSpec } from './measure.ts';
 import { stageOf } from './stage-label.ts';
 
@@ -79,9 +80,13 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
       const openSeconds = registered.value.format === 'parquet' ? (performance.now() - opening) / 1000 : 0;
       const load = await page.evaluate(() => window.cwEngineHarness!.lastParquetLoad());
       const loadSplit = load ? Object.entries(load).map(([k, v]) => `${k} ${k === 'appends' ? v : (v / 1000).toFixed(2)}`).join(', ') : '';
-      // Seconds per audit statement of the last audit (DuckDB-Wasm's own time, page.evaluate's round trip excluded).
+      // The audit runs inside the page, as the app's renderer runs it (queries and pure part); only a few numbers
+      // of the report and each statement's time come back. CW_BENCH_AUDIT=node runs the pure part in this process
+      // instead, every statement's result crossing page.evaluate (the bench's way before; bench/NOTES.md compares).
+      const inNode = process.env.CW_BENCH_AUDIT === 'node';
+      // Seconds per audit statement of the last audit (DuckDB-Wasm's own time).
       let stages: [string, number][] = [];
-      // Seconds the audit's queries took as this process sees them (the page's answer through CDP included).
+      // Node mode: seconds the audit's queries took as this process sees them (the page's answer through CDP included).
       let roundTrips = 0;
       const run = async (sql: string): Promise<Table> => {
         const t0 = performance.now();
@@ -92,7 +97,18 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
         roundTrips += (performance.now() - t0) / 1000;
         return table;
       };
-      const audit = () => runAudit(run, { relation: registered.value.relation, input: { files: [], format: registered.value.format }, engine: 'wasm-browser', targets });
+      const { relation, format } = registered.value;
+      const audit = async (): Promise<{ verdict: string; rows: number; ess: number; maxWeight: number }> => {
+        if (inNode) {
+          const report = await runAudit(run, { relation, input: { files: [], format }, engine: 'wasm-browser', targets });
+          const t = report.targets[0];
+          return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, maxWeight: t?.max_weight ?? NaN };
+        }
+        const answer = await page.evaluate(([r, f, ts]) => window.cwEngineHarness!.audit(r, f, ts), [relation, format, targets] as const) as Answer<HarnessAudit>;
+        if (!answer.ok) throw new Error(`${answer.code}: ${answer.message}`);
+        stages = answer.value.statements.map(([sql, ms]) => [stageOf(sql), ms / 1000]);
+        return answer.value;
+      };
       if (spec.warmup) await audit();
       const seconds: number[] = [];
       let last;
@@ -104,8 +120,8 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
         seconds.push((performance.now() - t0) / 1000 + openSeconds);
       }
       await sample();
-      const t = last?.targets[0];
-      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.input.rows ?? NaN, ess: t?.ess ?? NaN, max_weight: t?.max_weight ?? NaN, ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}), ...(loadSplit ? { load_s: loadSplit } : {}), queries_as_seen_s: +roundTrips.toFixed(2), statements_s: stages.map(([n, v]) => `${n} ${v.toFixed(2)}`).join(', ') }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
+      const statementsSeconds = stages.reduce((sum, [, v]) => sum + v, 0);
+      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.rows ?? NaN, ess: last?.ess ?? NaN, max_weight: last?.maxWeight ?? NaN, audit_in: inNode ? 'node' : 'page', ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}), ...(loadSplit ? { load_s: loadSplit } : {}), ...(inNode ? { queries_as_seen_s: +roundTrips.toFixed(2) } : {}), statements_sum_s: +statementsSeconds.toFixed(2), statements_s: stages.map(([n, v]) => `${n} ${v.toFixed(2)}`).join(', ') }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
     } finally {
       clearInterval(sampler);
     }

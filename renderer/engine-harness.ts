@@ -4,6 +4,7 @@
  */
 import ehWasm from '@duckdb/duckdb-wasm/dist/duckdb-eh.wasm?url';
 import ehWorker from '@duckdb/duckdb-wasm/dist/duckdb-browser-eh.worker.js?url';
+import { runAudit, type TargetInput } from '../app/core/audit.ts';
 import { encodeTable } from '../app/engine/host/codec.ts';
 import type { WireTable } from '../app/engine/host/messages.ts';
 import { EngineError } from '../app/engine/types.ts';
@@ -11,11 +12,26 @@ import type { RegisteredSource } from '../app/engine/types.ts';
 import { createWasmBrowserEngine } from '../app/engine/wasm-browser.ts';
 import type { LoadTimings } from '../app/engine/parquet/load.ts';
 
+/** An audit run in the page, as the renderer runs it: a few numbers of the report and each statement's time. */
+export interface HarnessAudit {
+  verdict: string;
+  rows: number;
+  ess: number;
+  maxWeight: number;
+  /** each statement the audit sent, with DuckDB-Wasm's milliseconds for it (the text labels it in bench/) */
+  statements: [sql: string, ms: number][];
+}
+
 export type HarnessAnswer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
 
 export interface EngineHarness {
   registerFile(file: File | File[]): Promise<HarnessAnswer<RegisteredSource>>;
   query(sql: string): Promise<HarnessAnswer<WireTable>>;
+  /**
+   * The whole audit of a registered source inside the page (queries and pure part), as the app's renderer
+   * runs it; only these numbers cross to the caller.
+   */
+  audit(relation: string, format: string, targets: TargetInput[]): Promise<HarnessAnswer<HarnessAudit>>;
   sourceScans(): number;
   /** Where the last Parquet load's time went (bench/browser.ts). */
   lastParquetLoad(): LoadTimings | null;
@@ -45,6 +61,19 @@ try {
   window.cwEngineHarness = {
     registerFile: (file) => answer(() => engine.register({ kind: 'file', files: Array.isArray(file) ? file : [file] })),
     query: (sql) => answer(async () => encodeTable(await engine.query(sql))),
+    audit: (relation, format, targets) => answer(async () => {
+      const statements: [string, number][] = [];
+      const report = await runAudit(async (sql) => {
+        const t0 = performance.now();
+        try {
+          return await engine.query(sql);
+        } finally {
+          statements.push([sql, performance.now() - t0]);
+        }
+      }, { relation, input: { files: [], format }, engine: engine.kind, targets, ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(relation, columns) } : {}) });
+      const t = report.targets[0];
+      return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, maxWeight: t?.max_weight ?? NaN, statements };
+    }),
     sourceScans: () => engine.sourceScans,
     lastParquetLoad: () => lastLoad,
   };
