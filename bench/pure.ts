@@ -9,6 +9,7 @@
  * Process CPU time is printed beside wall time: it is far less sensitive to other load on the machine.
  * `--report` writes the report of the first warm run (fixed clock) for before/after comparison; `--save` keeps the
  * cached results, so that one cold run can be profiled: node --cpu-prof --import tsx bench/pure.ts --child results.bin
+ * (`--child results.bin --report out.json` writes that run's report, fixed clock, to compare before and after a change).
  */
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -56,6 +57,8 @@ const child = option('--child');
 if (child) {
   const saved = deserialize(readFileSync(child)) as Saved;
   const t = await timed(answering(new Map(saved.results)), { ...saved.request, now: fixedNow });
+  const out = option('--report');
+  if (out) writeFileSync(out, `${JSON.stringify(t.report, null, 2)}\n`);
   process.stdout.write(JSON.stringify({ wall: t.wall, cpu: t.cpu }));
 } else {
   const path = args[0];

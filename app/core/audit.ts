@@ -130,6 +130,8 @@ export interface AuditResult {
   readonly report: Report;
   readonly cells: readonly CubeCell[];
   readonly profile: Profile;
+  /** what the checks ran on (a test runs a check's fast path and its plain definition on it) */
+  readonly context: AuditContext;
 }
 
 
@@ -337,7 +339,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     run: { engine: request.engine, started_at: new Date(started).toISOString(), seconds: (now() - started) / 1000, source_scans: queries.filter((q) => q.scans_source).length, ...(request.peakRssMb ? { peak_rss_mb: request.peakRssMb() } : {}) },
     signoff: null,
   };
-  return { report, cells, profile };
+  return { report, cells, profile, context: ctx };
 }
 
 /** The row count and the order-independent hash sum over the mapped role columns, computed in the engine. */

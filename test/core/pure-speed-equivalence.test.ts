@@ -1,8 +1,16 @@
 /**
  * The fast paths of the cube's pure part give exactly (bit for bit) what their plain definitions give:
- * merging in place versus folding addInto, shared keys versus joining each cell's values.
+ * merging in place versus folding addInto, shared keys versus joining each cell's values, balance.weights'
+ * packed cause search versus reading every test's group cell by cell.
  */
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runAuditDetailed } from '../../app/core/audit.ts';
+import type { AuditContext } from '../../app/core/checks/context.ts';
+import { checkBalance } from '../../app/core/checks/balance-weights.ts';
+import { createNativeEngine } from '../../app/engine/native.ts';
+import type { Engine } from '../../app/engine/types.ts';
+import { FIXED_NOW, SAMPLE, V9, v9Target } from './audit-helpers.ts';
+import { contextOf, type Rows } from './checks/build.ts';
 import { addInto, cellKey, cellKeys, emptyTotals, pairKeys, rollup, segmentKey, SEP, total, type Totals } from '../../app/core/cube/rollup.ts';
 import type { CubeCell, TargetColumnSums } from '../../app/core/cube/types.ts';
 import { cubeCell } from '../fixtures/cube-cell.ts';
@@ -90,5 +98,68 @@ describe('shared keys', () => {
     const view = cubeView(cs, ['region', 'device']);
     expect(cs.map(view.segmentKeyOf)).toEqual(cs.map((c) => segmentKey(c.segment)));
     expect(JSON.stringify(view.total)).toBe(JSON.stringify(fold(cs)));
+  });
+});
+
+/** balance.weights on one context, fast path and plain definition, as JSON (every number's every bit). */
+const both = (ctx: AuditContext) => ({ fast: JSON.stringify(checkBalance(ctx)), plain: JSON.stringify(checkBalance(ctx, true)) });
+
+describe('balance.weights: the packed cause search gives what the plain one does', () => {
+  let engine: Engine;
+  const contexts = new Map<string, AuditContext>();
+  beforeAll(async () => {
+    engine = await createNativeEngine();
+    // the demo and the next week (each with its planted defects), with the v9 table target and with v9 as a per-row column
+    await engine.query(`CREATE TABLE log_q AS SELECT d.*, v.probability AS target_prob FROM read_parquet('${SAMPLE}maple-row-demo.parquet') d
+      LEFT JOIN read_csv('${V9}') v ON d.region = v.region AND d.device = v.device AND d.tenure = v.tenure AND d.promotion = v.promotion`);
+    const audit = async (name: string, relation: string, targets: Parameters<typeof runAuditDetailed>[1]['targets']) => {
+      contexts.set(name, (await runAuditDetailed((q) => engine.query(q), { relation, input: { files: [], format: 'parquet' }, engine: 'native', now: FIXED_NOW, targets })).context);
+    };
+    await audit('demo, v9 table', `read_parquet('${SAMPLE}maple-row-demo.parquet')`, [v9Target()]);
+    await audit('demo, default targets', `read_parquet('${SAMPLE}maple-row-demo.parquet')`, undefined);
+    await audit('demo, v9 column', 'log_q', [{ spec: 'column:target_prob' }]);
+    await audit('next week, v9 table', `read_parquet('${SAMPLE}maple-row-next.parquet')`, [v9Target()]);
+  }, 120_000);
+  afterAll(async () => engine?.close());
+
+  it.each(['demo, v9 table', 'demo, default targets', 'demo, v9 column', 'next week, v9 table'])('%s: the same result, and the search had causes to weigh', (name) => {
+    const ctx = contexts.get(name) as AuditContext;
+    const { fast, plain } = both(ctx);
+    expect(fast).toBe(plain);
+    // not a vacuous comparison: the planted defects fail, and the search names groups that account for other tests
+    const r = checkBalance(ctx);
+    expect(r.status).toBe('fail');
+    expect(r.findings.some((f) => typeof f.metrics.accounts_for === 'number' && f.metrics.accounts_for > 1)).toBe(true);
+  });
+
+  /**
+   * Ties at every step of the search: 4 regions × 3 devices × 10 days, versions v1 (days 0–4) and v2; actions a, b, c.
+   * Under v2 a's propensity is logged halved and c's doubled everywhere (two actions of one group fail together, so
+   * a × v2 and c × v2 explain the same tests with the same rows and the larger deviation decides), and region r2 logs
+   * a halved under both versions (r2 and r2 × v1 then account for the same rows: the wider group decides). Rows are
+   * otherwise exactly as expected.
+   */
+  const ties = (): Rows[] => {
+    const rows: Rows[] = [];
+    for (let d = 0; d < 10; d++) for (const r of ['r1', 'r2', 'r3', 'r4']) for (const v of ['d1', 'd2', 'd3']) {
+      const version = d < 5 ? 'v1' : 'v2';
+      const a = version === 'v2' || r === 'r2' ? 0.1 : 0.2;
+      rows.push({ segment: [r, v], action: 'a', bucket: d, version, p: a, r: 1, count: 40 });
+      rows.push({ segment: [r, v], action: 'b', bucket: d, version, p: 0.6, r: 0, count: 120 });
+      rows.push({ segment: [r, v], action: 'c', bucket: d, version, p: version === 'v2' ? 0.4 : 0.2, r: 1, count: 40 });
+    }
+    return rows;
+  };
+
+  it.each([
+    { name: 'uniform and always targets', targets: undefined },
+    { name: 'a table target', targets: [{ spec: 'table:inline', tableText: 'region,device,action,probability\nr1,d1,a,1\nr2,d1,b,1\nr3,d2,c,0.5\nr3,d2,a,0.5\n' }] },
+  ])('hand-built ties ($name): the same result, with tied candidates in the search', ({ targets }) => {
+    const ctx = contextOf(ties(), { days: 10, versions: true, segmentColumns: ['region', 'device'], ...(targets ? { targets } : {}) });
+    const { fast, plain } = both(ctx);
+    expect(fast).toBe(plain);
+    const r = checkBalance(ctx);
+    expect(r.status).toBe('fail');
+    expect(r.metrics.groups as number).toBeGreaterThan(1);
   });
 });

@@ -203,6 +203,117 @@ function assess(m: Materiality, cells: readonly CubeCell[], members: readonly nu
 const material = (a: Assessment | null): boolean => a === null || a.bias > a.tolerance;
 
 /**
+ * A test's group as failsWithout and assess read it, column by column: the cells outside the test's action's
+ * support dropped once, and each remaining cell's terms (nP, the action's Σ1/p and Σ1/p², nP·q per budget, the
+ * target column's Σw) read once, in member order. Summing these arrays over the cells not left out adds the same
+ * doubles in the same order as the plain loops over `members` do, so every sum is the same bit for bit.
+ */
+interface Packed {
+  readonly index: Int32Array;
+  readonly nP: Float64Array;
+  /** the cell's logged action is the test's */
+  readonly own: Uint8Array;
+  readonly s1: Float64Array;
+  readonly s2: Float64Array;
+  /** per budget: nP · q(segment, action) for a target with q, null for a target column */
+  readonly mass: readonly (Float64Array | null)[];
+  /** the target column's Σw on the test's action's cells (0 elsewhere) */
+  readonly sw: Float64Array;
+}
+
+/** failsWithout and assess over packed groups (the fast path of smallestCauses and explainAway). */
+interface PackedTests {
+  readonly assess: (t: Test, balance: number, skip?: Uint8Array) => Assessment | null;
+  /** failsWithout over packed groups, for the p cut of the failing tests */
+  readonly fails: (pCut: number) => FailsWithout;
+  /** the cells of the test's group inside its action's support (packed once per test) */
+  readonly packedOf: (t: Test) => Packed;
+}
+
+function packedTests(m: Materiality, cells: readonly CubeCell[], outside: Outside, minExpected: number): PackedTests {
+  const packs = new Map<Test, Packed>();
+  const packedOf = (t: Test): Packed => {
+    let p = packs.get(t);
+    if (p) return p;
+    const { members, action } = t;
+    const size = members.length;
+    const index = new Int32Array(size), nP = new Float64Array(size), own = new Uint8Array(size), s1 = new Float64Array(size), s2 = new Float64Array(size), sw = new Float64Array(size);
+    const qs = m.budgets.map((b) => b.q);
+    const mass = qs.map((q) => (q ? new Float64Array(size) : null));
+    let len = 0;
+    for (const i of members) {
+      if (outside.of(i, action)) continue;
+      const c = cells[i] as CubeCell;
+      index[len] = i;
+      nP[len] = c.nP;
+      if (c.action === action) {
+        own[len] = 1;
+        s1[len] = c.sumInvP;
+        s2[len] = c.sumInvP2;
+        sw[len] = c.target?.sumW ?? 0;
+      }
+      for (let k = 0; k < qs.length; k++) {
+        const q = qs[k];
+        if (q) (mass[k] as Float64Array)[len] = c.nP * (q(c.segment, action) ?? 0);
+      }
+      len++;
+    }
+    packs.set(t, (p = { index: index.subarray(0, len), nP, own, s1, s2, mass, sw }));
+    return p;
+  };
+  const assessPacked = (t: Test, balance: number, skip?: Uint8Array): Assessment | null => {
+    if (m.scale === null || m.budgets.length === 0 || m.rows === 0) return null;
+    const p = packedOf(t);
+    const len = p.index.length;
+    let worst: Assessment | null = null;
+    let worstRatio = -1;
+    for (let k = 0; k < m.budgets.length; k++) {
+      const b = m.budgets[k] as Budget;
+      let mass = 0;
+      const terms = p.mass[k];
+      if (terms) {
+        for (let j = 0; j < len; j++) if (!skip?.[p.index[j] as number]) mass += terms[j] as number;
+      } else {
+        let rows = 0, sw = 0, s1 = 0;
+        for (let j = 0; j < len; j++) {
+          if (skip?.[p.index[j] as number]) continue;
+          rows += p.nP[j] as number;
+          if (!p.own[j]) continue;
+          sw += p.sw[j] as number;
+          s1 += p.s1[j] as number;
+        }
+        mass = s1 > 0 ? (rows * sw) / s1 : 0;
+      }
+      const bias = balanceBiasBound(balance, mass / m.rows, m.scale as number);
+      const ratio = b.tolerance > 0 ? bias / b.tolerance : bias > 0 ? Infinity : 0;
+      if (ratio > worstRatio) {
+        worstRatio = ratio;
+        worst = { bias, tolerance: b.tolerance, target: b.name };
+      }
+    }
+    return worst;
+  };
+  const fails = (pCut: number): FailsWithout => (t, removed) => {
+    const p = packedOf(t);
+    const len = p.index.length;
+    let nP = 0, k = 0, s1 = 0, s2 = 0;
+    for (let j = 0; j < len; j++) {
+      if (removed[p.index[j] as number]) continue;
+      nP += p.nP[j] as number;
+      if (p.own[j]) {
+        k += p.nP[j] as number;
+        s1 += p.s1[j] as number;
+        s2 += p.s2[j] as number;
+      }
+    }
+    if (nP < 2 || k === 0) return false;
+    const wb = countBalance(nP, k, s1, s2, minExpected);
+    return wb.pValue <= pCut && material(assessPacked(t, wb.balance, removed));
+  };
+  return { assess: assessPacked, fails, packedOf };
+}
+
+/**
  * Groups rows, then for every action a logged in the group: B = (1/n) Σ 1[a_i = a]/p_i (E[B] = 1), tested
  * by countBalance (exact binomial below `minExpected` expected events, normal above). Actions not logged
  * in the group go to `never`. `key` names a cell's group (null: in none); `meta` describes a group from its first cell.
@@ -256,8 +367,13 @@ function testsFor(scope: Test['scope'], cells: readonly CubeCell[], minExpected:
   return out;
 }
 
-/** balance.weights: the weight-balance identity E[1{A=a}/p] = 1 per action, segment, time bucket and version, with BH. */
-function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
+/**
+ * balance.weights: the weight-balance identity E[1{A=a}/p] = 1 per action, segment, time bucket and version, with BH.
+ * `plain` reads every test's group cell by cell (failsWithout, assess) and weighs every cause candidate on its
+ * own: the straightforward definition, which test/core/pure-speed-equivalence.test.ts holds the fast path
+ * (packed groups, candidates of one group weighed once, tests the candidate does not touch not re-tested) equal to.
+ */
+export function checkBalance(ctx: AuditContext, plain = false): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('balance.weights', 'the propensity, action or reward role is missing');
   const cols = ctx.segmentColumns;
   const actions = ctx.view.actions;
@@ -286,14 +402,21 @@ function checkBalance(ctx: AuditContext): ReturnType<typeof result> {
   const materiality = materialityOf(ctx, cells);
   const tested = tests;
   const bh = benjaminiHochberg(tested.map((t) => t.p), q);
-  const significant = tested
+  const rejected = tested
     .map((t, i) => ({ t, adj: bh.adjusted[i] as number, rejected: bh.rejected[i] as boolean }))
-    .filter((x) => x.rejected)
-    .map((x) => ({ ...x, bias: assess(materiality, cells, x.t.members, x.t.action, x.t.balance, outside) }))
-    .filter((x) => material(x.bias));
+    .filter((x) => x.rejected);
   const weigh = (members: readonly number[], action: string, balance: number, covered: Uint8Array) => material(assess(materiality, cells, members, action, balance, outside, covered));
-  const fails = failsWithout(cells, outside, weigh, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
-  const causes = smallestCauses(significant, cells, fails);
+  let significant: (typeof rejected[number] & { bias: Assessment | null })[];
+  let fails: FailsWithout;
+  const fast = plain ? null : packedTests(materiality, cells, outside, minExpected);
+  if (fast) {
+    significant = rejected.map((x) => ({ ...x, bias: fast.assess(x.t, x.t.balance) })).filter((x) => material(x.bias));
+    fails = fast.fails(Math.max(0, ...significant.map((x) => x.t.p)));
+  } else {
+    significant = rejected.map((x) => ({ ...x, bias: assess(materiality, cells, x.t.members, x.t.action, x.t.balance, outside) })).filter((x) => material(x.bias));
+    fails = failsWithout(cells, outside, weigh, Math.max(0, ...significant.map((x) => x.t.p)), minExpected);
+  }
+  const causes = smallestCauses(significant, cells, fails, fast);
   const flagged = [...causes.chosen, ...explainAway(causes.rest, causes.removed, fails)];
   const versionWindows = versionSpans(ctx);
   const findings: DraftFinding[] = flagged.slice(0, MAX_FINDINGS).map(({ t, adj, bias }) => {
@@ -386,7 +509,7 @@ const MAX_CAUSE_CANDIDATES = 48;
  * group must account for more than its own test. What no such group explains is returned in `rest`, with the
  * cells already accounted for in `removed`.
  */
-function smallestCauses<T extends { t: Test }>(failing: readonly T[], cells: readonly CubeCell[], fails: FailsWithout): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
+function smallestCauses<T extends { t: Test }>(failing: readonly T[], cells: readonly CubeCell[], fails: FailsWithout, fast: PackedTests | null): { chosen: T[]; accounts: Map<Test, number>; rest: T[]; removed: Uint8Array } {
   const removed = new Uint8Array(cells.length);
   const work = failing.reduce((s, x) => s + x.t.members.length, 0);
   const limit = Math.min(MAX_CAUSE_CANDIDATES, Math.floor(CAUSE_WORK / Math.max(1, work)));
@@ -402,11 +525,29 @@ function smallestCauses<T extends { t: Test }>(failing: readonly T[], cells: rea
   let open = [...failing];
   for (;;) {
     let best: { x: T; explains: Set<T>; left: number; all: number } | null = null;
+    // fast path: candidates of one group (one members array, one per action) leave the same cells out, so they
+    // explain the same tests; a test none of whose cells a candidate newly leaves out fares as with `removed` alone
+    const byGroup = new Map<readonly number[], Set<T>>();
+    const asNow = new Map<T, boolean>();
     for (const x of candidates) {
       if (chosen.includes(x)) continue;
-      const mark = removed.slice();
-      for (const i of x.t.members) mark[i] = 1;
-      const explains = new Set(open.filter((y) => !fails(y.t, mark)));
+      let explains = fast ? byGroup.get(x.t.members) : undefined;
+      if (!explains) {
+        const mark = removed.slice();
+        for (const i of x.t.members) mark[i] = 1;
+        const still = fast
+          ? (y: T): boolean => {
+            if (!touches(fast.packedOf(y.t).index, mark, removed)) {
+              let f = asNow.get(y);
+              if (f === undefined) asNow.set(y, (f = fails(y.t, removed)));
+              return f;
+            }
+            return fails(y.t, mark);
+          }
+          : (y: T): boolean => fails(y.t, mark);
+        explains = new Set(open.filter((y) => !still(y)));
+        if (fast) byGroup.set(x.t.members, explains);
+      }
       if (explains.size < 2) continue;
       const left = rowsOf(x.t, removed), all = rowsOf(x.t);
       // two actions of one group tie on both row counts, so the larger deviation wins between them
@@ -421,6 +562,15 @@ function smallestCauses<T extends { t: Test }>(failing: readonly T[], cells: rea
     open = open.filter((y) => !best!.explains.has(y));
   }
   return { chosen, accounts, rest: open, removed };
+}
+
+/** Whether `mark` leaves out one of the cells `index` that `removed` does not. */
+function touches(index: Int32Array, mark: Uint8Array, removed: Uint8Array): boolean {
+  for (let j = 0; j < index.length; j++) {
+    const i = index[j] as number;
+    if (mark[i] && !removed[i]) return true;
+  }
+  return false;
 }
 
 /**
@@ -548,4 +698,4 @@ function versionSpans(ctx: AuditContext): Map<string, { from: string; to: string
 export const balanceWeights: CheckDefinition<'balance.weights'> = defineCheck('balance.weights', {
   title: 'Weight balance', blocking: true, panel: 'weights', remedies: ['plan'],
   settings: ['balance.q', 'balance.max_bias_se', 'balance.min_expected', 'support.floor.epsilon', 'support.target.fail'],
-}, checkBalance);
+}, (ctx) => checkBalance(ctx));
