@@ -6,12 +6,14 @@
  *   - audit the 30 days merged, adding nothing     audit --parts COPY
  *   - audit day 30 alone (one day's scan)          audit day30.parquet
  *   - audit the whole log                          audit whole.parquet
- * Every run starts from a fresh copy of the 29-day folder. Results go to bench/parts-results.json.
+ * Every run starts from a fresh copy of the 29-day folder (with its merged state). Results go to
+ * bench/parts-results.json, with the part counts at which the merged cube's entries were formed again from every
+ * part (the scales moved) while the 30 days were added.
  *
  *   node --import tsx bench/parts.ts [--rows 3000000] [--runs 3]
  */
 import { execFile } from 'node:child_process';
-import { cpSync, existsSync, mkdirSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { loadavg } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -57,7 +59,8 @@ async function main(): Promise<void> {
   const files = readdirSync(days).filter((f) => f.endsWith('.parquet')).sort().map((f) => join(days, f));
   const last = files[files.length - 1] as string;
   const base = join(dir, 'state-29');
-  if (!existsSync(join(base, 'parts.json'))) {
+  // a folder without a merged state (written before there was one) is read again: adding day 30 would form it from every part
+  if (!existsSync(join(base, 'parts.json')) || !(JSON.parse(readFileSync(join(base, 'parts.json'), 'utf8')) as { merged?: string }).merged) {
     rmSync(base, { recursive: true, force: true });
     await timed(['audit', '--parts', base, ...ROLES, ...files.slice(0, -1).flatMap((f) => ['--add-part', f]), '--quiet']);
   }
@@ -68,6 +71,7 @@ async function main(): Promise<void> {
     ['audit the whole log', () => ['audit', whole, ...ROLES, '--quiet']],
   ];
   const results = [];
+  let rebuiltAt: number[] = [];
   for (const [name, args] of cases) {
     const samples = [];
     for (let i = 0; i < runs; i++) {
@@ -75,6 +79,10 @@ async function main(): Promise<void> {
       rmSync(copy, { recursive: true, force: true });
       cpSync(base, copy, { recursive: true });
       samples.push(await timed(args(copy)));
+      if (i === 0 && existsSync(join(copy, 'parts.json'))) {
+        const merged = (JSON.parse(readFileSync(join(copy, 'parts.json'), 'utf8')) as { merged?: string }).merged;
+        if (merged && name.startsWith('add')) rebuiltAt = (JSON.parse(readFileSync(join(copy, merged), 'utf8')) as { rebuilt_at: number[] }).rebuilt_at;
+      }
     }
     const row = { case: name, wall_s: median(samples.map((s) => s.wall)), cpu_s: median(samples.map((s) => s.cpu)), peak_rss_mb: Math.round(median(samples.map((s) => s.rssMb))), runs: samples };
     results.push(row);
@@ -83,7 +91,7 @@ async function main(): Promise<void> {
   const [add, , day] = results;
   const ratio = add && day ? add.cpu_s / day.cpu_s : NaN;
   process.stdout.write(`adding one day costs ${ratio.toFixed(2)}× the CPU of auditing that day alone\n`);
-  writeFileSync(join(BENCH, 'parts-results.json'), `${JSON.stringify({ schema: 'counterweight.bench-parts/1', generated_at: new Date().toISOString(), rows, days: files.length, runs, load_average_at_start: loadavg().map((x) => x.toFixed(2)).join(' '), results, add_over_day_cpu: ratio }, null, 2)}\n`);
+  writeFileSync(join(BENCH, 'parts-results.json'), `${JSON.stringify({ schema: 'counterweight.bench-parts/1', generated_at: new Date().toISOString(), rows, days: files.length, runs, load_average_at_start: loadavg().map((x) => x.toFixed(2)).join(' '), results, add_over_day_cpu: ratio, cube_entries_formed_again_at_parts: rebuiltAt }, null, 2)}\n`);
 }
 
 await main();

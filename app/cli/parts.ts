@@ -5,14 +5,16 @@
  * distinct id hashes, ascending, 8 bytes each, little-endian) and NAME.ids.json (its ids by hash, read only
  * when a hash is shared with another part). Files are written beside their name and renamed into place.
  */
-import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import type { AuditCore } from './commands/core.ts';
 import type { AuditScans, RoleInspection, TargetInput } from '../core/audit.ts';
 import type { InputFile, Report } from '../core/model/report.ts';
 import type { RoleOverrides } from '../core/roles/roles.ts';
 import type { Profile } from '../core/scan/profile.ts';
-import { clipOf, duplicatesOf, mergeGroups, mergeProfiles, tailOf, weightGroupsOf, withExactDistincts, type PartIds } from '../core/parts/merge.ts';
+import { addDistincts, clipOf, copiesOf, duplicatesFromCopies, mergeGroups, mergeProfiles, tailOf, weightGroupsOf, withDistincts, type Distincts, type PartIds, type WeightGroups } from '../core/parts/merge.ts';
+import { addPartIds, addPartToCube, addWeightGroups, coarsened, cubeFromMerged, cubeOfParts, cubeScales, decodeNumber, encodeNumber, loadCube, sameScales, storeCube, type MergedCube, type StoredCube } from '../core/parts/merged.ts';
+import { rewardShift } from '../core/scan/cube.ts';
 import type { RowGroups } from '../core/parts/replay.ts';
 import type { PartScan } from '../core/parts/scan.ts';
 import { TOOL_VERSION } from '../core/version.ts';
@@ -23,6 +25,7 @@ import { UsageError } from './errors.ts';
 
 const STATE_SCHEMA = 'counterweight.parts/1';
 const PART_SCHEMA = 'counterweight.part/2';
+const MERGED_SCHEMA = 'counterweight.parts-merged/1';
 
 export interface PartsState {
   readonly schema: typeof STATE_SCHEMA;
@@ -32,6 +35,35 @@ export interface PartsState {
   readonly settings: Readonly<Record<string, number | string | boolean>>;
   readonly format: string;
   readonly parts: readonly (InputFile & { readonly name: string; readonly rows: number; readonly time_range?: readonly [number, number] | null })[];
+  /** the merged state of every part (MergedFile), when one was written with the last part */
+  readonly merged?: string;
+}
+
+/**
+ * The merged state of the parts listed (app/core/parts/merged.ts): what the audit of them all needs, so that
+ * neither adding a part nor auditing reads the earlier parts' files. Written with each part, under a name of
+ * its own (merged-N.json), and used only when its parts are exactly the state's.
+ */
+interface MergedFile {
+  readonly schema: typeof MERGED_SCHEMA;
+  readonly parts: readonly { readonly name: string; readonly sha256: string }[];
+  readonly profile: Profile;
+  readonly distincts: { readonly segments: readonly (readonly string[])[]; readonly p: readonly (number | string | null)[] };
+  readonly weights: Omit<WeightGroups, 'p' | 'r'> & { readonly p: readonly (number | string | null)[]; readonly r: readonly (number | string | null)[] };
+  /** ids held by more than one row over all parts, with their rows; null without a decision_id role */
+  readonly copies: readonly (readonly [string, number])[] | null;
+  readonly cube: StoredCube | null;
+  /** the part counts at which the cube's entries were formed again from every part's groups (new scales) */
+  readonly rebuilt_at: readonly number[];
+}
+
+export interface Merged {
+  readonly profile: Profile;
+  readonly distincts: Distincts;
+  readonly weights: WeightGroups;
+  readonly copies: Map<string, number> | null;
+  readonly cube: MergedCube | null;
+  readonly rebuiltAt: readonly number[];
 }
 
 interface PartFile {
@@ -46,8 +78,13 @@ interface PartFile {
 
 function writeAtomically(file: string, data: string | Uint8Array): void {
   const partial = `${file}.${process.pid}.partial`;
-  writeFileSync(partial, data);
-  renameSync(partial, file);
+  try {
+    writeFileSync(partial, data);
+    renameSync(partial, file);
+  } catch (e) {
+    try { rmSync(partial, { force: true }); } catch { /* the write's own error is the one to report */ }
+    throw e;
+  }
 }
 
 const stateFile = (dir: string) => path.join(dir, 'parts.json');
@@ -80,7 +117,98 @@ export function rangeSoFar(state: PartsState): [number, number] | null {
   return ranges.length ? [Math.min(...ranges.map((r) => r[0])), Math.max(...ranges.map((r) => r[1]))] : null;
 }
 
-/** Stores one part's scan and adds it to the state (refusing a part added before, by name or content). */
+function readPartFile(dir: string, name: string): PartFile & { readonly rowGroups: RowGroups } {
+  const file = JSON.parse(readFileSync(path.join(dir, `${name}.part.json`), 'utf8')) as PartFile;
+  if (file.schema !== PART_SCHEMA) throw new UsageError(`${name}.part.json in ${dir} is not a ${PART_SCHEMA} part: read the parts again into a new folder`);
+  return { ...file, rowGroups: { ...file.groups, p: file.groups.p.map((v) => (typeof v === 'string' ? Number(v) : v)) } as RowGroups };
+}
+
+/** The folder's merged state, when it covers exactly the state's parts (null otherwise: then the parts are read). */
+export function readMerged(dir: string, state: PartsState): Merged | null {
+  if (!state.merged) return null;
+  const file = path.join(dir, state.merged);
+  if (!existsSync(file)) return null;
+  const m = JSON.parse(readFileSync(file, 'utf8')) as MergedFile;
+  if (m.schema !== MERGED_SCHEMA || m.parts.length !== state.parts.length || m.parts.some((p, i) => p.name !== state.parts[i]?.name || p.sha256 !== state.parts[i]?.sha256)) return null;
+  const segmentCount = state.roles.segments?.length ?? 0;
+  return {
+    profile: m.profile,
+    distincts: { segments: m.distincts.segments, p: m.distincts.p.map((v) => decodeNumber(v) as number) },
+    weights: { ...m.weights, p: m.weights.p.map((v) => decodeNumber(v) as number), r: m.weights.r.map(decodeNumber) },
+    copies: m.copies ? new Map(m.copies) : null,
+    cube: m.cube ? loadCube(m.cube, segmentCount) : null,
+    rebuiltAt: m.rebuilt_at,
+  };
+}
+
+function mergedFile(parts: PartsState['parts'], m: Merged): MergedFile {
+  return {
+    schema: MERGED_SCHEMA,
+    parts: parts.map((p) => ({ name: p.name, sha256: p.sha256 })),
+    profile: m.profile,
+    distincts: { segments: m.distincts.segments, p: m.distincts.p.map(encodeNumber) },
+    weights: { ...m.weights, p: m.weights.p.map(encodeNumber), r: m.weights.r.map(encodeNumber) },
+    copies: m.copies ? [...m.copies] : null,
+    cube: m.cube ? storeCube(m.cube) : null,
+    rebuilt_at: m.rebuiltAt,
+  };
+}
+
+/** The scales the cube's entries are kept at for a merged profile (null: no finite reward range, or no reward). */
+function scalesFor(state: PartsState, profile: Profile) {
+  return cubeScales(profile, rewardShift(profile.columns.find((c) => c.name === state.roles.reward)));
+}
+
+/**
+ * The merged state with one more part: from the previous merged state and the new part alone when there is one,
+ * else from every part's files. The cube's entries are formed again from every part's groups only when the new
+ * log's scales differ from theirs.
+ */
+function nextMerged(dir: string, state: PartsState, prev: Merged | null, scan: PartScan, ids: PartIds | null): Merged {
+  const groups = { groups: scan.groups, bucketUs: scan.bucketUs };
+  const earlier = () => state.parts.map((p) => readPartFile(dir, p.name));
+  if (!prev) {
+    const files = earlier();
+    const profile = mergeProfiles([...files.map((f) => f.profile), scan.profile]);
+    const all = [...files.map((f) => ({ groups: f.rowGroups, bucketUs: f.bucket_us })), groups];
+    const scales = scalesFor(state, profile);
+    const copies = ids ? copiesOf([...state.parts.map((p, i) => readPartIds(dir, p.name, files[i]?.repeated ?? [])), ids]) : null;
+    return {
+      profile,
+      distincts: all.reduce<Distincts | null>((d, g) => addDistincts(d, g.groups), null) as Distincts,
+      weights: all.reduce<WeightGroups | null>((w, g) => addWeightGroups(w, weightGroupsOf(g.groups)), null) as WeightGroups,
+      copies,
+      cube: scales ? cubeOfParts(all, Math.max(...all.map((g) => g.bucketUs)), scales) : null,
+      rebuiltAt: [state.parts.length + 1],
+    };
+  }
+  const profile = mergeProfiles([prev.profile, scan.profile]);
+  let copies: Map<string, number> | null = null;
+  if (ids) {
+    copies = new Map(prev.copies ?? []);
+    addPartIds(copies, state.parts.map((p) => () => readPartIds(dir, p.name, [])), ids);
+  }
+  const scales = scalesFor(state, profile);
+  let cube: MergedCube | null = prev.cube;
+  let rebuiltAt = prev.rebuiltAt;
+  if (cube && scales && sameScales(cube.entries.scales, scales)) {
+    if (scan.bucketUs > cube.width && scan.bucketUs % cube.width === 0) cube = coarsened(cube, scan.bucketUs);
+    if (!addPartToCube(cube, groups)) cube = null;
+  } else cube = null;
+  if (!cube && scales) {
+    const all = [...earlier().map((f) => ({ groups: f.rowGroups, bucketUs: f.bucket_us })), groups];
+    cube = cubeOfParts(all, Math.max(...all.map((g) => g.bucketUs)), scales);
+    rebuiltAt = [...rebuiltAt, state.parts.length + 1];
+  }
+  return { profile, distincts: addDistincts(prev.distincts, scan.groups), weights: addWeightGroups(prev.weights, weightGroupsOf(scan.groups)), copies, cube, rebuiltAt };
+}
+
+/**
+ * Stores one part's scan and adds it to the state (refusing a part added before, by name or content), with the
+ * merged state of all parts so far. Every file is written under a temporary name and renamed; parts.json is
+ * written last and is what makes the part part of the folder: if anything fails before it, the files this call
+ * wrote are removed, so the folder is as it was.
+ */
 export function storePart(dir: string, state: PartsState, file: InputFile, scan: PartScan): PartsState {
   const name = path.basename(file.path);
   const before = state.parts.find((p) => p.name === name || p.sha256 === file.sha256);
@@ -104,28 +232,48 @@ export function storePart(dir: string, state: PartsState, file: InputFile, scan:
   }
   const groups = { ...scan.groups, p: scan.groups.p.map((p) => (p === null || Number.isFinite(p) ? p : String(p))) };
   const part: PartFile = { schema: PART_SCHEMA, name, profile: scan.profile, bucket_us: scan.bucketUs, groups, repeated };
-  writeAtomically(path.join(dir, `${name}.hashes`), new Uint8Array(hashes.buffer));
-  writeAtomically(path.join(dir, `${name}.ids.json`), JSON.stringify({ start, ids: ids?.ids ?? [], rows: ids?.rows ?? [] }));
-  writeAtomically(path.join(dir, `${name}.part.json`), JSON.stringify(part));
-  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows, time_range: scan.timeRange }] };
-  writeAtomically(stateFile(dir), `${JSON.stringify(next, null, 2)}\n`);
+  const partIds: PartIds | null = ids ? idsOf(hashes, new Map(repeated), () => ({ start, ids: ids.ids as string[], rows: ids.rows as number[] })) : null;
+  const prev = readMerged(dir, state);
+  const merged = nextMerged(dir, state, prev, scan, partIds);
+  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows, time_range: scan.timeRange }], merged: `merged-${state.parts.length + 1}.json` };
+  const written: string[] = [];
+  const write = (f: string, data: string | Uint8Array) => {
+    written.push(f);
+    writeAtomically(f, data);
+  };
+  try {
+    write(path.join(dir, `${name}.hashes`), new Uint8Array(hashes.buffer));
+    write(path.join(dir, `${name}.ids.json`), JSON.stringify({ start, ids: ids?.ids ?? [], rows: ids?.rows ?? [] }));
+    write(path.join(dir, `${name}.part.json`), JSON.stringify(part));
+    write(path.join(dir, next.merged as string), JSON.stringify(mergedFile(next.parts, merged)));
+    writeAtomically(stateFile(dir), `${JSON.stringify(next, null, 2)}\n`);
+  } catch (e) {
+    for (const f of written) rmSync(f, { force: true });
+    throw e;
+  }
+  if (state.merged && state.merged !== next.merged) rmSync(path.join(dir, state.merged), { force: true });
   return next;
+}
+
+/** A part's ids from its distinct hashes and its ids by hash (`byHash` read only when a hash is shared). */
+function idsOf(hashes: BigUint64Array, repeated: ReadonlyMap<string, number>, byHash: () => { start: number[]; ids: string[]; rows: number[] }): PartIds {
+  let loaded: { start: number[]; ids: string[]; rows: number[] } | null = null;
+  return {
+    hashes,
+    repeated,
+    idsAt(i) {
+      const b = (loaded ??= byHash());
+      const from = b.start[i] as number;
+      const to = b.start[i + 1] as number;
+      return b.ids.slice(from, to).map((id, k) => [id, b.rows[from + k] as number] as const);
+    },
+  };
 }
 
 function readPartIds(dir: string, name: string, repeated: readonly (readonly [string, number])[]): PartIds {
   const bytes = readFileSync(path.join(dir, `${name}.hashes`));
   const hashes = new BigUint64Array(bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength));
-  let byHash: { start: number[]; ids: string[]; rows: number[] } | null = null;
-  return {
-    hashes,
-    repeated: new Map(repeated),
-    idsAt(i) {
-      byHash ??= JSON.parse(readFileSync(path.join(dir, `${name}.ids.json`), 'utf8')) as { start: number[]; ids: string[]; rows: number[] };
-      const from = byHash.start[i] as number;
-      const to = byHash.start[i + 1] as number;
-      return byHash.ids.slice(from, to).map((id, k) => [id, byHash?.rows[from + k] as number] as const);
-    },
-  };
+  return idsOf(hashes, new Map(repeated), () => JSON.parse(readFileSync(path.join(dir, `${name}.ids.json`), 'utf8')) as { start: number[]; ids: string[]; rows: number[] });
 }
 
 /** The audit of every part in the folder together, from their stored scans: no part is read again. */
@@ -153,21 +301,20 @@ async function partExamples(state: PartsState, from: PartExamples, sql: (relatio
   }
 }
 
-export async function auditParts(core: AuditCore, dir: string, state: PartsState, peakRssMb?: () => number, examplesFrom?: PartExamples): Promise<{ report: Report; columns: readonly { name: string; type: string }[] }> {
+export async function auditParts(core: AuditCore, dir: string, state: PartsState, peakRssMb?: () => number, examplesFrom?: PartExamples, useMerged = true): Promise<{ report: Report; columns: readonly { name: string; type: string }[] }> {
   if (state.parts.length === 0) throw new UsageError(`${dir} holds no parts yet: add one with --add-part FILE`);
-  const parts = state.parts.map((p) => {
-    const file = JSON.parse(readFileSync(path.join(dir, `${p.name}.part.json`), 'utf8')) as PartFile;
-    if (file.schema !== PART_SCHEMA) throw new UsageError(`${p.name}.part.json in ${dir} is not a ${PART_SCHEMA} part: read the parts again into a new folder`);
-    return { ...file, groups: { ...file.groups, p: file.groups.p.map((v) => (typeof v === 'string' ? Number(v) : v)) } as RowGroups };
-  });
+  let files: ReturnType<typeof readPartFile>[] | null = null;
+  const parts = () => (files ??= state.parts.map((p) => readPartFile(dir, p.name)));
   const segmentColumns = state.roles.segments ?? [];
-  const rowGroups = parts.map((p) => ({ groups: p.groups, bucketUs: p.bucket_us }));
-  const profile = withExactDistincts(mergeProfiles(parts.map((p) => p.profile)), segmentColumns, state.roles.propensity ?? null, parts.map((p) => p.groups));
-  let weights: ReturnType<typeof weightGroupsOf>[] | null = null;
-  const groups = () => (weights ??= parts.map((p) => weightGroupsOf(p.groups)));
+  const merged = useMerged ? readMerged(dir, state) : null;
+  const fromParts = (spec: Parameters<AuditScans['cube']>[0]) => mergeGroups(parts().map((p) => ({ groups: p.rowGroups, bucketUs: p.bucket_us })), spec.buckets, { reward: spec.reward, floor: spec.floor, byPropensity: spec.byPropensity, rowCount: spec.rowCount }, spec.capped, spec.cap);
+  const distincts = merged?.distincts ?? parts().reduce<Distincts | null>((d, p) => addDistincts(d, p.rowGroups), null) as Distincts;
+  const profile = withDistincts(merged?.profile ?? mergeProfiles(parts().map((p) => p.profile)), segmentColumns, state.roles.propensity ?? null, distincts);
+  let weights: WeightGroups[] | null = merged ? [merged.weights] : null;
+  const groups = () => (weights ??= parts().map((p) => weightGroupsOf(p.rowGroups)));
   const scans: AuditScans = {
-    cube: ({ capped, cap, buckets, reward, floor, byPropensity, rowCount }) => mergeGroups(rowGroups, buckets, { reward, floor, byPropensity, rowCount }, capped, cap),
-    duplicates: (examples) => duplicatesOf(parts.map((p) => readPartIds(dir, p.name, p.repeated)), examples),
+    cube: (spec) => (merged?.cube ? cubeFromMerged(merged.cube, spec.buckets, { reward: spec.reward, floor: spec.floor, byPropensity: spec.byPropensity, rowCount: spec.rowCount }, spec.capped, spec.cap) : null) ?? fromParts(spec),
+    duplicates: (examples) => duplicatesFromCopies(merged?.copies ?? copiesOf(parts().map((p) => readPartIds(dir, p.name, p.repeated))), examples),
     tail: (target, segs, actions, limit) => tailOf(groups(), target, segs, actions, limit),
     clip: (target, segs, actions, above, limit) => clipOf(groups(), target, segs, actions, above, limit),
     ...(examplesFrom ? { examples: (sql: (relation: string) => string) => partExamples(state, examplesFrom, sql) } : {}),

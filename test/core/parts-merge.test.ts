@@ -11,7 +11,7 @@
  * of integers, so they do not depend on how the log was cut. What differs: findings carry no example rows (they
  * would need the rows; their `sql` still says how to list them), which the comparison leaves out.
  */
-import { copyFileSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { copyFileSync, cpSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
@@ -20,11 +20,12 @@ import * as core from '../../app/core/audit.ts';
 import type { Report } from '../../app/core/model/report.ts';
 import { duplicatesOf, type PartIds } from '../../app/core/parts/merge.ts';
 import { scanPart } from '../../app/core/parts/scan.ts';
-import { auditParts, rangeSoFar, stateFor, storePart, type PartsState } from '../../app/cli/parts.ts';
+import { auditParts, rangeSoFar, readMerged, stateFor, storePart, type PartsState } from '../../app/cli/parts.ts';
+import { cubeFromMerged } from '../../app/core/parts/merged.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { quoteLiteral } from '../../app/engine/sql-source.ts';
 import { fingerprintFiles } from '../../app/report/fingerprint.ts';
-import { auditFile, firstDifference, SAMPLE, v9Target } from './audit-helpers.ts';
+import { auditFile, firstDifference, FIXED_NOW, SAMPLE, v9Target } from './audit-helpers.ts';
 
 const DEMO = `${SAMPLE}maple-row-demo.parquet`;
 const DEMO_ROLES = { decision_id: 'decision_id', time: 'logged_at', action: 'promotion', propensity: 'propensity', reward: 'ordered', policy_version: 'policy_version', segments: ['region', 'device', 'tenure'] };
@@ -65,6 +66,10 @@ describe('an audit merged from daily parts equals the audit of the whole log', (
   let whole: Report;
   let merged: Report;
   let mergedAsked: Report;
+  let fromParts: Report;
+  let finalState: PartsState;
+  // the folder right after the first day whose rows moved the cube's scales after day 1 (its entries formed again from every part)
+  let rebuilt: { state: PartsState; dir: string; days: number } | null = null;
   beforeAll(async () => {
     const engine = await createNativeEngine({ threads: 2 });
     try {
@@ -79,8 +84,15 @@ describe('an audit merged from daily parts equals the audit of the whole log', (
       copyFileSync(join(dir, `day-${d}.parquet`), copy);
       state = await addPart(join(dir, 'state'), state, copy);
       rmSync(copy);
+      const m = readMerged(join(dir, 'state'), state);
+      if (!rebuilt && m && m.rebuiltAt.length > 1 && m.rebuiltAt[m.rebuiltAt.length - 1] === state.parts.length) {
+        rebuilt = { state, dir: join(dir, 'rebuilt'), days: state.parts.length };
+        cpSync(join(dir, 'state'), rebuilt.dir, { recursive: true });
+      }
     }
+    finalState = state;
     merged = (await auditParts(core, join(dir, 'state'), state)).report;
+    fromParts = (await auditParts(core, join(dir, 'state'), state, undefined, undefined, false)).report;
     mergedAsked = (await auditParts(core, join(dir, 'state'), state, undefined, { cwd: process.cwd(), open: () => createNativeEngine({ threads: 2 }) })).report;
   }, 300_000);
 
@@ -111,6 +123,35 @@ describe('an audit merged from daily parts equals the audit of the whole log', (
     }
     expect(merged.targets.map((t) => t.max_weight)).toEqual(whole.targets.map((t) => t.max_weight));
   });
+
+  it('reads the merged state, not the parts: its cube is the whole log\'s, and equals the replay of every part', () => {
+    const m = readMerged(join(dir, 'state'), finalState);
+    expect(m?.cube).toBeTruthy();
+    expect(JSON.stringify(body(fromParts))).toBe(JSON.stringify(body(merged)));
+    // the merged cube is used, not the fallback: it gives cells for the audit's own spec
+    const reward = { shift: 0.5, halfRange: 0.5 };
+    expect(m?.cube && cubeFromMerged(m.cube, null, { reward, floor: 0.01, byPropensity: true, rowCount: merged.input.rows }, [], 50)).not.toBeNull();
+    // the demo's rows cross powers of two as days are added: the entries were formed again several times, not every day
+    expect(m?.rebuiltAt.length).toBeGreaterThan(1);
+    expect(m?.rebuiltAt.length).toBeLessThan(days.length);
+  });
+
+  it('after a day that moved the cube\'s scales, the merged audit equals the audit of those days as one log', async () => {
+    expect(rebuilt).not.toBeNull();
+    const r = rebuilt as unknown as { state: PartsState; dir: string; days: number };
+    const part = (await auditParts(core, r.dir, r.state)).report;
+    const engine = await createNativeEngine({ threads: 2 });
+    let sofar: Report;
+    try {
+      const src = await engine.register({ kind: 'path', paths: days.slice(0, r.days).map((d) => join(dir, `day-${d}.parquet`)) });
+      sofar = await core.runAudit((sql) => engine.query(sql), { relation: src.relation, input: { files: [], format: src.format }, engine: engine.kind, now: FIXED_NOW, targets: [v9Target()], roles: DEMO_ROLES });
+    } finally {
+      await engine.close();
+    }
+    expect(part.input.rows).toBe(sofar.input.rows);
+    expect(firstDifference(body(part), body(sofar), 0)).toBeNull();
+    expect(JSON.stringify(body(part))).toBe(JSON.stringify(body(sofar)));
+  }, 120_000);
 
   it('counts duplicated ids as DuckDB grouping every id does', async () => {
     const [ids, rows] = await exactDuplicates(DEMO);
@@ -179,4 +220,23 @@ describe('duplicate ids across parts are confirmed exactly', () => {
     const d = duplicatesOf([a, b], 5);
     expect(d).toEqual({ ids: 2, rowsInDuplicates: 6, extraRows: 4, maxCopies: 4, exampleIds: ['same', 'twice'] });
   });
+});
+
+describe('a failed add leaves the parts folder as it was', () => {
+  it('when parts.json cannot be written, the new part\'s files and merged state are removed, and the add can be made again', async () => {
+    const stateDir = join(dir, 'failing');
+    let state = stateFor(stateDir, { roles: DEMO_ROLES, targets: [v9Target()], settings: undefined, format: 'parquet' });
+    state = await addPart(stateDir, state, join(dir, `day-${days[0]}.parquet`));
+    const snapshot = () => Object.fromEntries(readdirSync(stateDir).sort().map((f) => [f, readFileSync(join(stateDir, f)).toString('base64')]));
+    const before = snapshot();
+    // a folder where parts.json's temporary file would go: its write fails after every other file was written
+    const blocker = join(stateDir, `parts.json.${process.pid}.partial`);
+    mkdirSync(blocker);
+    await expect(addPart(stateDir, state, join(dir, `day-${days[1]}.parquet`))).rejects.toThrow(/EISDIR|directory/i);
+    rmSync(blocker, { recursive: true });
+    expect(snapshot()).toEqual(before);
+    const again = await addPart(stateDir, state, join(dir, `day-${days[1]}.parquet`));
+    expect(again.parts.map((p) => p.name)).toEqual([`day-${days[0]}.parquet`, `day-${days[1]}.parquet`]);
+    expect(readdirSync(stateDir).filter((f) => f.startsWith('merged-'))).toEqual([again.merged]);
+  }, 120_000);
 });

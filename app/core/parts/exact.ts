@@ -64,6 +64,42 @@ export class ExactSums {
     }
   }
 
+  /** Whether any sum holds a BigInt part (a row count of 2^26 or more was added). */
+  hasBig(): boolean {
+    return !!this.big?.some((b) => b !== undefined);
+  }
+
+  /** These sums and `more` zero sums after them (a copy). */
+  grown(more: number): ExactSums {
+    const next = new ExactSums(this.n + more);
+    next.limbs.set(this.limbs);
+    if (this.big) next.big = this.big.slice();
+    return next;
+  }
+
+  /** Adds sum j of `other` to sum i: limb by limb (each below 2^52, so the addition is exact), then carried. */
+  addSum(i: number, other: ExactSums, j: number): void {
+    const L = this.limbs;
+    const o = i * LIMBS;
+    const p = j * LIMBS;
+    for (let k = 0; k < LIMBS; k++) {
+      let a = (L[o + k] as number) + (other.limbs[p + k] as number);
+      let m = k;
+      while (m < TOP && (a >= CARRY_AT || a <= -CARRY_AT)) {
+        const c = Math.floor(a / BASE);
+        L[o + m] = a - c * BASE;
+        m++;
+        a = (L[o + m] as number) + c;
+      }
+      L[o + m] = a;
+    }
+    const b = other.big?.[j];
+    if (b !== undefined) {
+      const big = (this.big ??= new Array<bigint | undefined>(this.n));
+      big[i] = (big[i] ?? 0n) + b;
+    }
+  }
+
   /** Sum i as the exact integer. */
   bigint(i: number): bigint {
     const L = this.limbs;

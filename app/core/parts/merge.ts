@@ -71,27 +71,40 @@ export function mergeProfiles(parts: readonly Profile[]): Profile {
   return { rows, columns };
 }
 
+/** Distinct segment values (null label aside) and propensities (at most EXACT_DISTINCT_MAX + 1 of them) over all rows. */
+export interface Distincts {
+  readonly segments: readonly (readonly string[])[];
+  readonly p: readonly number[];
+}
+
+export function addDistincts(into: Distincts | null, groups: RowGroups): Distincts {
+  const values = groups.segments.map((_, i) => new Set(into?.segments[i] ?? []));
+  const ps = new Set(into?.p ?? []);
+  groups.segments.forEach((s, i) => { for (const v of s) if (v !== NULL_LABEL) values[i]?.add(v); });
+  for (const p of groups.p) if (p !== null && ps.size <= EXACT_DISTINCT_MAX) ps.add(p);
+  return { segments: values.map((v) => [...v]), p: [...ps] };
+}
+
 /**
- * The profile with each segment column's distinct count exact over all rows, and the propensity column's
- * where the whole log's profile would count it exactly (few values: profile.ts's EXACT_DISTINCT_MAX), from
- * the parts' row groups: the cube then groups by propensity exactly when the whole log's does.
+ * The profile with each segment column's distinct count exact over all rows, and the propensity column's where
+ * the whole log's profile would count it exactly (few values: profile.ts's EXACT_DISTINCT_MAX): the cube then
+ * groups by propensity exactly when the whole log's does.
  */
-export function withExactDistincts(profile: Profile, segmentColumns: readonly string[], propensity: string | null, parts: readonly RowGroups[]): Profile {
-  const values = segmentColumns.map(() => new Set<string>());
-  const ps = new Set<number>();
-  for (const g of parts) {
-    g.segments.forEach((s, i) => { for (const v of s) if (v !== NULL_LABEL) values[i]?.add(v); });
-    for (const p of g.p) if (p !== null) ps.add(p);
-  }
+export function withDistincts(profile: Profile, segmentColumns: readonly string[], propensity: string | null, d: Distincts): Profile {
   return {
     ...profile,
     columns: profile.columns.map((c) => {
       const i = segmentColumns.indexOf(c.name);
-      if (i >= 0) return { ...c, distinct: values[i]?.size ?? 0, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
-      if (c.name === propensity && ps.size <= EXACT_DISTINCT_MAX && ps.size <= Math.max(1, 0.5 * c.nonNull)) return { ...c, distinct: ps.size, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
+      if (i >= 0) return { ...c, distinct: d.segments[i]?.length ?? 0, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
+      if (c.name === propensity && d.p.length <= EXACT_DISTINCT_MAX && d.p.length <= Math.max(1, 0.5 * c.nonNull)) return { ...c, distinct: d.p.length, distinctBasis: 'all rows' as const, distinctRows: profile.rows };
       return c;
     }),
   };
+}
+
+/** withDistincts over the parts' row groups. */
+export function withExactDistincts(profile: Profile, segmentColumns: readonly string[], propensity: string | null, parts: readonly RowGroups[]): Profile {
+  return withDistincts(profile, segmentColumns, propensity, parts.reduce<Distincts | null>(addDistincts, null) ?? { segments: [], p: [] });
 }
 
 const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
@@ -135,7 +148,15 @@ export function mergeGroups(parts: readonly PartGroups[], buckets: TimeBuckets |
       keyed.push({ key: `${segment.join(SEP)}${SEP}${action}${SEP}${version}${SEP}${bucket}`, segment, action, version, bucket, p: g.p[i] ?? null, r: g.r[i] ?? null, rows: g.rows[i] as number });
     }
   }
-  const raw = replayRaw(keyed, spec, cellOrder);
+  return capCells(replayRaw(keyed, spec, cellOrder), spec, capped, cap);
+}
+
+/**
+ * The `capped` segment columns of uncapped cells cut to their `cap` most frequent values as the cube query cuts
+ * them (rows descending, then the value), the rest merged into "(other)" in fixed point again; with each capped
+ * column's distinct count before capping.
+ */
+export function capCells(raw: CubeCell[], spec: ReplaySpec, capped: readonly number[], cap: number): { cells: CubeCell[]; cappedDistinct: Map<number, number> } {
   const cappedDistinct = new Map<number, number>();
   if (capped.length === 0) return { cells: raw, cappedDistinct };
   const kept = capped.map((i) => {
@@ -279,6 +300,11 @@ function findHash(hashes: BigUint64Array, h: bigint): number {
  * two different ids is never reported.
  */
 export function duplicatesOf(parts: readonly PartIds[], examples: number): Duplicates {
+  return duplicatesFromCopies(copiesOf(parts), examples);
+}
+
+/** The ids held by more than one row over all parts, with their rows (duplicatesOf before it is summarised). */
+export function copiesOf(parts: readonly PartIds[]): Map<string, number> {
   const copies = new Map<string, number>();
   for (const p of parts) for (const [id, n] of p.repeated) copies.set(id, n);
   const all = new BigUint64Array(parts.reduce((s, p) => s + p.hashes.length, 0));
@@ -298,6 +324,11 @@ export function duplicatesOf(parts: readonly PartIds[], examples: number): Dupli
     }
     for (const [id, n] of seen) if (n > 1) copies.set(id, n);
   }
+  return copies;
+}
+
+/** The duplicates query's answer from the ids held by more than one row. */
+export function duplicatesFromCopies(copies: ReadonlyMap<string, number>, examples: number): Duplicates {
   const ids = [...copies.keys()].sort(compareText);
   const rowsInDuplicates = [...copies.values()].reduce((s, n) => s + n, 0);
   return { ids: ids.length, rowsInDuplicates, extraRows: rowsInDuplicates - ids.length, maxCopies: Math.max(0, ...copies.values()), exampleIds: ids.slice(0, Math.max(1, examples)) };

@@ -105,7 +105,7 @@ class Terms {
  * the sum without one), fixed-point sums exactly (round_half_even(term·2^s) × weight, in ExactSums), a plain
  * double sum in source order for a sum without a scale, whole-number counts and minima/maxima as doubles.
  */
-function aggregate(cellCount: number, kinds: readonly Kind[], terms: Terms, sourceCell: readonly number[], sourceWeight: readonly number[], sourceRow: readonly number[], count: number): (cell: number, i: number) => number | null {
+function aggregate(cellCount: number, kinds: readonly Kind[], terms: Terms, sourceCell: readonly number[], sourceWeight: readonly number[], sourceRow: readonly number[], count: number): { value: (cell: number, i: number) => number | null; exact: boolean } {
   const M = kinds.length;
   const { values, has } = terms;
   const bound = kinds.map(() => 0);
@@ -148,7 +148,7 @@ function aggregate(cellCount: number, kinds: readonly Kind[], terms: Terms, sour
       }
     }
   }
-  return (cell, i) => {
+  const value = (cell: number, i: number): number | null => {
     const j = cell * M + i;
     const kind = kinds[i] as Kind;
     if (kind < 2) return ext[j] as number | null;
@@ -156,6 +156,7 @@ function aggregate(cellCount: number, kinds: readonly Kind[], terms: Terms, sour
     const ki = k[i];
     return !any[j] ? 0 : ki === null || ki === undefined ? (plain[j] as number) : exact.double(j) / ki;
   };
+  return { value, exact: kinds.every((kind, i) => kind !== 3 || k[i] !== null) };
 }
 
 /** The cube cell of a cell's sums, derived measures added (a fresh segment array: cells are read often by the checks). */
@@ -171,7 +172,6 @@ function cellOf(keys: { segment: readonly string[]; action: string; version: str
   return cell as unknown as CubeCell;
 }
 
-const keyOf = (g: { segment: readonly string[]; action: string; version: string; bucket: number }) => `${g.segment.join(SEP)}${SEP}${g.action}${SEP}${g.version}${SEP}${g.bucket}`;
 
 /** A memo of term rows by (p, r): rows with the same propensity and reward add the same terms (−0 is not memoised: SameValueZero would take it for 0). */
 function rowMemo(): (p: number | null, r: number | null, make: () => number) => number {
@@ -186,92 +186,200 @@ function rowMemo(): (p: number | null, r: number | null, make: () => number) => 
   };
 }
 
+/** The literal scales of the by_p level's Σd and Σd² (cube.ts rowSum): from the reward's range and the log's rows. */
+export interface EntryScales {
+  readonly shift: number;
+  readonly k1: number | null;
+  readonly k2: number | null;
+}
+
+export function scalesOf(spec: Pick<ReplaySpec, 'reward' | 'rowCount'>): EntryScales {
+  const h = spec.reward ? 2 * spec.reward.halfRange : null;
+  return { shift: spec.reward?.shift ?? 0, k1: h === null ? null : scaleOf(h, spec.rowCount), k2: h === null ? null : scaleOf(h * h, spec.rowCount) };
+}
+
+/** A cell's keys. */
+export interface CellKeys {
+  readonly segment: readonly string[];
+  readonly action: string;
+  readonly version: string;
+  readonly bucket: number;
+}
+
+export const cellKey = (g: CellKeys) => `${g.segment.join(SEP)}${SEP}${g.action}${SEP}${g.version}${SEP}${g.bucket}`;
+const pKey = (p: number | null) => (p === null ? 'null' : String(p));
+
 /**
- * The cube's uncapped cells (the query's `raw` level) from row groups already in the whole log's keys, in
- * ORDER BY keys order.
+ * The cube query's by_p level: rows grouped by (cell keys, p), each group's c, c_r and its exact Σd, Σd² at the
+ * literal scales (round_half_even(d·2^s) summed in ExactSums, 2 sums an entry), Σd and Σd² also as plain double
+ * sums in the order groups were added (what the query sums when the reward has no finite range: k1 null). An
+ * entry keeps the p of the first group added to it (p and −0 share an entry, as String(p) keys them). Entries are
+ * numbered in the order they first appear, cells likewise; the lookups are built on demand (`index`), so a
+ * table read back from a parts folder keys only the cells a new part can touch.
  */
-export function replayRaw(groups: readonly KeyedGroup[], spec: ReplaySpec, order: (a: CubeCell, b: CubeCell) => number): CubeCell[] {
+export class Entries {
+  readonly cells: CellKeys[] = [];
+  readonly cell: number[] = [];
+  readonly p: (number | null)[] = [];
+  readonly c: number[] = [];
+  readonly cr: number[] = [];
+  readonly pd: number[] = [];
+  readonly pd2: number[] = [];
+  sums = new ExactSums(0);
+  private cellAt = new Map<string, number>();
+  private entryAt = new Map<string, number>();
+  private memo = new Map<number, [number, number, number, number]>();
+
+  constructor(readonly scales: EntryScales) {}
+
+  get length(): number {
+    return this.cell.length;
+  }
+
+  /** Keys the cells (and their entries) that `touch` picks among those not keyed yet; every cell added later is keyed. */
+  index(touch: (keys: CellKeys) => boolean = () => true): void {
+    const picked = new Set<number>();
+    for (let c = 0; c < this.cells.length; c++) {
+      const keys = this.cells[c] as CellKeys;
+      if (this.cellAt.has(cellKey(keys)) || !touch(keys)) continue;
+      this.cellAt.set(cellKey(keys), c);
+      picked.add(c);
+    }
+    for (let e = 0; e < this.cell.length; e++) if (picked.has(this.cell[e] as number)) this.entryAt.set(`${this.cell[e]}${SEP}${pKey(this.p[e] ?? null)}`, e);
+  }
+
+  /** The entry of (keys, p), added (with zero sums) if new. */
+  entryOf(keys: CellKeys, p: number | null, key = cellKey(keys)): number {
+    let c = this.cellAt.get(key);
+    if (c === undefined) {
+      this.cellAt.set(key, (c = this.cells.length));
+      this.cells.push(keys);
+    }
+    const ek = `${c}${SEP}${pKey(p)}`;
+    let e = this.entryAt.get(ek);
+    if (e === undefined) {
+      this.entryAt.set(ek, (e = this.cell.length));
+      this.cell.push(c);
+      this.p.push(p);
+      this.c.push(0);
+      this.cr.push(0);
+      this.pd.push(0);
+      this.pd2.push(0);
+      if (2 * this.cell.length > this.sums.n) this.sums = this.sums.grown(Math.max(64, this.sums.n));
+    }
+    return e;
+  }
+
+  /** Entries read back (cells already pushed): their exact sums as limbs, 2·LIMBS an entry; plain double sums zero. */
+  load(cell: readonly number[], p: readonly (number | null)[], c: readonly number[], cr: readonly number[], limbs: readonly number[]): void {
+    if (this.cell.length) throw new Error('Entries.load: not empty');
+    for (let e = 0; e < cell.length; e++) {
+      this.cell.push(cell[e] as number);
+      this.p.push(p[e] ?? null);
+      this.c.push(c[e] as number);
+      this.cr.push(cr[e] as number);
+      this.pd.push(0);
+      this.pd2.push(0);
+    }
+    this.sums = new ExactSums(2 * cell.length);
+    this.sums.limbs.set(limbs);
+  }
+
+  private termsOf(r: number): [number, number, number, number] {
+    let t = this.memo.get(r);
+    if (!t || Object.is(r, -0)) {
+      const { shift, k1, k2 } = this.scales;
+      const dd = r - shift;
+      t = [k1 === null ? 0 : roundHalfEvenDouble(dd * k1), k2 === null ? 0 : roundHalfEvenDouble(dd * dd * k2), dd, dd * dd];
+      if (!Object.is(r, -0)) this.memo.set(r, t);
+    }
+    return t;
+  }
+
+  /** Adds `rows` rows of (keys, p, r) (r null: no finite reward). */
+  addGroup(keys: CellKeys & { readonly key?: string }, p: number | null, r: number | null, rows: number): void {
+    const e = this.entryOf(keys, p, keys.key);
+    this.c[e] = (this.c[e] as number) + rows;
+    if (r === null) return;
+    this.cr[e] = (this.cr[e] as number) + rows;
+    const [t1, t2, dd, dd2] = this.termsOf(r);
+    this.sums.add(2 * e, t1, rows);
+    this.sums.add(2 * e + 1, t2, rows);
+    this.pd[e] = (this.pd[e] as number) + rows * dd;
+    this.pd2[e] = (this.pd2[e] as number) + rows * dd2;
+  }
+
+  /** Adds entry j of `other` (at the same scales) to (keys, p). */
+  addEntry(keys: CellKeys, other: Entries, j: number, key = cellKey(keys)): void {
+    const e = this.entryOf(keys, other.p[j] ?? null, key);
+    this.c[e] = (this.c[e] as number) + (other.c[j] as number);
+    this.cr[e] = (this.cr[e] as number) + (other.cr[j] as number);
+    this.sums.addSum(2 * e, other.sums, 2 * j);
+    this.sums.addSum(2 * e + 1, other.sums, 2 * j + 1);
+    this.pd[e] = (this.pd[e] as number) + (other.pd[j] as number);
+    this.pd2[e] = (this.pd2[e] as number) + (other.pd2[j] as number);
+  }
+}
+
+/**
+ * The cube's uncapped cells from by_p entries already in the whole log's keys, in ORDER BY keys order; `exact`
+ * says whether every fixed-point sum had a scale (a term that is not finite leaves its sum a plain double sum,
+ * in entry order).
+ */
+export function finishEntries(entries: Entries, spec: ReplaySpec, order: (a: CubeCell, b: CubeCell) => number): { cells: CubeCell[]; exact: boolean } {
   const x: MeasureContext = { floor: spec.floor, d: duckdb };
   const measures = CELL_MEASURES as readonly Measure[];
-  const M = measures.length;
+  const kinds = kindsOf(measures, x, true);
+  const { shift, k1, k2 } = entries.scales;
+  const terms = new Terms(measures.length);
+  const n = entries.length;
+  const sourceRow: number[] = new Array<number>(n);
+  for (let e = 0; e < n; e++) {
+    const cr = entries.cr[e] as number;
+    const s_d = cr === 0 ? 0 : k1 === null ? (entries.pd[e] as number) : entries.sums.double(2 * e) / k1;
+    const s_d2 = cr === 0 ? 0 : k2 === null ? (entries.pd2[e] as number) : entries.sums.double(2 * e + 1) / k2;
+    const g: MeasureGroup = { p: entries.p[e] ?? null, c: entries.c[e] as number, c_r: cr, s_d, s_d2, s_r: s_d + shift * cr, s_r2: s_d2 + 2 * shift * s_d + shift * shift * cr };
+    sourceRow[e] = terms.push((i) => (measures[i] as Measure).group(g, x));
+  }
+  const { value, exact } = aggregate(entries.cells.length, kinds, terms, entries.cell, new Array<number>(n).fill(1), sourceRow, n);
+  return { cells: entries.cells.map((keys, c) => cellOf(keys, (i) => value(c, i), measures)).sort(order), exact: exact && k1 !== null && k2 !== null };
+}
+
+/**
+ * The cube's uncapped cells (the query's `raw` level) from row groups already in the whole log's keys, in
+ * ORDER BY keys order: propensity-grouped through the by_p entries, or every row's terms summed at once.
+ */
+export function replayRaw(groups: readonly KeyedGroup[], spec: ReplaySpec, order: (a: CubeCell, b: CubeCell) => number): CubeCell[] {
+  if (spec.byPropensity) {
+    const entries = new Entries(scalesOf(spec));
+    for (const g of groups) entries.addGroup(g, g.p, g.r, g.rows);
+    return finishEntries(entries, spec, order).cells;
+  }
+  const x: MeasureContext = { floor: spec.floor, d: duckdb };
+  const measures = CELL_MEASURES as readonly Measure[];
   const shift = spec.reward?.shift ?? 0;
-  const kinds = kindsOf(measures, x, spec.byPropensity);
+  const kinds = kindsOf(measures, x, false);
   const cellAt = new Map<string, number>();
   const cellKeys: KeyedGroup[] = [];
-  const cellOfGroup = (g: KeyedGroup) => {
+  const terms = new Terms(measures.length);
+  const sourceCell: number[] = [];
+  const sourceWeight: number[] = [];
+  const sourceRow: number[] = [];
+  let count = 0;
+  const memo = rowMemo();
+  for (const g of groups) {
     let c = cellAt.get(g.key);
     if (c === undefined) {
       cellAt.set(g.key, (c = cellKeys.length));
       cellKeys.push(g);
     }
-    return c;
-  };
-  const terms = new Terms(M);
-  const sourceCell: number[] = [];
-  const sourceWeight: number[] = [];
-  const sourceRow: number[] = [];
-  let count = 0;
-  if (spec.byPropensity) {
-    // the by_p level: (keys, p) → c, c_r and the exact Σd, Σd² at the literal scales of cube.ts's rowSum
-    const h = spec.reward ? 2 * spec.reward.halfRange : null;
-    const k1 = h === null ? null : scaleOf(h, spec.rowCount);
-    const k2 = h === null ? null : scaleOf(h * h, spec.rowCount);
-    const memo = new Map<number, [number, number, number, number]>();
-    const termsOf = (r: number) => {
-      let t = memo.get(r);
-      if (!t || Object.is(r, -0)) {
-        const dd = r - shift;
-        t = [k1 === null ? 0 : roundHalfEvenDouble(dd * k1), k2 === null ? 0 : roundHalfEvenDouble(dd * dd * k2), dd, dd * dd];
-        if (!Object.is(r, -0)) memo.set(r, t);
-      }
-      return t;
-    };
-    const at = new Map<string, number>();
-    const entries: { keys: KeyedGroup; cell: number; c: number; c_r: number; pd: number; pd2: number }[] = [];
-    const entryOf = new Int32Array(groups.length);
-    groups.forEach((g, j) => {
-      const key = `${g.key}${SEP}${g.p === null ? 'null' : String(g.p)}`;
-      let e = at.get(key);
-      if (e === undefined) {
-        at.set(key, (e = entries.length));
-        entries.push({ keys: g, cell: cellOfGroup(g), c: 0, c_r: 0, pd: 0, pd2: 0 });
-      }
-      entryOf[j] = e;
-    });
-    const sums = new ExactSums(2 * entries.length);
-    groups.forEach((g, j) => {
-      const ei = entryOf[j] as number;
-      const e = entries[ei] as (typeof entries)[number];
-      e.c += g.rows;
-      if (g.r !== null) {
-        e.c_r += g.rows;
-        const [t1, t2, dd, dd2] = termsOf(g.r);
-        sums.add(2 * ei, t1, g.rows);
-        sums.add(2 * ei + 1, t2, g.rows);
-        e.pd += g.rows * dd;
-        e.pd2 += g.rows * dd2;
-      }
-    });
-    entries.forEach((e, ei) => {
-      const s_d = e.c_r === 0 ? 0 : k1 === null ? e.pd : sums.double(2 * ei) / k1;
-      const s_d2 = e.c_r === 0 ? 0 : k2 === null ? e.pd2 : sums.double(2 * ei + 1) / k2;
-      const g: MeasureGroup = { p: e.keys.p, c: e.c, c_r: e.c_r, s_d, s_d2, s_r: s_d + shift * e.c_r, s_r2: s_d2 + 2 * shift * s_d + shift * shift * e.c_r };
-      sourceCell.push(e.cell);
-      sourceWeight.push(1);
-      sourceRow.push(terms.push((i) => (measures[i] as Measure).group(g, x)));
-    });
-    count = entries.length;
-  } else {
-    const memo = rowMemo();
-    for (const g of groups) {
-      const row: MeasureRow = { p: g.p, r: g.r, d: g.r === null ? null : g.r - shift };
-      sourceCell.push(cellOfGroup(g));
-      sourceWeight.push(g.rows);
-      sourceRow.push(memo(g.p, g.r, () => terms.push((i) => (measures[i] as Measure).term(row, x))));
-      count += g.rows;
-    }
+    const row: MeasureRow = { p: g.p, r: g.r, d: g.r === null ? null : g.r - shift };
+    sourceCell.push(c);
+    sourceWeight.push(g.rows);
+    sourceRow.push(memo(g.p, g.r, () => terms.push((i) => (measures[i] as Measure).term(row, x))));
+    count += g.rows;
   }
-  const value = aggregate(cellKeys.length, kinds, terms, sourceCell, sourceWeight, sourceRow, count);
+  const { value } = aggregate(cellKeys.length, kinds, terms, sourceCell, sourceWeight, sourceRow, count);
   return cellKeys.map((keys, c) => cellOf(keys, (i) => value(c, i), measures)).sort(order);
 }
 
@@ -291,7 +399,7 @@ export function replayCappedMerge(cells: readonly CubeCell[], spec: ReplaySpec, 
   const sourceCell: number[] = [];
   const sourceRow: number[] = [];
   for (const c of cells) {
-    const key = keyOf(c);
+    const key = cellKey(c);
     let j = at.get(key);
     if (j === undefined) {
       at.set(key, (j = firsts.length));
@@ -300,6 +408,6 @@ export function replayCappedMerge(cells: readonly CubeCell[], spec: ReplaySpec, 
     sourceCell.push(j);
     sourceRow.push(terms.push((i) => field(c, i)));
   }
-  const value = aggregate(firsts.length, kinds, terms, sourceCell, cells.map(() => 1), sourceRow, cells.length);
+  const { value } = aggregate(firsts.length, kinds, terms, sourceCell, cells.map(() => 1), sourceRow, cells.length);
   return firsts.map((first, j) => cellOf(first, (i) => value(j, i), measures)).sort(order);
 }
