@@ -5,6 +5,7 @@ export function stageOf(sql: string): string {
   if (/AS n_p_null/.test(sql)) return 'cube';
   if (/rows_in_duplicates/.test(sql)) return 'duplicates';
   if (/__finding/.test(sql)) return 'examples';
+  if (/w DESC, r NULLS LAST/.test(sql)) return 'clip';
   if (/w DESC/.test(sql)) return 'tail';
   return 'other';
 }

@@ -10,8 +10,9 @@ import { resolveRoles } from '../../app/core/roles/roles.ts';
 import { cubeSql, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
-import { duplicatesSql, examplesSql, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
-import { parseTarget } from '../../app/core/targets/targets.ts';
+import { clipPropensityBound, clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
+import { SEP } from '../../app/core/cube/rollup.ts';
+import { parseTarget, type TargetPolicy } from '../../app/core/targets/targets.ts';
 import { duckdb } from '../../app/core/sql/dialect-duckdb.ts';
 import { createNativeEngine, type NativeEngine } from '../../app/engine/native.ts';
 import { firstDifference } from '../core/audit-helpers.ts';
@@ -135,5 +136,59 @@ describe('duplicated decision ids', () => {
     // a hash of 3 bits makes nearly every id collide with others: the exact second pass must drop them all
     const colliding = parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, { ...duckdb, hash64: (x) => `(hash(${x}) % 8)` })));
     expect(colliding).toEqual(grouped);
+  });
+});
+
+describe.each([
+  ['the demo log', `read_parquet('${SAMPLE}maple-row-demo.parquet')`],
+  ['a log with invalid propensities, NaN, null, infinite and -0.0 rewards', 'odd_finite'],
+  ['a log with invalid propensities and infinite rewards', 'odd'],
+])('clip rows (%s)', (_name, relation) => {
+  let fetched: Awaited<ReturnType<typeof engine.query>> | undefined;
+  // The plain form, computed here rather than in SQL: every row's weight q(s, a) / p, the rows above the bound, weight descending, reward ascending, no reward last.
+  async function byHand(target: TargetPolicy, actions: readonly string[], above: number, limit: number) {
+    const t = (fetched ??= await engine.query(`SELECT coalesce(region, '(null)'), coalesce(device, '(null)'), coalesce(tenure, '(null)'), coalesce(promotion, '(null)'), TRY_CAST(propensity AS DOUBLE), TRY_CAST(ordered AS DOUBLE) FROM ${relation}`));
+    const [region, device, tenure, action, p, r] = t.columns as unknown as [string[], string[], string[], string[], (number | null)[], (number | null)[]];
+    const segs: Record<string, string[]> = { region, device, tenure };
+    const out: { w: number; r: number | null }[] = [];
+    for (let i = 0; i < t.rowCount; i++) {
+      const pi = p[i] as number | null;
+      if (pi === null || !(pi > 0 && pi <= 1)) continue;
+      const a = action[i] as string;
+      let q = 0;
+      if (target.kind === 'uniform') q = actions.includes(a) ? 1 / actions.length : 0;
+      else if (target.kind === 'table') q = target.probabilities.get(target.keyColumns.map((c) => (segs[c] as string[])[i]).join(SEP))?.get(a) ?? 0;
+      const w = q / pi;
+      const ri = r[i] as number | null;
+      // DuckDB's ORDER BY hands a sort key back as its normalised value, -0.0 as 0.0 (the statement has always done so)
+      if (w > above && Number.isFinite(w)) out.push({ w, r: ri !== null && Number.isFinite(ri) ? ri + 0 : null });
+    }
+    return canonical(out).slice(0, limit);
+  }
+  const canonical = (rows: { w: number; r: number | null }[]) => [...rows].sort((x, y) => y.w - x.w || (x.r === null ? (y.r === null ? 0 : 1) : y.r === null ? -1 : x.r - y.r));
+
+  it('list the same rows as weighing every row by hand, with the propensity bound applied and without it', async () => {
+    const cols = parseDescribe(await engine.query(describeSql(relation)));
+    const profile = parseProfile(await engine.query(profileSql(relation, cols)), cols);
+    const roles = resolveRoles(profile, { segments: ['region', 'device', 'tenure'], action: 'promotion', propensity: 'propensity', reward: 'ordered', time: 'logged_at' });
+    const rows = rowExpressions(roles, profile, chooseBuckets(timeRangeUs(roles, profile), 'auto', 60));
+    const ctx = { actionColumn: 'promotion', logColumns: cols.map((c) => c.name), targetColumn: null };
+    const actions = ['bakery', 'household', 'recipe-kit'];
+    let bounded = 0;
+    for (const target of [parseTarget({ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }, ctx), parseTarget({ spec: 'uniform' }, ctx)]) {
+      const tail = parseTail(await engine.query(tailSql(relation, rows, target, ['region', 'device', 'tenure'], actions, 300)));
+      expect(tail.weights.length).toBeGreaterThan(10);
+      // above: a weight inside the tail (weights tie, so one of the distinct ones), the tail's smallest, and 0 (every positive weight)
+      const distinct = [...new Set(tail.weights)];
+      for (const above of [distinct[Math.min(5, distinct.length - 1)] as number, tail.weights[tail.weights.length - 1] as number, 0]) {
+        // a limit no answer reaches: the audit's own (the tail's length) never cuts into the rows above its bound
+        const expected = await byHand(target, actions, above, 1e6);
+        if (above === 0) expect(expected.length).toBeGreaterThan(tail.weights.length / 2);
+        const listed = parseClipRows(await engine.query(clipRowsSql(relation, rows, target, ['region', 'device', 'tenure'], actions, above, 1e6)));
+        expect(canonical(listed)).toEqual(expected);
+        if (clipPropensityBound(target, actions, above) !== null && expected.length > 0) bounded++;
+      }
+    }
+    expect(bounded).toBeGreaterThan(0);
   });
 });

@@ -189,13 +189,42 @@ export function clipRowsSql(relation: string, rows: RowExpressions, target: Targ
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   const R = ident('cw:r');
   const validQ = target.kind === 'column' ? ` AND (${expr}) >= 0 AND (${expr}) <= 1` : '';
+  const bound = clipPropensityBound(target, actions, above);
   return [
     `WITH w AS (`,
     `  SELECT (${expr}) / ${P} AS w, CASE WHEN ${finiteReward(R)} THEN ${R} END AS r FROM (SELECT *, ${rows.propensity} AS ${P}, ${rows.reward} AS ${R} FROM ${relation}) AS src ${join}`,
-    `  WHERE ${validPropensity(P)}${validQ}`,
+    `  WHERE ${validPropensity(P)}${validQ}${bound === null ? '' : ` AND ${P} <= ${double(bound)}`}`,
     `)`,
     `SELECT w, r FROM w WHERE w > ${double(above)} AND isfinite(w) ORDER BY w DESC, r NULLS LAST LIMIT ${integer(limit)}`,
   ].join('\n');
+}
+
+/** The largest q(s, a) a target gives any row: 1 for a target column (its valid values are at most 1). */
+function largestQ(target: TargetPolicy, actions: readonly string[]): number {
+  switch (target.kind) {
+    case 'uniform':
+      return actions.length ? 1 / actions.length : 0;
+    case 'always':
+    case 'column':
+      return 1;
+    case 'table': {
+      let most = 0;
+      for (const m of target.probabilities.values()) for (const q of m.values()) if (q > most) most = q;
+      return most;
+    }
+  }
+}
+
+/**
+ * A propensity above which no row's weight can exceed `above`, so the clip statement skips those rows before
+ * it computes their weights (the join with a table target is most of its cost). w = q/p > above needs
+ * p < q/above ≤ qmax/above; the bound is widened by 10^-9 of itself, far more than the rounding of q/p or of the
+ * bound (2^-53 each), so a row the exact test `w > above` keeps is never dropped. Null (no bound) when above is 0.
+ */
+export function clipPropensityBound(target: TargetPolicy, actions: readonly string[], above: number): number | null {
+  if (!(above > 0) || !Number.isFinite(above)) return null;
+  const bound = (largestQ(target, actions) / above) * (1 + 1e-9);
+  return Number.isFinite(bound) ? bound : null;
 }
 
 export function parseClipRows(t: Table): { w: number; r: number | null }[] {
