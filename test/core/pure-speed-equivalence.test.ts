@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runAuditDetailed } from '../../app/core/audit.ts';
 import type { AuditContext } from '../../app/core/checks/context.ts';
 import { checkBalance } from '../../app/core/checks/balance-weights.ts';
+import { checkPolicyDrift } from '../../app/core/checks/drift-policy.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import type { Engine } from '../../app/engine/types.ts';
 import { FIXED_NOW, SAMPLE, V9, v9Target } from './audit-helpers.ts';
@@ -104,7 +105,7 @@ describe('shared keys', () => {
 /** balance.weights on one context, fast path and plain definition, as JSON (every number's every bit). */
 const both = (ctx: AuditContext) => ({ fast: JSON.stringify(checkBalance(ctx)), plain: JSON.stringify(checkBalance(ctx, true)) });
 
-describe('balance.weights: the packed cause search gives what the plain one does', () => {
+describe('balance.weights\' packed cause search and drift.policy\'s indexed groups give what the plain definitions do', () => {
   let engine: Engine;
   const contexts = new Map<string, AuditContext>();
   beforeAll(async () => {
@@ -126,6 +127,7 @@ describe('balance.weights: the packed cause search gives what the plain one does
     const ctx = contexts.get(name) as AuditContext;
     const { fast, plain } = both(ctx);
     expect(fast).toBe(plain);
+    expect(JSON.stringify(checkPolicyDrift(ctx))).toBe(JSON.stringify(checkPolicyDrift(ctx, true)));
     // not a vacuous comparison: the planted defects fail, and the search names groups that account for other tests
     const r = checkBalance(ctx);
     expect(r.status).toBe('fail');
@@ -158,6 +160,7 @@ describe('balance.weights: the packed cause search gives what the plain one does
     const ctx = contextOf(ties(), { days: 10, versions: true, segmentColumns: ['region', 'device'], ...(targets ? { targets } : {}) });
     const { fast, plain } = both(ctx);
     expect(fast).toBe(plain);
+    expect(JSON.stringify(checkPolicyDrift(ctx))).toBe(JSON.stringify(checkPolicyDrift(ctx, true)));
     const r = checkBalance(ctx);
     expect(r.status).toBe('fail');
     expect(r.metrics.groups as number).toBeGreaterThan(1);

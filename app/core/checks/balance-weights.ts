@@ -230,19 +230,43 @@ interface PackedTests {
   readonly packedOf: (t: Test) => Packed;
 }
 
+/** Cells × actions (× budgets) the packed cause search keeps per-action reads for, at most (8 bytes each). */
+const CACHE_CELLS = 4_000_000;
+
 function packedTests(m: Materiality, cells: readonly CubeCell[], outside: Outside, minExpected: number): PackedTests {
   const packs = new Map<Test, Packed>();
+  const qs = m.budgets.map((b) => b.q);
+  // A cell lies in about ten tested groups (one per scope) with each action: per action, whether each cell is
+  // outside its support (0 not read yet, 1 inside, 2 outside) and each budget's q there (NaN: not read yet), read
+  // once. The arrays stop being made past CACHE_CELLS entries (a log of 10^4 actions), and q is then read each time.
+  const perAction = new Map<string, { outside: Uint8Array; q: (Float64Array | null)[] } | null>();
+  let cached = 0;
+  const readsOf = (action: string) => {
+    let r = perAction.get(action);
+    if (r === undefined) {
+      const q = qs.map((f) => (f ? new Float64Array(cells.length).fill(NaN) : null));
+      const entries = cells.length * (1 + q.filter(Boolean).length);
+      r = cached + entries <= CACHE_CELLS ? { outside: new Uint8Array(cells.length), q } : null;
+      if (r) cached += entries;
+      perAction.set(action, r);
+    }
+    return r;
+  };
   const packedOf = (t: Test): Packed => {
     let p = packs.get(t);
     if (p) return p;
     const { members, action } = t;
     const size = members.length;
     const index = new Int32Array(size), nP = new Float64Array(size), own = new Uint8Array(size), s1 = new Float64Array(size), s2 = new Float64Array(size), sw = new Float64Array(size);
-    const qs = m.budgets.map((b) => b.q);
     const mass = qs.map((q) => (q ? new Float64Array(size) : null));
+    const reads = readsOf(action);
     let len = 0;
     for (const i of members) {
-      if (outside.of(i, action)) continue;
+      if (reads) {
+        let o = reads.outside[i] as number;
+        if (o === 0) reads.outside[i] = o = outside.of(i, action) ? 2 : 1;
+        if (o === 2) continue;
+      } else if (outside.of(i, action)) continue;
       const c = cells[i] as CubeCell;
       index[len] = i;
       nP[len] = c.nP;
@@ -254,7 +278,14 @@ function packedTests(m: Materiality, cells: readonly CubeCell[], outside: Outsid
       }
       for (let k = 0; k < qs.length; k++) {
         const q = qs[k];
-        if (q) (mass[k] as Float64Array)[len] = c.nP * (q(c.segment, action) ?? 0);
+        if (!q) continue;
+        const known = reads?.q[k];
+        let v = known ? (known[i] as number) : NaN;
+        if (Number.isNaN(v)) {
+          v = q(c.segment, action) ?? 0;
+          if (known) known[i] = v;
+        }
+        (mass[k] as Float64Array)[len] = c.nP * v;
       }
       len++;
     }

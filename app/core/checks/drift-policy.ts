@@ -16,7 +16,8 @@ const PSI_NOTICE = 0.1;
 
 interface Group {
   segment: Record<string, string>;
-  member: (c: CubeCell) => boolean;
+  /** the segment column the group takes one value of (null: every row) */
+  column: number | null;
   counts: number[][]; // bucket × action
   first: Window;
   last: Window;
@@ -86,8 +87,12 @@ function balanced(w: Window, minEffect: number, alpha: number, minExpected: numb
   });
 }
 
-/** drift.policy: logging-policy drift — action mix over time, PSI first vs last window, version switches. */
-function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
+/**
+ * drift.policy: logging-policy drift — action mix over time, PSI first vs last window, version switches.
+ * `plain` finds a candidate group's cells by testing every cell (the straightforward definition, which
+ * test/core/pure-speed-equivalence.test.ts holds the indexed lookup equal to).
+ */
+export function checkPolicyDrift(ctx: AuditContext, plain = false): ReturnType<typeof result> {
   if (!ctx.rows || ctx.cells.length === 0) return skipped('drift.policy', 'the propensity, action or reward role is missing');
   const b = ctx.buckets;
   if (!b || b.count < 2) return skipped('drift.policy', ctx.roles.time ? 'the log spans a single time bucket' : 'no time column mapped');
@@ -96,9 +101,9 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   const edge = Math.max(1, Math.floor(b.count / 4));
   const floor = ctx.settings['support.floor.epsilon'];
   const groups = new Map<string, Group>();
-  const touch = (key: string, segment: Record<string, string>, member: (c: CubeCell) => boolean) => {
+  const touch = (key: string, segment: Record<string, string>, column: number | null) => {
     let g = groups.get(key);
-    if (!g) groups.set(key, (g = { segment, member, counts: Array.from({ length: b.count }, () => new Array(actions.length).fill(0)), first: emptyWindow(actions.length), last: emptyWindow(actions.length) }));
+    if (!g) groups.set(key, (g = { segment, column, counts: Array.from({ length: b.count }, () => new Array(actions.length).fill(0)), first: emptyWindow(actions.length), last: emptyWindow(actions.length) }));
     return g;
   };
   const add = (g: Group, c: CubeCell, a: number) => {
@@ -127,12 +132,12 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   for (const c of cells) {
     const a = ai.get(c.action);
     if (a === undefined || c.bucket < 0 || c.bucket >= b.count) continue;
-    add((everyRow ??= touch('*', {}, () => true)), c, a);
+    add((everyRow ??= touch('*', {}, null)), c, a);
     ctx.segmentColumns.forEach((col, j) => {
       const v = c.segment[j] as string;
       const known = byValue[j] as Map<string, Group>;
       let g = known.get(v);
-      if (!g) known.set(v, (g = touch(`${col}=${v}`, { [col]: v }, (x) => x.segment[j] === v)));
+      if (!g) known.set(v, (g = touch(`${col}=${v}`, { [col]: v }, j)));
       add(g, c, a);
     });
   }
@@ -153,14 +158,32 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   // explain away: a group stays unexplained only if it is still unbalanced without the rows of groups already reported (`excluded`)
   const actionOf = cells.map((c) => ai.get(c.action));
   const excluded = new Uint8Array(cells.length);
-  const membersOf = (g: Group) => cells.map((c) => g.member(c));
-  const windowOf = (member: readonly boolean[]) => {
+  // each group's cells (ascending indexes: every sum below adds them in the order a pass over all cells would),
+  // indexed by segment value once rather than testing every cell for every candidate
+  let byColumnValue: Map<string, number[]>[] | null = null;
+  const membersOf = (g: Group): readonly number[] => {
+    if (g.column === null) return cells.map((_, i) => i);
+    const j = g.column, v = g.segment[ctx.segmentColumns[j] as string] as string;
+    if (plain) return cells.flatMap((c, i) => (c.segment[j] === v ? [i] : []));
+    byColumnValue ??= ctx.segmentColumns.map((_, j) => {
+      const m = new Map<string, number[]>();
+      cells.forEach((c, i) => {
+        const v = c.segment[j] as string;
+        const list = m.get(v);
+        if (list) list.push(i);
+        else m.set(v, [i]);
+      });
+      return m;
+    });
+    return byColumnValue[j]?.get(v) ?? [];
+  };
+  const windowOf = (members: readonly number[]) => {
     const first = emptyWindow(actions.length);
     const last = emptyWindow(actions.length);
-    for (let i = 0; i < cells.length; i++) {
+    for (const i of members) {
       const c = cells[i] as CubeCell;
       const a = actionOf[i];
-      if (a === undefined || c.bucket < 0 || !member[i] || excluded[i]) continue;
+      if (a === undefined || c.bucket < 0 || excluded[i]) continue;
       if (c.minP !== null && c.minP < floor) {
         first.lowFloor.add(a);
         last.lowFloor.add(a);
@@ -180,12 +203,10 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
   const candidates = list.map((x, i) => ({ x, i })).filter(({ x, i }) => bh.rejected[i] && x.psi >= PSI_NOTICE && !x.explainedByPropensities);
   candidates.sort((u, v) => Math.max(imbalance(v.x.g.last), imbalance(v.x.g.first)) - Math.max(imbalance(u.x.g.last), imbalance(u.x.g.first)));
   for (const { x } of candidates) {
-    const member = membersOf(x.g);
-    const w = windowOf(member);
+    const members = membersOf(x.g);
+    const w = windowOf(members);
     if (balanced(w.first, minEffect, alpha, minExpected) && balanced(w.last, minEffect, alpha, minExpected)) x.explainedByPropensities = true;
-    else member.forEach((m, i) => {
-      if (m) excluded[i] = 1;
-    });
+    else for (const i of members) excluded[i] = 1;
   }
   const findings: DraftFinding[] = [];
   list.forEach((x, i) => {
@@ -230,4 +251,4 @@ function checkPolicyDrift(ctx: AuditContext): ReturnType<typeof result> {
 export const driftPolicy: CheckDefinition<'drift.policy'> = defineCheck('drift.policy', {
   title: 'Logging-policy drift', blocking: false, panel: 'drift', remedies: ['plan'],
   settings: ['drift.policy.q', 'drift.policy.psi_warn', 'drift.policy.min_effect', 'balance.q', 'balance.min_expected', 'support.floor.epsilon'],
-}, checkPolicyDrift);
+}, (ctx) => checkPolicyDrift(ctx));
