@@ -18,6 +18,10 @@ export interface HarnessAudit {
   rows: number;
   ess: number;
   maxWeight: number;
+  /** every check as `id status`, the reasons as JSON (cut short) and the roles, to compare runs */
+  checks: string[];
+  reasons: string[];
+  roles: string;
   /** each statement the audit sent, with DuckDB-Wasm's milliseconds for it (the text labels it in bench/) */
   statements: [sql: string, ms: number][];
 }
@@ -72,7 +76,8 @@ try {
         }
       }, { relation, input: { files: [], format }, engine: engine.kind, targets, ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(relation, columns) } : {}) });
       const t = report.targets[0];
-      return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, maxWeight: t?.max_weight ?? NaN, statements };
+      return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, maxWeight: t?.max_weight ?? NaN, statements,
+        checks: report.checks.map((c) => `${c.id} ${c.status}`), reasons: report.reasons.map((r) => JSON.stringify(r).slice(0, 200)), roles: JSON.stringify(report.roles).slice(0, 2000) };
     }),
     sourceScans: () => engine.sourceScans,
     lastParquetLoad: () => lastLoad,
