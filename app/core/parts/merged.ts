@@ -151,14 +151,15 @@ export function cubeFromMerged(cube: MergedCube, buckets: TimeBuckets | null, sp
   const W = cube.width;
   if (buckets && (buckets.widthUs % W !== 0 || buckets.originUs % W !== 0)) return null;
   const stored = cube.entries;
-  const whole = new Entries(scales);
-  const mapped = stored.cells.map((k) => {
-    const keys: CellKeys = { segment: k.segment, action: k.action, version: k.version, bucket: k.bucket < 0 ? -1 : buckets ? Math.floor((k.bucket * W - buckets.originUs) / buckets.widthUs) : 0 };
-    return { keys, key: cellKey(keys) };
-  });
-  for (let e = 0; e < stored.length; e++) {
-    const m = mapped[stored.cell[e] as number] as (typeof mapped)[number];
-    whole.addEntry(m.keys, stored, e, m.key);
+  const mapped = stored.cells.map((k): CellKeys => ({ segment: k.segment, action: k.action, version: k.version, bucket: k.bucket < 0 ? -1 : buckets ? Math.floor((k.bucket * W - buckets.originUs) / buckets.widthUs) : 0 }));
+  let whole: Entries;
+  if (buckets && buckets.widthUs === W) whole = stored.relabelled(mapped); // b -> b - origin/W: no two storage cells meet
+  else {
+    whole = new Entries(scales);
+    for (let e = 0; e < stored.length; e++) {
+      const keys = mapped[stored.cell[e] as number] as CellKeys;
+      whole.addEntry(keys, stored, e);
+    }
   }
   const raw = finishEntries(whole, spec, cellOrder);
   if (!raw.exact) return null;

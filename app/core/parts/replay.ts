@@ -84,16 +84,31 @@ function kindsOf(measures: readonly Measure[], x: MeasureContext, grouped: boole
  * weight, the rows they stand for; identical sources share a row, so each term is rounded once.
  */
 class Terms {
-  values: number[] = [];
-  has: number[] = [];
+  values: Float64Array;
+  has: Uint8Array;
   rows = 0;
-  constructor(readonly M: number) {}
+  constructor(readonly M: number, capacity = 1024) {
+    this.values = new Float64Array(Math.max(1, capacity) * M);
+    this.has = new Uint8Array(Math.max(1, capacity) * M);
+  }
 
   push(termOf: (i: number) => number | null): number {
-    for (let i = 0; i < this.M; i++) {
+    const M = this.M;
+    let o = this.rows * M;
+    if (o + M > this.values.length) {
+      const values = new Float64Array(2 * this.values.length);
+      values.set(this.values);
+      const has = new Uint8Array(2 * this.has.length);
+      has.set(this.has);
+      this.values = values;
+      this.has = has;
+    }
+    for (let i = 0; i < M; i++, o++) {
       const v = termOf(i);
-      this.values.push(v ?? 0);
-      this.has.push(v === null ? 0 : 1);
+      if (v !== null) {
+        this.values[o] = v;
+        this.has[o] = 1;
+      }
     }
     return this.rows++;
   }
@@ -219,18 +234,32 @@ const pKey = (p: number | null) => (p === null ? 'null' : String(p));
  */
 export class Entries {
   readonly cells: CellKeys[] = [];
-  readonly cell: number[] = [];
-  readonly p: (number | null)[] = [];
-  readonly c: number[] = [];
-  readonly cr: number[] = [];
-  readonly pd: number[] = [];
-  readonly pd2: number[] = [];
+  cell: number[] = [];
+  p: (number | null)[] = [];
+  c: number[] = [];
+  cr: number[] = [];
+  pd: number[] = [];
+  pd2: number[] = [];
   sums = new ExactSums(0);
   private cellAt = new Map<string, number>();
   private entryAt = new Map<string, number>();
   private memo = new Map<number, [number, number, number, number]>();
 
   constructor(readonly scales: EntryScales) {}
+
+  /** The same entries under other cell keys (one for each cell, none shared): the arrays are shared, not copied. */
+  relabelled(cells: readonly CellKeys[]): Entries {
+    const e = new Entries(this.scales);
+    for (const k of cells) e.cells.push(k);
+    e.cell = this.cell;
+    e.p = this.p;
+    e.c = this.c;
+    e.cr = this.cr;
+    e.pd = this.pd;
+    e.pd2 = this.pd2;
+    e.sums = this.sums;
+    return e;
+  }
 
   get length(): number {
     return this.cell.length;
@@ -331,8 +360,8 @@ export function finishEntries(entries: Entries, spec: ReplaySpec, order: (a: Cub
   const measures = CELL_MEASURES as readonly Measure[];
   const kinds = kindsOf(measures, x, true);
   const { shift, k1, k2 } = entries.scales;
-  const terms = new Terms(measures.length);
   const n = entries.length;
+  const terms = new Terms(measures.length, n);
   const sourceRow: number[] = new Array<number>(n);
   for (let e = 0; e < n; e++) {
     const cr = entries.cr[e] as number;
