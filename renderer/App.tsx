@@ -140,7 +140,7 @@ export function App() {
       case 'overview': return <OverviewScreen report={report} onOpenCheck={openCheck} onCompare={() => setView({ screen: 'compare' })} onRemedies={openRemedies} />;
       case 'check': {
         const check = report.checks.find((c) => c.id === view.id);
-        return check ? <CheckScreen check={check} onBack={() => setView({ screen: 'overview' })} onRemedies={report.remedies ? openRemedies : undefined} /> : null;
+        return check ? <CheckScreen check={check} settings={report.settings} onBack={() => setView({ screen: 'overview' })} onRemedies={report.remedies ? openRemedies : undefined} /> : null;
       }
       case 'remedies': return <RemediesScreen report={report} workspace={planWorkspace} focus={view.focus} />;
       case 'segments': return <SegmentMap report={report} workspace={status.kind === 'done' ? status.workspace : undefined} />;

@@ -1,8 +1,10 @@
 import type { Cell } from '../app/core/table.ts';
+import { countText } from '../app/core/count-words.ts';
+import { isShareMetric } from '../app/charts/labels.ts';
+import { withTimesInWords } from '../app/report/format.ts';
 
 // Number.prototype.toLocaleString builds a new Intl.NumberFormat on every call (ECMA-402 §19.4.1), which is slow
 // for a table of hundreds of cells; the same formats, built once, give the same text.
-const INTEGER = new Intl.NumberFormat('en');
 const WHOLE = new Intl.NumberFormat('en', { maximumFractionDigits: 0 });
 const FOUR_DIGITS = new Intl.NumberFormat('en', { maximumSignificantDigits: 4 });
 const THREE_DIGITS = new Intl.NumberFormat('en', { maximumSignificantDigits: 3 });
@@ -11,14 +13,14 @@ const THREE_DIGITS = new Intl.NumberFormat('en', { maximumSignificantDigits: 3 }
 export function formatValue(value: Cell | undefined): string {
   if (value === null || value === undefined) return '—';
   if (typeof value === 'number') {
-    if (Number.isInteger(value)) return INTEGER.format(value);
+    if (Number.isInteger(value)) return countText(value);
     if (!Number.isFinite(value)) return String(value);
     const abs = Math.abs(value);
     if (abs !== 0 && (abs < 0.001 || abs >= 1e9)) return value.toExponential(3);
     // Counts and sums keep every integer digit; only the fraction is shortened.
     return abs >= 1000 ? WHOLE.format(value) : FOUR_DIGITS.format(value);
   }
-  if (typeof value === 'bigint') return value.toLocaleString('en');
+  if (typeof value === 'bigint') return countText(value);
   if (typeof value === 'boolean') return value ? 'yes' : 'no';
   if (typeof value === 'string') return value;
   return JSON.stringify(value, (_k, v: unknown) => (typeof v === 'bigint' ? v.toString() : v));
@@ -36,8 +38,6 @@ export function segmentLabel(segment: Readonly<Record<string, string>>): string 
 
 /** An instant as the report writes it: ISO 8601 in UTC ("2026-03-17T06:00:00.000Z"). */
 const ISO_INSTANT = /(\d{4}-\d{2}-\d{2})T(\d{2}:\d{2})(?::\d{2}(?:\.\d+)?)?Z/;
-const ISO_INSTANTS = new RegExp(ISO_INSTANT.source, 'g');
-const ISO_RANGES = new RegExp(`${ISO_INSTANT.source} to ${ISO_INSTANT.source}`, 'g');
 const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', 'Oct', 'Nov', 'Dec'];
 
 const ONE_INSTANT = new RegExp(`^${ISO_INSTANT.source}$`);
@@ -70,9 +70,13 @@ export function bucketsNeedHour(labels: readonly unknown[]): boolean {
   return labels.some((l) => typeof l === 'string' && !l.includes('T00:00:00'));
 }
 
-/** Text with the report's ISO instants written for people: "A to B UTC", or "A UTC" for one alone. */
-export function withTimesInWords(text: string): string {
-  return text
-    .replace(ISO_RANGES, (_all, d1: string, h1: string, d2: string, h2: string) => `${d1} ${h1} to ${d2} ${h2} UTC`)
-    .replace(ISO_INSTANTS, (_all, d: string, h: string) => `${d} ${h} UTC`);
+export { withTimesInWords };
+
+/** A metric's value: a share as a percent (as everywhere else in the app), an instant as "2026-03-17 06:00" (UTC). */
+export function metricText(key: string, value: Cell | undefined): string {
+  if (isInstant(value)) return timeText(value);
+  if (typeof value === 'number' && isShareMetric(key)) return formatShare(value);
+  // text holding instants (drift.policy's version switches, "a→b@2026-03-08T00:00:00.000Z") reads as the messages do
+  if (typeof value === 'string') return withTimesInWords(value);
+  return formatValue(value);
 }

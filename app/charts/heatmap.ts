@@ -41,7 +41,7 @@ function zMapOption(series: ChartSeries): ChartOption {
     series: [
       {
         type: 'heatmap', name: series.name, data,
-        label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number] }) => formatValue(p.value[2]) },
+        label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number] }) => heatCellText(p.value[2]) },
         itemStyle: { borderColor: '#ffffff', borderWidth: 1 },
       },
       neverLogged(never),
@@ -142,7 +142,7 @@ export function heatmapOption(series: ChartSeries): ChartOption {
   if (!Number.isFinite(min)) { min = 0; max = 1; }
   if (min === max) max = min + 1;
   const cellLabels = series.x.length * ys.length <= 800;
-  const scale = { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [formatValue(max), formatValue(min)] };
+  const scale = { seriesIndex: 0, min, max, calculable: false, orient: 'horizontal', left: 'center', bottom: 0, inRange: { color: [...SEQUENTIAL_RAMP] }, text: [heatCellText(max), heatCellText(min)] };
   return {
     ...baseOption(seriesTitle(series)),
     grid: { left: 8, right: 24, top: 48, bottom: 96, containLabel: true },
@@ -154,7 +154,7 @@ export function heatmapOption(series: ChartSeries): ChartOption {
       type: 'heatmap',
       name: series.name,
       data,
-      label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number | null] }) => formatValue(p.value[2]) },
+      label: { show: cellLabels, fontSize: ys.length > 40 ? 8 : 9, formatter: (p: { value: [number, number, number | null] }) => heatCellText(p.value[2]) },
       itemStyle: { borderColor: '#ffffff', borderWidth: 1 },
     }, ...(never.length ? [neverLogged(never)] : [])],
     ...(never.length ? { aria: { enabled: true, decal: { show: false } } } : {}),
@@ -165,7 +165,8 @@ function neverLogged(cells: readonly [number, number, number][]): Record<string,
   return { type: 'heatmap', name: 'never logged', data: cells, itemStyle: { color: NEVER_LOGGED_FILL, borderColor: '#ffffff', borderWidth: 1, decal: HATCH }, label: { show: false }, tooltip: { formatter: 'never logged: no rows of this action in this segment' } };
 }
 
-function formatValue(v: number | null): string {
+/** A map cell's value as the chart prints it; the table view and the cell panel print the same text. */
+export function heatCellText(v: number | null): string {
   if (v === null) return '';
   if (v !== 0 && Math.abs(v) < 0.0001) return v.toExponential(1);
   if (v !== 0 && Math.abs(v) < 0.01) return v.toPrecision(2);

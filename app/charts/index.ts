@@ -2,7 +2,7 @@ import type { ChartOption, ChartSeries } from './types.ts';
 import { barsOption, rankedHeight } from './bars.ts';
 import { linesOption } from './lines.ts';
 import { heatmapOption } from './heatmap.ts';
-export { MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from './heatmap.ts';
+export { heatCellText, MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from './heatmap.ts';
 import { histogramOption } from './histogram.ts';
 import { pointsOption } from './points.ts';
 

@@ -3,6 +3,8 @@
  * one-line plain explanation and its source for every metric key, and the one status vocabulary.
  */
 import type { CheckResult } from '../core/model/report.ts';
+import { SETTINGS, type SettingSpec } from '../core/settings.ts';
+import { countText } from '../core/count-words.ts';
 
 export interface MetricWords {
   readonly label: string;
@@ -10,6 +12,8 @@ export interface MetricWords {
   readonly explain: string;
   /** where the formula or threshold comes from: a paper, or "common practice" */
   readonly source?: string;
+  /** 'share' for a fraction of a whole (rows, mass, weight), shown as a percent as the rest of the app shows shares */
+  readonly unit?: 'share';
 }
 
 const HT = 'Horvitz & Thompson 1952 (inverse-probability weighting)';
@@ -29,9 +33,9 @@ export const METRIC_WORDS: Readonly<Record<string, MetricWords>> = {
   non_positive: { label: 'Propensity 0 or below', explain: 'Rows whose logged probability is 0 or negative; their weight 1/p is undefined.' },
   null: { label: 'Propensity missing', explain: 'Rows with no logged probability.' },
   invalid_rows: { label: 'Rows with an invalid propensity', explain: 'Rows whose propensity is missing, not a number, 0 or below, or above 1.' },
-  invalid_share: { label: 'Share with an invalid propensity', explain: 'Invalid-propensity rows as a share of all rows.' },
-  share_in_group: { label: 'Share of the group', explain: 'Invalid rows as a share of the rows in this group.' },
-  share_of_invalid: { label: 'Share of all invalid rows', explain: 'How much of the log’s invalid propensities fall in this group.' },
+  invalid_share: { label: 'Share with an invalid propensity', explain: 'Invalid-propensity rows as a share of all rows.', unit: 'share' },
+  share_in_group: { label: 'Share of the group', explain: 'Invalid rows as a share of the rows in this group.', unit: 'share' },
+  share_of_invalid: { label: 'Share of all invalid rows', explain: 'How much of the log’s invalid propensities fall in this group.', unit: 'share' },
   actions: { label: 'Actions', explain: 'Distinct actions in the log.' },
   balance: { label: 'Weight balance B', explain: '(1/n) Σ 1{A=a}/p for this group: 1 when the logged propensities are right and the action is offered everywhere.', source: HT },
   mean_inverse_propensity: { label: 'Mean of 1/p', explain: 'Average inverse propensity; with every action offered it equals the number of actions.', source: HT },
@@ -51,23 +55,23 @@ export const METRIC_WORDS: Readonly<Record<string, MetricWords>> = {
   bias_tolerance: { label: 'Bias tolerated', explain: 'The smaller of 0.5 standard errors of the target’s estimate and the share of R that support.target allows unsupported mass.', source: 'Cochran 1977, Sampling Techniques, §1.8' },
   bias_target: { label: 'Target most affected', explain: 'The primary target whose estimate this deviation could bias most, against its tolerance.' },
   all_propensities_one: { label: 'All propensities 1', explain: 'Every row in the segment was logged as a certain choice.' },
-  top_action_share_min: { label: 'Share of the commonest action', explain: 'The share of rows that went to the most frequent action in this segment.' },
+  top_action_share_min: { label: 'Share of the commonest action', explain: 'The share of rows that went to the most frequent action in this segment.', unit: 'share' },
   served_by_target: { label: 'Served by a target', explain: 'Whether a target policy sends traffic to this segment.' },
   sub_segments: { label: 'Smaller segments affected', explain: 'Segment combinations inside this one that show the same problem.' },
-  share: { label: 'Share of rows', explain: 'Rows of this group as a share of the log.' },
+  share: { label: 'Share of rows', explain: 'Rows of this group as a share of the log.', unit: 'share' },
   unexplored_segments: { label: 'Unexplored segments', explain: 'Segments where the logging policy did not explore (all p = 1, or one action ≥ 99% of rows).' },
-  unexplored_share: { label: 'Rows in unexplored segments', explain: 'Share of the log in segments without exploration.' },
+  unexplored_share: { label: 'Rows in unexplored segments', explain: 'Share of the log in segments without exploration.', unit: 'share' },
   cells: { label: 'Segment × action cells', explain: 'Combinations of segment and action counted here.' },
   cells_below_floor: { label: 'Cells under the floor', explain: 'Segment × action cells whose smallest propensity is under the floor ε.' },
   epsilon: { label: 'Propensity floor ε', explain: 'Propensities under this value make weights large; clipping at this order is usual.', source: 'common practice' },
   min_propensity: { label: 'Smallest propensity', explain: 'The smallest logged probability in this group.' },
   rows_below_floor: { label: 'Rows under the floor', explain: 'Rows whose propensity is under the floor ε.' },
-  share_below_floor: { label: 'Share under the floor', explain: 'Rows under the floor ε as a share of the log.' },
-  mass: { label: 'Target mass without support', explain: 'Share of the target policy’s probability that falls where the log has no rows.', source: 'Sachdeva, Su & Joachims 2020 (deficient support)' },
+  share_below_floor: { label: 'Share under the floor', explain: 'Rows under the floor ε as a share of the log.', unit: 'share' },
+  mass: { label: 'Target mass without support', explain: 'Share of the target policy’s probability that falls where the log has no rows.', source: 'Sachdeva, Su & Joachims 2020 (deficient support)', unit: 'share' },
   ess: { label: 'Effective sample size', explain: 'How many rows the weighted estimate is worth: (Σw)² / Σw².', source: KISH },
-  ess_fraction: { label: 'ESS as a share of rows', explain: 'Effective sample size divided by the rows it came from.', source: KISH },
+  ess_fraction: { label: 'ESS as a share of rows', explain: 'Effective sample size divided by the rows it came from.', source: KISH, unit: 'share' },
   max_weight: { label: 'Largest weight', explain: 'The largest importance weight q/p of a single row.' },
-  top1_weight_share: { label: 'Weight held by the top 1%', explain: 'Share of the total weight carried by the 1% of rows with the largest weights.' },
+  top1_weight_share: { label: 'Weight held by the top 1%', explain: 'Share of the total weight carried by the 1% of rows with the largest weights.', unit: 'share' },
   khat: { label: 'Tail shape k̂', explain: 'Shape of the weights’ largest values: under 0.5 is reliable, above 0.7 the estimate is not to be trusted.', source: PSIS },
   threshold: { label: 'k̂ limit', explain: 'The k̂ above which the weight tail fails: min(1 − 1/log10 n, 0.7).', source: PSIS },
   tail_length: { label: 'Tail rows fitted', explain: 'How many of the largest weights the Pareto fit used.', source: PSIS },
@@ -76,7 +80,7 @@ export const METRIC_WORDS: Readonly<Record<string, MetricWords>> = {
   max: { label: 'Largest reward', explain: 'The largest reward value.' },
   mean: { label: 'Mean reward', explain: 'The average reward over rows that have one.' },
   missing: { label: 'Rows without a reward', explain: 'Rows whose reward is missing, such as feedback that has not arrived.' },
-  missing_share: { label: 'Share without a reward', explain: 'Rows without a reward as a share of the log.' },
+  missing_share: { label: 'Share without a reward', explain: 'Rows without a reward as a share of the log.', unit: 'share' },
   non_finite: { label: 'Reward not finite', explain: 'Rewards that are NaN or infinite.' },
   change_at: { label: 'Change point', explain: 'Where the reward level changes most, by the best single split of the time series.' },
   mean_before: { label: 'Mean before', explain: 'Average reward before the change point.' },
@@ -98,14 +102,14 @@ export const METRIC_WORDS: Readonly<Record<string, MetricWords>> = {
   dr: { label: 'Doubly robust estimate', explain: 'A segment × action reward model, corrected by weighted residuals.', source: 'Dudík, Langford & Li 2011 (doubly robust)' },
   dr_se: { label: 'Doubly robust standard error', explain: 'Standard error of the doubly robust estimate.' },
   detectable_difference: { label: 'Smallest detectable difference (at 5% two-sided, 80% power)', explain: 'The smallest true difference from the logging policy the estimate would find: 2.8 × its standard error.', source: POWER },
-  relative_halfwidth: { label: 'Interval half-width / on-policy value', explain: 'Half the 95% interval as a share of the logging policy’s own value.' },
+  relative_halfwidth: { label: 'Interval half-width / on-policy value', explain: 'Half the 95% interval as a share of the logging policy’s own value.', unit: 'share' },
   on_policy_value: { label: 'Logging policy’s own value', explain: 'The mean reward the logging policy earned in this log.' },
   on_policy_ci_low: { label: 'Own value, 95% low', explain: 'Lower end of the 95% interval of the logging policy’s mean reward.' },
   on_policy_ci_high: { label: 'Own value, 95% high', explain: 'Upper end of the 95% interval of the logging policy’s mean reward.' },
   rewarded_rows: { label: 'Rows with a reward', explain: 'Rows the estimates could use.' },
   duplicated_ids: { label: 'Repeated decision ids', explain: 'Decision ids that appear on more than one row.' },
   extra_rows: { label: 'Extra rows', explain: 'Rows beyond the first for each repeated id (retried writes, usually).' },
-  extra_share: { label: 'Share of extra rows', explain: 'Extra rows as a share of the log.' },
+  extra_share: { label: 'Share of extra rows', explain: 'Extra rows as a share of the log.', unit: 'share' },
   rows_in_duplicates: { label: 'Rows with a repeated id', explain: 'All rows whose decision id appears more than once.' },
   max_copies: { label: 'Most copies of one id', explain: 'The most rows sharing one decision id.' },
   bucket: { label: 'Time bucket', explain: 'The width of the time windows the log is cut into.' },
@@ -117,7 +121,7 @@ export const METRIC_WORDS: Readonly<Record<string, MetricWords>> = {
   span_days: { label: 'Span in days', explain: 'Days between the first and last decision.' },
   future: { label: 'Rows in the future', explain: 'Rows stamped later than the time of the audit.' },
   rows_without_time: { label: 'Rows without a time', explain: 'Rows whose timestamp is missing or does not parse.' },
-  deficit: { label: 'Target mass without support', explain: 'Share of the target policy’s probability that falls where the log has no rows.', source: 'Sachdeva, Su & Joachims 2020 (deficient support)' },
+  deficit: { label: 'Target mass without support', explain: 'Share of the target policy’s probability that falls where the log has no rows.', source: 'Sachdeva, Su & Joachims 2020 (deficient support)', unit: 'share' },
 };
 
 const ROLE_WORDS: Readonly<Record<string, string>> = {
@@ -135,11 +139,16 @@ export function metricWords(key: string): MetricWords {
     const tail = key.slice(dot + 1);
     const role = ROLE_WORDS[head];
     if (role && tail === 'column') return { label: `Column for ${role}`, explain: `The log column mapped to the ${role} role.` };
-    if (role && tail === 'null_share') return { label: `Missing ${role} values`, explain: `Share of rows where the ${role} column is empty.` };
+    if (role && tail === 'null_share') return { label: `Missing ${role} values`, explain: `Share of rows where the ${role} column is empty.`, unit: 'share' };
     const inner = METRIC_WORDS[tail];
     if (inner) return { ...inner, label: `${inner.label} — ${head}` };
   }
-  return { label: key.replaceAll('_', ' '), explain: 'A figure behind this check; see the exported report for its definition.' };
+  return { label: key.replaceAll('_', ' '), explain: 'A figure behind this check; see the exported report for its definition.', ...(/_(share|fraction)$/.test(key) ? { unit: 'share' as const } : {}) };
+}
+
+/** Whether a metric is a share of a whole, shown as a percent ("1.57%", not 0.01573). */
+export function isShareMetric(key: string): boolean {
+  return metricWords(key).unit === 'share';
 }
 
 /**
@@ -164,4 +173,22 @@ export function shownStatus(check: Pick<CheckResult, 'id' | 'status' | 'summary'
   if (check.status === 'skipped') return /^could not run/i.test(check.summary) ? 'not-run' : 'not-applicable';
   if (check.id === 'estimate.preview' && check.status === 'pass') return 'informational';
   return check.status;
+}
+
+/** A percent for people: 0.01 -> "1%", 0.001 -> "0.1%" (the binary fraction's noise rounded away). */
+function percentText(share: number): string {
+  return `${Number((share * 100).toPrecision(6))}%`;
+}
+
+/**
+ * A setting's value as it reads to people, with its unit (`SettingSpec.unit`): shares as percents
+ * ("1%"), other units after the number ("0.5 SE", "10 expected events"); a word value ("auto") as it is.
+ */
+export function settingValueText(key: string, value: number | string | boolean): string {
+  if (typeof value === 'boolean') return value ? 'yes' : 'no';
+  if (typeof value !== 'number') return value;
+  const unit = (SETTINGS as Readonly<Record<string, SettingSpec>>)[key]?.unit;
+  if (unit === 'share') return percentText(value);
+  const n = Number.isInteger(value) ? countText(value) : String(value);
+  return unit ? `${n} ${unit}` : n;
 }

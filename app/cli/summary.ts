@@ -3,9 +3,10 @@ import { remedyLines } from '../report/remedies-text.ts';
 import type { Report, Status, Verdict } from '../core/model/report.ts';
 import { STATUS_LABELS } from '../charts/palette.ts';
 import { SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
-import { fmtInterval, fmtNumber, fmtShare } from '../report/format.ts';
+import { fmtInterval, fmtNumber, fmtShare, withTimesInWords } from '../report/format.ts';
 import type { ColumnInfo } from './sources.ts';
 import { terminalText as t_ } from './terminal-text.ts';
+import { counted } from '../core/count-words.ts';
 
 const ANSI = { reset: '\x1b[0m', bold: '\x1b[1m', dim: '\x1b[2m', red: '\x1b[31m', yellow: '\x1b[33m', green: '\x1b[32m' };
 
@@ -35,7 +36,7 @@ const VERDICT_WORDS: Record<Verdict, string> = {
 export function formatSourceHeader(files: readonly string[], format: string, rows: number, columns: readonly ColumnInfo[], paint: Paint): string {
   const lines = [
     paint.bold(t_(files.length === 1 ? files[0] : `${files.length} files (${files[0]} …)`)),
-    `${t_(format)} · ${rows.toLocaleString('en-US')} rows · ${columns.length} columns`,
+    `${t_(format)} · ${counted(rows, 'row')} · ${counted(columns.length, 'column')}`,
   ];
   const width = Math.max(0, ...columns.map((c) => t_(c.name).length));
   for (const c of columns) lines.push(`  ${t_(c.name).padEnd(width)}  ${paint.dim(t_(c.type))}`);
@@ -46,13 +47,13 @@ export function formatAuditSummary(report: Report, columns: readonly ColumnInfo[
   const out: string[] = [];
   out.push(formatSourceHeader(report.input.files.map((f) => f.path), report.input.format, report.input.rows, columns, paint));
   out.push(`Verdict: ${paint.status(report.verdict, VERDICT_WORDS[report.verdict])}`);
-  for (const r of report.reasons) out.push(`  ${paint.status(r.status, STATUS_LABELS[r.status].text.padEnd(4))} ${t_(r.check)}: ${t_(r.message)}`);
+  for (const r of report.reasons) out.push(`  ${paint.status(r.status, STATUS_LABELS[r.status].text.padEnd(4))} ${t_(r.check)}: ${t_(withTimesInWords(r.message))}`);
   out.push('');
   out.push(paint.bold('Checks'));
   const idWidth = Math.max(...report.checks.map((c) => c.id.length), 0);
   for (const c of report.checks) {
     const label = SHOWN_STATUS[shownStatus(c)];
-    out.push(`  ${paint.status(c.status, `${label.icon} ${label.text.padEnd(7)}`)} ${t_(c.id).padEnd(idWidth)}  ${t_(c.summary)}`);
+    out.push(`  ${paint.status(c.status, `${label.icon} ${label.text.padEnd(7)}`)} ${t_(c.id).padEnd(idWidth)}  ${t_(withTimesInWords(c.summary))}`);
   }
   if (report.targets.length > 0) {
     out.push('');

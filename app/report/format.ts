@@ -1,8 +1,9 @@
 /** Number formatting shared by the terminal summary and the HTML report. Never prints NaN or Infinity. */
+import { countText } from '../core/count-words.ts';
 
 export function fmtNumber(value: number | null | undefined, digits = 3): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return '—';
-  if (Number.isInteger(value) && Math.abs(value) < 1e15) return value.toLocaleString('en-US');
+  if (Number.isInteger(value) && Math.abs(value) < 1e15) return countText(value);
   const abs = Math.abs(value);
   if (abs !== 0 && (abs < 1e-3 || abs >= 1e7)) return value.toExponential(Math.max(0, digits - 1));
   return value.toLocaleString('en-US', { maximumSignificantDigits: Math.max(digits, 1) + (abs >= 1 ? Math.floor(Math.log10(abs)) : 0) });
@@ -30,4 +31,16 @@ export function fmtCell(value: unknown): string {
 export function fmtSegment(segment: Record<string, string>): string {
   const parts = Object.entries(segment).map(([k, v]) => `${k}=${v}`);
   return parts.length ? parts.join(', ') : '(all rows)';
+}
+
+/** An instant as the report writes it (check messages and metrics keep it; the JSON report too): ISO 8601 in UTC ("2026-03-17T06:00:00.000Z"). */
+const ISO_INSTANT = /(\d{4}-\d{2}-\d{2})T(\d{2}:\d{2})(?::\d{2}(?:\.\d+)?)?Z/;
+const ISO_INSTANTS = new RegExp(ISO_INSTANT.source, 'g');
+const ISO_RANGES = new RegExp(`${ISO_INSTANT.source} to ${ISO_INSTANT.source}`, 'g');
+
+/** Text with the report's ISO instants written for people (the app, the terminal and the HTML report; time.coverage's own words): "A to B UTC", or "A UTC" for one alone. */
+export function withTimesInWords(text: string): string {
+  return text
+    .replace(ISO_RANGES, (_all, d1: string, h1: string, d2: string, h2: string) => `${d1} ${h1} to ${d2} ${h2} UTC`)
+    .replace(ISO_INSTANTS, (_all, d: string, h: string) => `${d} ${h} UTC`);
 }

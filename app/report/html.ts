@@ -8,8 +8,8 @@ import { REMEDY_TITLES } from '../core/remedies/links.ts';
 import { readinessCauses } from '../core/verdict.ts';
 import { remedyLines } from './remedies-text.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
-import { metricWords, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
-import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare } from './format.ts';
+import { isShareMetric, metricWords, settingValueText, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
+import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare, withTimesInWords } from './format.ts';
 import { makeChart, type ChartFn, type HtmlOptions } from './html-chart.ts';
 import { html, reportPage, type SafeHtml } from './html-template.ts';
 import { weightsRows } from './target-words.ts';
@@ -44,7 +44,7 @@ ${targetsSection(report.targets, report, chart)}
 ${segmentsSection(report.segments)}
 ${remediesSection(report.remedies)}
 <h2 id="checks">Checks</h2>
-${report.checks.map((c) => checkSection(c, chart))}
+${report.checks.map((c) => checkSection(c, chart, report.settings))}
 ${settingsSection(report)}
 ${rolesSection(report)}
 ${inputSection(report)}
@@ -76,7 +76,7 @@ function verdictSection(report: Report): SafeHtml {
   <p class="label"><span aria-hidden="true">${v.icon}</span> Verdict: ${v.text}</p>
   ${report.reasons.length === 0
     ? html`<p>No check raised a warning or a failure.</p>`
-    : html`<ul>${report.reasons.map((r) => html`<li>${statusBadge(r.status)} <a href="#check-${r.check}"><code>${r.check}</code></a>: ${r.message}${remedyLinks(r.remedies)}</li>`)}</ul>`}
+    : html`<ul>${report.reasons.map((r) => html`<li>${statusBadge(r.status)} <a href="#check-${r.check}"><code>${r.check}</code></a>: ${withTimesInWords(r.message)}${remedyLinks(r.remedies)}</li>`)}</ul>`}
 </section>`;
 }
 
@@ -129,7 +129,7 @@ function tocBlock(report: Report): SafeHtml {
 function overviewSection(checks: readonly CheckResult[]): SafeHtml {
   return html`<h2 id="overview">Checks at a glance</h2>
 <table><thead><tr><th>Check</th><th>Status</th><th>Summary</th></tr></thead><tbody>
-${checks.map((c) => html`<tr><td><a href="#check-${c.id}">${c.title}</a><br><code class="small">${c.id}</code></td><td>${checkBadge(c)}</td><td>${c.summary}</td></tr>`)}
+${checks.map((c) => html`<tr><td><a href="#check-${c.id}">${c.title}</a><br><code class="small">${c.id}</code></td><td>${checkBadge(c)}</td><td>${withTimesInWords(c.summary)}</td></tr>`)}
 </tbody></table>`;
 }
 
@@ -168,32 +168,39 @@ function metricsTable(metrics: Metrics): SafeHtml {
   const entries = Object.entries(metrics);
   if (entries.length === 0) return html``;
   // the label, with its plain explanation and source on hover (title) and in print as the small line under it
-  return html`<table class="kv"><tbody>${entries.map(([k, v]) => { const w = metricWords(k); return html`<tr><td title="${w.explain}${w.source ? ` Source: ${w.source}.` : ''}">${w.label}<br><span class="muted small">${w.explain}</span></td><td>${fmtCell(v)}</td></tr>`; })}</tbody></table>`;
+  return html`<table class="kv"><tbody>${entries.map(([k, v]) => { const w = metricWords(k); return html`<tr><td title="${w.explain}${w.source ? ` Source: ${w.source}.` : ''}">${w.label}<br><span class="muted small">${w.explain}</span></td><td>${metricCell(k, v)}</td></tr>`; })}</tbody></table>`;
+}
+
+/** A metric's value: a share as a percent, as the app and the terminal show shares. */
+function metricCell(key: string, value: unknown): string {
+  // three significant digits, as the app shows a share: 0.01573 -> 1.57%, 1 -> 100%
+  if (typeof value === 'string') return withTimesInWords(value);
+  return typeof value === 'number' && Number.isFinite(value) && isShareMetric(key) ? `${Number((value * 100).toPrecision(3))}%` : fmtCell(value);
 }
 
 function inlineMetrics(metrics: Metrics): string {
-  return Object.entries(metrics).map(([k, v]) => `${metricWords(k).label}: ${fmtCell(v)}`).join('; ');
+  return Object.entries(metrics).map(([k, v]) => `${metricWords(k).label}: ${metricCell(k, v)}`).join('; ');
 }
 
 function findingRow(f: Finding): SafeHtml {
   const examples = f.examples && f.examples.length > 0 ? f.examples : null;
   const columns = examples ? [...new Set(examples.flatMap((r) => Object.keys(r)))] : [];
-  return html`<tr><td>${statusBadge(f.status)}</td><td>${fmtSegment(f.segment)}</td><td>${f.action ?? '—'}</td><td>${f.window ? `${f.window.from} – ${f.window.to}` : '—'}</td><td>${f.target ?? '—'}</td>
-<td>${f.message}${inlineMetrics(f.metrics) ? html`<br><span class="muted small">${inlineMetrics(f.metrics)}</span>` : ''}
+  return html`<tr><td>${statusBadge(f.status)}</td><td>${fmtSegment(f.segment)}</td><td>${f.action ?? '—'}</td><td>${f.window ? withTimesInWords(`${f.window.from} to ${f.window.to}`) : '—'}</td><td>${f.target ?? '—'}</td>
+<td>${withTimesInWords(f.message)}${inlineMetrics(f.metrics) ? html`<br><span class="muted small">${inlineMetrics(f.metrics)}</span>` : ''}
 ${examples ? html`<div class="scroll"><table class="small"><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${fmtCell(r[c])}</td>`)}</tr>`)}</tbody></table></div>` : ''}
 ${f.sql ? html`<pre>${f.sql}</pre>` : ''}</td></tr>`;
 }
 
-function checkSection(check: CheckResult, chart: ChartFn): SafeHtml {
+function checkSection(check: CheckResult, chart: ChartFn, settings: Report['settings']): SafeHtml {
   const findings = check.findings.slice(0, MAX_FINDINGS);
   return html`<section class="check" id="check-${check.id}">
 <h3>${check.title} <code class="small">${check.id}</code> ${checkBadge(check)}</h3>
-<p>${check.summary}</p>
+<p>${withTimesInWords(check.summary)}</p>
 ${metricsTable(check.metrics)}
 ${findings.length > 0 ? html`<table class="findings"><colgroup><col class="c-status"><col class="c-segment"><col class="c-action"><col class="c-window"><col class="c-target"><col></colgroup><thead><tr><th>Status</th><th>Segment</th><th>Action</th><th>Window</th><th>Target</th><th>Finding</th></tr></thead><tbody>${findings.map(findingRow)}</tbody></table>` : html`<p class="muted">No findings.</p>`}
 ${check.findings.length > findings.length ? html`<p class="muted">${check.findings.length - findings.length} more findings are in the JSON report.</p>` : ''}
 ${(check.series ?? []).map((s) => { const option = chartForSeries(s); return option ? chart(option, chartHeight(s), s.name) : html``; })}
-${check.settings_used.length ? html`<p class="muted small">Settings used: ${check.settings_used.map((k) => html`<a href="#setting-${k}"><code>${k}</code></a> `)}</p>` : ''}
+${check.settings_used.length ? html`<p class="muted small">Settings used: ${check.settings_used.map((k) => html`<a href="#setting-${k}"><code>${k}</code></a>${settings[k] ? ` = ${settingValueText(k, settings[k].value)}` : ''}; `)}</p>` : ''}
 </section>`;
 }
 

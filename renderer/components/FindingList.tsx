@@ -1,5 +1,5 @@
 import type { Finding } from '../../app/core/model/report.ts';
-import { formatValue, isInstant, segmentLabel, timeText, withTimesInWords } from '../format.ts';
+import { formatValue, isInstant, metricText, segmentLabel, withTimesInWords } from '../format.ts';
 import { StatusBadge } from './StatusBadge.tsx';
 import { SqlBlock } from './SqlBlock.tsx';
 import { Term } from './Term.tsx';
@@ -21,13 +21,13 @@ function FindingItem({ finding }: { finding: Finding }) {
       <p>{withTimesInWords(finding.message)}</p>
       {Object.keys(finding.metrics).length > 0 && (
         <dl className="finding-metrics">
-          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt><Term metric={k} /></dt><dd>{isInstant(v) ? `${timeText(v)} UTC` : formatValue(v)}</dd></div>)}
+          {Object.entries(finding.metrics).map(([k, v]) => <div key={k}><dt><Term metric={k} /></dt><dd>{isInstant(v) ? `${metricText(k, v)} UTC` : metricText(k, v)}</dd></div>)}
         </dl>
       )}
       {examples.length > 0 && (
         // a region that scrolls sideways takes the focus, so the keyboard can scroll it (axe scrollable-region-focusable)
         <div className="table-scroll" tabIndex={0} role="region" aria-label={`Example rows: ${segmentLabel(finding.segment)}${finding.action !== undefined ? `, action ${finding.action}` : ""}`}>
-          <table className="examples">
+          <table className="examples" data-testid="example-rows">
             <caption>Example rows</caption>
             <thead><tr>{columns.map((c) => <th key={c} scope="col">{c}</th>)}</tr></thead>
             <tbody>{examples.map((e, i) => <tr key={i}>{columns.map((c) => <td key={c}>{formatValue(e[c])}</td>)}</tr>)}</tbody>

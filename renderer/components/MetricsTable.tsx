@@ -1,5 +1,5 @@
 import type { Metrics } from '../../app/core/model/report.ts';
-import { formatValue, isInstant, timeText } from '../format.ts';
+import { isInstant, metricText } from '../format.ts';
 import { Term } from './Term.tsx';
 
 export function MetricsTable({ metrics, caption }: { metrics: Metrics; caption: string }) {
@@ -10,7 +10,7 @@ export function MetricsTable({ metrics, caption }: { metrics: Metrics; caption: 
     <table className="metrics">
       <caption>{caption}{times ? ' (times in UTC)' : ''}</caption>
       <tbody>
-        {entries.map(([k, v]) => <tr key={k}><th scope="row"><Term metric={k} /></th><td>{isInstant(v) ? timeText(v) : formatValue(v)}</td></tr>)}
+        {entries.map(([k, v]) => <tr key={k}><th scope="row"><Term metric={k} /></th><td>{metricText(k, v)}</td></tr>)}
       </tbody>
     </table>
   );

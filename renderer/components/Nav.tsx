@@ -37,7 +37,9 @@ const RESULTS = [
 ] as const;
 
 export function Nav({ view, onGo, hasSource, hasReport, running, checks }: Props) {
-  const current = view.screen === 'check' ? 'overview' : view.screen;
+  // An open check is a step of its own under Overview: it is the one highlighted, not Overview.
+  const current = view.screen;
+  const openCheck = view.screen === 'check' ? checks.find((c) => c.id === view.id) : undefined;
   const counts = { fail: checks.filter((c) => c.status === 'fail').length, warn: checks.filter((c) => c.status === 'warn').length };
   const enabled = (screen: string) => {
     if (running) return screen === 'run';
@@ -66,6 +68,15 @@ export function Nav({ view, onGo, hasSource, hasReport, running, checks }: Props
           </span>
         )}
       </button>
+      {screen === 'overview' && view.screen === 'check' && (
+        <ul className="nav-sub">
+          <li>
+            <button type="button" className="nav-item current" aria-current="page" onClick={() => onGo(view)}>
+              {openCheck?.title ?? view.id}
+            </button>
+          </li>
+        </ul>
+      )}
     </li>
   );
   return (

@@ -4,6 +4,7 @@ import type { Cell, Table } from '../../app/core/table.ts';
 import { errorMessage } from '../engine/backend.ts';
 import type { RowFeed } from '../engine/row-feed.ts';
 import { formatValue } from '../format.ts';
+import { countText } from '../../app/core/count-words.ts';
 
 const ROW_PX = 28;
 const HEADER_PX = 30;
@@ -159,7 +160,7 @@ export function RowPager({ feed, label, order, pageRows = feed.pageRows }: { fee
     const loaded = page !== undefined && k < page.rowCount;
     drawn.push(
       <div key={i} role="row" aria-rowindex={i + 2} className={`pager-row${i % 2 ? ' odd' : ''}${loaded ? '' : ' loading'}`} style={{ top, height: ROW_PX, width: rowWidth }} data-row={i} aria-busy={loaded ? undefined : true}>
-        <div role="rowheader" className="pager-cell pager-index" style={{ width: INDEX_PX }}>{(i + 1).toLocaleString('en')}</div>
+        <div role="rowheader" className="pager-cell pager-index" style={{ width: INDEX_PX }}>{countText(i + 1)}</div>
         {loaded
           ? columns.map((col, n) => {
             const v = (page.columns[col.j] as readonly Cell[])[k];

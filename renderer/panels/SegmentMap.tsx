@@ -6,11 +6,11 @@ import { cellSelection, cellSql, findingSelection, rowFeed } from '../engine/row
 import { RowPager } from '../components/RowPager.tsx';
 import { SEQUENTIAL_RAMP } from '../../app/charts/palette.ts';
 import { chartForSeries, heightForSeries } from '../charts.ts';
-import { MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from '../../app/charts/index.ts';
+import { heatCellText, MAP_WINDOW_ROWS, windowedMapHeight, withRowWindow, withSelectedCell } from '../../app/charts/index.ts';
 import { EChart } from '../components/EChart.tsx';
 import { FindingList } from '../components/FindingList.tsx';
 import { SqlBlock } from '../components/SqlBlock.tsx';
-import { formatValue } from '../format.ts';
+import { countText } from '../../app/core/count-words.ts';
 import { findingsForCell, segmentHeatmaps, segmentOfRow, type CellFinding } from './segment-cells.ts';
 import { ReadinessTable } from './ReadinessTable.tsx';
 import { cubeVersions, regroupKey, useCubeRegroup } from './cube-regroup.ts';
@@ -123,7 +123,7 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
       <div className="map-layout">
         <div className="map">
           {option && !asTable && series.values.length > MAP_WINDOW_ROWS && (
-            <p className="help">{MAP_WINDOW_ROWS} of {series.values.length} segment rows at a time: scroll over the map, or drag the bar at its right, for the others.</p>
+            <p className="help">{MAP_WINDOW_ROWS} of {countText(series.values.length)} segment rows at a time: scroll over the map, or drag the bar at its right, for the others.</p>
           )}
           {option && !asTable ? (
             <EChart option={option} label={`${series.name}: segments by actions`} height={Math.min(heightForSeries(series), windowedMapHeight(series.values.length))} onCellClick={onChartClick} />
@@ -138,8 +138,8 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
                       <th scope="row">{ys[i]}{series.row_notes?.[i] ? <strong> — {series.row_notes[i]}</strong> : null}</th>
                       {row.map((v, j) => (
                         <td key={j}>
-                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${formatValue(v)}`}>
-                            {formatValue(v)}
+                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${heatCellText(v)}`}>
+                            {heatCellText(v)}
                           </button>
                         </td>
                       ))}
@@ -154,7 +154,7 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
           {cell ? (
             <>
               <h2>{rowLabel} · {action}</h2>
-              <p>{series.name}: <strong>{formatValue(series.values[cell.row]?.[cell.col])}</strong>{series.unit ? ` ${series.unit}` : ''}</p>
+              <p>{series.name}: <strong data-testid="cell-value">{heatCellText(series.values[cell.row]?.[cell.col] ?? null)}</strong>{series.unit ? ` ${series.unit}` : ''}</p>
               {sql && <SqlBlock sql={sql} label="SQL that selects this cell's rows (name your log “log”)" />}
               <h3>Findings here ({findings.length})</h3>
               {findings.length === 0 ? <p className="muted">No check reported a finding for this cell.</p> : (

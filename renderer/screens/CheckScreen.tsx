@@ -1,4 +1,5 @@
-import type { CheckResult } from '../../app/core/model/report.ts';
+import type { CheckResult, Report } from '../../app/core/model/report.ts';
+import { settingValueText } from '../../app/charts/labels.ts';
 import { FindingList } from '../components/FindingList.tsx';
 import { MetricsTable } from '../components/MetricsTable.tsx';
 import { SeriesView } from '../components/SeriesView.tsx';
@@ -9,7 +10,7 @@ import type { RemedyKind } from '../../app/core/remedies/links.ts';
 import { RemedyLinks } from '../components/RemedyLinks.tsx';
 import { withTimesInWords } from '../format.ts';
 
-export function CheckScreen({ check, onBack, onRemedies }: { check: CheckResult; onBack: () => void; onRemedies?: (kind: RemedyKind) => void }) {
+export function CheckScreen({ check, settings, onBack, onRemedies }: { check: CheckResult; settings: Report['settings']; onBack: () => void; onRemedies?: (kind: RemedyKind) => void }) {
   return (
     <section aria-labelledby="check-title" className="screen">
       <button type="button" className="button link" onClick={onBack}>← Overview</button>
@@ -19,7 +20,10 @@ export function CheckScreen({ check, onBack, onRemedies }: { check: CheckResult;
       <div className="detail-grid">
         <MetricsTable metrics={check.metrics} caption="Numbers behind the status" />
         {check.settings_used.length > 0 && (
-          <div className="card"><h2>Settings used</h2><ul className="plain">{check.settings_used.map((s) => <li key={s}><code>{s}</code></li>)}</ul></div>
+          <div className="card"><h2>Settings used</h2><ul className="plain settings-used">{check.settings_used.map((s) => {
+            const setting = settings[s];
+            return <li key={s}><code>{s}</code>{setting ? <> = <strong>{settingValueText(s, setting.value)}</strong>{setting.value === setting.default ? '' : <span className="muted"> (default {settingValueText(s, setting.default)})</span>}</> : null}</li>;
+          })}</ul></div>
         )}
       </div>
       {(check.series ?? []).map((s) => <SeriesView key={s.name} series={s} />)}

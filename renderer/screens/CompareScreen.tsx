@@ -8,6 +8,7 @@ import { comparisonOf, readBaselineFile, type Baseline } from '../state/comparis
 import type { RecentAudit } from '../state/recent.ts';
 import { VERDICT_WORDS } from '../components/VerdictBadge.tsx';
 import { withTimesInWords } from '../format.ts';
+import { countText } from '../../app/core/count-words.ts';
 
 interface Props {
   readonly report: Report;
@@ -20,7 +21,7 @@ interface Props {
 const where = (f: { segment: Record<string, string>; action?: string; target?: string }) =>
   [Object.entries(f.segment).map(([k, v]) => `${k}=${v}`).join(', ') || 'all rows', f.action ? `action ${f.action}` : '', f.target ? `target ${f.target}` : ''].filter(Boolean).join(' · ');
 
-const num = (x: number | null | undefined) => (x === null || x === undefined ? '—' : Math.abs(x) >= 1000 ? Math.round(x).toLocaleString('en') : Number(x.toPrecision(3)).toString());
+const num = (x: number | null | undefined) => (x === null || x === undefined ? '—' : Math.abs(x) >= 1000 ? countText(x) : Number(x.toPrecision(3)).toString());
 
 function Status({ status }: { status: string | null }) {
   if (status === 'pass' || status === 'warn' || status === 'fail' || status === 'skipped') return <StatusBadge status={status} />;

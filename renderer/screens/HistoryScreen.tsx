@@ -14,6 +14,7 @@ import { formatShare, formatValue, segmentLabel } from '../format.ts';
 import type { StatusKey } from '../palette.ts';
 import { historyOf, readReportFiles, reportsOfTexts, withReports, type ReadReports } from '../state/history.ts';
 import type { RecentAudit } from '../state/recent.ts';
+import { countText } from '../../app/core/count-words.ts';
 
 interface Props {
   readonly reports: readonly LabelledReport[];
@@ -125,7 +126,7 @@ function HistoryView({ h }: { h: History }) {
       <h2 id="history-verdicts">Verdict over time</h2>
       <table className="checks-table" data-testid="history-verdicts">
         <thead><tr><th scope="col">Report</th><th scope="col">Log</th><th scope="col">Rows</th><th scope="col">Verdict</th></tr></thead>
-        <tbody>{h.entries.map((e) => <tr key={e.label}><td>{e.label}</td><td>{span(e)}</td><td className="num">{e.rows.toLocaleString('en')}</td><td><VerdictBadge verdict={e.verdict} compact /></td></tr>)}</tbody>
+        <tbody>{h.entries.map((e) => <tr key={e.label}><td>{e.label}</td><td>{span(e)}</td><td className="num">{countText(e.rows)}</td><td><VerdictBadge verdict={e.verdict} compact /></td></tr>)}</tbody>
       </table>
 
       <h2 id="history-targets">Targets</h2>

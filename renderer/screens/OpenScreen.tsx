@@ -3,6 +3,7 @@ import { useEngine } from '../engine/EngineProvider.tsx';
 import { DesktopPicker, FilePicker, PathForm } from './log-pickers.tsx';
 import type { RecentAudit } from '../state/recent.ts';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
+import { counted } from '../../app/core/count-words.ts';
 
 const HOSTED_PICK_HINT = 'Parquet, CSV, TSV or NDJSON. The local engine finds a picked or dropped file by its name in the folders it was started with (its terminal lists them) and checks the size. It opens files in those folders only (by name below, too); for a file elsewhere, restart it with --logs FOLDER.';
 
@@ -67,7 +68,7 @@ export function OpenScreen({ recent, onShowReport, onForgetRecent, current }: Pr
                 <li key={r.id}>
                   <VerdictBadge verdict={r.verdict} compact />
                   <span className="recent-label">{r.label}</span>
-                  <span className="muted">{r.rows.toLocaleString('en')} rows · {new Date(r.at).toLocaleString('en-GB', { dateStyle: 'medium', timeStyle: 'short' })}</span>
+                  <span className="muted">{counted(r.rows, 'row')} · {new Date(r.at).toLocaleString('en-GB', { dateStyle: 'medium', timeStyle: 'short' })}</span>
                   {r.report ? (
                     <button type="button" className="button small" onClick={() => onShowReport(r.report as Report)}>View report</button>
                   ) : (

@@ -6,6 +6,7 @@ import { Cautions } from '../components/Cautions.tsx';
 import { withTimesInWords } from '../format.ts';
 import { RemedyLinks } from '../components/RemedyLinks.tsx';
 import type { RemedyKind } from '../../app/core/remedies/links.ts';
+import { countText, counted } from '../../app/core/count-words.ts';
 
 const VERDICT_SENTENCE: Record<Report['verdict'], string> = {
   supported: 'No check found a problem that would undermine an off-policy estimate from this log.',
@@ -32,8 +33,8 @@ export function OverviewScreen({ report, onOpenCheck, onCompare, onRemedies }: {
         <div className="verdict-line"><span className="muted">Verdict</span> <VerdictBadge verdict={report.verdict} /></div>
         <p>{VERDICT_SENTENCE[report.verdict]}</p>
         <p className="muted">
-          {report.input.rows.toLocaleString('en')} rows from {report.input.files.map((f) => f.path).join(', ')} ·
-          {' '}{counts.fail} failed, {counts.error ? `${counts.error} could not run, ` : ''}{counts.warn} {counts.warn === 1 ? 'warning' : 'warnings'}, {counts.pass} passed, {counts.skipped} skipped ·
+          {counted(report.input.rows, 'row')} from {report.input.files.map((f) => f.path).join(', ')} ·
+          {' '}{countText(counts.fail)} failed, {counts.error ? `${countText(counts.error)} could not run, ` : ''}{counted(counts.warn, 'warning', 'warnings', 'digit')}, {countText(counts.pass)} passed, {countText(counts.skipped)} skipped ·
           {' '}engine {report.run.engine}, {report.run.seconds.toFixed(1)} s
         </p>
         {onCompare && <button type="button" className="button small" onClick={onCompare}>Compare with…</button>}

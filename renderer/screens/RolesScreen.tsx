@@ -2,8 +2,9 @@ import { useState } from 'react';
 import { distinctText } from '../../app/core/roles/roles.ts';
 import { StatusBadge } from '../components/StatusBadge.tsx';
 import type { OpenedSource } from '../engine/status.ts';
-import { reasonFor } from '../state/from-suggestions.ts';
+import { reasonFor, reasonWords } from '../state/from-suggestions.ts';
 import { REQUIRED_ROLES, ROLE_LABELS, roleProblems, SINGLE_ROLES, weakSuggestionProblems, type AuditDraft, type SingleRole } from '../state/draft.ts';
+import { counted } from '../../app/core/count-words.ts';
 
 interface Props {
   readonly source: OpenedSource;
@@ -46,7 +47,7 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
             {columns.map((c) => <option key={c.name} value={c.name}>{c.name} ({c.type})</option>)}
           </select>
         </td>
-        <td className="reason">{chosen ? (reasonFor(source.suggestions, role, chosen) ?? 'chosen by you') : ''}</td>
+        <td className="reason">{chosen ? <Reason words={reasonWords(source.suggestions, role, chosen)} /> : ''}</td>
       </tr>
     );
   };
@@ -58,7 +59,7 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
     <section aria-labelledby="roles-title" className="screen">
       <h1 id="roles-title">Which column is which?</h1>
       <p className="lead">
-        {source.label}: {source.profile.rows.toLocaleString('en')} rows, {columns.length} columns ({source.format.toUpperCase()}).
+        {source.label}: {counted(source.profile.rows, 'row')}, {counted(columns.length, 'column')} ({source.format.toUpperCase()}).
         The choices below are suggestions from the column values (the action is the column whose values balance the propensities: {'(1/n) Σ 1{A=a}/p ≈ 1'} for every action) and, where values cannot decide, the names. Change any that are wrong.
       </p>
 
@@ -107,5 +108,21 @@ export function RolesScreen({ source, draft, onChange, onNext }: Props) {
         <button type="button" className="button primary" disabled={blocking} onClick={onNext}>Next: targets and thresholds</button>
       </div>
     </section>
+  );
+}
+
+/** A role's reason: one or two plain sentences, the evidence's formula text behind a disclosure. */
+function Reason({ words }: { words: ReturnType<typeof reasonWords> }) {
+  if (!words) return <>chosen by you</>;
+  return (
+    <>
+      {words.plain}
+      {words.detail && (
+        <details className="reason-detail">
+          <summary>How this was decided</summary>
+          <p>{words.detail}</p>
+        </details>
+      )}
+    </>
   );
 }

@@ -1,6 +1,7 @@
 import { useEngine } from '../engine/EngineProvider.tsx';
 import { STAGES, type Stage } from '../engine/status.ts';
 import { timeLeftWords, type ProgressPoint } from '../../app/core/progress.ts';
+import { counted } from '../../app/core/count-words.ts';
 
 const STAGE_WORDS: Record<Stage, { title: string; what: string }> = {
   profile: { title: 'Profile', what: 'types, nulls and value ranges of the mapped columns' },
@@ -15,7 +16,7 @@ export function RunScreen({ onBack }: { onBack: () => void }) {
   return (
     <section aria-labelledby="run-title" className="screen">
       <h1 id="run-title">{running ? 'Auditing the log…' : status.kind === 'failed' ? 'The audit stopped' : 'Audit'}</h1>
-      {running && <p className="lead">{status.source.label}: {status.source.profile.rows.toLocaleString('en')} rows. The page stays usable while the engine works.</p>}
+      {running && <p className="lead">{status.source.label}: {counted(status.source.profile.rows, 'row')}. The page stays usable while the engine works.</p>}
       {running && <RunProgress point={status.point} />}
       <ol className="stages" aria-label="Audit stages">
         {STAGES.map((stage) => {

@@ -7,6 +7,7 @@ import { downloadText } from '../export/report-file.ts';
 import { formatShare, formatValue } from '../format.ts';
 import { allOn, editProblems, keyLabel, segmentKeys, segmentRow, tableCsv, type TablePolicy, type TableEdits } from '../state/policy-edit.ts';
 import type { TargetDraft } from '../state/draft.ts';
+import { counted } from '../../app/core/count-words.ts';
 
 interface Props {
   readonly report: Report;
@@ -210,7 +211,7 @@ export function TargetEditor({ report, workspace, onUseTable }: Props) {
           {outcome?.error && <p className="problems" role="alert">{outcome.error}</p>}
           {preview && (
             <p className="muted" role="status" data-testid="edit-status">
-              Recomputed in {outcome && outcome.ms < 1 ? 'under 1' : Math.round(outcome?.ms ?? 0)} ms from {workspace.cells.length.toLocaleString('en')} cube cells; no query was sent to the engine.
+              Recomputed in {outcome && outcome.ms < 1 ? 'under 1' : Math.round(outcome?.ms ?? 0)} ms from {counted(workspace.cells.length, 'cube cell')}; no query was sent to the engine.
             </p>
           )}
           {preview && preview.unsupported.length > 0 && (

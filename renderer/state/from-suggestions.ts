@@ -14,8 +14,18 @@ export function draftFromSuggestions(suggestions: readonly RoleSuggestion[]): Au
   return { ...EMPTY_DRAFT, roles, segments };
 }
 
+function suggestionFor(suggestions: readonly RoleSuggestion[], role: string, column: string | undefined): RoleSuggestion | undefined {
+  if (!column) return undefined;
+  return suggestions.find((s) => (s.role === role || (role === 'segments' && isSegmentRole(s.role))) && s.column === column);
+}
+
 export function reasonFor(suggestions: readonly RoleSuggestion[], role: string, column: string | undefined): string | null {
-  if (!column) return null;
-  const match = suggestions.find((s) => (s.role === role || (role === 'segments' && isSegmentRole(s.role))) && s.column === column);
-  return match ? match.reason : null;
+  return suggestionFor(suggestions, role, column)?.reason ?? null;
+}
+
+/** The reason as the Columns screen shows it: plain words first, the formula text (if it differs) for a disclosure. */
+export function reasonWords(suggestions: readonly RoleSuggestion[], role: string, column: string | undefined): { readonly plain: string; readonly detail?: string } | null {
+  const match = suggestionFor(suggestions, role, column);
+  if (!match) return null;
+  return match.plain ? { plain: match.plain, detail: match.reason } : { plain: match.reason };
 }

@@ -43,8 +43,16 @@ test('a booking log with unseen column names: roles right with no edits, actions
   await expect(page.locator('#role-time')).toHaveValue('happened');
   await expect(page.locator('#role-policy_version')).toHaveValue('policy_tag');
   for (const segment of ['city_zone', 'guest_kind', 'platform']) await expect(page.locator(`#segment-${segment}`)).toBeChecked();
-  await expect(page.getByText(/weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/)).toBeVisible();
   await accessible(page, 'columns');
+  // the action's reason: one or two plain sentences with the numbers, the formula behind a disclosure
+  const actionReason = page.locator('tr:has(#role-action) td.reason');
+  await expect(actionReason).toContainText(/^Weighted by 1\/propensity, each of its 5 values adds up to the number of rows \(within \d+%\)/);
+  const formula = page.getByText(/weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/);
+  await expect(formula).toBeHidden();
+  // one sentence, about five lines of the narrow column with its disclosure (the formula text took eight and more)
+  expect((await actionReason.boundingBox())?.height ?? 999).toBeLessThan(150);
+  await actionReason.getByText('How this was decided').click();
+  await expect(formula).toBeVisible();
   await everyControlByKeyboard(page, 'columns');
 
   // operated from the keyboard: a rare role set and set back to none keeps its section open and the focus on it

@@ -18,6 +18,9 @@ const WEEK2 = path.join(dir, 'harbour-stays-week2.csv');
 writeFileSync(WEEK1, roleLog(BOOKING_SPEC, 30_000, 21).csv);
 writeFileSync(WEEK2, roleLog({ ...BOOKING_SPEC, epsilon: 0.1 }, 30_000, 23).csv);
 
+/** A count of four or more digits without its thousands separator (dates and times excepted). */
+const RAW_COUNT = /(?<![\d.,:-])\d{4,}(?![\d.:-])/;
+
 let shotNumber = 0;
 /** axe on the screen as it is; with CW_SHOT_DIR set, the screen saved first (viewport and whole page). */
 async function look(page: Page, name: string): Promise<void> {
@@ -45,13 +48,20 @@ async function audit(page: Page, log: string): Promise<void> {
 }
 
 test('every screen on a booking log with unseen column names passes axe', async ({ page }) => {
-  test.setTimeout(300_000);
+  test.setTimeout(600_000); // about 5 minutes on a loaded 2-core machine
   await openApp(page);
   await audit(page, WEEK1);
   const week1Report = path.join(dir, 'week1.json');
   writeFileSync(week1Report, await exportedReportText(page));
   await nav(page).getByRole('button', { name: 'Overview' }).click();
   await look(page, 'overview');
+  // counts with a thousands separator everywhere, nouns by count ("no places", never "0 place(s)")
+  await expect(page.locator('.verdict-card')).toContainText('30,000 rows from harbour-stays-week1.csv');
+  const everyCheck = page.locator('table.checks-table');
+  await expect(everyCheck).toContainText('All 30,000 propensities lie in (0, 1].');
+  await expect(everyCheck).toContainText('no places with cells under the floor');
+  await expect(everyCheck).not.toContainText('(s)');
+  await expect(everyCheck).not.toContainText(RAW_COUNT);
 
   // each check's detail screen
   const ids = await page.locator('table.checks-table tbody tr').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-check') ?? ''));
@@ -60,6 +70,23 @@ test('every screen on a booking log with unseen column names passes axe', async 
     await page.locator(`tr[data-check="${id}"]`).getByRole('button', { name: /^Details of / }).click();
     await expect(page.locator('#check-title')).toBeVisible();
     await look(page, `check ${id}`);
+    // the step list highlights the open check, not Overview
+    await expect(nav(page).locator('[aria-current="page"]')).toHaveCount(1);
+    await expect(nav(page).locator('[aria-current="page"]')).not.toHaveText(/^Overview/);
+    await expect(nav(page).locator('[aria-current="page"]')).toHaveText(await page.locator('#check-title').evaluate((h) => h.firstChild?.textContent?.trim() ?? ''));
+    // each setting used with its value; shares among the numbers as percents; example-row headers as in the log
+    for (const item of await page.locator('ul.settings-used li').allTextContents()) expect(item).toMatch(/^[a-z_.]+ = \S/);
+    await expect(page.locator('main .lead')).not.toContainText(RAW_COUNT);
+    for (const value of await page.locator('main table.metrics td').allInnerTexts()) expect(value).not.toMatch(RAW_COUNT);
+    for (const row of await page.locator('table.metrics tr').all()) {
+      const label = await row.locator('th').innerText();
+      if (/^Share|as a share/.test(label)) await expect(row.locator('td')).toHaveText(/%$/);
+    }
+    const heads = page.getByTestId('example-rows').first().locator('thead th');
+    if (await heads.count()) {
+      expect(await heads.first().evaluate((th) => getComputedStyle(th).textTransform)).toBe('none');
+      expect(await heads.allInnerTexts()).toContain('shown_chance');
+    }
     await page.getByRole('button', { name: '← Overview' }).click();
   }
 
@@ -71,10 +98,23 @@ test('every screen on a booking log with unseen column names passes axe', async 
     await layers.nth(i).click();
     await look(page, `segment map layer ${i + 1}`);
   }
+  // the readiness table: failing and warning segments first, the 60 passing ones folded away, then scrolling
+  await expect(page.getByTestId('readiness-table')).toHaveCount(0); // every segment passes on this log
+  await page.getByRole('button', { name: 'Show 60 passing segments' }).click();
+  await expect(page.getByTestId('readiness-table').locator('tbody tr')).toHaveCount(60);
+  expect((await page.locator('.readiness-scroll').boundingBox())?.height ?? 9999).toBeLessThan(600);
   await layers.nth(0).click();
   await page.getByRole('button', { name: 'Show as table (keyboard)' }).click();
   await look(page, 'segment map table');
-  await page.getByRole('button', { name: /^harbour · business · phone, upgrade:/ }).click();
+  const cellButton = page.getByRole('button', { name: /^harbour · business · phone, upgrade:/ });
+  // the table prints a cell as the chart's label does (two decimals), and the cell panel says the same
+  const cellText = (await cellButton.innerText()).trim();
+  expect(cellText).toMatch(/^\d\.\d\d$/);
+  await cellButton.click();
+  await expect(page.getByTestId('cell-value')).toHaveText(cellText);
+  // the panel is not cut at the map's height: everything it holds is shown, with no scroll inside it
+  const panel = page.getByRole('complementary', { name: 'Selected cell' });
+  expect(await panel.evaluate((e) => e.scrollHeight - e.clientHeight)).toBeLessThanOrEqual(1);
   const rows = page.locator('section.cell-rows');
   await expect(rows.getByRole('heading', { name: 'Rows behind harbour · business · phone · upgrade' })).toBeVisible();
   await expect(rows.locator('.pager-row:not(.loading)').first()).toBeVisible({ timeout: 30_000 });

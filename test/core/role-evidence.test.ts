@@ -65,6 +65,9 @@ describe('role inference on generated logs', () => {
     expect(rolesOf(r.suggestions, expected)).toEqual(expected);
     const action = r.suggestions.find((s) => s.role === 'action');
     expect(action?.reason).toMatch(/^weight balance holds: \(1\/n\) Σ 1\{A=a\}\/p is within 0\.\d\d of 1 for all 5 values/);
+    // the Columns screen's words: one or two plain sentences with the numbers, no formula (the reason is the detail)
+    expect(action?.plain).toMatch(/^Weighted by 1\/propensity, each of its 5 values adds up to the number of rows \(within \d+%\), as an action's values must\.$/);
+    expect(action?.plain).not.toMatch(/Σ|1\{/);
     expect(action?.confidence).toBeGreaterThanOrEqual(0.9);
     const fit = r.evidence.fits.find((f) => f.column === 'offer_id');
     expect(fit?.maxDeviation).toBeLessThan(FIT_TOLERANCE);
@@ -86,6 +89,7 @@ describe('role inference on generated logs', () => {
     // grade_band: 4 values at 1/4 each × 4 actions offered everywhere = 1, the coincidence the identity cannot rule out
     expect(r.evidence.fits.filter((f) => f.holds).map((f) => f.column).sort()).toEqual(['grade_band', 'hint_style']);
     expect(action?.reason).toMatch(/also holds for/);
+    expect(action?.plain).toMatch(/^Weighted by 1\/propensity, each of its 4 values adds up to the number of rows \(within \d+%\), as an action's values must\. It also holds for '(grade_band|hint_style)', so the evidence is weak: the (closest fit|column name) decided\.$/);
     expect(action?.confidence).toBeLessThan(0.5);
     expect(roleOf(r.suggestions, 'decision_id')).toEqual(['session_ref']);
   });

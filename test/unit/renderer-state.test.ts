@@ -2,7 +2,10 @@ import { describe, expect, it } from 'vitest';
 import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../renderer/engine/status.ts';
 import { chooseFormat } from '../../renderer/engine/source-files.ts';
 import { shortTime } from '../../renderer/charts.ts';
-import { bucketsNeedHour, isInstant, timeText, withTimesInWords } from '../../renderer/format.ts';
+import { bucketsNeedHour, formatValue, isInstant, metricText, timeText, withTimesInWords } from '../../renderer/format.ts';
+import { countText, counted } from '../../app/core/count-words.ts';
+import { settingValueText } from '../../app/charts/labels.ts';
+import { heatCellText } from '../../app/charts/index.ts';
 import { detectMode } from '../../renderer/engine/mode.ts';
 import { EMPTY_DRAFT, roleProblems, targetProblems } from '../../renderer/state/draft.ts';
 import type { ColumnProfile, Profile } from '../../app/core/scan/profile.ts';
@@ -201,5 +204,42 @@ describe('audit history sources', () => {
     const again = { label: 'week1.json', report: { ...report, verdict: 'supported' as const } };
     expect(withReports([...read.reports, { label: 'week2.json', report }], [again]).map((r) => [r.label, r.report.verdict])).toEqual([['week2.json', report.verdict], ['week1.json', 'supported']]);
     expect(historyOf([])).toBeNull();
+  });
+});
+
+describe('the words of the screens: counts, shares, settings, map cells', () => {
+  it('counts with a thousands separator and nouns by count (CLDR en grouping; English plurals)', () => {
+    expect(countText(30_000)).toBe('30,000');
+    expect(countText(10_030_000n)).toBe('10,030,000');
+    expect(formatValue(30_000)).toBe(countText(30_000));
+    expect([0, 1, 2].map((n) => counted(n, 'place'))).toEqual(['no places', '1 place', '2 places']);
+    expect(counted(0, 'warning', 'warnings', 'digit')).toBe('0 warnings');
+  });
+
+  it('a share metric reads as a percent, as the rest of the app shows shares; other metrics as numbers', () => {
+    expect(metricText('extra_share', 0.01573)).toBe('1.57%');
+    expect(metricText('share_below_floor', 0)).toBe('0%');
+    expect(metricText('uniform.ess_fraction', 0.074)).toBe('7.4%');
+    expect(metricText('extra_rows', 472)).toBe('472');
+    expect(metricText('start', '2026-03-01T00:00:00.000Z')).toBe('2026-03-01 00:00');
+    expect(metricText('version_switches', 'rules-a→rules-b@2026-03-08T00:00:00.000Z')).toBe('rules-a→rules-b@2026-03-08 00:00 UTC');
+  });
+
+  it('a setting reads with its unit: shares in percent, others after the number (app/core/settings.ts)', () => {
+    expect(settingValueText('identity.duplicates.fail_share', 0.01)).toBe('1%');
+    expect(settingValueText('propensity.range.fail_share', 0.001)).toBe('0.1%');
+    expect(settingValueText('propensity.exploration.top_action_share', 0.99)).toBe('99%');
+    expect(settingValueText('balance.max_bias_se', 0.5)).toBe('0.5 SE');
+    expect(settingValueText('support.floor.epsilon', 0.01)).toBe('0.01');
+    expect(settingValueText('time.bucket', 'auto')).toBe('auto');
+    expect(settingValueText('remedies.max_listed', 10_000)).toBe('10,000 pairs');
+  });
+
+  it('a map cell in the table view prints what the chart prints', () => {
+    // the chart's label formatter is the one exported (app/charts/heatmap.ts): two decimals, small values to 2 digits
+    expect(heatCellText(0.07492)).toBe('0.07');
+    expect(heatCellText(0.0088)).toBe('0.0088');
+    expect(heatCellText(-2.314)).toBe('-2.31');
+    expect(heatCellText(null)).toBe('');
   });
 });

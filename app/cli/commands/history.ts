@@ -9,6 +9,7 @@ import { documentFlags, writeDocument } from '../document-output.ts';
 import { UsageError } from '../errors.ts';
 import type { CliIo } from '../io.ts';
 import { readReport } from './report-file.ts';
+import { counted } from '../../core/count-words.ts';
 
 export const historySpec: CommandSpec = {
   name: 'history',
@@ -42,7 +43,7 @@ function readReportFolder(folder: string, cwd: string, warn: (line: string) => v
 
 function summary(h: History): string {
   const lines = [`${h.entries.length} report${h.entries.length === 1 ? '' : 's'}, oldest log first:`];
-  for (const e of h.entries) lines.push(`  ${plain(e.label)}  ${e.span ? `${e.span.from.slice(0, 10)} – ${e.span.to.slice(0, 10)}` : e.started_at}  ${e.rows.toLocaleString('en-US')} rows  ${e.verdict}`);
+  for (const e of h.entries) lines.push(`  ${plain(e.label)}  ${e.span ? `${e.span.from.slice(0, 10)} – ${e.span.to.slice(0, 10)}` : e.started_at}  ${counted(e.rows, 'row')}  ${e.verdict}`);
   const latest = h.entries.length - 1;
   const fresh = h.findings.filter((f) => f.first === latest && latest > 0 && f.seen[latest] !== 'pass');
   lines.push(`Findings first seen in the latest report: ${fresh.length}`);

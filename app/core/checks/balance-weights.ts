@@ -11,6 +11,7 @@ import { ips } from '../stats/estimators.ts';
 import type { Probability } from '../targets/analysis.ts';
 import { bucketWindow, describeSegment, finite, fmt, notListed, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { and, segmentPredicate, windowPredicate } from './predicates.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 const MAX_FINDINGS = 25;
 /** groups of the tests left out near the floor named in one finding, per action */
@@ -457,14 +458,14 @@ export function checkBalance(ctx: AuditContext, plain = false): ReturnType<typeo
     const segPred = segmentPredicate(ctx.rows!, cols, t.segment);
     const where = and(segPred, t.bucket !== undefined ? windowPredicate(ctx.rows!, ctx.buckets, t.bucket, t.bucket) : undefined, t.version !== undefined && ctx.rows!.version ? `${ctx.rows!.version} = ${ctx.rows!.dialect.literal(t.version)}` : undefined, `${ctx.rows!.action} = ${ctx.rows!.dialect.literal(t.action)}`);
     const scope = [describeSegment(t.segment), t.version !== undefined ? `policy ${t.version}` : '', win && t.bucket !== undefined ? `${win.from}` : '', win && episode ? `from ${win.from.slice(0, 10)} to ${win.to.slice(0, 10)}` : ''].filter(Boolean).join(', ');
-    const accountNote = accounts !== undefined ? `; leaving this group's rows out explains ${accounts} of the ${significant.length} failing tests` : '';
+    const accountNote = accounts !== undefined ? `; leaving this group's rows out explains ${n_(accounts)} of the ${n_(significant.length)} failing tests` : '';
     return {
       segment: t.segment,
       action: t.action,
       ...(win ? { window: win } : {}),
       status: 'fail' as const,
       metrics: { scope: t.scope, balance: t.balance, se: t.se, z: Number.isFinite(t.z) ? t.z : null, p_adjusted: adj, rows: t.n, logged: t.count, expected: t.expected, test: t.method, bias_bound: bias?.bias ?? null, bias_tolerance: bias?.tolerance ?? null, bias_target: bias?.target ?? null, ...(t.version !== undefined ? { version: t.version } : {}), ...(accounts !== undefined ? { accounts_for: accounts } : {}) },
-      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${t.count} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}${accountNote}${bias ? `; it could bias ${bias.target}'s estimate by up to ${fmt(bias.bias)}, above the ${fmt(bias.tolerance)} it tolerates` : ''}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
+      message: `${t.action} in ${scope}: B = ${fmt(t.balance)} (expected 1; logged ${n_(t.count)} times where the logged propensities lead one to expect ${fmt(t.expected)}; ${t.method} test, z = ${Number.isFinite(t.z) ? t.z.toFixed(1) : t.z > 0 ? '+∞' : '−∞'}, BH-adjusted p = ${fmt(adj, 2)}${accountNote}${bias ? `; it could bias ${bias.target}'s estimate by up to ${fmt(bias.bias)}, above the ${fmt(bias.tolerance)} it tolerates` : ''}) — ${t.balance < 1 ? 'the action is logged less often than its propensities claim, or is not supported everywhere' : 'the action is logged more often than its propensities claim'}`,
       ...(where ? { where } : {}),
     };
   });
@@ -479,11 +480,11 @@ export function checkBalance(ctx: AuditContext, plain = false): ReturnType<typeo
   const status = flagged.length ? 'fail' : aside.segments ? 'warn' : 'pass';
   const overall = tests.filter((t) => t.scope === 'action');
   const neverSegments = never.filter((x) => x.scope === (cols.length > 1 ? 'segment' : 'segment value'));
-  const neverNote = neverSegments.length ? ` ${neverSegments.length} segment × action cell(s) were never logged: support information (support.target weighs them against each target), not a balance test.` : '';
+  const neverNote = neverSegments.length ? ` ${counted(neverSegments.length, 'segment × action cell')} ${neverSegments.length === 1 ? 'was' : 'were'} never logged: support information (support.target weighs them against each target), not a balance test.` : '';
   const left = notListed(Math.max(0, flagged.length - MAX_FINDINGS), MAX_FINDINGS, 'explaining groups');
-  const leftNote = aside.segments ? ` ${aside.segments} segment × action pair(s) (${aside.rows} rows) set aside from their action's tests, where the action's propensity falls below ε = ${floor}.` : '';
+  const leftNote = aside.segments ? ` ${counted(aside.segments, 'segment × action pair')} (${counted(aside.rows, 'row')}) set aside from their action's tests, where the action's propensity falls below ε = ${floor}.` : '';
   const summary = flagged.length
-    ? `${significant.length} of ${tested.length} balance tests fail (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}), explained by ${flagged.length} group(s); worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}${left.note}`
+    ? `${n_(significant.length)} of ${n_(tested.length)} balance tests fail (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}), explained by ${counted(flagged.length, 'group')}; worst: ${findings[0]?.message.split(' — ')[0] ?? ''}.${leftNote}${neverNote}${left.note}`
     : `${significantOnly(bh.rejected.filter(Boolean).length, tested.length)} (BH q = ${q}, ${ruleText(materiality, ctx.settings['balance.max_bias_se'], ctx.settings['support.target.fail'])}); mean 1/p = ${fmt(meanInvP)} for ${actions.length} actions.${leftNote}${neverNote}`;
   return result(
     'balance.weights',
@@ -682,7 +683,7 @@ function setAsideFindings(setAside: ReadonlyMap<string, readonly number[]>, cell
       action,
       status: 'warn' as const,
       metrics: { set_aside: segs.length, set_aside_rows: rows },
-      message: `${segs.length} segment(s), ${rows} rows, set aside from the balance tests of ${action}, because its propensity falls below ε = ${floor} there (a few rare huge weights carry B there, so B says little either way; support.floor lists the cells): ${shown}`,
+      message: `${counted(segs.length, 'segment')}, ${counted(rows, 'row')}, set aside from the balance tests of ${action}, because its propensity falls below ε = ${floor} there (a few rare huge weights carry B there, so B says little either way; support.floor lists the cells): ${shown}`,
     };
   });
   return { findings, segments, rows: total };

@@ -9,6 +9,7 @@ import type { Profile } from '../scan/profile.ts';
 import type { Duplicates } from '../scan/rows.ts';
 import type { SettingKey, Settings } from '../settings.ts';
 import type { CubeView, TargetAnalysis } from '../targets/analysis.ts';
+import { countText } from '../count-words.ts';
 
 export interface TargetTail {
   /** largest positive weights, descending */
@@ -103,7 +104,13 @@ export const pct = (x: number, digits = 1): string => {
   return `${p.toFixed(digits)}%`;
 };
 
-export const fmt = (x: number | null, digits = 3): string => (x === null ? 'n/a' : Number.isInteger(x) ? String(x) : Number(x.toPrecision(digits)).toString());
+/** A number in a message: integers whole with a thousands separator ("2,020"), others to `digits` significant digits. */
+export const fmt = (x: number | null, digits = 3): string => {
+  if (x === null) return 'n/a';
+  if (Number.isInteger(x)) return countText(x);
+  const v = Number(x.toPrecision(digits));
+  return Number.isInteger(v) && Math.abs(v) >= 1000 && Number.isSafeInteger(v) ? countText(v) : v.toString();
+};
 
 export function bucketWindow(b: TimeBuckets, from: number, toExclusive: number): { from: string; to: string } {
   return { from: isoUs(b.originUs + from * b.widthUs), to: isoUs(b.originUs + toExclusive * b.widthUs) };

@@ -8,6 +8,7 @@ import { populationStabilityIndex } from '../stats/psi.ts';
 import { bucketWindow, describeSegment, fmt, isoUs, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { segmentPredicate } from './predicates.ts';
 import { explorationBySegment } from './propensity-exploration.ts';
+import { counted } from '../count-words.ts';
 
 const MIN_BUCKET_ROWS = 10;
 const MIN_WINDOW_ROWS = 50;
@@ -220,7 +221,7 @@ export function checkPolicyDrift(ctx: AuditContext, plain = false): ReturnType<t
       window: versionChange && switches[0] ? bucketWindow(b, switches[0].bucket, b.count) : bucketWindow(b, 0, b.count),
       status,
       metrics: { psi: x.psi, p_adjusted: bh.adjusted[i] as number, propensities_follow_mix: x.explainedByPropensities, version_first: x.versionFrom || null, version_last: x.versionTo || null },
-      message: `action mix in ${describeSegment(x.g.segment)} shifts between the first and last ${edge} bucket(s) (PSI ${fmt(x.psi)}${x.psi > psiWarn ? ', large' : ''}${versionChange ? `; policy ${x.versionFrom} → ${x.versionTo}` : ''}): ${unexplained ? 'the logged propensities did NOT move with the action mix, so they no longer describe the policy that chose the actions' : 'the logged propensities moved with it, so the shift is a logged policy change'}`,
+      message: `action mix in ${describeSegment(x.g.segment)} shifts between the first and last ${edge} ${edge === 1 ? 'bucket' : 'buckets'} (PSI ${fmt(x.psi)}${x.psi > psiWarn ? ', large' : ''}${versionChange ? `; policy ${x.versionFrom} → ${x.versionTo}` : ''}): ${unexplained ? 'the logged propensities did NOT move with the action mix, so they no longer describe the policy that chose the actions' : 'the logged propensities moved with it, so the shift is a logged policy change'}`,
       ...(seg ? { where: seg } : {}),
     });
   });
@@ -230,8 +231,8 @@ export function checkPolicyDrift(ctx: AuditContext, plain = false): ReturnType<t
   const summary =
     `${switches.length ? `Policy version switches: ${switches.map((s) => `${s.from} → ${s.to} at ${s.at}`).join('; ')}. ` : ''}` +
     (warnCount
-      ? `${warnCount} unexplained action-mix shift(s), e.g. ${describeSegment(findings[0]!.segment)}.`
-      : `${findings.length} action-mix shift(s), each matched by the logged propensities.`);
+      ? `${counted(warnCount, 'unexplained action-mix shift')}, e.g. ${describeSegment(findings[0]!.segment)}.`
+      : findings.length === 0 ? 'No action-mix shifts.' : `${counted(findings.length, 'action-mix shift')}, each matched by the logged propensities.`);
   const all = groups.get('*')!;
   const mix: Series = {
     name: 'action mix over time (all rows)',

@@ -13,6 +13,7 @@ import { bucketWindow, describeSegment, fmt, isoUs, notListed, pct, result, skip
 import { and, finiteReward, segmentPredicate, windowPredicate } from './predicates.ts';
 import { rewardKind } from './reward-validity.ts';
 import { switchMarks, versionSwitches } from './drift-policy.ts';
+import { countText as n_ } from '../count-words.ts';
 
 const MIN_BUCKET_ROWS = 10;
 /** The homogeneity test runs on at most this many equal windows of buckets: daily cells of a small
@@ -134,8 +135,8 @@ function checkRewardDrift(ctx: AuditContext): ReturnType<typeof result> {
   const bySegment = new Map<string, number>();
   for (const f of findings) bySegment.set(describeSegment(f.segment), (bySegment.get(describeSegment(f.segment)) ?? 0) + 1);
   const summary = flagged.length
-    ? `Reward drifts in ${flagged.length} of ${tests.length} segment × action series (BH q = ${q}, change ≥ ${pct(minChange, 0)}), mostly in ${[...bySegment.entries()].sort((a, c) => c[1] - a[1]).slice(0, 2).map(([s, n]) => `${s} (${n} series)`).join(', ')}.`
-    : `No reward drift across ${tests.length} segment × action series (${binary ? 'chi-square' : 'ANOVA'}, BH q = ${q}).`;
+    ? `Reward drifts in ${n_(flagged.length)} of ${n_(tests.length)} segment × action series (BH q = ${q}, change ≥ ${pct(minChange, 0)}), mostly in ${[...bySegment.entries()].sort((a, c) => c[1] - a[1]).slice(0, 2).map(([s, n]) => `${s} (${n} series)`).join(', ')}.`
+    : `No reward drift across ${n_(tests.length)} segment × action series (${binary ? 'chi-square' : 'ANOVA'}, BH q = ${q}).`;
   const left = notListed(flagged.length - findings.length, MAX_FINDINGS, 'series, smallest adjusted p first');
   return result('drift.reward', status, summary + left.note, { tests: tests.length, drifting: flagged.length, test: binary ? 'chi-square homogeneity' : 'one-way ANOVA', ...left.metrics }, findings, ['drift.reward.q', 'drift.reward.min_relative_change'], series);
 }

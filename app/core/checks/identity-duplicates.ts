@@ -1,5 +1,6 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import { pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 /** identity.duplicates: decision ids are unique (exact counts of duplicated ids and rows). */
 function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
@@ -16,11 +17,11 @@ function checkDuplicates(ctx: AuditContext): ReturnType<typeof result> {
       segment: {},
       status,
       metrics: { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share, max_copies: d.maxCopies },
-      message: `${d.ids} decision id(s) appear more than once (${d.rowsInDuplicates} rows; ${d.extraRows} extra rows, ${pct(share, 2)} of the log; at most ${d.maxCopies} copies). Examples: ${d.exampleIds.join(', ')}.`,
+      message: `${counted(d.ids, 'decision id')} ${d.ids === 1 ? 'appears' : 'appear'} more than once (${counted(d.rowsInDuplicates, 'row')}; ${counted(d.extraRows, 'extra row')}, ${pct(share, 2)} of the log; at most ${n_(d.maxCopies)} copies). Examples: ${d.exampleIds.join(', ')}.`,
       ...(id && d.exampleIds.length ? { where: `${id} IN (${d.exampleIds.map((x) => ctx.rows!.dialect.literal(x)).join(', ')})` } : {}),
     });
   }
-  const summary = d.ids === 0 ? `All ${ctx.profile.rows} decision ids are unique.` : `${d.ids} duplicated decision ids: ${d.extraRows} extra rows (${pct(share, 2)} of rows; fail above ${pct(failAt)}).`;
+  const summary = d.ids === 0 ? `All ${n_(ctx.profile.rows)} decision ids are unique.` : `${counted(d.ids, 'duplicated decision id')}: ${counted(d.extraRows, 'extra row')} (${pct(share, 2)} of rows; fail above ${pct(failAt)}).`;
   return result('identity.duplicates', status, summary, { duplicated_ids: d.ids, rows_in_duplicates: d.rowsInDuplicates, extra_rows: d.extraRows, extra_share: share }, findings, ['identity.duplicates.fail_share']);
 }
 

@@ -4,6 +4,7 @@ import { segmentKey } from '../cube/rollup.ts';
 import { cellHeatmap, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { segmentPredicate } from './predicates.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 export interface SegmentExploration {
   readonly segment: readonly string[];
@@ -64,7 +65,7 @@ function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
       ...(sameTop ? { action: top[0] as string } : {}),
       status,
       metrics: { rows: n, share, sub_segments: p.items.length, top_action_share_min: minTop, all_propensities_one: allOne, served_by_target: served },
-      message: `no exploration in ${describeSegment(segment)} (${n} rows, ${pct(share)} of the log): ${allOne ? 'every propensity is 1' : `one action holds at least ${pct(minTop)} of rows`}${sameTop ? `, always ${top[0]}` : ''}${served ? '' : '; no target given serves it'}`,
+      message: `no exploration in ${describeSegment(segment)} (${counted(n, 'row')}, ${pct(share)} of the log): ${allOne ? 'every propensity is 1' : `one action holds at least ${pct(minTop)} of rows`}${sameTop ? `, always ${top[0]}` : ''}${served ? '' : '; no target given serves it'}`,
       ...(() => {
         const w = segmentPredicate(ctx.rows!, ctx.segmentColumns, segment);
         return w ? { where: w } : {};
@@ -73,8 +74,8 @@ function checkExploration(ctx: AuditContext): ReturnType<typeof result> {
   }
   const status = failing ? 'fail' : findings.length ? 'warn' : 'pass';
   const summary = findings.length
-    ? `No exploration in ${findings.length === 1 ? '1 place' : `${findings.length} places`} holding ${pct(unexploredRows / rows)} of rows: ${findings.map((f) => describeSegment(f.segment)).slice(0, 3).join('; ')}${findings.length > 3 ? '; …' : ''}.`
-    : `The logging policy explored in all ${segs.length} segments.`;
+    ? `No exploration in ${counted(findings.length, 'place')} holding ${pct(unexploredRows / rows)} of rows: ${findings.map((f) => describeSegment(f.segment)).slice(0, 3).join('; ')}${findings.length > 3 ? '; …' : ''}.`
+    : `The logging policy explored in all ${n_(segs.length)} segments.`;
   return result(
     'propensity.exploration',
     status,

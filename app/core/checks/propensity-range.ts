@@ -2,6 +2,7 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, describeSegment, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { concentrate } from './locate.ts';
 import { and, segmentPredicate, validPropensity, windowPredicate } from './predicates.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 /** propensity.range: p null, NaN, <= 0, > 1 — counts, share, where and when. */
 function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
@@ -25,8 +26,8 @@ function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
       when.forEach((w, k) => findings.push({ ...base, window: w, message: `${g.bad} invalid propensities in ${describeSegment(segment)}, concentrated ${w.from} to ${w.to} (${pct(g.bad / t.nPInvalid)} of all invalid rows)`, ...opt(where(windows[k])) }));
     }
   }
-  const kinds = `null or unparseable ${t.nPNull}, NaN ${t.nPNaN}, <= 0 ${t.nPNonPositive}, > 1 ${t.nPAboveOne}`;
-  const summary = t.nPInvalid === 0 ? `All ${t.n} propensities lie in (0, 1].` : `${t.nPInvalid} rows (${pct(share, 2)}) have an invalid propensity (${kinds}); fail above ${pct(failAt)}.`;
+  const kinds = `null or unparseable ${n_(t.nPNull)}, NaN ${n_(t.nPNaN)}, <= 0 ${n_(t.nPNonPositive)}, > 1 ${n_(t.nPAboveOne)}`;
+  const summary = t.nPInvalid === 0 ? `All ${n_(t.n)} propensities lie in (0, 1].` : `${counted(t.nPInvalid, 'row')} (${pct(share, 2)}) have an invalid propensity (${kinds}); fail above ${pct(failAt)}.`;
   return result('propensity.range', status, summary, { invalid_rows: t.nPInvalid, invalid_share: share, null: t.nPNull, nan: t.nPNaN, non_positive: t.nPNonPositive, above_one: t.nPAboveOne, equal_one: t.nPOne }, findings, ['propensity.range.fail_share']);
 }
 

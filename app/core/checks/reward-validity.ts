@@ -2,6 +2,7 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, isoUs, pct, result, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
 import { and, finiteReward, windowPredicate } from './predicates.ts';
+import { counted } from '../count-words.ts';
 
 export type RewardKind = 'binary' | 'bounded' | 'continuous';
 
@@ -53,7 +54,7 @@ function checkRewardValidity(ctx: AuditContext): ReturnType<typeof result> {
   const nonFinite = c ? c.nan + c.infinite : 0;
   if (nonFinite > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: nonFinite }, message: `${nonFinite} rewards are NaN or infinite` });
   if (nonFinite > 0 && status === 'pass') status = 'warn';
-  const summary = `${pct(share, 2)} of rewards missing (warn above ${pct(warnAt)}, fail above ${pct(failAt)}); ${kind ?? 'unknown'} reward in [${c?.min ?? '?'}, ${c?.max ?? '?'}]${findings.some((f) => f.window) ? `; missing feedback concentrated in ${findings.filter((f) => f.window).length} window(s)` : ''}.`;
+  const summary = `${pct(share, 2)} of rewards missing (warn above ${pct(warnAt)}, fail above ${pct(failAt)}); ${kind ?? 'unknown'} reward in [${c?.min ?? '?'}, ${c?.max ?? '?'}]${findings.some((f) => f.window) ? `; missing feedback concentrated in ${counted(findings.filter((f) => f.window).length, 'window')}` : ''}.`;
   return result(
     'reward.validity',
     status,

@@ -2,6 +2,7 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import type { Metrics } from '../model/report.ts';
 import { REQUIRED_ROLES, SINGLE_ROLES } from '../roles/roles.ts';
 import { pct, result, type AuditContext, type DraftFinding } from './context.ts';
+import { counted } from '../count-words.ts';
 
 /** schema.roles: required roles present, typed and parseable; null share per role. */
 function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
@@ -27,7 +28,7 @@ function checkSchemaRoles(ctx: AuditContext): ReturnType<typeof result> {
   const summary =
     status === 'fail'
       ? `The log cannot be audited as mapped: ${findings.filter((f) => f.status === 'fail').map((f) => f.message).join('; ')}.`
-      : `${mapped}; ${roles.segments.length} segment column(s)${roles.segments.length ? ` (${roles.segments.join(', ')})` : ''}; largest null share among required roles ${pct(worstNull)}.`;
+      : `${mapped}; ${counted(roles.segments.length, 'segment column')}${roles.segments.length ? ` (${roles.segments.join(', ')})` : ''}; largest null share among required roles ${pct(worstNull)}.`;
   return result('schema.roles', status, summary, metrics, findings, []);
 }
 

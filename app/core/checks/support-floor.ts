@@ -2,6 +2,7 @@ import { defineCheck, type CheckDefinition } from './define.ts';
 import { cellHeatmap, describeSegment, fmt, notListed, pct, result, segmentRecord, skipped, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
 import { and, segmentPredicate, validPropensity } from './predicates.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 const MAX_FINDINGS = 20;
 
@@ -31,13 +32,13 @@ function checkSupportFloor(ctx: AuditContext): ReturnType<typeof result> {
       ...(action !== '*' ? { action } : {}),
       status: 'warn' as const,
       metrics: { min_propensity: minP, rows_below_floor: below, rows: rowsIn, cells: p.items.length },
-      message: `${action !== '*' ? action : 'some actions'} in ${describeSegment(segment)}: minimum propensity ${fmt(minP)} < ε = ${eps} (${below} of ${rowsIn} rows below the floor; weights up to ${fmt(1 / minP)})`,
+      message: `${action !== '*' ? action : 'some actions'} in ${describeSegment(segment)}: minimum propensity ${fmt(minP)} < ε = ${eps} (${n_(below)} of ${counted(rowsIn, 'row')} below the floor; weights up to ${fmt(1 / minP)})`,
       ...(where ? { where } : {}),
     };
   });
   const lowest = patterns[0];
   const left = notListed(patterns.length - findings.length, MAX_FINDINGS, 'places, lowest propensity first');
-  const summary = `${pct(share, 2)} of rows have propensity below ε = ${eps} (warn above ${pct(maxShare)}); ${patterns.length} place(s) with cells under the floor${lowest ? `, lowest ${fmt(lowest.minP)}` : ''}.${left.note}`;
+  const summary = `${pct(share, 2)} of rows have propensity below ε = ${eps} (warn above ${pct(maxShare)}); ${counted(patterns.length, 'place')} with cells under the floor${lowest ? `, lowest ${fmt(lowest.minP)}` : ''}.${left.note}`;
   return result(
     'support.floor',
     status,

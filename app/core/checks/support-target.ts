@@ -3,6 +3,7 @@ import { segmentKey } from '../cube/rollup.ts';
 import type { Status } from '../model/report.ts';
 import { describeSegment, notListed, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import { coverByPatterns } from './locate.ts';
+import { counted } from '../count-words.ts';
 
 const MAX_FINDINGS_PER_TARGET = 10;
 
@@ -49,7 +50,7 @@ function checkSupportTarget(ctx: AuditContext): ReturnType<typeof result> {
         target: t.target.name,
         status: primary ? status : 'pass',
         metrics: { undefined_share: t.undefinedShare, segments: t.undefinedSegments.length },
-        message: `${t.target.name} does not define ${t.undefinedSegments.length} segment(s) of the log (${pct(t.undefinedShare, 2)} of rows), e.g. ${t.undefinedSegments.slice(0, 3).map((s) => describeSegment(segmentRecord(ctx.segmentColumns, s))).join('; ')}; counted as unsupported`,
+        message: `${t.target.name} does not define ${counted(t.undefinedSegments.length, 'segment')} of the log (${pct(t.undefinedShare, 2)} of rows), e.g. ${t.undefinedSegments.slice(0, 3).map((s) => describeSegment(segmentRecord(ctx.segmentColumns, s))).join('; ')}; counted as unsupported`,
       });
     }
   }

@@ -1,6 +1,7 @@
 import { defineCheck, type CheckDefinition } from './define.ts';
 import { bucketWindow, isoUs, pct, result, skipped, timeText, type AuditContext, type DraftFinding } from './context.ts';
 import { runs } from './locate.ts';
+import { counted } from '../count-words.ts';
 
 /** time.coverage: timestamps parse; span; empty buckets (gaps); timestamps in the future. */
 function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
@@ -36,7 +37,7 @@ function checkTimeCoverage(ctx: AuditContext): ReturnType<typeof result> {
   if (unparsed > 0) findings.push({ segment: {}, status: 'warn', metrics: { rows: unparsed, share: unparsed / rows }, message: `${unparsed.toLocaleString('en')} rows (${pct(unparsed / rows, 2)}) have a missing or unparseable time` });
   const status = findings.length ? 'warn' : 'pass';
   const spanDays = minUs !== null && maxUs !== null ? (maxUs - minUs) / 86_400e6 : null;
-  const summary = `${minUs !== null ? timeText(minUs) : '?'} to ${maxUs !== null ? timeText(maxUs) : '?'} UTC (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${buckets.count} buckets of ${durationWords(buckets.widthUs)} each; ${empty.length === 0 ? 'no empty buckets' : plural(empty.length, 'empty bucket')}${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
+  const summary = `${minUs !== null ? timeText(minUs) : '?'} to ${maxUs !== null ? timeText(maxUs) : '?'} UTC (${spanDays !== null ? spanDays.toFixed(1) : '?'} days) in ${counted(buckets.count, 'bucket')} of ${durationWords(buckets.widthUs)} each; ${empty.length === 0 ? 'no empty buckets' : plural(empty.length, 'empty bucket')}${future ? '; timestamps in the future' : ''}${unparsed ? `; ${pct(unparsed / rows, 2)} without a time` : ''}. Row order is not checked.`;
   return result(
     'time.coverage',
     status,
@@ -63,5 +64,5 @@ export function durationWords(us: number): string {
 
 /** "1 empty bucket", "4 empty buckets". */
 function plural(n: number, noun: string): string {
-  return `${n.toLocaleString('en')} ${noun}${n === 1 ? '' : 's'}`;
+  return counted(n, noun, `${noun}s`, 'digit');
 }

@@ -4,6 +4,7 @@ import { kishEss } from '../stats/ess.ts';
 import { segmentParts } from '../segment-map.ts';
 import { describeSegment, fmt, pct, result, segmentRecord, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
+import { countText as n_, counted } from '../count-words.ts';
 
 export interface EssSummary {
   readonly ess: number;
@@ -42,7 +43,7 @@ function checkEss(ctx: AuditContext): ReturnType<typeof result> {
       target: t.target.name,
       status: primary ? status : 'pass',
       metrics: { ess: s.ess, ess_fraction: s.fraction, max_weight: s.maxWeight, top1_weight_share: s.top1Share, rows: t.n },
-      message: `${t.target.name}: ESS ${Math.round(s.ess)} of ${t.n} rows (${pct(s.fraction)}); largest weight ${fmt(s.maxWeight)}${s.top1Share !== null ? `; the top 1% of rows hold ${pct(s.top1Share)} of the total weight` : ''}${primary ? '' : ' (shown for reference; not one of the audit\'s targets)'}`,
+      message: `${t.target.name}: ESS ${n_(Math.round(s.ess))} of ${counted(t.n, 'row')} (${pct(s.fraction)}); largest weight ${fmt(s.maxWeight)}${s.top1Share !== null ? `; the top 1% of rows hold ${pct(s.top1Share)} of the total weight` : ''}${primary ? '' : ' (shown for reference; not one of the audit\'s targets)'}`,
     });
     if (primary) {
       for (const seg of t.bySegment) {
@@ -50,7 +51,7 @@ function checkEss(ctx: AuditContext): ReturnType<typeof result> {
         const e = seg.sumW2 > 0 ? kishEss(seg.sumW, seg.sumW2) : 0;
         if (e < failMin) {
           const segment = segmentRecord(ctx.segmentColumns, seg.segment);
-          findings.push({ segment, target: t.target.name, status: 'warn', metrics: { ess: e, rows: seg.n }, message: `${t.target.name} in ${describeSegment(segment)}: ESS ${Math.round(e)} of ${seg.n} rows, too few to estimate this segment alone` });
+          findings.push({ segment, target: t.target.name, status: 'warn', metrics: { ess: e, rows: seg.n }, message: `${t.target.name} in ${describeSegment(segment)}: ESS ${n_(Math.round(e))} of ${counted(seg.n, 'row')}, too few to estimate this segment alone` });
         }
       }
     }
@@ -58,8 +59,8 @@ function checkEss(ctx: AuditContext): ReturnType<typeof result> {
   const status = statuses.length ? worst(...statuses) : 'pass';
   const summary = ctx.primaryTargets.map((t) => {
     const s = essSummary(t, ctx.tails.get(t.target.name)?.weights);
-    return `${t.target.name}: ESS ${Math.round(s.ess)} (${pct(s.fraction)} of rows)`;
-  }).join('; ') + ` (warn below ${pct(warnFrac)} of rows, fail below ${failMin}).`;
+    return `${t.target.name}: ESS ${n_(Math.round(s.ess))} (${pct(s.fraction)} of rows)`;
+  }).join('; ') + ` (warn below ${pct(warnFrac)} of rows, fail below ${n_(failMin)}).`;
   const refs = ctx.targets;
   const series: Series[] = [
     { name: 'ESS share by target', kind: 'bars', x: refs.map((t) => t.target.name), values: [refs.map((t) => essSummary(t, ctx.tails.get(t.target.name)?.weights).fraction)], labels: ['ESS / n'], unit: 'share of rows' },

@@ -4,6 +4,7 @@
  */
 import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
 import { contradicts, fitText, ID_REFUSE_SHARE, ID_SUGGEST_SHARE, uniqueness, type BalanceFit, type RoleEvidence } from './evidence.ts';
+import { countText } from '../count-words.ts';
 
 export type { RoleEvidence } from './evidence.ts';
 
@@ -30,6 +31,11 @@ export interface RoleSuggestion {
   readonly role: RoleName;
   readonly column: string;
   readonly reason: string;
+  /**
+   * The reason in one or two plain sentences with its numbers, where `reason` is formula text (the action's
+   * weight-balance evidence); the app shows this and keeps `reason` behind a disclosure.
+   */
+  readonly plain?: string;
   /** 0..1: how sure the suggestion is (name and values agree: high; values only: medium). */
   readonly confidence: number;
 }
@@ -165,6 +171,24 @@ function candidatesFor(role: SingleRole, c: ColumnProfile, rows: number): Candid
 const isNamedAction = (column: string) => NAME_HINTS.action.test(column);
 
 /**
+ * A balance fit in plain words, without fitText's formula: each action value a, its rows weighted by 1/p, adds up
+ * to the number of rows n ((1/n) Σ 1{A=a}/p = 1). With `after`, the words that follow a column's name.
+ */
+function fitPlain(f: BalanceFit, after = false): string {
+  const lead = after ? '' : 'Weighted by 1/propensity, ';
+  if (f.tooManyValues) return after ? 'has too many values to be an action.' : 'It has too many values to be an action.';
+  if (!Number.isFinite(f.maxDeviation)) return after ? 'has too few rows with a valid propensity to tell.' : 'Too few rows have a valid propensity to tell.';
+  if (f.holds) {
+    const values = f.values.length === 1 ? 'its one value' : `each of its ${countText(f.values.length)} values`;
+    const within = `within ${countText(Math.max(1, Math.round(f.maxDeviation * 100)))}%`;
+    return after ? `balances too (${within}).` : `${lead}${values} adds up to the number of rows (${within}), as an action's values must.`;
+  }
+  const value = f.worst ? (f.worst.value === null ? 'empty' : `'${f.worst.value.length > 24 ? `${f.worst.value.slice(0, 23)}…` : f.worst.value}'`) : 'one value';
+  const times = f.worst ? `${f.worst.b.toFixed(2)} times` : 'far from';
+  return after ? `does not: its value ${value} adds up to ${times} the number of rows.` : `${lead}its value ${value} adds up to ${times} the number of rows, not once.`;
+}
+
+/**
  * The action from the weight-balance evidence: the candidate for which the identity holds, names breaking
  * ties; where it holds for no column, the column named like an action, with the evidence against it.
  */
@@ -185,7 +209,7 @@ function actionFromEvidence(profile: Profile, evidence: RoleEvidence, propensity
     const rest = holding.slice(1);
     if (rest.length === 0) {
       const next = others[0];
-      return { role: 'action', column: best.column, reason: `weight balance holds: ${fitText(best)}${named}${distinct(best.column)}${next ? `; next closest '${next.column}': ${fitText(next)}` : ''}`, confidence: 0.95 };
+      return { role: 'action', column: best.column, reason: `weight balance holds: ${fitText(best)}${named}${distinct(best.column)}${next ? `; next closest '${next.column}': ${fitText(next)}` : ''}`, plain: fitPlain(best), confidence: 0.95 };
     }
     const also = rest.map((f) => `'${f.column}'`).join(', ');
     const tieBroken = isNamedAction(best.column) && !rest.some((f) => isNamedAction(f.column));
@@ -193,6 +217,7 @@ function actionFromEvidence(profile: Profile, evidence: RoleEvidence, propensity
       role: 'action',
       column: best.column,
       reason: `weight balance holds: ${fitText(best)}${named}${distinct(best.column)}; it also holds for ${also}, so the evidence is weak${tieBroken ? ' (the name decided)' : ' (the closest fit decided)'}`,
+      plain: `${fitPlain(best)} It also holds for ${also}, so the evidence is weak: ${tieBroken ? 'the column name decided' : 'the closest fit decided'}.`,
       confidence: tieBroken ? 0.7 : 0.45,
     };
   }
@@ -203,6 +228,7 @@ function actionFromEvidence(profile: Profile, evidence: RoleEvidence, propensity
     role: 'action',
     column: named.column,
     reason: `named like an action, but weight balance does not hold for it (${fitText(named)}) nor for any other column; check the action and propensity columns`,
+    plain: `Named like an action, but weight balance holds for no column. ${fitPlain(named)} Check the action and propensity columns.`,
     confidence: 0.35,
   };
 }

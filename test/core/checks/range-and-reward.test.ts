@@ -23,6 +23,8 @@ describe('propensity.range (fail above 0.1% of rows invalid, common practice; wa
     expect(r.metrics.invalid_rows).toBe(invalid);
     expect(r.metrics.invalid_share).toBeCloseTo(invalid / 10_000, 15);
     if (invalid) expect(r.findings.some((f) => f.segment.s0 === 'y' && f.metrics.invalid_rows === invalid)).toBe(true);
+    // counts with a thousands separator, as everywhere in the app (CLDR en grouping: "10,000")
+    expect(r.summary).toEqual(invalid ? expect.stringMatching(new RegExp(`^${invalid} rows \\(`)) : 'All 10,000 propensities lie in (0, 1].');
   });
 });
 

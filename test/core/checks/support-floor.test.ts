@@ -32,6 +32,9 @@ describe('support.floor (warn above 1% of rows below ε = 0.01; common practice)
     // c is logged only in y, so the finding names c over all segments (the cover generalises)
     if (below) expect(r.findings.some((f) => f.action === 'c' && f.metrics.rows_below_floor === below)).toBe(true);
     else expect(r.findings).toHaveLength(0);
+    // places counted in words, never "place(s)"; the finding's row count with a thousands separator (by hand: 2,500 rows in y·c's cell are not this case)
+    expect(r.summary).toContain(below ? '1 place with cells under the floor' : 'no places with cells under the floor');
+    expect(r.summary).not.toContain('(s)');
   });
 
   it('a raised ε moves the edge: at ε = 0.6 every p = 0.5 row is below, share 1 (by hand)', () => {

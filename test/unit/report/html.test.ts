@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
+import { formatAuditSummary, painter } from '../../../app/cli/summary.ts';
 import { escapeHtml } from '../../../app/report/escape.ts';
+import { serializeReport } from '../../../app/report/serialize.ts';
 import { REPORT_CSP, renderHtmlReport } from '../../../app/report/html.ts';
 import { trustedSvg } from '../../../app/report/html-template.ts';
 import { fixtureReport, QUOTE_BREAK, SCRIPT, SQL_BREAK } from './fixture-report.ts';
@@ -52,7 +54,27 @@ describe('HTML report', () => {
     expect(plain).toContain('[0.09, 0.13]');
   });
 
-  it('drops an SVG that carries active content', () => {
+  it('writes instants for people as the app does, shares as percents, and each setting used with its value', () => {
+    const base = fixtureReport();
+    // drift.policy's summary as the check writes it (app/core/checks/drift-policy.ts): the switch time in ISO 8601
+    const iso = 'Policy version switches: rules-a → rules-b at 2026-03-08T00:00:00.000Z. No action-mix shifts.';
+    const withIso = { ...base, checks: base.checks.map((c) => (c.id === 'weights.ess' ? { ...c, summary: iso } : c)) };
+    const page = renderHtmlReport(withIso);
+    expect(page).toContain('rules-a → rules-b at 2026-03-08 00:00 UTC.');
+    expect(page).not.toContain('2026-03-08T00:00:00.000Z');
+    // the terminal summary says it the same way; the JSON report keeps the check's text, ISO included
+    const terminal = formatAuditSummary(withIso, [], painter(false));
+    expect(terminal).toContain('rules-a → rules-b at 2026-03-08 00:00 UTC.');
+    expect(terminal).not.toContain('2026-03-08T00:00:00.000Z');
+    expect(serializeReport(withIso)).toContain('at 2026-03-08T00:00:00.000Z.');
+    // the fixture's ε was changed to 0.02; weights.ess.warn_fraction is a share (0.1 = 10%)
+    expect(page).toMatch(/<code>support\.floor\.epsilon<\/code><\/a> = 0\.02;/);
+    expect(page).toMatch(/<code>weights\.ess\.warn_fraction<\/code><\/a> = 10%;/);
+    // a finding's top_action_share of 1 is 100% of the segment's rows, not "1"
+    expect(page).toContain('top action share: 100%');
+  });
+
+    it('drops an SVG that carries active content', () => {
     expect(trustedSvg('<svg><text>&lt;script&gt;</text></svg>')).not.toBeNull();
     expect(trustedSvg('<svg><script>x()</script></svg>')).toBeNull();
     expect(trustedSvg('<svg><rect onload="x()"/></svg>')).toBeNull();
