@@ -282,7 +282,7 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     }
     const tailPasses: PassKind[] = scans ? [] : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
     progress('tails', false, { passes: tailPasses });
-    if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d), readsSource)));
+    if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d, profile.rows), readsSource)));
     if (rowsExpr) {
       for (const t of targets) {
         guard();

@@ -10,7 +10,7 @@ import { resolveRoles } from '../../app/core/roles/roles.ts';
 import { cubeSql, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
-import { clipPropensityBound, clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
+import { clipPropensityBound, clipRowsSql, duplicatesHashBits, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
 import { SEP } from '../../app/core/cube/rollup.ts';
 import { parseTarget, type TargetPolicy } from '../../app/core/targets/targets.ts';
 import { duckdb } from '../../app/core/sql/dialect-duckdb.ts';
@@ -136,6 +136,25 @@ describe('duplicated decision ids', () => {
     // a hash of 3 bits makes nearly every id collide with others: the exact second pass must drop them all
     const colliding = parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, { ...duckdb, hash64: (x) => `(hash(${x}) % 8)` })));
     expect(colliding).toEqual(grouped);
+    // both widths: 32 bits for a row count the profile gives, 64 when it gives none
+    for (const rowCount of [4000, undefined]) expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, duckdb, rowCount)))).toEqual(grouped);
+  });
+
+  it('the width follows the row count: 32 bits up to 2^26 rows, 64 above and when the count is not known', () => {
+    expect([duplicatesHashBits(10_030_000), duplicatesHashBits(2 ** 26), duplicatesHashBits(2 ** 26 + 1), duplicatesHashBits(undefined)]).toEqual([32, 32, 64, 64]);
+  });
+
+  it('count exactly where distinct ids share a 32-bit hash (real collisions of DuckDB hash(), found among 300,000 ids)', async () => {
+    // 300,000 distinct ids share about 300000²/2^33 ≈ 10 pairs of 32-bit hashes (birthday bound); duplicates are planted
+    // on every 7,919th id and on one id of each colliding pair, so the exact second pass must separate them
+    await engine.query(`CREATE OR REPLACE TEMP TABLE ids32 AS SELECT 'u-' || i::VARCHAR AS id, CAST(hash('u-' || i::VARCHAR) >> 32 AS UINTEGER) AS h FROM range(300000) t(i)`);
+    const pairs = await engine.query(`SELECT min(id) AS id FROM ids32 GROUP BY h HAVING count(*) > 1`);
+    expect(pairs.rowCount).toBeGreaterThan(0);
+    const relation = `(SELECT id FROM ids32 UNION ALL SELECT id FROM ids32 WHERE hash(id) % 7919 = 0 UNION ALL SELECT min(id) FROM ids32 GROUP BY h HAVING count(*) > 1 UNION ALL SELECT 'u-5' FROM range(3))`;
+    const grouped = parseDuplicates(await engine.query(reference(relation, '"id"')));
+    expect(grouped.ids).toBeGreaterThan(pairs.rowCount);
+    expect(grouped.maxCopies).toBe(4);
+    for (const rowCount of [300_000, undefined]) expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, duckdb, rowCount)))).toEqual(grouped);
   });
 });
 

@@ -13,25 +13,36 @@ import type { TargetPolicy } from '../targets/targets.ts';
 import { finiteReward, validPropensity, type RowExpressions } from './expressions.ts';
 
 /**
- * Decision ids held by more than one row, without holding every id. First pass: a 64-bit hash of each id
- * (as text, as ids are reported), sorted, each compared with the one before it (a window lag); a hash
- * equal to its predecessor is shared by two rows, which two copies of one id always are. Second pass, over
- * the rows whose hash is shared alone: their ids are grouped exactly, so a collision of two different ids
- * (about n²/2^65 pairs: 3·10^-6 at 10^7 rows) costs a few extra rows read and is never reported. The sort
- * holds 8 bytes a row whatever the ids' length, where sorting the ids held each id (bench/NOTES.md), and
- * the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts).
+ * Decision ids held by more than one row, without holding every id. First pass: a hash of each id (as text, as ids
+ * are reported), sorted, each compared with the one before it (a window lag); a hash equal to its predecessor is
+ * shared by two rows, which two copies of one id always are. Second pass, over the rows whose hash is shared alone:
+ * their ids are grouped exactly, so a collision of two different ids costs a few extra rows read and is never
+ * reported, and the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts). The hash is
+ * 32 bits wide up to DUPLICATES_NARROW_ROWS rows (`rowCount`, the profile's count), 64 bits above or when the count
+ * is not known: n rows of distinct ids share about n²/2^33 pairs of 32-bit hashes (12,000 at 10^7 rows, 0.2% of the
+ * rows read back; 2^19 pairs, 0.8%, at the bound) and n²/2^65 of 64-bit ones. The sort holds 4 or 8 bytes a row
+ * whatever the ids' length, where sorting the ids held each id (bench/NOTES.md).
  */
-export function duplicatesSql(relation: string, idColumn: string, examples: number, dialect: Dialect = duckdb): string {
+export function duplicatesSql(relation: string, idColumn: string, examples: number, dialect: Dialect = duckdb, rowCount?: number): string {
   // 18.16 has no window functions: ClickHouse groups by id (rows-clickhouse.ts)
   if (dialect.name === 'clickhouse') return duplicatesSqlClickHouse(relation, idColumn, examples);
   const id = dialect.ident(idColumn);
   const text = dialect.toText(id);
+  const hash = duplicatesHashBits(rowCount) === 32 ? `CAST(${dialect.hash64(text)} >> 32 AS UINTEGER)` : dialect.hash64(text);
   return [
-    `WITH hashed AS (SELECT ${dialect.hash64(text)} AS h FROM ${relation} WHERE ${id} IS NOT NULL),`,
+    `WITH hashed AS (SELECT ${hash} AS h FROM ${relation} WHERE ${id} IS NOT NULL),`,
     'shared AS (SELECT DISTINCT h FROM (SELECT h, lag(h) OVER (ORDER BY h) AS prev FROM hashed) WHERE h = prev),',
-    `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL AND ${dialect.hash64(text)} IN (SELECT h FROM shared)) GROUP BY id HAVING count(*) > 1)`,
+    `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL AND ${hash} IN (SELECT h FROM shared)) GROUP BY id HAVING count(*) > 1)`,
     `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${dialect.integer(Math.max(1, examples))}) AS example_ids FROM counts`,
   ].join('\n');
+}
+
+/** Up to this many rows the duplicate-id sort uses 32-bit hashes (2^26: at most 2^19 colliding pairs expected). */
+export const DUPLICATES_NARROW_ROWS = 2 ** 26;
+
+/** The width of the duplicate-id hash for a log of `rowCount` rows (64 when the count is not known). */
+export function duplicatesHashBits(rowCount: number | undefined): 32 | 64 {
+  return rowCount !== undefined && rowCount <= DUPLICATES_NARROW_ROWS ? 32 : 64;
 }
 
 export interface Duplicates {
