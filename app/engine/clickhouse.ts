@@ -91,7 +91,7 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
 
   async function run(sql: string, opts: QueryOptions & { timeoutMs?: number; readsLog?: boolean } = {}): Promise<Table> {
     if (closed) throw new EngineError('closed', 'The ClickHouse connection is closed.');
-    const queryId = `counterweight-${randomUUID()}`;
+    let queryId = `counterweight-${randomUUID()}`;
     const controller = new AbortController();
     const limit = opts.timeoutMs ?? timeoutMs;
     let stopped: 'cancelled' | 'timeout' | null = null;
@@ -101,18 +101,19 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
       controller.abort();
       void kill(queryId);
     };
-    running.set(queryId, stop);
+    const key = queryId;
+    running.set(key, stop);
     const timer = setTimeout(() => stop('timeout'), limit);
     const onAbort = () => stop('cancelled');
     if (opts.signal?.aborted) onAbort();
     opts.signal?.addEventListener('abort', onAbort, { once: true });
-    const params = new URLSearchParams({ query_id: queryId, ...settings, ...(settings.readonly ? { max_execution_time: String(Math.ceil(limit / 1000)) } : {}) });
+    const params = () => new URLSearchParams({ query_id: queryId, ...settings, ...(settings.readonly ? { max_execution_time: String(Math.ceil(limit / 1000)) } : {}) });
     const stoppedError = () => (stopped === 'timeout'
       ? new EngineError('timeout', `The query did not finish within ${Math.round(limit / 1000)} s on ClickHouse at ${server} and was stopped.`)
       : new EngineError('cancelled', 'The query was cancelled.'));
     try {
       let response: Response | undefined;
-      const send = () => fetch(`${server}/?${params}`, {
+      const send = () => fetch(`${server}/?${params()}`, {
         method: 'POST',
         headers: { Authorization: auth, 'Content-Type': 'text/plain; charset=utf-8' },
         body: `${sql.trim().replace(/;+$/, '')}\nFORMAT TabSeparatedWithNamesAndTypes`,
@@ -125,7 +126,12 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
         } catch (e) {
           if (stopped) throw stoppedError();
           const error = networkError(e, server);
+          // the client gave up (e.g. no answer head within fetch's 300 s) or the line dropped: the statement may still
+          // run on the server, so it is killed; a first failure is sent once more under a new id (a kept-alive socket
+          // the server had just closed fails the same way, before the statement reached it)
+          void kill(queryId);
           if (attempt > 0 || !/closed the connection/.test(error.message)) throw error;
+          queryId = `counterweight-${randomUUID()}`;
         }
       }
       if (!response.ok || !response.body) {
@@ -162,6 +168,7 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
       } catch (e) {
         if (e instanceof EngineError) throw e;
         if (stopped) throw stoppedError();
+        void kill(queryId);
         throw networkError(e, server);
       }
       pending += decoder.decode();
@@ -176,7 +183,7 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
     } finally {
       clearTimeout(timer);
       opts.signal?.removeEventListener('abort', onAbort);
-      running.delete(queryId);
+      running.delete(key);
     }
   }
 

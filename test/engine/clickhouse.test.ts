@@ -4,6 +4,7 @@
  * clear error for each way a connection or a table can be wrong. Expected values are the rows the test
  * itself loads; ClickHouse's text rules are from its documentation ("Formats", TabSeparated).
  */
+import { connect, createServer, type AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { connectClickHouse, type ClickHouseEngine } from '../../app/engine/clickhouse.ts';
 import { networkError } from '../../app/engine/clickhouse-errors.ts';
@@ -170,6 +171,43 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
     setTimeout(() => controller.abort(), 300);
     expect((await rejection(pending)).code).toBe('cancelled');
     expect(await until(async () => (await runningOf(shards, marker)) === 0, 10_000)).toBe(true);
+  });
+
+  it('a connection lost mid-query is a clear error, and the statement is killed on the server', async () => {
+    // A loopback relay in front of the first server cuts every connection that carries the statement once the
+    // statement runs on the server: what the client sees when fetch gives up (its 300 s wait for an answer head)
+    // or the line drops. The client sends it once more (as for a stale kept-alive socket), then gives up; the
+    // KILLs carry only query ids and pass.
+    const target = shards.servers[0]!.httpPort;
+    const marker = `cw_cut_${Date.now()}`;
+    let cuts = 0;
+    const relay = createServer((inbound) => {
+      const outbound = connect(target, '127.0.0.1');
+      const drop = () => { inbound.destroy(); outbound.destroy(); };
+      inbound.on('error', drop).on('close', drop);
+      outbound.on('error', drop).on('close', drop);
+      let seen = false;
+      inbound.on('data', (chunk: Buffer) => {
+        if (seen || !chunk.toString('utf8').includes(marker)) return;
+        seen = true;
+        void until(async () => (await runningOf(shards, marker)) >= 1, 10_000).then(() => { cuts++; drop(); });
+      });
+      inbound.pipe(outbound).pipe(inbound);
+    });
+    await new Promise<void>((resolve) => relay.listen(0, '127.0.0.1', resolve));
+    const port = (relay.address() as AddressInfo).port;
+    const relayed = await connectClickHouse({ server: `http://127.0.0.1:${port}`, credentials: { user: 'default', password: '' } });
+    try {
+      const e = await rejection(relayed.query(`SELECT sleepEachRow(0.5) AS ${marker} FROM numbers(200) SETTINGS max_block_size = 1`));
+      expect(cuts).toBe(2);
+      expect(e.code).toBe('unreachable');
+      expect(e.message).toBe(`Cannot reach ClickHouse at http://127.0.0.1:${port}: the server closed the connection.`);
+      // without the KILLs both statements would sleep on for 100 s
+      expect(await until(async () => (await runningOf(shards, marker)) === 0, 10_000)).toBe(true);
+    } finally {
+      await relayed.close();
+      await new Promise<void>((resolve) => { relay.close(() => resolve()); });
+    }
   });
 
   it('a query past its time limit is stopped with a timeout error', async () => {
