@@ -135,7 +135,7 @@ export interface AuditResult {
 }
 
 
-/** Suggested roles with reasons: the profile, then the weight-balance evidence over every row of the log. */
+/** Suggested roles with reasons: the profile, then the weight-balance evidence over the log's first rows. */
 export async function suggestRoles(run: RunQuery, relation: string, d: Dialect = duckdb): Promise<RoleSuggestion[]> {
   return (await inspectRoles(run, relation, d)).suggestions;
 }

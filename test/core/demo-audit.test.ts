@@ -78,11 +78,11 @@ describe('demo log', () => {
     expect(rows.columns[0]![0]).toBe(f.metrics.invalid_rows);
   });
 
-  it('scans the source at most 5 times plus once per target and once more per given target (the rows above its weight caps), and reads a sample of it once (the profile\'s first query)', () => {
+  it('scans the source at most 5 times plus once per target and once more per given target (the rows above its weight caps), and its first rows twice (the profile, and the role evidence when the action is not mapped)', () => {
     expect(demo.run.source_scans).toBe(demoScans);
     expect(demoScans).toBeLessThanOrEqual(5 + 1 + demo.targets.length + (demo.remedies?.caps.length ?? 0));
     expect(demo.queries.filter((q) => q.name.startsWith('clip ')).map((q) => q.name)).toEqual(['clip table:maple-row-v9-policy']);
-    expect(demo.queries.filter((q) => q.scans_source && /\bLIMIT 100000\)/.test(q.sql)).map((q) => q.name)).toEqual(['profile (first rows)']);
+    expect(demo.queries.filter((q) => q.scans_source && /\bLIMIT 100000\)/.test(q.sql)).map((q) => q.name)).toEqual(['profile (first rows)', 'role evidence']);
   });
 
   it('reports uniform and every always:<action> target when none is given', () => {

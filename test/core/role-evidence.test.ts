@@ -126,10 +126,9 @@ describe('role inference on generated logs', () => {
     expect(problem?.message).toMatch(/does not hold for action column 'offer_id'.*1\.80 for 'b'.*it holds for 'guest_kind'/);
   });
 
-  it('builds one aggregate per candidate, as grouping sets of one read of every row', async () => {
+  it('builds one aggregate per candidate, as grouping sets of one read of the first rows', async () => {
     const sql = actionEvidenceSql('"log"', ['offer', 'zone'], ['p', 'q']);
-    // every row, not the first ones: the evidence must not depend on the row order (test/core/profile-sample.test.ts)
-    expect(sql).not.toContain('LIMIT');
+    expect(sql).toContain('LIMIT 100000');
     expect(sql).toContain('GROUP BY GROUPING SETS ((k0), (k1))');
     expect(sql.match(/sum\(1\.0 \//g)?.length).toBe(4);
     // against a hand-computed table: offer a (p 0.5, 0.5) and b (p 0.25): Σ1/p = 4 and 4; zone z1 holds rows 1 and 3

@@ -33,7 +33,7 @@ export class PartsError extends Error {
 
 const sumOrNull = (a: number | null, b: number | null, pick: (x: number, y: number) => number): number | null => (a === null ? b : b === null ? a : pick(a, b));
 
-/** The profile of the parts together. Distinct counts cannot be added: a part's count is a lower bound for the whole (basis 'sample'). */
+/** The profile of the parts together. Distinct counts cannot be added: a part's count is a lower bound for the whole (basis 'first rows'). */
 export function mergeProfiles(parts: readonly Profile[]): Profile {
   const first = parts[0];
   if (!first) throw new PartsError('no parts to merge');
@@ -52,7 +52,7 @@ export function mergeProfiles(parts: readonly Profile[]): Profile {
       ...c0,
       nonNull: add((c) => c.nonNull),
       distinct,
-      distinctBasis: parts.length === 1 ? c0.distinctBasis : 'sample',
+      distinctBasis: parts.length === 1 ? c0.distinctBasis : 'first rows',
       distinctRows: parts.length === 1 ? c0.distinctRows : Math.max(...cs.map((c) => c.distinctRows)),
       min: comb((c) => c.min, Math.min),
       max: comb((c) => c.max, Math.max),
@@ -63,7 +63,7 @@ export function mergeProfiles(parts: readonly Profile[]): Profile {
       parsedAsNumber: add((c) => c.parsedAsNumber),
       parsedAsTime: add((c) => c.parsedAsTime),
       ...(c0.decimalComma !== undefined ? { decimalComma: add((c) => c.decimalComma ?? 0) } : {}),
-      ...(c0.parseBasis !== undefined ? { parseBasis: cs.every((c) => c.parseBasis === 'all rows') ? 'all rows' as const : 'sample' as const } : {}),
+      ...(c0.parseBasis !== undefined ? { parseBasis: cs.every((c) => c.parseBasis === 'all rows') ? 'all rows' as const : 'first rows' as const } : {}),
       minTimeUs: comb((c) => c.minTimeUs, Math.min),
       maxTimeUs: comb((c) => c.maxTimeUs, Math.max),
     };

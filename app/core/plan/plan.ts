@@ -1,8 +1,8 @@
 /**
  * Exported scan plans (README, "An exported plan"): the audit's statements for a table in an engine we do not
  * drive, and the audit from their results. The statements come in steps, because each step's parameters come
- * from the results before it: `describe` (the columns), `profile (first rows)` (the sample), `profile` (every row, with the
- * plans the sample chose), then `cube scales` (ClickHouse only), `cube`, `tails` and `duplicates`. The plan
+ * from the results before it: `describe` (the columns), `profile (first rows)`, `profile` (every row, with the
+ * plans the first rows chose), then `cube scales` (ClickHouse only), `cube`, `tails` and `duplicates`. The plan
  * of the profile is profileLog's own (app/core/scan/profile.ts), run against the results given so far; the
  * cube is cubeSql's, with the buckets, caps, reward shift and grouping the profile chose, exactly as an audit
  * builds them, and it carries its schema id (CUBE_SCHEMA_ID). The tails statement is the weight groups of

@@ -6,7 +6,7 @@
  * which is 1 only by coincidence. A decision id must be nearly unique.
  */
 import { actionEvidenceSql, EVIDENCE_MAX_VALUES, parseActionEvidence, type EvidenceGroup } from '../scan/role-evidence.ts';
-import type { ColumnProfile, Profile } from '../scan/profile.ts';
+import { PREFIX_ROWS, type ColumnProfile, type Profile } from '../scan/profile.ts';
 import type { RunQuery } from '../table.ts';
 import type { Dialect } from '../sql/dialect.ts';
 import { actionEvidenceSqlClickHouse } from '../scan/rows-clickhouse.ts';
@@ -51,7 +51,7 @@ export interface BalanceFit {
 }
 
 export interface RoleEvidence {
-  /** rows the evidence was read from (every row of the log) */
+  /** rows the evidence was read from (the log's first rows) */
   readonly rowsRead: number;
   readonly fits: readonly BalanceFit[];
 }
@@ -95,7 +95,7 @@ function actionCandidates(profile: Profile): string[] {
     .map((c) => c.name);
 }
 
-/** The identity for every (action candidate, propensity candidate) pair: one aggregate per action candidate, in one read of every row. */
+/** The identity for every (action candidate, propensity candidate) pair: one aggregate per action candidate, in one read of the first rows. */
 export async function gatherRoleEvidence(run: RunQuery, relation: string, profile: Profile, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql, d?: Dialect): Promise<RoleEvidence> {
   const props = propensityCandidates(profile);
   const fits: BalanceFit[] = [];
@@ -106,7 +106,7 @@ export async function gatherRoleEvidence(run: RunQuery, relation: string, profil
   // GROUPING() packs one bit per candidate into an integer: a very wide log is read in chunks of EVIDENCE_CHUNK candidates
   for (let start = 0; start < candidates.length; start += EVIDENCE_CHUNK) {
     const chunk = candidates.slice(start, start + EVIDENCE_CHUNK);
-    const table = await run(record(start === 0 ? 'role evidence' : `role evidence (${start + 1}-${start + chunk.length})`, (d?.name === 'clickhouse' ? actionEvidenceSqlClickHouse(relation, chunk, props.map((name) => ({ name, kind: profile.columns.find((c) => c.name === name)?.kind ?? 'other' }))) : actionEvidenceSql(relation, chunk, props)), true));
+    const table = await run(record(start === 0 ? 'role evidence' : `role evidence (${start + 1}-${start + chunk.length})`, (d?.name === 'clickhouse' ? actionEvidenceSqlClickHouse(relation, chunk, props.map((name) => ({ name, kind: profile.columns.find((c) => c.name === name)?.kind ?? 'other' })), PREFIX_ROWS) : actionEvidenceSql(relation, chunk, props)), true));
     const groups = parseActionEvidence(table, chunk.length, props.length);
     chunk.forEach((col, i) => {
       const g = groups[i] ?? [];
@@ -131,6 +131,6 @@ export function uniqueness(c: ColumnProfile): { share: number; text: string } {
   const counted = Math.max(1, c.distinctRows);
   const share = Math.min(1, c.distinct / counted);
   const pct = `${(100 * share).toFixed(share > 0.999 && share < 1 ? 2 : 1)}%`;
-  const of = c.distinctBasis === 'all rows' ? `${counted.toLocaleString('en')} rows` : `a sample of ${counted.toLocaleString('en')} rows`;
+  const of = c.distinctBasis === 'all rows' ? `${counted.toLocaleString('en')} rows` : `the first ${counted.toLocaleString('en')} rows`;
   return { share, text: `${Math.round(c.distinct).toLocaleString('en')} distinct values in ${of} (${pct})` };
 }

@@ -98,15 +98,15 @@ const pct = (x: number) => `${(100 * x).toFixed(x < 0.001 && x > 0 ? 3 : 1)}%`;
 
 /** Share of a text column's values that are not numbers, in words that say which rows were looked at. */
 function notNumbersText(c: ColumnProfile): string {
-  if (c.parseBasis === 'sample') return `none of its ${PREFIX_ROWS.toLocaleString('en')} sampled values parses as a number`;
+  if (c.parseBasis === 'first rows') return `none of its first ${PREFIX_ROWS.toLocaleString('en')} values parses as a number`;
   return `${pct(1 - c.parsedAsNumber / Math.max(1, c.nonNull))} of values do not parse as numbers`;
 }
 
-/** "6 distinct values", or where only the sample was counted, "12,000 distinct values in a sample of 100,000 rows". */
+/** "6 distinct values", or where only the first rows were counted, "over 10,000 distinct values in the first 100,000 rows". */
 export function distinctText(c: ColumnProfile): string {
   const n = Math.round(c.distinct).toLocaleString('en');
   if (c.distinctBasis === 'all rows') return `${n} distinct value${c.distinct === 1 ? '' : 's'}`;
-  return `${n} distinct values in a sample of ${c.distinctRows.toLocaleString('en')} rows`;
+  return `${n} distinct values in the first ${c.distinctRows.toLocaleString('en')} rows`;
 }
 
 function isProbabilityLike(c: ColumnProfile): boolean {

@@ -8,7 +8,7 @@
  */
 import { clickhouse as d } from '../sql/dialect-clickhouse.ts';
 import type { Table } from '../table.ts';
-import { columnKind, FULL_PLAN, hashKeys, PREFIX_ROWS, type ColumnInfo, type ColumnPlan, type HashKey } from './profile.ts';
+import { columnKind, FULL_PLAN, type ColumnInfo, type ColumnPlan } from './profile.ts';
 
 export function describeSqlClickHouse(relation: string): string {
   return `SELECT * FROM ${relation} LIMIT 0`;
@@ -16,31 +16,6 @@ export function describeSqlClickHouse(relation: string): string {
 
 export function parseDescribeClickHouse(table: Table): ColumnInfo[] {
   return table.names.map((name, j) => ({ name, type: table.types[j] as string }));
-}
-
-function hashTerm(c: ColumnInfo, key: HashKey): string {
-  const col = d.ident(c.name);
-  const x = `toFloat64(${col})`;
-  switch (key) {
-    case 'text': return `toString(${col})`;
-    case 'integer': return `toString(${col})`;
-    case 'boolean': return `toString(toUInt8(${col}))`;
-    case 'time': return `toString(toUInt32(toDateTime(${col})))`;
-    case 'number': return `if(isFinite(${x}) AND abs(${x}) < 1e12, toString(toInt64(floor(${x} * 1000000))), NULL)`;
-  }
-}
-
-/**
- * profile.ts's sampleSql: the same rows, ordered by the same MD5 bytes (its lowercase hex orders as they do)
- * and the same ties. Over a Distributed table each shard sends its own least `rows`, and the first server keeps
- * the least of those.
- */
-export function sampleSqlClickHouse(relation: string, columns: readonly ColumnInfo[], rows = PREFIX_ROWS): string {
-  const keys = hashKeys(columns);
-  const text = columns.flatMap((c, j) => { const k = keys[j]; return k ? [`ifNull(${hashTerm(c, k)}, '')`, "'|'"] : []; });
-  const ties = columns.filter((c) => columnKind(c.type) !== 'other').map((c) => d.ident(c.name));
-  const order = [...(text.length ? [`MD5(concat(${text.join(', ')}))`] : []), ...ties];
-  return `(SELECT * FROM ${relation}${order.length ? ` ORDER BY ${order.join(', ')}` : ''} LIMIT ${d.integer(rows)})`;
 }
 
 /** The text screen of profile.ts's mayParse, in RE2 (ClickHouse's match). */

@@ -2,22 +2,19 @@
  * The profile: row count, nulls, cardinalities, ranges and parse shares for every column. Role
  * suggestion, validation, segment caps and the time-bucket width all come from it.
  *
- * Two queries (profileLog). The first measures everything exactly over a sample of PREFIX_ROWS rows
- * (sampleSql): the rows of least hash of their own values, so the sample is the same set of rows for
- * any row order, any split into files or shards and either dialect (profile-clickhouse.ts hashes the
- * same text). The second reads every row for the figures that must hold for the whole log (rows,
- * nulls, numeric and time ranges, NaN/∞/non-binary/non-integer counts), counts distinct values
- * exactly for the columns the sample shows to be categorical, and screens text for numbers and
- * timestamps only in the columns where some sampled value starts like one. The rest (distinct values
- * of identifier-like columns, parse shares of plain text) keeps the sample's figures and says so
- * (`distinctBasis`, `parseBasis`): counting 10^7 distinct identifiers or running a text screen over
- * 10^7 names costs more than the rest of the audit together. (The statement keeps its name,
- * `profile (first rows)`, the file stem of an exported plan.)
+ * Two queries (profileLog). The first reads only the log's first PREFIX_ROWS rows and measures
+ * everything exactly there. The second reads every row for the figures that must hold for the
+ * whole log (rows, nulls, numeric and time ranges, NaN/∞/non-binary/non-integer counts), counts
+ * distinct values exactly for the columns the first rows show to be categorical, and screens text
+ * for numbers and timestamps only in the columns where some first-row value starts like one. The
+ * rest (distinct values of identifier-like columns, parse shares of plain text) keeps the first
+ * rows' figures and says so (`distinctBasis`, `parseBasis`): counting 10^7 distinct identifiers
+ * or running a text screen over 10^7 names costs more than the rest of the audit together.
  */
 import type { Dialect } from '../sql/dialect.ts';
 import { duckdb } from '../sql/dialect-duckdb.ts';
 import { ident, integer } from '../sql/quote.ts';
-import { describeSqlClickHouse, parseDescribeClickHouse, profileSqlClickHouse, sampleSqlClickHouse } from './profile-clickhouse.ts';
+import { describeSqlClickHouse, parseDescribeClickHouse, profileSqlClickHouse } from './profile-clickhouse.ts';
 import type { RunQuery, Table } from '../table.ts';
 import { column } from '../table.ts';
 
@@ -33,7 +30,7 @@ export interface ColumnProfile extends ColumnInfo {
   readonly nonNull: number;
   /** Distinct non-null values among the `distinctRows` rows counted (exact there). */
   readonly distinct: number;
-  /** 'all rows': counted over the whole log; 'sample': over the `distinctRows` rows of the sample (sampleSql) only, a lower bound. */
+  /** 'all rows': counted over the whole log; 'first rows': over its first `distinctRows` rows only, a lower bound. */
   readonly distinctBasis: CountBasis;
   readonly distinctRows: number;
   readonly min: number | null;
@@ -49,7 +46,7 @@ export interface ColumnProfile extends ColumnInfo {
   /** text only: values that start like a number and hold a comma but do not parse (a decimal comma, "0,25") */
   readonly decimalComma?: number;
   /**
-   * text only: 'sample' when no value among the sampled rows starts like a number or a timestamp,
+   * text only: 'first rows' when no value among the first rows starts like a number or a timestamp,
    * so the column was not screened further and its parse counts (all 0) describe those rows only.
    */
   readonly parseBasis?: CountBasis;
@@ -58,14 +55,14 @@ export interface ColumnProfile extends ColumnInfo {
   readonly maxTimeUs: number | null;
 }
 
-export type CountBasis = 'all rows' | 'sample';
+export type CountBasis = 'all rows' | 'first rows';
 
 export interface Profile {
   readonly rows: number;
   readonly columns: readonly ColumnProfile[];
 }
 
-/** Rows of the sample the first profile query reads (sampleSql). */
+/** Rows the first profile query reads. */
 export const PREFIX_ROWS = 100_000;
 /** Distinct values among the first rows up to which a column is counted exactly over the whole log (segments.cap allows 10,000). */
 export const EXACT_DISTINCT_MAX = 10_000;
@@ -212,13 +209,7 @@ function aggregateOver(source: string, parts: readonly string[], inner: readonly
  * run once per value, not per row. The other columns are read row by row, without a distinct count,
  * screening text only where their plan asks. `c{j}_sc` counts the text values passing mayParse.
  */
-export function profileSql(relation: string, columns: readonly ColumnInfo[], plans: readonly ColumnPlan[] = columns.map(() => FULL_PLAN), once = false): string {
-  // a relation that costs a scan (the sample) is read once, as a materialized CTE both parts read
-  if (once) {
-    const inner = profileSql(ident('cw:sample'), columns, plans);
-    const sample = `${ident('cw:sample')} AS MATERIALIZED (SELECT * FROM ${relation} AS ${ident('cw:sampled')})`;
-    return inner.startsWith('WITH ') ? `WITH ${sample},\n${inner.slice(5)}` : `WITH ${sample}\n${inner}`;
-  }
+export function profileSql(relation: string, columns: readonly ColumnInfo[], plans: readonly ColumnPlan[] = columns.map(() => FULL_PLAN)): string {
   const rows = { parts: ['count(*)::DOUBLE AS "rows"'], inner: [] as string[], screens: [] as string[] };
   const perValue: string[] = [];
   const grouped: { col: string; mark: string }[] = [];
@@ -292,55 +283,11 @@ function screenedCounts(table: Table, columns: readonly ColumnInfo[]): number[] 
   return columns.map((_, j) => num(table, `c${j}_sc`) ?? 0);
 }
 
-/** Integer types, whose text is the same in DuckDB and ClickHouse. */
-const INTEGER = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT)$/;
-
-/**
- * How a column enters the sample's hash, as text both dialects write alike: text as it is, integers and
- * booleans as integers (ClickHouse stores a boolean as UInt8), times as whole seconds since the epoch. Other
- * numbers (their shortest text differs between the engines) only where no column is of those kinds, as
- * floor(x·10^6) for finite |x| < 10^12 (the same IEEE product in both). Lists and structs never.
- */
-export type HashKey = 'text' | 'integer' | 'boolean' | 'time' | 'number';
-
-export function hashKeys(columns: readonly ColumnInfo[]): (HashKey | null)[] {
-  const keys = columns.map((c): HashKey | null => {
-    const kind = columnKind(c.type);
-    if (kind === 'text') return 'text';
-    if (kind === 'boolean') return 'boolean';
-    if (kind === 'temporal') return 'time';
-    return kind === 'numeric' && INTEGER.test(c.type.toUpperCase()) ? 'integer' : null;
-  });
-  if (keys.some((k) => k !== null)) return keys;
-  return columns.map((c) => (columnKind(c.type) === 'numeric' ? 'number' : null));
+function prefixSql(relation: string, rows = PREFIX_ROWS): string {
+  return `(SELECT * FROM ${relation} LIMIT ${integer(rows)})`;
 }
 
-function hashTerm(c: ColumnInfo, key: HashKey): string {
-  const col = ident(c.name);
-  switch (key) {
-    case 'text': return `CAST(${col} AS VARCHAR)`;
-    case 'integer': return `CAST(${col} AS VARCHAR)`;
-    case 'boolean': return `CAST(CAST(${col} AS INTEGER) AS VARCHAR)`;
-    case 'time': return `CAST(CAST(floor(epoch_us(CAST(${col} AS TIMESTAMP)) / 1000000) AS BIGINT) AS VARCHAR)`;
-    case 'number': return `CASE WHEN isfinite(CAST(${col} AS DOUBLE)) AND abs(CAST(${col} AS DOUBLE)) < 1e12 THEN CAST(CAST(floor(CAST(${col} AS DOUBLE) * 1000000) AS BIGINT) AS VARCHAR) END`;
-  }
-}
-
-/**
- * The sample: the `rows` rows of least MD5 (RFC 1321) of their hash text (each keyed column's text, null as
- * empty, followed by '|'), ties broken by every scalar column, so the sample is a set of rows fixed by their
- * values alone; a log of at most `rows` rows is its own sample. MD5's lowercase hex orders as its bytes do,
- * so ClickHouse may order by the bytes (profile-clickhouse.ts). Reads every row once, a top-n, no more.
- */
-export function sampleSql(relation: string, columns: readonly ColumnInfo[], rows = PREFIX_ROWS): string {
-  const keys = hashKeys(columns);
-  const text = columns.flatMap((c, j) => { const k = keys[j]; return k ? [`coalesce(${hashTerm(c, k)}, '') || '|'`] : []; });
-  const ties = columns.filter((c) => columnKind(c.type) !== 'other').map((c) => ident(c.name));
-  const order = [...(text.length ? [`md5(${text.join(' || ')})`] : []), ...ties];
-  return `(SELECT * FROM ${relation}${order.length ? ` ORDER BY ${order.join(', ')}` : ''} LIMIT ${integer(rows)})`;
-}
-
-/** What the whole-log query must measure, given the sample's profile and screen counts. */
+/** What the whole-log query must measure, given the first rows' profile and screen counts. */
 function planFromPrefix(prefix: Profile, screened: readonly number[]): ColumnPlan[] {
   return prefix.columns.map((c, j) => ({
     byValue: c.kind !== 'other' && c.distinct <= EXACT_DISTINCT_MAX && c.distinct <= Math.max(1, 0.5 * c.nonNull),
@@ -348,7 +295,7 @@ function planFromPrefix(prefix: Profile, screened: readonly number[]): ColumnPla
   }));
 }
 
-/** The whole-log figures, with the sample's figures where the plan skipped a measurement. */
+/** The whole-log figures, with the first rows' figures where the plan skipped a measurement. */
 function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly ColumnPlan[]): Profile {
   return {
     rows: whole.rows,
@@ -357,23 +304,23 @@ function mergeProfiles(prefix: Profile, whole: Profile, plans: readonly ColumnPl
       const first = prefix.columns[j] as ColumnProfile;
       const distinct = plan.byValue
         ? { distinct: c.distinct, distinctBasis: 'all rows' as const, distinctRows: whole.rows }
-        : { distinct: first.distinct, distinctBasis: 'sample' as const, distinctRows: prefix.rows };
+        : { distinct: first.distinct, distinctBasis: 'first rows' as const, distinctRows: prefix.rows };
       if (c.kind !== 'text' || plan.byValue || plan.screen) return { ...c, ...distinct };
-      // unscreened text has no parse counts or parsed ranges (all 0 and null): they describe the sample
-      return { ...c, ...distinct, parseBasis: 'sample' as const };
+      // unscreened text has no parse counts or parsed ranges (all 0 and null): they describe the first rows
+      return { ...c, ...distinct, parseBasis: 'first rows' as const };
     }),
   };
 }
 
 /**
  * The profile of a registered log in at most two queries (see the head of this file): DESCRIBE, the
- * sample of PREFIX_ROWS rows, and, when the log is longer, every row. `record` names each query.
+ * first PREFIX_ROWS rows, and, when the log is longer, every row. `record` names each query.
  */
 export async function profileLog(run: RunQuery, relation: string, record: (name: string, sql: string, scans: boolean) => string = (_n, sql) => sql, d: Dialect = duckdb): Promise<Profile> {
   const ch = d.name === 'clickhouse';
   const profileSql_ = ch ? profileSqlClickHouse : profileSql;
   const columns = ch ? parseDescribeClickHouse(await run(record('describe', describeSqlClickHouse(relation), false))) : parseDescribe(await run(record('describe', describeSql(relation), false)));
-  const firstTable = await run(record('profile (first rows)', ch ? profileSqlClickHouse(sampleSqlClickHouse(relation, columns), columns) : profileSql(sampleSql(relation, columns), columns, undefined, true), true));
+  const firstTable = await run(record('profile (first rows)', profileSql_(prefixSql(relation), columns), true));
   const prefix = parseProfile(firstTable, columns);
   if (prefix.rows < PREFIX_ROWS) return prefix;
   const plans = planFromPrefix(prefix, screenedCounts(firstTable, columns));

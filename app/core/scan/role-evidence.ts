@@ -1,7 +1,6 @@
 /**
- * Evidence for the action role from the data: one small aggregate per candidate column, over every row of
- * the log (so the evidence is the same for any row order or split into shards; a group-by of at most
- * EVIDENCE_MAX_VALUES keys per candidate, cheap next to the cube). For each value a of the candidate and each candidate propensity column p it returns the
+ * Evidence for the action role from the data: one small aggregate per candidate column, over the log's
+ * first rows. For each value a of the candidate and each candidate propensity column p it returns the
  * row count and the sums of 1/p and 1/p² over rows with a valid p, from which app/core/roles/evidence.ts
  * computes the weight-balance identity B(a) = (1/n) Σ 1{A=a}/p (Horvitz & Thompson 1952: E[1{A=a}/p] = 1
  * when p is the logging probability of the logged action A).
@@ -9,6 +8,7 @@
 import { ident, integer } from '../sql/quote.ts';
 import type { Cell, Table } from '../table.ts';
 import { column } from '../table.ts';
+import { PREFIX_ROWS } from './profile.ts';
 
 /** Values kept per candidate column; a column with more values is not an action candidate. */
 export const EVIDENCE_MAX_VALUES = 1000;
@@ -18,10 +18,10 @@ const valid = (p: string) => `(${pExpr(p)} > 0 AND ${pExpr(p)} <= 1 AND NOT isna
 
 /**
  * One aggregate per candidate action column against every candidate propensity column, all of them
- * grouping sets of one statement so the log is read once. Column `g` says which candidate a row
+ * grouping sets of one statement so the first rows are read once. Column `g` says which candidate a row
  * belongs to (its index in `candidates`).
  */
-export function actionEvidenceSql(relation: string, candidates: readonly string[], propensities: readonly string[]): string {
+export function actionEvidenceSql(relation: string, candidates: readonly string[], propensities: readonly string[], rows = PREFIX_ROWS): string {
   if (propensities.length === 0 || candidates.length === 0) throw new Error('action evidence needs at least one candidate and one propensity column');
   const sums = propensities.flatMap((p, j) => [
     `count(*) FILTER (WHERE ${valid(p)}) AS n${j}`,
@@ -35,7 +35,7 @@ export function actionEvidenceSql(relation: string, candidates: readonly string[
   const value = candidates.length === 1 ? 'k0' : `CASE ${candidates.map((_, i) => `WHEN GROUPING(k${i}) = 0 THEN k${i}`).join(' ')} END`;
   return [
     `SELECT ${which} AS g, ${value} AS value, count(*) AS rows, ${sums.join(', ')}`,
-    `FROM (SELECT ${keys.join(', ')}, ${propensities.map(ident).join(', ')} FROM ${relation})`,
+    `FROM (SELECT ${keys.join(', ')}, ${propensities.map(ident).join(', ')} FROM ${relation} LIMIT ${integer(rows)})`,
     `GROUP BY GROUPING SETS (${sets})`,
     'ORDER BY g, value NULLS LAST',
   ].join('\n');

@@ -78,20 +78,15 @@ export function examplesSqlClickHouse(relation: string, requests: readonly Examp
   return `SELECT * FROM (\n${branches.join('\nUNION ALL\n')}\n)\nORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`;
 }
 
-/**
- * role-evidence.ts's actionEvidenceSql: a branch per candidate over every row, each a group-by straight on the
- * relation so a Distributed table's shards group their own rows (a subquery would send the rows to the first server).
- */
-export function actionEvidenceSqlClickHouse(relation: string, candidates: readonly string[], propensities: readonly { name: string; kind: ColumnKind }[]): string {
+/** role-evidence.ts's actionEvidenceSql: a branch per candidate over the first `rows` rows. */
+export function actionEvidenceSqlClickHouse(relation: string, candidates: readonly string[], propensities: readonly { name: string; kind: ColumnKind }[], rows: number): string {
   const branches = candidates.map((c, i) => {
     const sums = propensities.flatMap((p, j) => {
       const x = d.numberOf(d.ident(p.name), p.kind);
       const valid = validPropensity(x, d);
       return [`toFloat64(countIf(${valid})) AS n${j}`, `if(countIf(${valid}) = 0, NULL, sumIf(1.0 / ${x}, ${valid})) AS s${j}`, `if(countIf(${valid}) = 0, NULL, sumIf(1.0 / (${x} * ${x}), ${valid})) AS q${j}`];
     });
-    // cw_value, not value: a log's own column named value would clash with the alias
-    return `SELECT toUInt32(${i}) AS g, toString(${d.ident(c)}) AS cw_value, count() AS rows, ${sums.join(', ')} FROM ${relation} GROUP BY cw_value`;
+    return `SELECT toUInt32(${i}) AS g, toString(${d.ident(c)}) AS value, count() AS rows, ${sums.join(', ')} FROM (SELECT * FROM ${relation} LIMIT ${d.integer(rows)}) GROUP BY value`;
   });
-  const out = ['g', 'cw_value AS value', 'rows', ...propensities.flatMap((_, j) => [`n${j}`, `s${j}`, `q${j}`])];
-  return `SELECT ${out.join(', ')} FROM (\n${branches.join('\nUNION ALL\n')}\n)\nORDER BY g, value NULLS LAST`;
+  return `SELECT * FROM (\n${branches.join('\nUNION ALL\n')}\n)\nORDER BY g, value NULLS LAST`;
 }

@@ -152,7 +152,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
       }
       case 'profile': {
         const source = sourceOf(request.source);
-        // the role evidence (app/core/roles/evidence.ts) is one more read of the log, next to the profile
+        // the role evidence (app/core/roles/evidence.ts) is one more read of the first rows, next to the log
         const inspection = await inspectRoles((sql) => engine.query(sql), request.source);
         source.inspection = inspection;
         const { profile, evidence } = inspection;
