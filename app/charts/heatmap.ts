@@ -1,6 +1,7 @@
 import type { ChartOption, ChartSeries } from './types.ts';
 import { baseOption, categoryLabels, seriesTitle } from './base.ts';
 import { SEQUENTIAL_RAMP } from './palette.ts';
+import { countText } from '../core/count-words.ts';
 
 /**
  * Segments × actions: y holds the segment labels, x the actions, values[i][j] the cell for (y[i], x[j]).
@@ -170,5 +171,5 @@ export function heatCellText(v: number | null): string {
   if (v === null) return '';
   if (v !== 0 && Math.abs(v) < 0.0001) return v.toExponential(1);
   if (v !== 0 && Math.abs(v) < 0.01) return v.toPrecision(2);
-  return Number.isInteger(v) ? String(v) : v.toFixed(2);
+  return Number.isInteger(v) ? countText(v) : v.toFixed(2);
 }

@@ -241,5 +241,8 @@ describe('the words of the screens: counts, shares, settings, map cells', () => 
     expect(heatCellText(0.0088)).toBe('0.0088');
     expect(heatCellText(-2.314)).toBe('-2.31');
     expect(heatCellText(null)).toBe('');
+    // counts read as everywhere else in the app (app/core/count-words.ts), in the chart, the table and the panel alike
+    expect(heatCellText(4851)).toBe('4,851');
+    expect(heatCellText(12)).toBe('12');
   });
 });
