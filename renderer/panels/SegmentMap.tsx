@@ -13,6 +13,9 @@ import { SqlBlock } from '../components/SqlBlock.tsx';
 import { countText } from '../../app/core/count-words.ts';
 import { findingsForCell, segmentHeatmaps, segmentOfRow, type CellFinding } from './segment-cells.ts';
 import { ReadinessTable } from './ReadinessTable.tsx';
+
+/** A cell of the table view and the cell panel: the chart's text, and a dash where the map has no value. */
+const cellText = (v: number | null): string => (v === null ? '—' : heatCellText(v));
 import { cubeVersions, regroupKey, useCubeRegroup } from './cube-regroup.ts';
 
 interface Cell { readonly row: number; readonly col: number }
@@ -138,8 +141,8 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
                       <th scope="row">{ys[i]}{series.row_notes?.[i] ? <strong> — {series.row_notes[i]}</strong> : null}</th>
                       {row.map((v, j) => (
                         <td key={j}>
-                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${heatCellText(v)}`}>
-                            {heatCellText(v)}
+                          <button type="button" className={`cell-button${cell?.row === i && cell.col === j ? ' selected' : ''}`} style={cellStyle(v, range)} onClick={() => setCell({ row: i, col: j })} aria-label={`${ys[i]}, ${series.x[j]}: ${cellText(v)}`}>
+                            {cellText(v)}
                           </button>
                         </td>
                       ))}
@@ -154,7 +157,7 @@ export function SegmentMap({ report, workspace }: { report: Report; workspace?: 
           {cell ? (
             <>
               <h2>{rowLabel} · {action}</h2>
-              <p>{series.name}: <strong data-testid="cell-value">{heatCellText(series.values[cell.row]?.[cell.col] ?? null)}</strong>{series.unit ? ` ${series.unit}` : ''}</p>
+              <p>{series.name}: <strong data-testid="cell-value">{cellText(series.values[cell.row]?.[cell.col] ?? null)}</strong>{series.unit ? ` ${series.unit}` : ''}</p>
               {sql && <SqlBlock sql={sql} label="SQL that selects this cell's rows (name your log “log”)" />}
               <h3>Findings here ({findings.length})</h3>
               {findings.length === 0 ? <p className="muted">No check reported a finding for this cell.</p> : (
