@@ -15,6 +15,7 @@ import { createHostedServer, type HostedServer } from '../../scripts/web/hosted-
 import { parseTable } from '../../app/core/targets/targets.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { formatShare, formatValue } from '../../renderer/format.ts';
+import { heatCellText } from '../../app/charts/index.ts';
 
 const ROOT = process.cwd();
 const SAMPLE = path.join(ROOT, 'sample-data');
@@ -183,10 +184,10 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
     const range = defect('propensity.range');
     const evidence: Record<string, RegExp> = {
       'propensity.exploration': new RegExp(`${exploration.segment.region}.*${exploration.segment.device}`),
-      'propensity.range': new RegExp(`^${range.rows_affected} rows`),
+      'propensity.range': new RegExp(`^${(range.rows_affected ?? 0).toLocaleString('en')} rows`), // counts read with a thousands separator in the app
       'balance.weights': new RegExp(defect('balance.weights').segment.region ?? '-'),
       'drift.reward': new RegExp(`tenure=${defect('drift.reward').segment.tenure}`),
-      'identity.duplicates': new RegExp(`^${defect('identity.duplicates').magnitude.extra_rows} duplicated`),
+      'identity.duplicates': new RegExp(`^${(defect('identity.duplicates').magnitude.extra_rows ?? 0).toLocaleString('en')} duplicated`),
       'reward.validity': new RegExp(`^${((defect('reward.validity').magnitude.share_of_rows ?? 0) * 100).toFixed(2)}% of rewards missing`),
       'support.floor': new RegExp(`lowest ${defect('support.floor').magnitude.propensity}`),
     };
@@ -232,8 +233,9 @@ test.describe.serial('hosted web mode on the demo Parquet log', () => {
       const header = await page.locator('.heat-table thead th').allTextContents();
       const web = await page.locator('.heat-table tbody tr', { has: page.locator('th', { hasText: /^web$/ }) }).locator('td button').allTextContents();
       const shown = Object.fromEntries(header.slice(1).map((a, j) => [a, web[j]]));
+      // the table view prints a cell as the chart does (app/charts/heatmap.ts heatCellText)
       const total = (t.columns[1] as number[]).reduce((a, b) => a + b, 0);
-      for (let i = 0; i < t.rowCount; i++) expect(shown[String(t.columns[0]?.[i])], String(t.columns[0]?.[i])).toBe(formatValue((t.columns[1]?.[i] as number) / total));
+      for (let i = 0; i < t.rowCount; i++) expect(shown[String(t.columns[0]?.[i])], String(t.columns[0]?.[i])).toBe(heatCellText((t.columns[1]?.[i] as number) / total));
     } finally {
       await engine.close();
     }
