@@ -1,7 +1,7 @@
 import type { Cell } from '../app/core/table.ts';
 import { countText } from '../app/core/count-words.ts';
 import { isShareMetric } from '../app/charts/labels.ts';
-import { withTimesInWords } from '../app/report/format.ts';
+import { loggedValueText, withTimesInWords } from '../app/report/format.ts';
 
 // Number.prototype.toLocaleString builds a new Intl.NumberFormat on every call (ECMA-402 §19.4.1), which is slow
 // for a table of hundreds of cells; the same formats, built once, give the same text.
@@ -70,7 +70,7 @@ export function bucketsNeedHour(labels: readonly unknown[]): boolean {
   return labels.some((l) => typeof l === 'string' && !l.includes('T00:00:00'));
 }
 
-export { withTimesInWords };
+export { loggedValueText, withTimesInWords };
 
 /** A metric's value: a share as a percent (as everywhere else in the app), an instant as "2026-03-17 06:00" (UTC). */
 export function metricText(key: string, value: Cell | undefined): string {

@@ -4,7 +4,7 @@
  * through the `html` tag, which escapes it.
  */
 import type { Change, Comparison, EstimateChange, FindingChange, Headline } from '../core/compare/contract.ts';
-import { fmtCell, fmtInterval, fmtNumber, fmtSegment } from './format.ts';
+import { fmtCell, fmtInterval, fmtNumber, fmtSegment, withTimesInWords } from './format.ts';
 import { html, reportPage, type SafeHtml } from './html-template.ts';
 
 const MAX_ROWS = 300;
@@ -30,7 +30,7 @@ function status(s: string | null): SafeHtml {
 
 function headlineList(items: readonly Headline[], empty: string): SafeHtml {
   if (items.length === 0) return html`<p class="muted">${empty}</p>`;
-  return html`<ul class="headlines">${items.map((h) => html`<li>${h.regression ? html`<strong>Regression:</strong> ` : ''}${h.message}</li>`)}</ul>`;
+  return html`<ul class="headlines">${items.map((h) => html`<li>${h.regression ? html`<strong>Regression:</strong> ` : ''}${withTimesInWords(h.message)}</li>`)}</ul>`;
 }
 
 function findingRows(findings: readonly FindingChange[]): SafeHtml {
@@ -40,7 +40,7 @@ ${shown.map((f) => html`<tr><td><code>${f.check}</code>${f.scope ? html`<br><spa
 <td>${fmtSegment(f.segment)}${f.action !== undefined ? html`<br>action ${f.action}` : ''}${f.target !== undefined ? html`<br>target ${f.target}` : ''}${(f.current ?? f.baseline)?.window ? html`<br><span class="muted small">${(f.current ?? f.baseline)!.window!.from} – ${(f.current ?? f.baseline)!.window!.to}</span>` : ''}</td>
 <td>${status(f.baseline?.status ?? null)}</td><td>${status(f.current?.status ?? null)}</td>
 <td class="num">${f.size_metric}: ${fmtNumber(f.baseline?.size ?? null)}</td><td class="num">${f.size_metric}: ${fmtNumber(f.current?.size ?? null)}</td>
-<td>${(f.current ?? f.baseline)!.message}</td></tr>`)}
+<td>${withTimesInWords((f.current ?? f.baseline)!.message)}</td></tr>`)}
 </tbody></table>${findings.length > shown.length ? html`<p class="muted">${fmtNumber(findings.length - shown.length)} more in the JSON comparison.</p>` : ''}`;
 }
 
@@ -56,11 +56,11 @@ export function renderComparisonHtml(c: Comparison, labels: { baseline: string; 
   const body = html`
 <header>
   <h1>Counterweight comparison</h1>
-  <p class="meta">Baseline: ${labels.baseline} · ${fmtNumber(c.baseline.rows)} rows · audited ${c.baseline.started_at} by version ${c.baseline.tool_version}${c.baseline.span ? ` · log ${c.baseline.span.from} – ${c.baseline.span.to}` : ''}</p>
-  <p class="meta">Current: ${labels.current} · ${fmtNumber(c.current.rows)} rows · audited ${c.current.started_at} by version ${c.current.tool_version}${c.current.span ? ` · log ${c.current.span.from} – ${c.current.span.to}` : ''}</p>
+  <p class="meta">Baseline: ${labels.baseline} · ${fmtNumber(c.baseline.rows)} rows · audited ${withTimesInWords(c.baseline.started_at)} by version ${c.baseline.tool_version}${c.baseline.span ? ` · log ${withTimesInWords(`${c.baseline.span.from} to ${c.baseline.span.to}`)}` : ''}</p>
+  <p class="meta">Current: ${labels.current} · ${fmtNumber(c.current.rows)} rows · audited ${withTimesInWords(c.current.started_at)} by version ${c.current.tool_version}${c.current.span ? ` · log ${withTimesInWords(`${c.current.span.from} to ${c.current.span.to}`)}` : ''}</p>
   <p class="meta">Comparison schema ${c.schema} · estimates differ when a two-sided z test of their difference has p &lt; ${fmtNumber(c.alpha)}</p>
 </header>
-${c.issues.length ? html`<section class="issues${c.comparable ? ' note' : ''}" id="comparability"><h2>${c.comparable ? 'Note before reading' : 'These reports are not directly comparable'}</h2><ul>${c.issues.map((i) => html`<li>${i.message}</li>`)}</ul></section>` : ''}
+${c.issues.length ? html`<section class="issues${c.comparable ? ' note' : ''}" id="comparability"><h2>${c.comparable ? 'Note before reading' : 'These reports are not directly comparable'}</h2><ul>${c.issues.map((i) => html`<li>${withTimesInWords(i.message)}</li>`)}</ul></section>` : ''}
 <section id="verdict"><h2>Verdict</h2><p>${c.verdict.baseline} → <strong>${c.verdict.current}</strong> ${change(c.verdict.change)}</p>
 <p><strong>${c.regression ? 'Regression: something that decides the verdict got worse.' : 'No regression.'}</strong></p></section>
 <section id="worse"><h2>What got worse</h2>${headlineList(c.worse, 'Nothing got worse.')}</section>

@@ -28,6 +28,28 @@ export function fmtCell(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) => (typeof v === 'bigint' ? v.toString() : v));
 }
 
+/** An instant as an engine hands a timestamp over ("2026-03-02T00:21:28.000000Z"): date, time to the second, and a fraction only when it is not zero. */
+const LOGGED_INSTANT = /^(\d{4,}-\d\d-\d\d)T(\d\d:\d\d:\d\d)(\.\d+)?Z$/;
+
+/** A logged timestamp for people: "2026-03-02 00:21:28" (UTC, which the table says once), "… 00:21:28.5" with a fraction; other text as it is. */
+export function loggedInstantText(value: string): string {
+  const m = LOGGED_INSTANT.exec(value);
+  if (!m) return value;
+  const fraction = m[3] && !/^\.0+$/.test(m[3]) ? m[3].replace(/0+$/, '') : '';
+  return `${m[1]} ${m[2]}${fraction}`;
+}
+
+/**
+ * A value of a logged row (a finding's example rows, the row browser): as it was logged, with no rounding and no
+ * digit grouping (a propensity 0.3265053 or an id 1234 reads as it is), timestamps as loggedInstantText writes them.
+ */
+export function loggedValueText(value: unknown, nullText = 'null'): string {
+  if (value === null || value === undefined) return nullText;
+  if (typeof value === 'number' || typeof value === 'bigint') return String(value);
+  if (typeof value === 'string') return loggedInstantText(value);
+  return fmtCell(value);
+}
+
 export function fmtSegment(segment: Record<string, string>): string {
   const parts = Object.entries(segment).map(([k, v]) => `${k}=${v}`);
   return parts.length ? parts.join(', ') : '(all rows)';

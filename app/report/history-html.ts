@@ -1,7 +1,7 @@
 /** The self-contained HTML history of a folder of reports: one printable file, no network, every value escaped. */
 import { historyEstimateOption, historySegmentsHeight, historySegmentsOption, historyWeightsOption } from '../charts/history.ts';
 import type { History } from '../core/compare/history.ts';
-import { fmtNumber, fmtSegment } from './format.ts';
+import { fmtNumber, fmtSegment, withTimesInWords } from './format.ts';
 import { makeChart, type HtmlOptions } from './html-chart.ts';
 import { html, reportPage, type SafeHtml } from './html-template.ts';
 
@@ -16,7 +16,7 @@ const TARGET_CHART_HEIGHT = 300;
 export function renderHistoryHtml(h: History, options: HtmlOptions = {}): string {
   const chart = makeChart(options);
   const labels = h.entries.map((e) => e.label);
-  const head = html`<tr><th></th>${h.entries.map((e) => html`<th>${e.label}<br><span class="muted small">${e.span ? `${e.span.from.slice(0, 10)} – ${e.span.to.slice(0, 10)}` : e.started_at}</span></th>`)}</tr>`;
+  const head = html`<tr><th></th>${h.entries.map((e) => html`<th>${e.label}<br><span class="muted small">${e.span ? `${e.span.from.slice(0, 10)} – ${e.span.to.slice(0, 10)}` : withTimesInWords(e.started_at)}</span></th>`)}</tr>`;
   const body = html`
 <header><h1>Counterweight audit history</h1><p class="meta">${fmtNumber(h.entries.length)} reports, oldest log first · ${h.schema}</p></header>
 <h2 id="verdicts">Verdict</h2>

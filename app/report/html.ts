@@ -9,7 +9,7 @@ import { readinessCauses } from '../core/verdict.ts';
 import { remedyLines } from './remedies-text.ts';
 import { chartForSeries, chartHeight, estimatesOption, STATUS_LABELS } from '../charts/index.ts';
 import { isShareMetric, metricWords, settingValueText, SHOWN_STATUS, shownStatus } from '../charts/labels.ts';
-import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare, withTimesInWords } from './format.ts';
+import { fmtCell, fmtInterval, fmtNumber, fmtSegment, fmtShare, loggedValueText, withTimesInWords } from './format.ts';
 import { makeChart, type ChartFn, type HtmlOptions } from './html-chart.ts';
 import { html, reportPage, type SafeHtml } from './html-template.ts';
 import { weightsRows } from './target-words.ts';
@@ -34,7 +34,7 @@ export function renderHtmlReport(report: Report, options: HtmlOptions = {}): str
 <header>
   <h1>Counterweight audit report</h1>
   <p class="meta">${report.input.files.map((f) => f.path).join(', ')} · ${report.input.format} · ${fmtNumber(report.input.rows)} rows</p>
-  <p class="meta">Generated ${report.run.started_at} by ${report.tool.name} ${report.tool.version} (${report.run.engine} engine, ${fmtNumber(report.run.seconds)} s, ${fmtNumber(report.run.source_scans)} scans of the log${report.run.peak_rss_mb === undefined ? '' : `, peak memory ${fmtNumber(report.run.peak_rss_mb)} MB`}) · report schema ${report.schema}</p>
+  <p class="meta">Generated ${withTimesInWords(report.run.started_at)} by ${report.tool.name} ${report.tool.version} (${report.run.engine} engine, ${fmtNumber(report.run.seconds)} s, ${fmtNumber(report.run.source_scans)} scans of the log${report.run.peak_rss_mb === undefined ? '' : `, peak memory ${fmtNumber(report.run.peak_rss_mb)} MB`}) · report schema ${report.schema}</p>
 </header>
 ${verdictSection(report)}
 ${cautionsBlock(report.cautions)}
@@ -187,7 +187,7 @@ function findingRow(f: Finding): SafeHtml {
   const columns = examples ? [...new Set(examples.flatMap((r) => Object.keys(r)))] : [];
   return html`<tr><td>${statusBadge(f.status)}</td><td>${fmtSegment(f.segment)}</td><td>${f.action ?? '—'}</td><td>${f.window ? withTimesInWords(`${f.window.from} to ${f.window.to}`) : '—'}</td><td>${f.target ?? '—'}</td>
 <td>${withTimesInWords(f.message)}${inlineMetrics(f.metrics) ? html`<br><span class="muted small">${inlineMetrics(f.metrics)}</span>` : ''}
-${examples ? html`<div class="scroll"><table class="small"><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${fmtCell(r[c])}</td>`)}</tr>`)}</tbody></table></div>` : ''}
+${examples ? html`<div class="scroll"><table class="small"><caption>Example rows (as logged; times in UTC)</caption><thead><tr>${columns.map((c) => html`<th>${c}</th>`)}</tr></thead><tbody>${examples.map((r) => html`<tr>${columns.map((c) => html`<td>${loggedValueText(r[c])}</td>`)}</tr>`)}</tbody></table></div>` : ''}
 ${f.sql ? html`<pre>${f.sql}</pre>` : ''}</td></tr>`;
 }
 
@@ -246,7 +246,7 @@ function signoffSection(report: Report): SafeHtml {
   return html`<h2 id="signoff">Sign-off</h2>
 <table class="kv"><tbody>
 <tr><td>reviewer</td><td>${s.reviewer}</td></tr><tr><td>decision</td><td>${s.decision}</td></tr><tr><td>note</td><td>${s.note || '—'}</td></tr>
-<tr><td>signed at</td><td>${s.signed_at}</td></tr><tr><td>digest (SHA-256)</td><td><code class="small">${s.digest}</code></td></tr>
+<tr><td>signed at</td><td>${withTimesInWords(s.signed_at)}</td></tr><tr><td>digest (SHA-256)</td><td><code class="small">${s.digest}</code></td></tr>
 <tr><td>signature</td><td>${s.signature ? html`${s.signature.algorithm}, public key <code class="small">${s.signature.public_key}</code>` : 'none (digest only)'}</td></tr>
 </tbody></table>`;
 }

@@ -1,5 +1,5 @@
 import type { Finding } from '../../app/core/model/report.ts';
-import { formatValue, isInstant, metricText, segmentLabel, withTimesInWords } from '../format.ts';
+import { isInstant, loggedValueText, metricText, segmentLabel, withTimesInWords } from '../format.ts';
 import { StatusBadge } from './StatusBadge.tsx';
 import { SqlBlock } from './SqlBlock.tsx';
 import { Term } from './Term.tsx';
@@ -28,9 +28,9 @@ function FindingItem({ finding }: { finding: Finding }) {
         // a region that scrolls sideways takes the focus, so the keyboard can scroll it (axe scrollable-region-focusable)
         <div className="table-scroll" tabIndex={0} role="region" aria-label={`Example rows: ${segmentLabel(finding.segment)}${finding.action !== undefined ? `, action ${finding.action}` : ""}`}>
           <table className="examples" data-testid="example-rows">
-            <caption>Example rows</caption>
+            <caption>Example rows (as logged; times in UTC)</caption>
             <thead><tr>{columns.map((c) => <th key={c} scope="col">{c}</th>)}</tr></thead>
-            <tbody>{examples.map((e, i) => <tr key={i}>{columns.map((c) => <td key={c}>{formatValue(e[c])}</td>)}</tr>)}</tbody>
+            <tbody>{examples.map((e, i) => <tr key={i}>{columns.map((c) => <td key={c}>{loggedValueText(e[c])}</td>)}</tr>)}</tbody>
           </table>
         </div>
       )}

@@ -3,7 +3,7 @@ import type { DrillCursor } from '../../app/core/scan/drill.ts';
 import type { Cell, Table } from '../../app/core/table.ts';
 import { errorMessage } from '../engine/backend.ts';
 import type { RowFeed } from '../engine/row-feed.ts';
-import { formatValue } from '../format.ts';
+import { formatValue, loggedValueText } from '../format.ts';
 import { countText } from '../../app/core/count-words.ts';
 
 const ROW_PX = 28;
@@ -40,12 +40,9 @@ function widthsOf(page: Table, columns: readonly { name: string; j: number; type
 /** A log value as the row table shows it: the value itself, with timestamps readable. */
 function textOf(value: Cell | undefined, type: string): string {
   if (value === null || value === undefined) return 'null';
-  if (typeof value === 'string' && type.toUpperCase().startsWith('TIMESTAMP')) {
-    const m = /^(\d{4,}-\d\d-\d\d)T(\d\d:\d\d:\d\d)(\.\d+)?Z$/.exec(value);
-    if (m) return `${m[1]} ${m[2]}${m[3] && !/^\.0+$/.test(m[3]) ? m[3].replace(/0+$/, '') : ''}`;
-  }
+  if (typeof value === 'string' && !type.toUpperCase().startsWith('TIMESTAMP')) return value;
   // Data values are shown as logged (no rounding, no digit grouping: 0.0123456 and id 1234 stay as they are).
-  if (typeof value === 'number' || typeof value === 'bigint') return String(value);
+  if (typeof value === 'string' || typeof value === 'number' || typeof value === 'bigint') return loggedValueText(value);
   return formatValue(value);
 }
 

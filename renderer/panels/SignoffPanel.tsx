@@ -4,6 +4,7 @@ import { Cautions } from '../components/Cautions.tsx';
 import { VerdictBadge } from '../components/VerdictBadge.tsx';
 import { downloadText, reportJson, signReport } from '../export/report-file.ts';
 import { renderHtmlReport } from '../../app/report/html.ts';
+import { withTimesInWords } from '../format.ts';
 
 const DECISIONS: readonly { value: Signoff['decision']; words: string }[] = [
   { value: 'approve', words: 'Approve: the log supports the evaluation' },
@@ -56,7 +57,7 @@ export function SignoffPanel({ report, onSigned }: { report: Report; onSigned: (
       {report.signoff && (
         <div className="card" role="status">
           <h2>{report.signoff.signature ? 'Sign-off recorded and signed (Ed25519)' : 'Sign-off recorded (not cryptographically signed)'}</h2>
-          <p>{report.signoff.reviewer} — <strong>{report.signoff.decision}</strong> at {report.signoff.signed_at}</p>
+          <p>{report.signoff.reviewer} — <strong>{report.signoff.decision}</strong> at {withTimesInWords(report.signoff.signed_at)}</p>
           <p className="muted">Report digest (SHA-256 of the canonical report without the sign-off): <code className="digest">{report.signoff.digest}</code></p>
           <p className="muted">Recorded, not cryptographically signed: to add an Ed25519 signature, export the JSON and run <code>counterweight sign</code> with <code>--key</code>.</p>
         </div>

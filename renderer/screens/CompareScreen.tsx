@@ -43,7 +43,7 @@ function FindingTable({ findings, onOpenCheck, current }: { findings: readonly F
         {findings.map((f, i) => (
           <tr key={i} data-finding-state={f.state}>
             <td><code>{f.check}</code>{f.scope ? <div className="muted">by {f.scope}</div> : null}</td>
-            <td>{where(f)}<div className="muted">{(f.current ?? f.baseline)?.message}</div></td>
+            <td>{where(f)}<div className="muted">{withTimesInWords((f.current ?? f.baseline)?.message ?? '')}</div></td>
             <td><Status status={f.baseline?.status ?? null} /></td>
             <td><Status status={f.current?.status ?? null} /></td>
             <td>{f.size_metric} {num(f.baseline?.size)} → {num(f.current?.size)}</td>

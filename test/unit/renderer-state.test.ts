@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { nextStatus, IDLE, type EngineStatus, type OpenedSource } from '../../renderer/engine/status.ts';
 import { chooseFormat } from '../../renderer/engine/source-files.ts';
 import { shortTime } from '../../renderer/charts.ts';
-import { bucketsNeedHour, formatValue, isInstant, metricText, timeText, withTimesInWords } from '../../renderer/format.ts';
+import { bucketsNeedHour, formatValue, isInstant, loggedValueText, metricText, timeText, withTimesInWords } from '../../renderer/format.ts';
 import { countText, counted } from '../../app/core/count-words.ts';
 import { settingValueText } from '../../app/charts/labels.ts';
 import { heatCellText } from '../../app/charts/index.ts';
@@ -157,6 +157,18 @@ describe('time bucket labels on page charts', () => {
     expect(timeText('2026-03-15T00:00:00.000Z')).toBe('2026-03-15 00:00');
     expect(isInstant('2026-03-15T00:00:00.000Z')).toBe(true);
     expect(isInstant('upgrade')).toBe(false);
+  });
+
+  it('shows a logged row as it was logged: no rounding or digit grouping, timestamps to the second', () => {
+    // an example row of the demo's identity.duplicates finding, as the native engine hands it over
+    expect(loggedValueText('2026-03-02T00:21:28.000000Z')).toBe('2026-03-02 00:21:28');
+    expect(loggedValueText('2026-03-02T00:21:28.250000Z')).toBe('2026-03-02 00:21:28.25');
+    expect(loggedValueText(0.3265053)).toBe('0.3265053');
+    expect(loggedValueText(1234)).toBe('1234');
+    expect(loggedValueText(12345678901234567890n)).toBe('12345678901234567890');
+    expect(loggedValueText(null)).toBe('null');
+    expect(loggedValueText('d-00000019')).toBe('d-00000019');
+    expect(loggedValueText('2026-03-02 00:21')).toBe('2026-03-02 00:21');
   });
 });
 

@@ -21,9 +21,9 @@ function checkPropensityRange(ctx: AuditContext): ReturnType<typeof result> {
     const base = { segment, status, metrics: { invalid_rows: g.bad, rows: g.rows, share_in_group: g.bad / Math.max(1, g.rows), share_of_invalid: g.bad / t.nPInvalid } };
     const where = (w?: [number, number]) => and(rowsExpr.dialect.notTrue(validPropensity(rowsExpr.propensity, rowsExpr.dialect)), segmentPredicate(rowsExpr, ctx.segmentColumns, segment), w ? windowPredicate(rowsExpr, ctx.buckets, w[0], w[1]) : undefined);
     if (when.length === 0) {
-      findings.push({ ...base, message: `${g.bad} invalid propensities in ${describeSegment(segment)} (${pct(g.bad / Math.max(1, g.rows), 2)} of its rows)`, ...opt(where()) });
+      findings.push({ ...base, message: `${n_(g.bad)} invalid propensities in ${describeSegment(segment)} (${pct(g.bad / Math.max(1, g.rows), 2)} of its rows)`, ...opt(where()) });
     } else {
-      when.forEach((w, k) => findings.push({ ...base, window: w, message: `${g.bad} invalid propensities in ${describeSegment(segment)}, concentrated ${w.from} to ${w.to} (${pct(g.bad / t.nPInvalid)} of all invalid rows)`, ...opt(where(windows[k])) }));
+      when.forEach((w, k) => findings.push({ ...base, window: w, message: `${n_(g.bad)} invalid propensities in ${describeSegment(segment)}, concentrated ${w.from} to ${w.to} (${pct(g.bad / t.nPInvalid)} of all invalid rows)`, ...opt(where(windows[k])) }));
     }
   }
   const kinds = `null or unparseable ${n_(t.nPNull)}, NaN ${n_(t.nPNaN)}, <= 0 ${n_(t.nPNonPositive)}, > 1 ${n_(t.nPAboveOne)}`;

@@ -3,6 +3,7 @@ import type { Status } from '../model/report.ts';
 import { paretoKThreshold, psisKhatFromTail, psisTailLength } from '../stats/psis.ts';
 import { finite, fmt, result, skipped, worst, type AuditContext, type DraftFinding } from './context.ts';
 import type { TargetAnalysis } from '../targets/analysis.ts';
+import { countText } from '../count-words.ts';
 
 export interface TailSummary {
   /** null when not available, and when the tail is bounded (`bounded`: k̂ = −∞) */
@@ -52,7 +53,7 @@ function checkTail(ctx: AuditContext): ReturnType<typeof result> {
       target: t.target.name,
       status: primary ? status : 'pass',
       metrics: { khat: s.khat, bounded: s.bounded, threshold: s.threshold, tail_length: s.tailLength, rows: t.n },
-      message: `${t.target.name}: k̂ = ${s.bounded ? 'bounded' : s.khat === null ? 'not available' : fmt(s.khat)} from the largest ${s.tailLength} weights (warn above ${warnK}, fail above ${fmt(s.threshold)})${s.note ? `; ${s.note}` : ''}${primary ? '' : ' (reference only)'}`,
+      message: `${t.target.name}: k̂ = ${s.bounded ? 'bounded' : s.khat === null ? 'not available' : fmt(s.khat)} from the largest ${countText(s.tailLength)} weights (warn above ${warnK}, fail above ${fmt(s.threshold)})${s.note ? `; ${s.note}` : ''}${primary ? '' : ' (reference only)'}`,
     });
   }
   const status = statuses.length ? worst(...statuses) : 'pass';

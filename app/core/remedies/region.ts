@@ -6,6 +6,7 @@ import { segmentKey, SEP } from '../cube/rollup.ts';
 import type { EstimatorCell } from '../cube/types.ts';
 import { doublyRobust, ips, snips, type Estimate } from '../stats/estimators.ts';
 import type { CubeView, TargetAnalysis } from '../targets/analysis.ts';
+import { countText, counted } from '../count-words.ts';
 
 export type ExclusionReason = 'never logged' | 'below floor' | 'too few rows';
 
@@ -146,7 +147,7 @@ export function notCovered(region: SupportedRegion, massInside: number): string 
   const never = region.excluded.filter((c) => c.reason === 'never logged').length;
   const below = region.excluded.filter((c) => c.reason === 'below floor').length;
   const few = region.excluded.filter((c) => c.reason === 'too few rows').length;
-  const parts = [never ? `${never} never logged` : '', below ? `${below} with a propensity below ${region.epsilon}` : '', few ? `${few} with fewer than ${region.minRows} rows` : ''].filter(Boolean);
+  const parts = [never ? `${countText(never)} never logged` : '', below ? `${countText(below)} with a propensity below ${region.epsilon}` : '', few ? `${countText(few)} with fewer than ${counted(region.minRows, 'row')}` : ''].filter(Boolean);
   const share = Number.isFinite(massInside) ? `${(100 * (1 - massInside)).toFixed(1)}% of the target's probability mass` : "the target's mass";
   return `It says nothing about the target's choices outside the region (${share}, on ${region.excluded.length} of ${region.cells} segment × action pairs${parts.length ? `: ${parts.join(', ')}` : ''}): there the log holds no evidence, and the target's value there may be better or worse. Rows without a valid propensity are left out, as in every estimate; it is the value over the region, not the target's value, unless the target's choices outside it do as well as inside.`;
 }
