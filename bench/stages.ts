@@ -1,6 +1,7 @@
 /**
  * Wall and process CPU time of each query of one full audit, in seconds, on the native engine or on
- * DuckDB-Wasm in Node (where opening a Parquet log loads it into DuckDB-Wasm's memory: that load is timed too):
+ * DuckDB-Wasm in Node (where opening a Parquet log loads it into DuckDB-Wasm's memory: that load is timed too),
+ * with the process's peak RSS so far after each:
  *   node --import tsx bench/stages.ts <log path> [threads] [memory_limit, e.g. 1.5GB] [--wasm]
  */
 import { readFileSync } from 'node:fs';
@@ -8,6 +9,7 @@ import { runAudit } from '../app/core/audit.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
 import { stageOf } from './stage-label.ts';
+import { peakRssMb } from '../app/engine/memory.ts';
 
 const V9 = new URL('../sample-data/maple-row-v9-policy.csv', import.meta.url).pathname;
 const wasm = process.argv.includes('--wasm');
@@ -22,7 +24,7 @@ const src = await engine.register({ kind: 'path', paths: [path] });
 const openCpu = process.cpuUsage(openCpu0);
 console.log(`open: ${((performance.now() - open0) / 1000).toFixed(3)} s wall, ${((openCpu.user + openCpu.system) / 1e6).toFixed(2)} s CPU`);
 for (let round = 0; round < 2; round++) {
-  const times: [string, number, number, number][] = [];
+  const times: [string, number, number, number, number][] = [];
   let label = '';
   const t0 = performance.now();
   const cpu0 = process.cpuUsage();
@@ -32,12 +34,12 @@ for (let round = 0; round < 2; round++) {
     const c0 = process.cpuUsage();
     const t = await engine.query(sql);
     const c = process.cpuUsage(c0);
-    times.push([`${label} @${((s - t0) / 1000).toFixed(2)}`, (performance.now() - s) / 1000, (c.user + c.system) / 1e6, t.rowCount]);
+    times.push([`${label} @${((s - t0) / 1000).toFixed(2)}`, (performance.now() - s) / 1000, (c.user + c.system) / 1e6, t.rowCount, peakRssMb()]);
     return t;
   }, { relation: src.relation, input: { files: [], format: src.format }, engine: engine.kind, targets: [{ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }] });
   const total = (performance.now() - t0) / 1000;
   const cpu = process.cpuUsage(cpu0);
   console.log(`round ${round}: total ${total.toFixed(3)} s wall, ${((cpu.user + cpu.system) / 1e6).toFixed(2)} s CPU`);
-  for (const [n, s, c, r] of times) console.log(`  ${n.padEnd(11)} ${s.toFixed(3)} s  ${c.toFixed(2)} s CPU  ${r} rows`);
+  for (const [n, s, c, r, m] of times) console.log(`  ${n.padEnd(11)} ${s.toFixed(3)} s  ${c.toFixed(2)} s CPU  ${r} rows  peak RSS ${m} MB so far`);
 }
 await engine.close();

@@ -10,7 +10,7 @@ import { resolveRoles } from '../../app/core/roles/roles.ts';
 import { cubeSql, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
-import { clipPropensityBound, clipRowsSql, duplicatesHashBits, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
+import { clipPropensityBound, clipRowsSql, duplicatesPartitions, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
 import { SEP } from '../../app/core/cube/rollup.ts';
 import { parseTarget, type TargetPolicy } from '../../app/core/targets/targets.ts';
 import { duckdb } from '../../app/core/sql/dialect-duckdb.ts';
@@ -137,11 +137,35 @@ describe('duplicated decision ids', () => {
     const colliding = parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, { ...duckdb, hash64: (x) => `(hash(${x}) % 8)` })));
     expect(colliding).toEqual(grouped);
     // both widths: 32 bits for a row count the profile gives, 64 when it gives none
-    for (const rowCount of [4000, undefined]) expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, duckdb, rowCount)))).toEqual(grouped);
+    for (const rowCount of [4000, 2 ** 27, 2 ** 30, undefined]) expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, duckdb, rowCount)))).toEqual(grouped);
   });
 
-  it('the width follows the row count: 32 bits up to 2^26 rows, 64 above and when the count is not known', () => {
-    expect([duplicatesHashBits(10_030_000), duplicatesHashBits(2 ** 26), duplicatesHashBits(2 ** 26 + 1), duplicatesHashBits(undefined)]).toEqual([32, 32, 64, 64]);
+  it('the partitions follow the row count: one 32-bit sort up to 2^26 rows, partitions of at most 2^26 rows above, one 64-bit sort when the count is not known', () => {
+    const counts = [10_030_000, 2 ** 26, 2 ** 26 + 1, 100_300_000, 2 ** 28, 2 ** 28 + 1, 2 ** 40, undefined];
+    expect(counts.map(duplicatesPartitions)).toEqual([1, 1, 2, 2, 4, 8, 256, null]);
+    // one UNION ALL branch (one sort) per partition
+    expect(duplicatesSql('t', 'id', 5, duckdb, 100_300_000).match(/lag\(/g)).toHaveLength(2);
+    expect(duplicatesSql('t', 'id', 5, duckdb, 2 ** 28).match(/lag\(/g)).toHaveLength(4);
+  });
+
+  it('partitioned: count exactly where distinct ids share the low 32 bits of the hash, in one partition and in two (real collisions of DuckDB hash(), found among 300,000 ids)', async () => {
+    // 300,000 distinct ids share about 300000²/2^33 ≈ 10 pairs of low 32 bits (birthday bound); with 2 partitions (the
+    // top bit) a pair falls in one partition half the time. Duplicates are planted on every 7,919th id and on one id of
+    // each pair, and the row count given makes duplicatesSql partition these 300,000 rows as it would a larger log's.
+    await engine.query(`CREATE OR REPLACE TEMP TABLE idsLow AS SELECT 'u-' || i::VARCHAR AS id, hash('u-' || i::VARCHAR) AS h FROM range(300000) t(i)`);
+    const pairs = await engine.query(`SELECT min(id) AS id, count(DISTINCT h >> 63) AS partitions, count(DISTINCT h >> 62) AS quarters FROM idsLow GROUP BY h & 4294967295 HAVING count(*) > 1`);
+    const partitions = pairs.columns[1] as readonly unknown[];
+    const quarters = pairs.columns[2] as readonly unknown[];
+    expect(partitions.filter((n) => Number(n) === 1).length).toBeGreaterThan(0);
+    expect(partitions.filter((n) => Number(n) === 2).length).toBeGreaterThan(0);
+    expect(quarters.filter((n) => Number(n) === 1).length).toBeGreaterThan(0);
+    const relation = `(SELECT id FROM idsLow UNION ALL SELECT id FROM idsLow WHERE hash(id) % 7919 = 0 UNION ALL SELECT min(id) FROM idsLow GROUP BY h & 4294967295 HAVING count(*) > 1 UNION ALL SELECT 'u-5' FROM range(3))`;
+    const grouped = parseDuplicates(await engine.query(reference(relation, '"id"')));
+    expect(grouped.ids).toBeGreaterThan(pairs.rowCount);
+    expect(grouped.maxCopies).toBe(4);
+    for (const rowCount of [2 ** 26 + 1, 2 ** 28]) expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, duckdb, rowCount)))).toEqual(grouped);
+    // a 3-bit hash puts every id in partition 0 and makes nearly all collide: still exact
+    expect(parseDuplicates(await engine.query(duplicatesSql(relation, 'id', 5, { ...duckdb, hash64: (x) => `(hash(${x}) % 8)` }, 2 ** 28)))).toEqual(grouped);
   });
 
   it('count exactly where distinct ids share a 32-bit hash (real collisions of DuckDB hash(), found among 300,000 ids)', async () => {

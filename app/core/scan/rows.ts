@@ -17,32 +17,59 @@ import { finiteReward, validPropensity, type RowExpressions } from './expression
  * are reported), sorted, each compared with the one before it (a window lag); a hash equal to its predecessor is
  * shared by two rows, which two copies of one id always are. Second pass, over the rows whose hash is shared alone:
  * their ids are grouped exactly, so a collision of two different ids costs a few extra rows read and is never
- * reported, and the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts). The hash is
- * 32 bits wide up to DUPLICATES_NARROW_ROWS rows (`rowCount`, the profile's count), 64 bits above or when the count
- * is not known: n rows of distinct ids share about n²/2^33 pairs of 32-bit hashes (12,000 at 10^7 rows, 0.2% of the
- * rows read back; 2^19 pairs, 0.8%, at the bound) and n²/2^65 of 64-bit ones. The sort holds 4 or 8 bytes a row
- * whatever the ids' length, where sorting the ids held each id (bench/NOTES.md).
+ * reported, and the answer is the one grouping every id on text gives (test/bench/scan-plans.test.ts).
+ *
+ * The width follows `rowCount` (the profile's count; duplicatesPartitions). Up to DUPLICATES_NARROW_ROWS rows, one
+ * sort of 32-bit hashes: n rows of distinct ids share about n²/2^33 pairs of them (12,000 at 10^7 rows, 0.2% of the
+ * rows read back; 2^19 pairs, 0.8%, at the bound). Above, the 64-bit hash's top bits split the ids into K partitions
+ * of at most about DUPLICATES_NARROW_ROWS rows each, and each partition sorts the hash's low 32 bits on its own (one
+ * UNION ALL branch each, which DuckDB runs one after another): K sorts of 4 bytes a row of one partition instead of
+ * one of 8 bytes a row of every id, so the memory stays that of a 2^26-row log whatever the log's size, for one more
+ * read of the log per partition beyond the first (bench/NOTES.md, fifth round). Two copies of one id have one hash,
+ * so they fall in one partition and are adjacent there; the second pass reads the rows whose (partition, low bits) pair
+ * is shared. When the count is not known, one sort of 64-bit hashes (n²/2^65 pairs).
  */
 export function duplicatesSql(relation: string, idColumn: string, examples: number, dialect: Dialect = duckdb, rowCount?: number): string {
   // 18.16 has no window functions: ClickHouse groups by id (rows-clickhouse.ts)
   if (dialect.name === 'clickhouse') return duplicatesSqlClickHouse(relation, idColumn, examples);
   const id = dialect.ident(idColumn);
   const text = dialect.toText(id);
-  const hash = duplicatesHashBits(rowCount) === 32 ? `CAST(${dialect.hash64(text)} >> 32 AS UINTEGER)` : dialect.hash64(text);
+  const k = duplicatesPartitions(rowCount);
+  const summary = `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${dialect.integer(Math.max(1, examples))}) AS example_ids FROM counts`;
+  if (k === null || k === 1) {
+    const hash = k === 1 ? `CAST(${dialect.hash64(text)} >> 32 AS UINTEGER)` : dialect.hash64(text);
+    return [
+      `WITH hashed AS (SELECT ${hash} AS h FROM ${relation} WHERE ${id} IS NOT NULL),`,
+      'shared AS (SELECT DISTINCT h FROM (SELECT h, lag(h) OVER (ORDER BY h) AS prev FROM hashed) WHERE h = prev),',
+      `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL AND ${hash} IN (SELECT h FROM shared)) GROUP BY id HAVING count(*) > 1)`,
+      summary,
+    ].join('\n');
+  }
+  // k is a power of two: the partition is the hash's top log2(k) bits, the key (partition, low 32 bits) one UBIGINT
+  const top = 64 - Math.log2(k);
+  const low = (h: string) => `CAST(${h} & 4294967295 AS UINTEGER)`;
+  const hashed = `(SELECT ${dialect.hash64(text)} AS h FROM ${relation} WHERE ${id} IS NOT NULL)`;
+  const branches = Array.from({ length: k }, (_, p) =>
+    `(SELECT DISTINCT CAST(l AS UBIGINT) + ${p * 2 ** 32} AS key FROM (SELECT l, lag(l) OVER (ORDER BY l) AS prev FROM (SELECT ${low('h')} AS l FROM ${hashed} WHERE h >> ${top} = ${p})) WHERE l = prev)`);
   return [
-    `WITH hashed AS (SELECT ${hash} AS h FROM ${relation} WHERE ${id} IS NOT NULL),`,
-    'shared AS (SELECT DISTINCT h FROM (SELECT h, lag(h) OVER (ORDER BY h) AS prev FROM hashed) WHERE h = prev),',
-    `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id FROM ${relation} WHERE ${id} IS NOT NULL AND ${hash} IN (SELECT h FROM shared)) GROUP BY id HAVING count(*) > 1)`,
-    `SELECT count(*)::DOUBLE AS ids, coalesce(sum(c), 0)::DOUBLE AS rows_in_duplicates, coalesce(max(c), 0)::DOUBLE AS max_copies, min(id, ${dialect.integer(Math.max(1, examples))}) AS example_ids FROM counts`,
+    `WITH shared AS (${branches.join('\nUNION ALL\n')}),`,
+    `counts AS (SELECT id, count(*)::DOUBLE AS c FROM (SELECT ${text} AS id, ${dialect.hash64(text)} AS h FROM ${relation} WHERE ${id} IS NOT NULL) WHERE ((h >> ${top}) << 32) + ${low('h')} IN (SELECT key FROM shared) GROUP BY id HAVING count(*) > 1)`,
+    summary,
   ].join('\n');
 }
 
-/** Up to this many rows the duplicate-id sort uses 32-bit hashes (2^26: at most 2^19 colliding pairs expected). */
+/** Up to this many rows the duplicate-id sort uses 32-bit hashes (2^26: at most 2^19 colliding pairs expected); above, each partition holds about this many. */
 export const DUPLICATES_NARROW_ROWS = 2 ** 26;
 
-/** The width of the duplicate-id hash for a log of `rowCount` rows (64 when the count is not known). */
-export function duplicatesHashBits(rowCount: number | undefined): 32 | 64 {
-  return rowCount !== undefined && rowCount <= DUPLICATES_NARROW_ROWS ? 32 : 64;
+/**
+ * The number of partitions of the duplicate-id sort for a log of `rowCount` rows: 1 (one 32-bit sort) up to
+ * DUPLICATES_NARROW_ROWS rows, else the least power of two that leaves each partition at most that many rows on
+ * average (2 at 10^8 rows), at most 256; null (one 64-bit sort) when the count is not known.
+ */
+export function duplicatesPartitions(rowCount: number | undefined): number | null {
+  if (rowCount === undefined || !Number.isFinite(rowCount)) return null;
+  if (rowCount <= DUPLICATES_NARROW_ROWS) return 1;
+  return Math.min(256, 2 ** Math.ceil(Math.log2(rowCount / DUPLICATES_NARROW_ROWS)));
 }
 
 export interface Duplicates {
