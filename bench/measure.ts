@@ -154,8 +154,10 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
       if (spec.kind === 'audit') {
         const { seconds, cpuSeconds, last } = await timed(spec, audit);
         const answer: Record<string, number | string> = { ...auditAnswer(last), ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}) };
+        // the peak of the timed audits, read before the 1-thread audit below adds a second engine's memory to this process
+        const peakRssMb = await peakRssOf(process.pid);
         if (spec.engine === 'native' && spec.determinism !== false) answer.deterministic = (await oneThreadDigest(spec, targets)) === answer.body ? 'yes' : 'no';
-        result = { seconds: seconds.map((s) => s + openSeconds), cpuSeconds: cpuSeconds.map((s) => s + openCpuSeconds), answer };
+        return { seconds: seconds.map((s) => s + openSeconds), cpuSeconds: cpuSeconds.map((s) => s + openCpuSeconds), answer, peakRssMb, peakHeapMb: peakHeap / 2 ** 20 };
       } else if (spec.kind === 'cube') {
         const cubeSql = await auditCubeSql(run, source.relation);
         const { seconds, cpuSeconds, last } = await timed(spec, () => engine.query(cubeSql));
