@@ -23,7 +23,7 @@ const pureLayerBans = {
 // listed here, or lint fails on its first platform import.
 export const NODE_ONLY = [
   'app/engine/native.ts', 'app/engine/memory.ts', 'app/engine/wasm-node.ts', 'app/engine/node-paths.ts', 'app/engine/file-grants.ts', 'app/engine/file-kind.ts',
-  'app/engine/clickhouse.ts', 'app/engine/clickhouse-address.ts', 'app/engine/convert/duckdb-values.ts',
+  'app/engine/clickhouse.ts', 'app/engine/clickhouse-http.ts', 'app/engine/clickhouse-address.ts', 'app/engine/convert/duckdb-values.ts',
   'app/engine/host/server.ts', 'app/engine/host/spawn.ts', 'app/engine/host/child-main.ts', 'app/engine/host/fingerprint.ts',
   'app/report/fingerprint.ts', 'app/report/json.ts', 'app/report/signoff.ts', 'app/report/trusted-keys.ts',
 ];

@@ -54,12 +54,12 @@ export function serverError(body: string, context: { server: string; user: strin
   }
 }
 
-/** fetch() rejects with a TypeError whose `cause` holds the socket error (code ECONNREFUSED, ENOTFOUND, ...). */
+/** A socket error of node:http (code ECONNREFUSED, ENOTFOUND, ...), or a fetch() TypeError whose `cause` holds one. */
 export function networkError(error: unknown, server: string): EngineError {
   const cause = (error as { cause?: { code?: string; message?: string } }).cause;
   const code = cause?.code ?? (error as { code?: string }).code;
-  // Node's fetch waits at most 300 s for the response head; ClickHouse sends it with the first rows
-  if (code === 'UND_ERR_HEADERS_TIMEOUT') return new EngineError('timeout', `ClickHouse at ${server} sent no answer within 300 s (the longest this client waits for the first rows).`);
+  // clickhouse-http.ts: the socket stayed silent longer than the statement may run
+  if (code === 'CW_IDLE_TIMEOUT') return new EngineError('timeout', `ClickHouse at ${server} sent nothing for ${Math.round(((error as { idleMs?: number }).idleMs ?? 0) / 1000)} s, longer than the query may run.`);
   const why = code === 'ECONNREFUSED' ? 'the connection was refused (is the server running, and is that its HTTP port?)'
     : code === 'ENOTFOUND' || code === 'EAI_AGAIN' ? 'no such host'
     : code === 'ECONNRESET' || code === 'UND_ERR_SOCKET' ? 'the server closed the connection'

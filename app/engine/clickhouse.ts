@@ -1,6 +1,9 @@
 /**
- * The ClickHouse engine adapter, over ClickHouse's HTTP interface with plain fetch (the npm client
- * library targets current server releases; this one must also speak to Debian's 18.16).
+ * The ClickHouse engine adapter, over ClickHouse's HTTP interface with node:http (clickhouse-http.ts; the
+ * npm client library targets current server releases, this one must also speak to Debian's 18.16, and
+ * Node's fetch gives up on an answer head after 300 s, shorter than a long statement's first rows).
+ * - No client-side wait is shorter than the statement's own limit: the socket may stay silent (no head yet,
+ *   no next chunk) for as long as the statement may run.
  * - One POST per statement, answered as TabSeparatedWithNamesAndTypes and read as a stream, line by line,
  *   so the row cap and the byte cap stop a large answer while it arrives (clickhouse-tsv.ts).
  * - Every statement carries a query_id; cancel(), an abort signal or the timeout close the request and send
@@ -10,10 +13,12 @@
  * - Credentials travel in an Authorization header, never in the URL; they appear in no message.
  */
 import { randomUUID } from 'node:crypto';
+import { Agent } from 'node:http';
 import { ident, literal } from '../core/sql/quote-clickhouse.ts';
 import type { Table } from '../core/table.ts';
 import type { Credentials } from './clickhouse-address.ts';
 import { networkError, serverError } from './clickhouse-errors.ts';
+import { post, type HttpAnswer } from './clickhouse-http.ts';
 import { MID_STREAM_ERROR, tsvReader } from './clickhouse-tsv.ts';
 import { MAX_RESULT_ROWS } from './native.ts';
 import { EngineError } from './types.ts';
@@ -79,11 +84,14 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
   /** settings sent with every statement; empty when the user's profile is read-only (it may change none) */
   let settings: Record<string, string> = {};
   let utc = true;
+  const agent = new Agent({ keepAlive: true });
+  /** KILLs go on sockets of their own, so closing the engine (which ends the pool) does not drop them */
+  const killAgent = new Agent({ keepAlive: false });
 
   async function kill(queryId: string): Promise<void> {
     try {
-      const r = await fetch(`${server}/`, { method: 'POST', headers: { Authorization: auth }, body: `KILL QUERY WHERE query_id = ${literal(queryId)} ASYNC`, signal: AbortSignal.timeout(5000) });
-      await r.body?.cancel();
+      const r = await post(`${server}/`, { agent: killAgent, headers: { Authorization: auth }, body: `KILL QUERY WHERE query_id = ${literal(queryId)} ASYNC`, signal: AbortSignal.timeout(5000), idleMs: 5000 });
+      r.cancel();
     } catch {
       // the server is gone or busy: the closed request is all that can be done
     }
@@ -112,12 +120,14 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
       ? new EngineError('timeout', `The query did not finish within ${Math.round(limit / 1000)} s on ClickHouse at ${server} and was stopped.`)
       : new EngineError('cancelled', 'The query was cancelled.'));
     try {
-      let response: Response | undefined;
-      const send = () => fetch(`${server}/?${params()}`, {
-        method: 'POST',
+      let response: HttpAnswer | undefined;
+      const send = () => post(`${server}/?${params()}`, {
+        agent,
         headers: { Authorization: auth, 'Content-Type': 'text/plain; charset=utf-8' },
         body: `${sql.trim().replace(/;+$/, '')}\nFORMAT TabSeparatedWithNamesAndTypes`,
         signal: controller.signal,
+        // the statement's own timer stops it first; the socket's silence limit is only a backstop past it
+        idleMs: limit + 5000,
       });
       // a kept-alive socket the server has just closed fails before any answer: the statement is a read, so it is sent once more
       for (let attempt = 0; !response; attempt++) {
@@ -126,7 +136,7 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
         } catch (e) {
           if (stopped) throw stoppedError();
           const error = networkError(e, server);
-          // the client gave up (e.g. no answer head within fetch's 300 s) or the line dropped: the statement may still
+          // the line dropped (or the socket was silent past the statement's limit): the statement may still
           // run on the server, so it is killed; a first failure is sent once more under a new id (a kept-alive socket
           // the server had just closed fails the same way, before the statement reached it)
           void kill(queryId);
@@ -134,24 +144,23 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
           queryId = `counterweight-${randomUUID()}`;
         }
       }
-      if (!response.ok || !response.body) {
+      if (response.status < 200 || response.status > 299) {
         const text = await response.text().catch(() => '');
         throw plain(serverError(text || `HTTP ${response.status}`, { server, user }));
       }
       const reader = tsvReader();
       const decoder = new TextDecoder('utf-8');
-      const body = response.body.getReader();
+      const answer = response;
       let pending = '';
       let bytes = 0;
       let failure: string | null = null;
       const tooLarge = (what: string) => {
         stop('cancelled');
+        answer.cancel();
         return new EngineError('too-large', what);
       };
       try {
-        for (;;) {
-          const { done, value } = await body.read();
-          if (done) break;
+        for await (const value of answer.body) {
           bytes += value.byteLength;
           if (bytes > maxBytes) throw tooLarge(`The answer is larger than ${maxBytes >= 2 ** 20 ? `${(maxBytes / 2 ** 20).toFixed(0)} MB` : `${maxBytes.toLocaleString('en')} bytes`}, the most one answer may hold; the query was stopped.`);
           pending += decoder.decode(value, { stream: true });
@@ -256,6 +265,7 @@ export async function connectClickHouse(options: ClickHouseEngineOptions): Promi
     async close() {
       closed = true;
       await engine.cancel();
+      agent.destroy();
     },
   };
   return engine;

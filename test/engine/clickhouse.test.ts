@@ -175,7 +175,7 @@ describe.skipIf(missing !== null && !clickhouseRequired())('ClickHouse adapter o
 
   it('a connection lost mid-query is a clear error, and the statement is killed on the server', async () => {
     // A loopback relay in front of the first server cuts every connection that carries the statement once the
-    // statement runs on the server: what the client sees when fetch gives up (its 300 s wait for an answer head)
+    // statement runs on the server: what the client sees when the socket is silent past the statement limit
     // or the line drops. The client sends it once more (as for a stale kept-alive socket), then gives up; the
     // KILLs carry only query ids and pass.
     const target = shards.servers[0]!.httpPort;
