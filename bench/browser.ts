@@ -4,7 +4,7 @@
  * app's renderer does (CW_BENCH_AUDIT=node: the pure part in this process, each result crossing page.evaluate).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { access } from 'node:fs/promises';
+import { access, readdir, readFile } from 'node:fs/promises';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { runAudit, type TargetInput } from '../app/core/audit.ts';
@@ -19,6 +19,37 @@ const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const CHROMIUM = '/usr/bin/chromium';
 const PORT = Number(process.env.CW_BENCH_PORT ?? 5191);
 const PAGE = `http://127.0.0.1:${PORT}/engine-harness.html`;
+
+/**
+ * CPU seconds (user + system, /proc/<pid>/stat) of every live process below this one: the Vite server, Chromium
+ * and its renderer, GPU and utility processes (the page, the DuckDB worker and the decode worker are threads of
+ * the renderer). Read while they run, because /usr/bin/time never sees them: Chromium's children are not all
+ * waited for by a parent that this process waits for. Linux only; NaN elsewhere.
+ */
+async function descendantCpuSeconds(): Promise<number> {
+  try {
+    const parent = new Map<number, number>();
+    const ticks = new Map<number, number>();
+    for (const name of await readdir('/proc')) {
+      if (!/^\d+$/.test(name)) continue;
+      const stat = await readFile(`/proc/${name}/stat`, 'utf8').catch(() => '');
+      // Fields after the command's closing parenthesis: state ppid ... utime (14th) stime (15th).
+      const rest = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+      if (rest.length < 13) continue;
+      parent.set(Number(name), Number(rest[1]));
+      ticks.set(Number(name), Number(rest[11]) + Number(rest[12]));
+    }
+    let total = 0;
+    for (const [pid, t] of ticks) {
+      for (let p = parent.get(pid); p !== undefined && p > 1; p = parent.get(p)) {
+        if (p === process.pid) { total += t; break; }
+      }
+    }
+    return total / 100; // USER_HZ: 100 on Linux
+  } catch {
+    return NaN;
+  }
+}
 
 type Answer<T> = { ok: true; value: T; ms: number } | { ok: false; code: string; message: string; ms: number };
 
@@ -70,6 +101,7 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
       const status = await page.textContent('#status');
       if (status !== 'ready') throw new Error(`the engine harness did not start: ${status}`);
       await page.setInputFiles('#file', spec.file);
+      const cpuBefore = await descendantCpuSeconds();
       const opening = performance.now();
       const registered = await page.evaluate(() => {
         const input = document.getElementById('file') as HTMLInputElement;
@@ -120,8 +152,9 @@ export async function measureInBrowser(spec: MeasureSpec, targets: TargetInput[]
         seconds.push((performance.now() - t0) / 1000 + openSeconds);
       }
       await sample();
+      const browserCpu = await descendantCpuSeconds() - cpuBefore;
       const statementsSeconds = stages.reduce((sum, [, v]) => sum + v, 0);
-      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.rows ?? NaN, ess: last?.ess ?? NaN, max_weight: last?.maxWeight ?? NaN, audit_in: inNode ? 'node' : 'page', ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}), ...(loadSplit ? { load_s: loadSplit } : {}), ...(inNode ? { queries_as_seen_s: +roundTrips.toFixed(2) } : {}), statements_sum_s: +statementsSeconds.toFixed(2), statements_s: stages.map(([n, v]) => `${n} ${v.toFixed(2)}`).join(', ') }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
+      return { seconds, answer: { verdict: last?.verdict ?? '', rows: last?.rows ?? NaN, ess: last?.ess ?? NaN, max_weight: last?.maxWeight ?? NaN, audit_in: inNode ? 'node' : 'page', ...(openSeconds ? { open_seconds: +openSeconds.toFixed(2) } : {}), ...(loadSplit ? { load_s: loadSplit } : {}), ...(inNode ? { queries_as_seen_s: +roundTrips.toFixed(2) } : {}), statements_sum_s: +statementsSeconds.toFixed(2), audit_besides_statements_s: +((seconds.at(-1) ?? NaN) - openSeconds - statementsSeconds).toFixed(2), browser_cpu_s: +browserCpu.toFixed(1), statements_s: stages.map(([n, v]) => `${n} ${v.toFixed(2)}`).join(', ') }, peakRssMb: NaN, peakHeapMb: process.memoryUsage().heapUsed / 2 ** 20, browserPeakHeapMb: peakHeap / 2 ** 20 };
     } finally {
       clearInterval(sampler);
     }
