@@ -71,25 +71,11 @@ export function clipRowsSqlClickHouse(relation: string, rows: RowExpressions, ta
   return `SELECT ${w} AS w, if(${finiteReward(r, d)}, ${r}, NULL) AS r FROM ${relation} WHERE ${validPropensity(p, d)}${validQ} AND ${w} > ${d.double(above)} AND isFinite(${w}) ORDER BY w DESC, r ASC NULLS LAST LIMIT ${d.integer(limit)}`;
 }
 
-/**
- * rows.ts's examplesSql in one scan: ClickHouse runs each branch of a UNION ALL as a scan of its own (one full read
- * of the log per finding), so the rows of every finding are read once, each row tagged with the index of every
- * finding it belongs to (arrayJoin over the matching indices, so a row of two findings is listed under both), and
- * the first `perFinding` of each index in `orderBy` are kept (LIMIT n BY, in 18.16 and current releases): the same
- * rows as a branch per finding sorted and cut on its own. A NULL condition counts as not matching, as in WHERE.
- */
 export function examplesSqlClickHouse(relation: string, requests: readonly ExampleRequest[], perFinding: number, orderBy: readonly string[]): string {
   const n = d.integer(perFinding);
-  const none = d.integer(requests.length);
-  const tags = requests.map((r, i) => `if(ifNull((${r.where}), 0), toUInt32(${i}), toUInt32(${none}))`);
-  const any = requests.map((r) => `(${r.where})`).join(' OR ');
-  return [
-    `SELECT arrayJoin(arrayFilter(k -> k < ${none}, [${tags.join(', ')}])) AS __finding, *`,
-    `FROM ${relation}`,
-    `WHERE ${any}`,
-    `ORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`,
-    `LIMIT ${n} BY __finding`,
-  ].join('\n');
+  const order = orderBy.length ? ` ORDER BY ${orderBy.join(', ')}` : '';
+  const branches = requests.map((r, i) => `SELECT toUInt32(${i}) AS __finding, * FROM ${relation} WHERE (${r.where})${order} LIMIT ${n}`);
+  return `SELECT * FROM (\n${branches.join('\nUNION ALL\n')}\n)\nORDER BY __finding${orderBy.length ? `, ${orderBy.join(', ')}` : ''}`;
 }
 
 /** role-evidence.ts's actionEvidenceSql: a branch per candidate over the first `rows` rows. */
