@@ -45,7 +45,10 @@ export function profileSqlClickHouse(relation: string, columns: readonly ColumnI
         `${d.countIf(`isFinite(${x}) AND ${x} <> floor(${x})`)} AS c${j}_ni`,
       );
     } else if (kind === 'text' && (plan.byValue || plan.screen)) {
-      aliases.push(`match(ifNull(${col}, ''), ${MAY_PARSE}) AND ${col} IS NOT NULL AS ${g}`, `if(${g}, toFloat64OrNull(${col}), NULL) AS ${x}`, `if(${g}, parseDateTimeBestEffortOrNull(${col}), NULL) AS ${t}`);
+      // if() evaluates both branches on every row in 18.16: the parsers read '' where the screen fails (a value
+      // that fails at its first character), so only the values passing the screen are parsed in full
+      const screened = `if(${g}, ${col}, '')`;
+      aliases.push(`match(ifNull(${col}, ''), ${MAY_PARSE}) AND ${col} IS NOT NULL AS ${g}`, `if(${g}, toFloat64OrNull(${screened}), NULL) AS ${x}`, `if(${g}, parseDateTimeBestEffortOrNull(${screened}), NULL) AS ${t}`);
       parts.push(
         `${d.countIf(`${x} IS NOT NULL`)} AS c${j}_pn`,
         `${d.countIf(`${t} IS NOT NULL`)} AS c${j}_pt`,
