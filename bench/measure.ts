@@ -20,6 +20,7 @@ import { cubeFromArrowIpc } from '../app/engine/cube-arrow.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import { peakRssMb } from '../app/engine/memory.ts';
 import { bodyDigest } from '../app/cli/reaudit.ts';
+import { projectionOf } from '../app/cli/sources.ts';
 import type { Engine } from '../app/engine/types.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
 import { baselineAudit } from './baseline.ts';
@@ -147,8 +148,8 @@ export async function measure(spec: MeasureSpec): Promise<MeasureResult> {
       const openCpuSeconds = loadsOnOpen ? (openCpuUsage.user + openCpuUsage.system) / 1e6 : 0;
       const run: RunQuery = (sql) => engine.query(sql);
       // a CSV is parsed once for the row-level statements, as the command and the app audit it (Engine.project)
-      const project = engine.project?.bind(engine);
-      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, peakRssMb, ...(project ? { project: (columns: readonly string[]) => project(source.relation, columns) } : {}) };
+      // and the cube, tails and clip rows read one table of the log's row groups (Engine.materialise)
+      const request = { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, peakRssMb, ...projectionOf(engine, source.relation) };
       const audit = () => runAudit(run, request);
       let result: { seconds: number[]; cpuSeconds: number[]; answer: Record<string, number | string> };
       if (spec.kind === 'audit') {
@@ -180,7 +181,7 @@ async function oneThreadDigest(spec: MeasureSpec, targets: { spec: string; table
   const engine = await openEngine('native', spec.memoryLimit, 1);
   try {
     const source = await engine.register({ kind: 'path', paths: [spec.file] });
-    const report = await runAudit((sql) => engine.query(sql), { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(source.relation, columns) } : {}) });
+    const report = await runAudit((sql) => engine.query(sql), { relation: source.relation, input: { files: [], format: source.format }, engine: engine.kind, targets, ...projectionOf(engine, source.relation) });
     return bodyDigest(report).slice(0, 16);
   } finally {
     await engine.close();

@@ -99,7 +99,11 @@ export async function countRows(engine: Engine, relation: string): Promise<numbe
 }
 
 /** The audit's projection hook for a registered relation: a CSV is parsed once for the row-level statements (Engine.project). */
-export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: CancelSignal) => ReturnType<NonNullable<Engine['project']>> } {
-  const { project } = engine;
-  return project ? { project: (columns, signal) => project.call(engine, relation, columns, signal ? { signal } : {}) } : {};
+export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: CancelSignal) => ReturnType<NonNullable<Engine['project']>>; materialise?: (select: string, signal?: CancelSignal) => ReturnType<NonNullable<Engine['materialise']>> } {
+  const { project, materialise } = engine;
+  return {
+    ...(project ? { project: (columns: readonly string[], signal?: CancelSignal) => project.call(engine, relation, columns, signal ? { signal } : {}) } : {}),
+    // the cube, tails and clip rows read one table of the log's row groups (Engine.materialise)
+    ...(materialise ? { materialise: (select: string, signal?: CancelSignal) => materialise.call(engine, relation, select, signal ? { signal } : {}) } : {}),
+  };
 }

@@ -14,7 +14,7 @@ import { CAUTIONS, REPORT_SCHEMA_ID, type CheckResult, type Finding, type InputF
 import { resolveRoles, SINGLE_ROLES, suggestRoles as suggestFromProfile, validateRoles, type RoleEvidence, type RoleOverrides, type RoleSuggestion } from './roles/roles.ts';
 import { gatherRoleEvidence } from './roles/evidence.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs, type TimeBuckets } from './scan/expressions.ts';
-import { cubePreludeSql, cubeSql, groupsByPropensity, groupsByReward, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
+import { cubeGroupsSelect, cubePreludeSql, cubeReadsGroups, cubeSql, groupRows, groupsByPropensity, groupsByReward, parseCappedDistinct, parseCube, rewardShift, type RewardShift } from './scan/cube.ts';
 import { findingSql } from './scan/drill.ts';
 import { profileLog, type Profile } from './scan/profile.ts';
 import { clipRowsSql, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql, type Duplicates, type TailResult } from './scan/rows.ts';
@@ -69,6 +69,14 @@ export interface AuditRequest {
    * them (the profile and the example rows read the log itself); the table is released before the checks run.
    */
   readonly project?: (columns: readonly string[], signal?: AuditRequest['signal']) => Promise<AuditProjection | null>;
+  /**
+   * Keeps the answer of one read statement over the log in a temporary table of the engine (Engine.materialise)
+   * and answers its name. Given, and when the profile says the rows fall into few groups (rowGroupsPay), the
+   * audit reads the log's row groups once (scan/cube.ts, cubeGroupsSelect) and the cube, the tails and the clip
+   * rows read that table instead of the log: one read of the log for the three, the same answers. The table
+   * is released before the duplicates statement runs.
+   */
+  readonly materialise?: (select: string, signal?: AuditRequest['signal']) => Promise<AuditProjection>;
   /** the process's peak resident memory in MB so far, read when the report is made (run.peak_rss_mb) */
   readonly peakRssMb?: () => number;
   /**
@@ -251,19 +259,28 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
   const rowSource = projection ? projection.relation : relation;
   const readsSource = !projection;
   const clips = new Map<string, TargetClips>();
+  const rewardProfile = profile.columns.find((c) => c.name === roles.reward);
+  const reward = rewardShift(rewardProfile);
+  const byReward = groupsByReward(rewardProfile);
+  let groups: AuditProjection | null = null;
   let view: CubeView;
   let primaryTargets: TargetAnalysis[];
   try {
     if (rowsExpr) {
       progress('cube', false, { passes: scans ? [] : d.name === 'clickhouse' ? ['scales', 'cube'] : ['cube'] });
-      const reward = rewardShift(profile.columns.find((c) => c.name === roles.reward));
       let cappedDistinct: Map<number, number>;
       if (scans) ({ cells, cappedDistinct } = scans.cube({ capped, cap, buckets, reward, floor: settings['support.floor.epsilon'], byPropensity, rowCount: profile.rows }));
       else {
-        const spec = { relation: rowSource, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, byReward: groupsByReward(profile.columns.find((c) => c.name === roles.reward)), reward, rowCount: profile.rows, dialect: d };
+        const spec = { relation: rowSource, rows: rowsExpr, capped, cap, floor: settings['support.floor.epsilon'], byPropensity, byReward, reward, rowCount: profile.rows, dialect: d };
+        if (request.materialise && cubeReadsGroups(spec) && rowGroupsPay(profile, effectiveRoles, capped.map((i) => segmentColumns[i] as string))) {
+          // one read of the log for the cube, the tails and the clip rows: its row groups, kept in a temporary table
+          request.onProgress?.({ stage: 'cube', pass: 'cube' });
+          groups = await request.materialise(cubeGroupsSelect(spec), request.signal);
+          queries.push({ name: 'row groups', sql: groups.sql, scans_source: readsSource });
+        }
         const preludeSql = cubePreludeSql(spec);
         const prelude = preludeSql ? await run(record('cube scales', preludeSql, readsSource)) : null;
-        const cube = await run(record('cube', cubeSql(spec, prelude), readsSource));
+        const cube = await run(record('cube', cubeSql(groups ? { ...spec, groups: groups.relation } : spec, prelude), readsSource && !groups));
         cells = parseCube(cube, segmentColumns.length);
         cappedDistinct = parseCappedDistinct(cube, capped);
       }
@@ -280,19 +297,24 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
       const policies = explicit.length ? explicit : resolveTargets([], { actionColumn: roles.action ?? 'action', logColumns, targetColumn: null }, implicitActions(cells, view.actions, cap));
       targets = policies.map((p) => analyseTarget(p, view));
     }
-    const tailPasses: PassKind[] = scans ? [] : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
+    const tailPasses: PassKind[] = scans ? [] : groups ? (roles.decision_id ? ['duplicates'] : []) : [...(roles.decision_id ? ['duplicates' as const] : []), ...targets.filter((t) => t.n >= 2).map(() => 'tail' as const), ...targets.filter((t) => t.n >= 2 && (!t.target.implicit || t.target.kind === 'uniform')).map(() => 'clip' as const)];
     progress('tails', false, { passes: tailPasses });
-    if (roles.decision_id) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d, profile.rows), readsSource)));
-    if (rowsExpr) {
+    // without a groups table, as before: duplicates, then the tails and clip rows (each a read of the log)
+    if (roles.decision_id && !groups) duplicates = scans ? scans.duplicates(5) : parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d, profile.rows), readsSource)));
+    // over the groups table, the tails and clip rows read it (a group stands for its nr rows) and not the log
+    const tailSource = groups ? groups.relation : rowSource;
+    const tailRows = groups && rowsExpr ? groupRows(rowsExpr) : rowsExpr;
+    const counted = groups ? 'nr' : undefined;
+    if (rowsExpr && tailRows) {
       for (const t of targets) {
         guard();
         if (t.n < 2) continue;
         const limit = Math.max(psisTailLength(t.n) + 1, Math.ceil(0.01 * t.n));
-        tails.set(t.target.name, scans ? scans.tail(t.target, segmentColumns, view.actions, limit) : parseTail(await run(record(`tail ${t.target.name}`, tailSql(rowSource, rowsExpr, t.target, segmentColumns, view.actions, limit, byPropensity), readsSource))));
+        tails.set(t.target.name, scans ? scans.tail(t.target, segmentColumns, view.actions, limit) : parseTail(await run(record(`tail ${t.target.name}`, tailSql(tailSource, tailRows, t.target, segmentColumns, view.actions, limit, byPropensity, counted), readsSource && !groups))));
       }
     }
     primaryTargets = targets.filter((t) => !t.target.implicit || t.target.kind === 'uniform');
-    if (rowsExpr) {
+    if (rowsExpr && tailRows) {
       for (const t of primaryTargets) {
         const tail = tails.get(t.target.name);
         if (!tail || tail.weights.length === 0) continue;
@@ -300,11 +322,20 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
         // the rows above the tail's smallest listed weight are all listed; when the tail holds every positive weight, all of them
         const complete = tail.counts.reduce((a, b) => a + b, 0) <= tail.weights.length;
         const exactAbove = complete ? 0 : (tail.weights[tail.weights.length - 1] as number);
-        const rows = scans ? scans.clip(t.target, segmentColumns, view.actions, exactAbove, tail.weights.length) : parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(rowSource, rowsExpr, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length), readsSource)));
+        const rows = scans ? scans.clip(t.target, segmentColumns, view.actions, exactAbove, tail.weights.length) : parseClipRows(await run(record(`clip ${t.target.name}`, clipRowsSql(tailSource, tailRows, t.target, segmentColumns, view.actions, exactAbove, tail.weights.length, counted), readsSource && !groups)));
         clips.set(t.target.name, { exactAbove, rows, maxWeight: tail.weights[0] as number });
       }
     }
+    // the groups table is released before the duplicate-id sort, whose memory is the audit's largest
+    if (groups) {
+      const done = groups;
+      groups = null;
+      await done.release();
+      guard();
+      if (roles.decision_id) duplicates = parseDuplicates(await run(record('duplicates', duplicatesSql(rowSource, roles.decision_id, 5, d, profile.rows), readsSource)));
+    }
   } finally {
+    await groups?.release();
     await projection?.release();
   }
   progress('tails', true);
@@ -340,6 +371,25 @@ export async function runAuditDetailed(run: RunQuery, request: AuditRequest): Pr
     signoff: null,
   };
   return { report, cells, profile, context: ctx };
+}
+
+/** Rows per (propensity, reward, capped segment values) combination below which the groups table does not pay. */
+export const ROW_GROUPS_MIN_ROWS_PER_PAIR = 64;
+
+/**
+ * Whether the log's row groups are likely few enough to be worth a table of their own (AuditRequest.materialise),
+ * decided from the profile before any row is read. The groups are at least as many as the distinct (p, r) pairs
+ * and the values of a segment column over the cap (each kept uncapped in the groups); the profile counts p and r
+ * over every row whenever the cube groups by them (cubeReadsGroups), so the product of those counts is known.
+ * When it comes near the row count the table is about as large as the log and costs more than it saves
+ * (bench/NOTES.md, "One read for the cube, tails and clip rows": 10M rows in ~10M groups, 8 CPU s more), so the
+ * product must leave ROW_GROUPS_MIN_ROWS_PER_PAIR rows per combination. It is a lower bound on the groups, not an
+ * upper one: a log whose propensities vary independently of its cells can still have many more groups.
+ */
+export function rowGroupsPay(profile: Profile, roles: { readonly propensity: string | null; readonly reward: string | null }, capped: readonly string[]): boolean {
+  const distinct = (name: string | null) => profile.columns.find((c) => c.name === name)?.distinct ?? Infinity;
+  const combinations = [roles.propensity, roles.reward, ...capped].reduce((n, c) => n * Math.max(1, distinct(c)), 1);
+  return combinations * ROW_GROUPS_MIN_ROWS_PER_PAIR <= profile.rows;
 }
 
 /** The row count and the order-independent hash sum over the mapped role columns, computed in the engine. */

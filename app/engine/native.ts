@@ -9,7 +9,7 @@ import { expandSource, lockDownSql } from './file-grants.ts';
 import { engineMemory } from './memory.ts';
 import { foldersAmong } from './node-paths.ts';
 import { assertReadStatement, STATEMENT_CHECK_SQL } from './read-only.ts';
-import { buildScan, createViewSql, dropProjectionSql, globSql, PROJECTED_FORMATS, projectionName, projectionSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
+import { buildScan, createViewSql, dropProjectionSql, globSql, groupsName, materialiseSql, PROJECTED_FORMATS, projectionName, projectionSql, readsRelation, relationName, resolveFormat } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, Projection, QueryOptions, RegisteredSource, SourceFormat, SourceSpec } from './types.ts';
 import { serialQueue } from './serial.ts';
@@ -34,6 +34,7 @@ export interface NativeEngineOptions {
    * - A result is capped at `maxResultRows` rows.
    * - project() makes a temporary table in the in-memory database (never a file) from a registered CSV or
    *   NDJSON relation by the engine's own statement; the gate still refuses CREATE from query().
+   * - materialise() keeps the answer of one statement that passes the gate in such a table (an audit's row groups).
    * For the engine host, whose requests come from another process.
    */
   restrictFileAccess?: boolean;
@@ -47,6 +48,7 @@ export const MAX_RESULT_ROWS = 2_000_000;
 export interface NativeEngine extends Engine {
   readonly kind: 'native';
   project(relation: string, columns: readonly string[], options?: QueryOptions): Promise<Projection | null>;
+  materialise(relation: string, select: string, options?: QueryOptions): Promise<Projection>;
 }
 
 export async function createNativeEngine(options: NativeEngineOptions = {}): Promise<NativeEngine> {
@@ -213,30 +215,48 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
       if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
       if (!PROJECTED_FORMATS.has(formats.get(relation) as SourceFormat)) return null;
       const name = projectionName(relation, projections);
-      const sql = projectionSql(name, relation, columns);
-      scans++;
-      // a Ctrl-C during the copy interrupts it as it does a query (the copy of a large CSV takes seconds)
-      const onAbort = (): void => connection.interrupt();
-      signal?.addEventListener('abort', onAbort, { once: true });
-      running = true;
-      try {
-        await connection.run(sql);
-      } catch (error) {
-        throw toEngineError(error);
-      } finally {
-        running = false;
-        signal?.removeEventListener('abort', onAbort);
-      }
-      projections.add(name);
-      return {
-        relation: name,
-        sql,
-        release: () => serial(async () => {
-          if (closed || !projections.delete(name)) return;
-          await connection.run(dropProjectionSql(name));
-        }),
-      };
+      return temporaryTable(name, projectionSql(name, relation, columns), signal);
     });
+  }
+
+  function materialise(relation: string, select: string, { signal }: QueryOptions = {}): Promise<Projection> {
+    return serial(async () => {
+      ensureOpen();
+      if (signal?.aborted) throw new EngineError('cancelled', 'The query was cancelled.');
+      if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
+      if (restricted) {
+        const check = await (await connection.run(STATEMENT_CHECK_SQL, [select])).getRows();
+        assertReadStatement(String(check[0]?.[0] ?? ''), select);
+      }
+      const name = groupsName(relation, projections);
+      return temporaryTable(name, materialiseSql(name, select), signal);
+    });
+  }
+
+  /** Runs the engine's own CREATE TEMP TABLE (inside serial()); the table is dropped by release(). */
+  async function temporaryTable(name: string, sql: string, signal: QueryOptions['signal']): Promise<Projection> {
+    scans++;
+    // a Ctrl-C during the copy interrupts it as it does a query (the copy of a large CSV takes seconds)
+    const onAbort = (): void => connection.interrupt();
+    signal?.addEventListener('abort', onAbort, { once: true });
+    running = true;
+    try {
+      await connection.run(sql);
+    } catch (error) {
+      throw toEngineError(error);
+    } finally {
+      running = false;
+      signal?.removeEventListener('abort', onAbort);
+    }
+    projections.add(name);
+    return {
+      relation: name,
+      sql,
+      release: () => serial(async () => {
+        if (closed || !projections.delete(name)) return;
+        await connection.run(dropProjectionSql(name));
+      }),
+    };
   }
 
   return {
@@ -244,6 +264,7 @@ export async function createNativeEngine(options: NativeEngineOptions = {}): Pro
     register,
     query,
     project,
+    materialise,
     async cancel() {
       if (running && !closed) connection.interrupt();
     },

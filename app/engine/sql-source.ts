@@ -112,6 +112,20 @@ export function projectionSql(name: string, relation: string, columns: readonly 
   return `CREATE TEMP TABLE ${name} AS SELECT ${[...new Set(columns)].map((c) => quoteIdentifier(c)).join(', ')} FROM ${relation}`;
 }
 
+/** The name of a table of one audit's row groups over a relation ("src_1" -> "src_1_groups"), as projectionName names a projection. */
+export function groupsName(relation: string, taken: ReadonlySet<string>): string {
+  const bare = relation.replace(/^"|"$/g, '').replaceAll('""', '"');
+  for (let k = 1; ; k++) {
+    const name = quoteIdentifier(k === 1 ? `${bare}_groups` : `${bare}_groups_${k}`);
+    if (!taken.has(name)) return name;
+  }
+}
+
+/** The temporary table of a read statement's answer (Engine.materialise). */
+export function materialiseSql(name: string, select: string): string {
+  return `CREATE TEMP TABLE ${name} AS ${select}`;
+}
+
 export function dropProjectionSql(name: string): string {
   return `DROP TABLE IF EXISTS temp.${name}`;
 }

@@ -53,6 +53,13 @@ export interface Engine {
    * registered relation and quoted column names; query() still runs reads only. Absent on engines without it.
    */
   project?(relation: string, columns: readonly string[], options?: QueryOptions): Promise<Projection | null>;
+  /**
+   * Keeps the answer of one read statement over a registered relation (an audit's row groups,
+   * app/core/scan/cube.ts cubeGroupsSelect) in a temporary table of the engine's in-memory database, named after
+   * the relation, for the statements of one audit. The statement passes the same gate as query(); the table is
+   * the engine's own, never a file. Absent on engines without it.
+   */
+  materialise?(relation: string, select: string, options?: QueryOptions): Promise<Projection>;
   /** How many queries so far read a registered source (scans of the log), for the scan budget test. */
   readonly sourceScans: number;
   /** The running query's share of its input read, 0…100 (DuckDB's query progress); null when nothing runs or the engine cannot tell. */

@@ -8,7 +8,7 @@ import type { Table } from '../core/table.ts';
 import { tableFromIpcChunks } from './convert/arrow.ts';
 import { collapsedHeader, raggedLinesSql, raggedRowsError } from './csv-shape.ts';
 import { toEngineError } from './errors.ts';
-import { createViewSql, dropProjectionSql, PROJECTED_FORMATS, projectionName, projectionSql, quoteIdentifier, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
+import { createViewSql, dropProjectionSql, groupsName, materialiseSql, PROJECTED_FORMATS, projectionName, projectionSql, quoteIdentifier, quoteLiteral, readsRelation, relationName } from './sql-source.ts';
 import type { Scan } from './sql-source.ts';
 import { EngineError } from './types.ts';
 import type { Engine, Projection, QueryOptions, RegisteredSource, SourceFormat } from './types.ts';
@@ -253,11 +253,30 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     };
   }
 
+  /** An audit's row groups kept in a temporary table in DuckDB-Wasm's own memory (Engine.materialise). */
+  async function materialise(relation: string, select: string, options: QueryOptions = {}): Promise<Projection> {
+    ensureOpen();
+    if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
+    const name = groupsName(relation, projections);
+    const sql = materialiseSql(name, select);
+    await runCounted(sql, options, true);
+    projections.add(name);
+    return {
+      relation: name,
+      sql,
+      release: async () => {
+        if (closed || !projections.delete(name)) return;
+        await run(dropProjectionSql(name));
+      },
+    };
+  }
+
   return {
     engine: {
       kind: parts.kind,
       query: (sql, options = {}) => runCounted(sql, options, true),
       project,
+      materialise,
       async cancel() {
         if (current) current.cancelled = true;
       },

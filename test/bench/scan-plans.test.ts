@@ -7,7 +7,7 @@
 import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { resolveRoles } from '../../app/core/roles/roles.ts';
-import { cubeSql, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
+import { cubeGroupsSelect, cubeReadsGroups, cubeSql, groupRows, groupsByReward, parseCube, rewardShift } from '../../app/core/scan/cube.ts';
 import { chooseBuckets, rowExpressions, timeRangeUs } from '../../app/core/scan/expressions.ts';
 import { describeSql, parseDescribe, parseProfile, profileSql } from '../../app/core/scan/profile.ts';
 import { clipPropensityBound, clipRowsSql, duplicatesPartitions, duplicatesSql, examplesSql, parseClipRows, parseDuplicates, parseTail, tailSql } from '../../app/core/scan/rows.ts';
@@ -233,5 +233,50 @@ describe.each([
       }
     }
     expect(bounded).toBeGreaterThan(0);
+  });
+});
+
+describe.each([
+  ['the demo log', `read_parquet('${SAMPLE}maple-row-demo.parquet')`],
+  ['a log with invalid propensities, NaN, null and -0.0 rewards', 'odd_finite'],
+])('over a table of row groups (%s)', (_name, relation) => {
+  it('the cube, the tails and the clip rows answer what they answer over the rows, to the bit', async () => {
+    const cols = parseDescribe(await engine.query(describeSql(relation)));
+    const profile = parseProfile(await engine.query(profileSql(relation, cols)), cols);
+    const roles = resolveRoles(profile, { segments: ['region', 'device', 'tenure'], action: 'promotion', propensity: 'propensity', reward: 'ordered', time: 'logged_at' });
+    const rows = rowExpressions(roles, profile, chooseBuckets(timeRangeUs(roles, profile), 'auto', 60));
+    const reward = rewardShift(profile.columns.find((c) => c.name === 'ordered'));
+    const base = { relation, rows, cap: 1, floor: 0.01, byPropensity: true, byReward: true, reward, rowCount: profile.rows };
+    expect(cubeReadsGroups(base)).toBe(true);
+    await engine.query('DROP TABLE IF EXISTS row_groups');
+    await engine.query(`CREATE TEMP TABLE row_groups AS ${cubeGroupsSelect(base)}`);
+    const g = await engine.query('SELECT count(*)::DOUBLE AS groups, sum(nr)::DOUBLE AS rows FROM row_groups');
+    // fewer groups than rows (the point of the table), and every row in one
+    expect(Number(g.columns[0]?.[0])).toBeLessThan(profile.rows);
+    expect(Number(g.columns[1]?.[0])).toBe(profile.rows);
+    for (const capped of [[], [0]]) {
+      const cube = (groups?: string) => engine.query(cubeSql({ ...base, capped, ...(groups ? { groups } : {}) })).then((t) => parseCube(t, 3));
+      const [overRows, overGroups] = [await cube(), await cube('row_groups')];
+      expect(overRows.length).toBeGreaterThan(capped.length ? 1 : 10);
+      expect(JSON.stringify(overGroups)).toBe(JSON.stringify(overRows));
+    }
+    const segs = ['region', 'device', 'tenure'];
+    const actions = ['bakery', 'household', 'recipe-kit', 'produce-box', 'pantry-restock', 'free-delivery', 'no-banner'];
+    const targets = [
+      parseTarget({ spec: `table:${V9}`, tableText: readFileSync(V9, 'utf8') }, { actionColumn: 'promotion', logColumns: cols.map((c) => c.name), targetColumn: null }),
+      parseTarget({ spec: 'uniform' }, { actionColumn: 'promotion', logColumns: cols.map((c) => c.name), targetColumn: null }),
+    ];
+    for (const target of targets) {
+      for (const limit of [1, 40, 100_000]) {
+        const overRows = parseTail(await engine.query(tailSql(relation, rows, target, segs, actions, limit, true)));
+        expect(overRows.weights.length).toBeGreaterThan(0);
+        expect(JSON.stringify(parseTail(await engine.query(tailSql('row_groups', groupRows(rows), target, segs, actions, limit, true, 'nr'))))).toBe(JSON.stringify(overRows));
+        // above 0 (every positive weight, at most `limit`) and above the tail's smallest listed weight
+        for (const above of [0, overRows.weights[overRows.weights.length - 1] as number]) {
+          const clip = parseClipRows(await engine.query(clipRowsSql(relation, rows, target, segs, actions, above, limit)));
+          expect(JSON.stringify(parseClipRows(await engine.query(clipRowsSql('row_groups', groupRows(rows), target, segs, actions, above, limit, 'nr'))))).toBe(JSON.stringify(clip));
+        }
+      }
+    }
   });
 });

@@ -40,6 +40,12 @@ export interface CubeSpec {
   readonly rowCount?: number;
   /** the SQL dialect to write (DuckDB when absent); the rows' expressions must be in the same one */
   readonly dialect?: Dialect;
+  /**
+   * A temporary table made from cubeGroupsSelect(spec) (the log's rows grouped by cell keys, p and r, with
+   * their count nr): the cube reads it as its by_r level instead of grouping the log's rows again. Needs
+   * byPropensity, byReward and a finite reward range (cubeReadsGroups).
+   */
+  readonly groups?: string;
 }
 
 /** Propensity-level grouping pays off while the distinct propensities stay this few. */
@@ -144,6 +150,43 @@ export function cubePreludeSql(spec: CubeSpec): string | null {
   return spec.dialect?.name === 'clickhouse' ? cubeScalesSqlClickHouse(spec) : null;
 }
 
+/** The base columns of the cube's rows: segments s0…, action a, version v, bucket b, propensity p, reward r (and q). */
+function baseColumns(rows: RowExpressions): string[] {
+  return [
+    ...rows.segments.map((e, i) => `${e} AS s${i}`),
+    `${rows.action} AS a`,
+    `${rows.version ?? "''"} AS v`,
+    `${rows.bucket} AS b`,
+    `${rows.propensity} AS p`,
+    `${rows.reward} AS r`,
+    ...(rows.targetPropensity ? [`${rows.targetPropensity} AS q`] : []),
+  ];
+}
+
+/**
+ * Whether the cube can read a table of row groups (CubeSpec.groups): DuckDB, rows grouped by propensity and by
+ * reward with a finite reward range, and no target-propensity column (whose q is a per-row value).
+ */
+export function cubeReadsGroups(spec: Pick<CubeSpec, 'rows' | 'byPropensity' | 'byReward' | 'reward' | 'dialect'>): boolean {
+  return (!spec.dialect || spec.dialect.name === 'duckdb') && !!spec.byPropensity && !!spec.byReward && !!spec.reward && !spec.rows.targetPropensity;
+}
+
+/**
+ * The log's rows grouped by (segment values, action, version, bucket, p, r), each group's rows counted in nr:
+ * the cube query's by_r level as a statement of its own, for a temporary table that the cube, the tails and
+ * the clip rows read instead of the log (cubeSql, tailSql and clipRowsSql with `groups`). Identical rows, so
+ * each statement's answer over the groups, a group counting nr times, is its answer over the rows.
+ */
+export function cubeGroupsSelect(spec: Pick<CubeSpec, 'relation' | 'rows'>): string {
+  const keys = [...spec.rows.segments.map((_, i) => `s${i}`), 'a', 'v', 'b', 'p', 'r'].join(', ');
+  return `SELECT ${keys}, count(*) AS nr FROM (SELECT ${baseColumns(spec.rows).join(', ')} FROM ${spec.relation}) AS base GROUP BY ${keys}`;
+}
+
+/** The columns of a groups table as row expressions (the tails' and clip rows' statements read it as a log). */
+export function groupRows(rows: RowExpressions): RowExpressions {
+  return { ...rows, segments: rows.segments.map((_, i) => `s${i}`), action: 'a', version: rows.version === null ? null : 'v', bucket: 'b', propensity: 'p', reward: 'r' };
+}
+
 export function cubeSql(spec: CubeSpec, prelude: Table | null = null): string {
   if (spec.dialect && spec.dialect.name !== 'duckdb') {
     if (spec.dialect.name === 'clickhouse') return cubeSqlClickHouse(spec, parseCubeScales(prelude));
@@ -155,20 +198,13 @@ export function cubeSql(spec: CubeSpec, prelude: Table | null = null): string {
   const groupKeys = keys.join(', ');
   const reward = spec.reward ?? null;
   const shift = double(reward?.shift ?? 0);
-  const base = [
-    ...rows.segments.map((e, i) => `${e} AS s${i}`),
-    `${rows.action} AS a`,
-    `${rows.version ?? "''"} AS v`,
-    `${rows.bucket} AS b`,
-    `${rows.propensity} AS p`,
-    `${rows.reward} AS r`,
-    ...(rows.targetPropensity ? [`${rows.targetPropensity} AS q`] : []),
-  ];
+  const base = baseColumns(rows);
   const grouped = !!spec.byPropensity && !rows.targetPropensity;
   const list = measureList(spec, grouped);
   const ctes: string[] = [];
+  if (spec.groups && !cubeReadsGroups(spec)) throw new Error('the cube reads a groups table only with rows grouped by propensity and reward and a finite reward range');
   if (grouped) {
-    ctes.push(`base AS (\n  SELECT ${base.join(', ')}\n  FROM ${spec.relation}\n)`);
+    if (!spec.groups) ctes.push(`base AS (\n  SELECT ${base.join(', ')}\n  FROM ${spec.relation}\n)`);
     // Σd and Σd² of each (keys, p) group are row-level sums: fixed point, scaled by the reward's range
     const rowCount = spec.rowCount ?? 2 ** 40;
     const rowSum = (x: string, bound: number | null) => {
@@ -185,7 +221,7 @@ export function cubeSql(spec: CubeSpec, prelude: Table | null = null): string {
         return `coalesce(CAST(sum(CAST(${x} * ${k} AS HUGEINT) * nr) AS DOUBLE) / ${k}, 0)::DOUBLE`;
       };
       ctes.push(
-        `by_r AS (\n  SELECT ${groupKeys}, p, r, count(*) AS nr FROM base GROUP BY ${groupKeys}, p, r\n)`,
+        spec.groups ? `by_r AS (SELECT * FROM ${spec.groups})` : `by_r AS (\n  SELECT ${groupKeys}, p, r, count(*) AS nr FROM base GROUP BY ${groupKeys}, p, r\n)`,
         `by_p AS (\n  SELECT ${groupKeys}, p, sum(nr)::DOUBLE AS c, coalesce(sum(nr) FILTER (WHERE dd IS NOT NULL), 0)::DOUBLE AS c_r, ${groupSum('dd', h)} AS s_d, ${groupSum('dd * dd', h * h)} AS s_d2\n`
           + `  FROM (SELECT *, CASE WHEN ${VALID_R} THEN r - ${shift} END AS dd FROM by_r) GROUP BY ${groupKeys}, p\n)`,
       );

@@ -126,9 +126,15 @@ export const LOG10_BIN = 0.1;
 /** The row's propensity, under a name no log column has (a log may well have a column called "p"). */
 const P = ident('cw:p');
 
-export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false): string {
+/**
+ * `counted`: the relation is a table of row groups (app/core/scan/cube.ts, cubeGroupsSelect, read through
+ * groupRows) whose column `counted` says how many identical rows each stands for; the answer is the one over
+ * those rows. Only the by-propensity form reads groups.
+ */
+export function tailSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, byPropensity = false, counted?: string): string {
   if (rows.dialect.name === 'clickhouse') return tailSqlClickHouse(relation, rows, target, segmentColumns, actions, limit);
-  if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit);
+  if (counted !== undefined && !(byPropensity && target.kind !== 'column')) throw new Error('a tail over row groups needs a target whose q depends on segment and action only, grouped by propensity');
+  if (byPropensity && target.kind !== 'column') return tailByPropensitySql(relation, rows, target, segmentColumns, actions, limit, counted);
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   return [
     `WITH w AS MATERIALIZED (`,
@@ -148,7 +154,7 @@ export function tailSql(relation: string, rows: RowExpressions, target: TargetPo
  * weights computed once per group, and the largest `limit` weights listed with their multiplicity.
  * Cheap when propensities take few distinct values.
  */
-function tailByPropensitySql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number): string {
+function tailByPropensitySql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], limit: number, counted?: string): string {
   const segAlias = rows.segments.map((_, i) => ident(`cw:s${i}`));
   const actionAlias = ident('cw:a0');
   const { expr, join } = qExpression(target, { ...rows, segments: segAlias, action: actionAlias }, segmentColumns, actions);
@@ -157,7 +163,7 @@ function tailByPropensitySql(relation: string, rows: RowExpressions, target: Tar
   const cap = integer(limit);
   return [
     `WITH g AS (`,
-    `  SELECT ${keys.join(', ')}, ${P}, count(*)::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
+    `  SELECT ${keys.join(', ')}, ${P}, ${counted === undefined ? 'count(*)' : `sum(${ident(counted)})`}::DOUBLE AS c FROM (SELECT *, ${rows.propensity} AS ${P} FROM ${relation}) AS src`,
     `  WHERE ${validPropensity(P)} GROUP BY ALL`,
     `), w AS (SELECT (${expr}) / ${P} AS w, c FROM g ${join}),`,
     `pos AS (SELECT w, sum(c) AS c FROM w WHERE w > 0 AND isfinite(w) GROUP BY w),`,
@@ -222,20 +228,27 @@ export function examplesSql(relation: string, requests: readonly ExampleRequest[
  * weight (or 0 when the tail listed every positive weight), so the rows are few and exactly determined; nothing is
  * summed here, so the caps' totals stay the cube's exact ones.
  */
-export function clipRowsSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number): string {
+export function clipRowsSql(relation: string, rows: RowExpressions, target: TargetPolicy, segmentColumns: readonly string[], actions: readonly string[], above: number, limit: number, counted?: string): string {
   if (rows.dialect.name === 'clickhouse') return clipRowsSqlClickHouse(relation, rows, target, segmentColumns, actions, above, limit);
+  if (counted !== undefined && target.kind === 'column') throw new Error('clip rows over row groups need a target whose q depends on segment and action only');
   const { expr, join } = qExpression(target, rows, segmentColumns, actions);
   const R = ident('cw:r');
   const validQ = target.kind === 'column' ? ` AND (${expr}) >= 0 AND (${expr}) <= 1` : '';
   const bound = clipPropensityBound(target, actions, above);
   return [
     `WITH w AS (`,
-    `  SELECT (${expr}) / ${P} AS w, CASE WHEN ${finiteReward(R)} THEN ${R} END AS r FROM (SELECT *, ${rows.propensity} AS ${P}, ${rows.reward} AS ${R} FROM ${relation}) AS src ${join}`,
+    `  SELECT (${expr}) / ${P} AS w, CASE WHEN ${finiteReward(R)} THEN ${R} END AS r${counted === undefined ? '' : `, ${ident(counted)} AS ${N}`} FROM (SELECT *, ${rows.propensity} AS ${P}, ${rows.reward} AS ${R} FROM ${relation}) AS src ${join}`,
     `  WHERE ${validPropensity(P)}${validQ}${bound === null ? '' : ` AND ${P} <= ${double(bound)}`}`,
     `)`,
-    `SELECT w, r FROM w WHERE w > ${double(above)} AND isfinite(w) ORDER BY w DESC, r NULLS LAST LIMIT ${integer(limit)}`,
+    // over row groups, each group kept is its rows again (at most `limit` of them: fewer than `limit` rows are kept)
+    counted === undefined
+      ? `SELECT w, r FROM w WHERE w > ${double(above)} AND isfinite(w) ORDER BY w DESC, r NULLS LAST LIMIT ${integer(limit)}`
+      : `SELECT w, r FROM (SELECT w, r, unnest(range(least(${N}, ${integer(limit)}))) FROM w WHERE w > ${double(above)} AND isfinite(w)) ORDER BY w DESC, r NULLS LAST LIMIT ${integer(limit)}`,
   ].join('\n');
 }
+
+/** A group's row count in the clip statement over row groups, under a name no log column has. */
+const N = ident('cw:n');
 
 /** The largest q(s, a) a target gives any row: 1 for a target column (its valid values are at most 1). */
 function largestQ(target: TargetPolicy, actions: readonly string[]): number {

@@ -107,6 +107,7 @@ export function serveEngine(transport: Transport, engine: NativeEngine, options:
         ...(source.inspection ? { inspection: source.inspection } : {}),
         engine: 'host',
         project: (columns, signal) => engine.project(relation, columns, signal ? { signal } : {}),
+        materialise: (select, signal) => engine.materialise(relation, select, signal ? { signal } : {}),
         peakRssMb,
         onProgress: (p) => {
           stage = p.stage;
