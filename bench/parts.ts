@@ -6,7 +6,7 @@
  *   - audit the 30 days merged, adding nothing     audit --parts COPY
  *   - audit day 30 alone (one day's scan)          audit day30.parquet
  *   - audit the whole log                          audit whole.parquet
- * Every run starts from a fresh copy of the 29-day folder (with its merged state). Results go to
+ * Every run starts from a fresh copy of the 29-day folder (with its merged state, state-29-mN for format N). Results go to
  * bench/parts-results.json, with the part counts at which the merged cube's entries were formed again from every
  * part (the scales moved) while the 30 days were added.
  *
@@ -19,6 +19,7 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs, promisify } from 'node:util';
 import { DuckDBInstance } from '@duckdb/node-api';
+import { MERGED_FORMAT, mergedHeader } from '../app/cli/merged-state.ts';
 
 const BENCH = dirname(fileURLToPath(import.meta.url));
 const ROOT = resolve(BENCH, '..');
@@ -58,9 +59,10 @@ async function main(): Promise<void> {
   }
   const files = readdirSync(days).filter((f) => f.endsWith('.parquet')).sort().map((f) => join(days, f));
   const last = files[files.length - 1] as string;
-  const base = join(dir, 'state-29');
-  // a folder without a merged state (written before there was one) is read again: adding day 30 would form it from every part
-  if (!existsSync(join(base, 'parts.json')) || !(JSON.parse(readFileSync(join(base, 'parts.json'), 'utf8')) as { merged?: string }).merged) {
+  // one 29-day folder per merged state format (state-29 holds the JSON one of format 1)
+  const base = join(dir, `state-29-m${MERGED_FORMAT}`);
+  // a folder without a merged state of this format is read again: adding day 30 would form it from every part
+  if (!existsSync(join(base, 'parts.json')) || !(JSON.parse(readFileSync(join(base, 'parts.json'), 'utf8')) as { merged?: string }).merged?.endsWith('.bin')) {
     rmSync(base, { recursive: true, force: true });
     await timed(['audit', '--parts', base, ...ROLES, ...files.slice(0, -1).flatMap((f) => ['--add-part', f]), '--quiet']);
   }
@@ -81,7 +83,7 @@ async function main(): Promise<void> {
       samples.push(await timed(args(copy)));
       if (i === 0 && existsSync(join(copy, 'parts.json'))) {
         const merged = (JSON.parse(readFileSync(join(copy, 'parts.json'), 'utf8')) as { merged?: string }).merged;
-        if (merged && name.startsWith('add')) rebuiltAt = (JSON.parse(readFileSync(join(copy, merged), 'utf8')) as { rebuilt_at: number[] }).rebuilt_at;
+        if (merged && name.startsWith('add')) rebuiltAt = [...mergedHeader(readFileSync(join(copy, merged)), merged).rebuilt_at];
       }
     }
     const row = { case: name, wall_s: median(samples.map((s) => s.wall)), cpu_s: median(samples.map((s) => s.cpu)), peak_rss_mb: Math.round(median(samples.map((s) => s.rssMb))), runs: samples };

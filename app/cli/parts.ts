@@ -13,7 +13,8 @@ import type { InputFile, Report } from '../core/model/report.ts';
 import type { RoleOverrides } from '../core/roles/roles.ts';
 import type { Profile } from '../core/scan/profile.ts';
 import { addDistincts, clipOf, copiesOf, duplicatesFromCopies, mergeGroups, mergeProfiles, tailOf, weightGroupsOf, withDistincts, type Distincts, type PartIds, type WeightGroups } from '../core/parts/merge.ts';
-import { addPartIds, addPartToCube, addWeightGroups, coarsened, cubeFromMerged, cubeOfParts, cubeScales, decodeNumber, encodeNumber, loadCube, sameScales, storeCube, type MergedCube, type StoredCube } from '../core/parts/merged.ts';
+import { addPartIds, addPartToCube, addWeightGroups, coarsened, cubeFromMerged, cubeOfParts, cubeScales, sameScales, type MergedCube } from '../core/parts/merged.ts';
+import { decodeMerged, encodeMerged, isJsonMerged, MergedStateError } from './merged-state.ts';
 import { rewardShift } from '../core/scan/cube.ts';
 import type { RowGroups } from '../core/parts/replay.ts';
 import type { PartScan } from '../core/parts/scan.ts';
@@ -25,7 +26,6 @@ import { UsageError } from './errors.ts';
 
 const STATE_SCHEMA = 'counterweight.parts/1';
 const PART_SCHEMA = 'counterweight.part/2';
-const MERGED_SCHEMA = 'counterweight.parts-merged/1';
 
 export interface PartsState {
   readonly schema: typeof STATE_SCHEMA;
@@ -35,28 +35,15 @@ export interface PartsState {
   readonly settings: Readonly<Record<string, number | string | boolean>>;
   readonly format: string;
   readonly parts: readonly (InputFile & { readonly name: string; readonly rows: number; readonly time_range?: readonly [number, number] | null })[];
-  /** the merged state of every part (MergedFile), when one was written with the last part */
+  /** the merged state of every part (merged-N.bin, merged-state.ts), when one was written with the last part */
   readonly merged?: string;
 }
 
 /**
- * The merged state of the parts listed (app/core/parts/merged.ts): what the audit of them all needs, so that
- * neither adding a part nor auditing reads the earlier parts' files. Written with each part, under a name of
- * its own (merged-N.json), and used only when its parts are exactly the state's.
+ * The merged state of the parts listed (app/core/parts/merged.ts) is kept in merged-N.bin (merged-state.ts): what
+ * the audit of them all needs, so that neither adding a part nor auditing reads the earlier parts' files. Written
+ * with each part, under a name of its own, and used only when its parts are exactly the state's.
  */
-interface MergedFile {
-  readonly schema: typeof MERGED_SCHEMA;
-  readonly parts: readonly { readonly name: string; readonly sha256: string }[];
-  readonly profile: Profile;
-  readonly distincts: { readonly segments: readonly (readonly string[])[]; readonly p: readonly (number | string | null)[] };
-  readonly weights: Omit<WeightGroups, 'p' | 'r'> & { readonly p: readonly (number | string | null)[]; readonly r: readonly (number | string | null)[] };
-  /** ids held by more than one row over all parts, with their rows; null without a decision_id role */
-  readonly copies: readonly (readonly [string, number])[] | null;
-  readonly cube: StoredCube | null;
-  /** the part counts at which the cube's entries were formed again from every part's groups (new scales) */
-  readonly rebuilt_at: readonly number[];
-}
-
 export interface Merged {
   readonly profile: Profile;
   readonly distincts: Distincts;
@@ -123,35 +110,29 @@ function readPartFile(dir: string, name: string): PartFile & { readonly rowGroup
   return { ...file, rowGroups: { ...file.groups, p: file.groups.p.map((v) => (typeof v === 'string' ? Number(v) : v)) } as RowGroups };
 }
 
-/** The folder's merged state, when it covers exactly the state's parts (null otherwise: then the parts are read). */
+/**
+ * The folder's merged state, when it covers exactly the state's parts (null otherwise, and for a merged-N.json
+ * of an earlier tool: then the parts are read, and the next add writes merged-N.bin). A damaged file is an error.
+ */
 export function readMerged(dir: string, state: PartsState): Merged | null {
   if (!state.merged) return null;
   const file = path.join(dir, state.merged);
   if (!existsSync(file)) return null;
-  const m = JSON.parse(readFileSync(file, 'utf8')) as MergedFile;
-  if (m.schema !== MERGED_SCHEMA || m.parts.length !== state.parts.length || m.parts.some((p, i) => p.name !== state.parts[i]?.name || p.sha256 !== state.parts[i]?.sha256)) return null;
-  const segmentCount = state.roles.segments?.length ?? 0;
-  return {
-    profile: m.profile,
-    distincts: { segments: m.distincts.segments, p: m.distincts.p.map((v) => decodeNumber(v) as number) },
-    weights: { ...m.weights, p: m.weights.p.map((v) => decodeNumber(v) as number), r: m.weights.r.map(decodeNumber) },
-    copies: m.copies ? new Map(m.copies) : null,
-    cube: m.cube ? loadCube(m.cube, segmentCount) : null,
-    rebuiltAt: m.rebuilt_at,
-  };
+  const bytes = readFileSync(file);
+  if (isJsonMerged(bytes)) return null;
+  let m: ReturnType<typeof decodeMerged>;
+  try {
+    m = decodeMerged(bytes, file);
+  } catch (e) {
+    if (e instanceof MergedStateError) throw new UsageError(e.message);
+    throw e;
+  }
+  if (m.parts.length !== state.parts.length || m.parts.some((p, i) => p.name !== state.parts[i]?.name || p.sha256 !== state.parts[i]?.sha256)) return null;
+  return { profile: m.profile, distincts: m.distincts, weights: m.weights, copies: m.copies ? new Map(m.copies) : null, cube: m.cube, rebuiltAt: m.rebuiltAt };
 }
 
-function mergedFile(parts: PartsState['parts'], m: Merged): MergedFile {
-  return {
-    schema: MERGED_SCHEMA,
-    parts: parts.map((p) => ({ name: p.name, sha256: p.sha256 })),
-    profile: m.profile,
-    distincts: { segments: m.distincts.segments, p: m.distincts.p.map(encodeNumber) },
-    weights: { ...m.weights, p: m.weights.p.map(encodeNumber), r: m.weights.r.map(encodeNumber) },
-    copies: m.copies ? [...m.copies] : null,
-    cube: m.cube ? storeCube(m.cube) : null,
-    rebuilt_at: m.rebuiltAt,
-  };
+function mergedFile(parts: PartsState['parts'], m: Merged): Uint8Array {
+  return encodeMerged({ ...m, parts: parts.map((p) => ({ name: p.name, sha256: p.sha256 })) });
 }
 
 /** The scales the cube's entries are kept at for a merged profile (null: no finite reward range, or no reward). */
@@ -235,7 +216,7 @@ export function storePart(dir: string, state: PartsState, file: InputFile, scan:
   const partIds: PartIds | null = ids ? idsOf(hashes, new Map(repeated), () => ({ start, ids: ids.ids as string[], rows: ids.rows as number[] })) : null;
   const prev = readMerged(dir, state);
   const merged = nextMerged(dir, state, prev, scan, partIds);
-  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows, time_range: scan.timeRange }], merged: `merged-${state.parts.length + 1}.json` };
+  const next: PartsState = { ...state, parts: [...state.parts, { ...file, name, rows: scan.profile.rows, time_range: scan.timeRange }], merged: `merged-${state.parts.length + 1}.bin` };
   const written: string[] = [];
   const write = (f: string, data: string | Uint8Array) => {
     written.push(f);
@@ -245,7 +226,7 @@ export function storePart(dir: string, state: PartsState, file: InputFile, scan:
     write(path.join(dir, `${name}.hashes`), new Uint8Array(hashes.buffer));
     write(path.join(dir, `${name}.ids.json`), JSON.stringify({ start, ids: ids?.ids ?? [], rows: ids?.rows ?? [] }));
     write(path.join(dir, `${name}.part.json`), JSON.stringify(part));
-    write(path.join(dir, next.merged as string), JSON.stringify(mergedFile(next.parts, merged)));
+    write(path.join(dir, next.merged as string), mergedFile(next.parts, merged));
     writeAtomically(stateFile(dir), `${JSON.stringify(next, null, 2)}\n`);
   } catch (e) {
     for (const f of written) rmSync(f, { force: true });

@@ -17,7 +17,6 @@ import type { Profile } from '../scan/profile.ts';
 import type { TimeBuckets } from '../scan/expressions.ts';
 import type { CubeCell } from '../cube/types.ts';
 import { SEP } from '../cube/rollup.ts';
-import { LIMBS } from './exact.ts';
 import { cellKey, Entries, finishEntries, scalesOf, type CellKeys, type EntryScales, type ReplaySpec } from './replay.ts';
 import { capCells, cellOrder, type PartGroups, type PartIds, type WeightGroups } from './merge.ts';
 
@@ -165,39 +164,3 @@ export function cubeFromMerged(cube: MergedCube, buckets: TimeBuckets | null, sp
   if (!raw.exact) return null;
   return capCells(raw.cells, spec, capped, cap);
 }
-
-/** Entries as JSON: cells columnar, entries columnar, the sums' limbs flat (p written as text where JSON cannot hold it). */
-export interface StoredCube {
-  readonly width: number;
-  readonly scales: EntryScales;
-  readonly cells: { readonly segments: readonly (readonly string[])[]; readonly action: readonly string[]; readonly version: readonly string[]; readonly bucket: readonly number[] };
-  readonly entries: { readonly cell: readonly number[]; readonly p: readonly (number | string | null)[]; readonly c: readonly number[]; readonly c_r: readonly number[]; readonly limbs: readonly number[] };
-}
-
-export const encodeNumber = (v: number | null): number | string | null => (v === null ? null : Number.isFinite(v) && !Object.is(v, -0) ? v : String(v));
-export const decodeNumber = (v: number | string | null): number | null => (typeof v === 'string' ? Number(v) : v);
-
-/** The stored form of the entries; null when a sum holds a BigInt part (then the audit replays the parts). */
-export function storeCube(cube: MergedCube): StoredCube | null {
-  const e = cube.entries;
-  if (e.sums.hasBig()) return null;
-  const nSeg = e.cells[0]?.segment.length ?? 0;
-  return {
-    width: cube.width,
-    scales: e.scales,
-    cells: { segments: Array.from({ length: nSeg }, (_, i) => e.cells.map((c) => c.segment[i] as string)), action: e.cells.map((c) => c.action), version: e.cells.map((c) => c.version), bucket: e.cells.map((c) => c.bucket) },
-    entries: { cell: e.cell, p: e.p.map(encodeNumber), c: e.c, c_r: e.cr, limbs: Array.from(e.sums.limbs.subarray(0, 2 * e.length * LIMBS)) },
-  };
-}
-
-/** The entries back from their stored form (their plain double sums are not stored: an audit uses entries only where every sum is exact). */
-export function loadCube(s: StoredCube, segmentCount: number): MergedCube {
-  const entries = new Entries(s.scales);
-  s.cells.action.forEach((action, c) => {
-    const segment = Array.from({ length: segmentCount }, (_, i) => s.cells.segments[i]?.[c] as string);
-    entries.cells.push({ segment, action, version: s.cells.version[c] as string, bucket: s.cells.bucket[c] as number });
-  });
-  entries.load(s.entries.cell, s.entries.p.map(decodeNumber), s.entries.c, s.entries.c_r, s.entries.limbs);
-  return { width: s.width, entries };
-}
-

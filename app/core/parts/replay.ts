@@ -300,7 +300,7 @@ export class Entries {
   }
 
   /** Entries read back (cells already pushed): their exact sums as limbs, 2·LIMBS an entry; plain double sums zero. */
-  load(cell: readonly number[], p: readonly (number | null)[], c: readonly number[], cr: readonly number[], limbs: readonly number[]): void {
+  load(cell: readonly number[], p: readonly (number | null)[], c: readonly number[], cr: readonly number[], limbs: ArrayLike<number>): void {
     if (this.cell.length) throw new Error('Entries.load: not empty');
     for (let e = 0; e < cell.length; e++) {
       this.cell.push(cell[e] as number);
