@@ -240,7 +240,11 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
     if (!textRelations.has(relation)) return null;
     const name = projectionName(relation, projections);
-    const sql = projectionSql(name, relation, columns);
+    return keepTemp(name, projectionSql(name, relation, columns), options);
+  }
+
+  /** Runs the statement that creates the temporary table `name` and hands it out until it is released. */
+  async function keepTemp(name: string, sql: string, options: QueryOptions): Promise<Projection> {
     await runCounted(sql, options, true);
     projections.add(name);
     return {
@@ -258,17 +262,7 @@ export function createWasmCore(parts: WasmCoreParts): WasmCore {
     ensureOpen();
     if (!relations.has(relation)) throw new EngineError('sql', `No log is registered as ${relation} on this engine.`);
     const name = groupsName(relation, projections);
-    const sql = materialiseSql(name, select);
-    await runCounted(sql, options, true);
-    projections.add(name);
-    return {
-      relation: name,
-      sql,
-      release: async () => {
-        if (closed || !projections.delete(name)) return;
-        await run(dropProjectionSql(name));
-      },
-    };
+    return keepTemp(name, materialiseSql(name, select), options);
   }
 
   return {
