@@ -14,7 +14,7 @@ import type { RoleOverrides } from '../core/roles/roles.ts';
 import type { Profile } from '../core/scan/profile.ts';
 import { addDistincts, clipOf, copiesOf, duplicatesFromCopies, mergeGroups, mergeProfiles, tailOf, weightGroupsOf, withDistincts, type Distincts, type PartIds, type WeightGroups } from '../core/parts/merge.ts';
 import { addPartIds, addPartToCube, addWeightGroups, coarsened, cubeFromMerged, cubeOfParts, cubeScales, sameScales, type MergedCube } from '../core/parts/merged.ts';
-import { decodeMerged, encodeMerged, isJsonMerged, MergedStateError } from './merged-state.ts';
+import { decodeMerged, encodeMerged, isJsonMerged, MergedStateError, type MergedContent } from './merged-state.ts';
 import { rewardShift } from '../core/scan/cube.ts';
 import type { RowGroups } from '../core/parts/replay.ts';
 import type { PartScan } from '../core/parts/scan.ts';
@@ -44,14 +44,7 @@ export interface PartsState {
  * the audit of them all needs, so that neither adding a part nor auditing reads the earlier parts' files. Written
  * with each part, under a name of its own, and used only when its parts are exactly the state's.
  */
-export interface Merged {
-  readonly profile: Profile;
-  readonly distincts: Distincts;
-  readonly weights: WeightGroups;
-  readonly copies: Map<string, number> | null;
-  readonly cube: MergedCube | null;
-  readonly rebuiltAt: readonly number[];
-}
+export type Merged = Omit<MergedContent, 'parts' | 'copies'> & { readonly copies: Map<string, number> | null };
 
 interface PartFile {
   readonly schema: typeof PART_SCHEMA;
