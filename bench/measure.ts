@@ -20,7 +20,7 @@ import { cubeFromArrowIpc } from '../app/engine/cube-arrow.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import { peakRssMb } from '../app/engine/memory.ts';
 import { bodyDigest } from '../app/cli/reaudit.ts';
-import { projectionOf } from '../app/cli/sources.ts';
+import { projectionOf } from '../app/engine/audit-hooks.ts';
 import type { Engine } from '../app/engine/types.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
 import { baselineAudit } from './baseline.ts';

@@ -10,7 +10,7 @@ import { readFileSync } from 'node:fs';
 import { runAudit } from '../app/core/audit.ts';
 import { createNativeEngine } from '../app/engine/native.ts';
 import { createWasmNodeEngine } from '../app/engine/wasm-node.ts';
-import { projectionOf } from '../app/cli/sources.ts';
+import { projectionOf } from '../app/engine/audit-hooks.ts';
 import { stageOf } from './stage-label.ts';
 import { peakRssMb } from '../app/engine/memory.ts';
 

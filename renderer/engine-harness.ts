@@ -5,6 +5,7 @@
 import ehWasm from '@duckdb/duckdb-wasm/dist/duckdb-eh.wasm?url';
 import ehWorker from '@duckdb/duckdb-wasm/dist/duckdb-browser-eh.worker.js?url';
 import { runAudit, type TargetInput } from '../app/core/audit.ts';
+import { projectionOf } from '../app/engine/audit-hooks.ts';
 import { encodeTable } from '../app/engine/host/codec.ts';
 import type { WireTable } from '../app/engine/host/messages.ts';
 import { EngineError } from '../app/engine/types.ts';
@@ -67,14 +68,21 @@ try {
     query: (sql) => answer(async () => encodeTable(await engine.query(sql))),
     audit: (relation, format, targets) => answer(async () => {
       const statements: [string, number][] = [];
-      const report = await runAudit(async (sql) => {
+      const timed = async <T>(label: string, work: () => Promise<T>): Promise<T> => {
         const t0 = performance.now();
         try {
-          return await engine.query(sql);
+          return await work();
         } finally {
-          statements.push([sql, performance.now() - t0]);
+          statements.push([label, performance.now() - t0]);
         }
-      }, { relation, input: { files: [], format }, engine: engine.kind, targets, ...(engine.project ? { project: (columns: readonly string[]) => engine.project!(relation, columns) } : {}) });
+      };
+      // The hooks the app's own audit gets (renderer/engine/engine-backend.ts), timed like the statements.
+      const { project, materialise } = projectionOf(engine, relation);
+      const report = await runAudit((sql) => timed(sql, () => engine.query(sql)), {
+        relation, input: { files: [], format }, engine: engine.kind, targets,
+        ...(project ? { project: (columns: readonly string[]) => timed(`project ${columns.join(', ')}`, () => project(columns)) } : {}),
+        ...(materialise ? { materialise: (select: string) => timed(`CREATE TEMP TABLE AS ${select}`, () => materialise(select)) } : {}),
+      });
       const t = report.targets[0];
       return { verdict: report.verdict, rows: report.input.rows, ess: t?.ess ?? NaN, maxWeight: t?.max_weight ?? NaN, statements,
         checks: report.checks.map((c) => `${c.id} ${c.status}`), reasons: report.reasons.map((r) => JSON.stringify(r).slice(0, 200)), roles: JSON.stringify(report.roles).slice(0, 2000) };

@@ -9,7 +9,8 @@ import type { Report } from '../core/model/report.ts';
 import type { RoleOverrides } from '../core/roles/roles.ts';
 import { sha256Hex } from '../report/signoff.ts';
 import { loadAuditCore } from './commands/core.ts';
-import { openEngine, projectionOf, registerSources, type EngineChoice } from './sources.ts';
+import { openEngine, registerSources, type EngineChoice } from './sources.ts';
+import { projectionOf } from '../engine/audit-hooks.ts';
 
 export interface ReauditOutcome {
   readonly same: boolean;

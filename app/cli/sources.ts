@@ -2,7 +2,6 @@
 import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { Engine, RegisteredSource } from '../engine/types.ts';
-import type { CancelSignal } from '../core/cancel.ts';
 import { stringFlag, type CommandSpec, type FlagValues } from './args.ts';
 import { UsageError } from './errors.ts';
 
@@ -98,12 +97,3 @@ export async function countRows(engine: Engine, relation: string): Promise<numbe
   return Number(table.columns[0]?.[0] ?? 0);
 }
 
-/** The audit's projection hook for a registered relation: a CSV is parsed once for the row-level statements (Engine.project). */
-export function projectionOf(engine: Engine, relation: string): { project?: (columns: readonly string[], signal?: CancelSignal) => ReturnType<NonNullable<Engine['project']>>; materialise?: (select: string, signal?: CancelSignal) => ReturnType<NonNullable<Engine['materialise']>> } {
-  const { project, materialise } = engine;
-  return {
-    ...(project ? { project: (columns: readonly string[], signal?: CancelSignal) => project.call(engine, relation, columns, signal ? { signal } : {}) } : {}),
-    // the cube, tails and clip rows read one table of the log's row groups (Engine.materialise)
-    ...(materialise ? { materialise: (select: string, signal?: CancelSignal) => materialise.call(engine, relation, select, signal ? { signal } : {}) } : {}),
-  };
-}

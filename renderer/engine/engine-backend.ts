@@ -1,10 +1,10 @@
 import { inspectRoles, runAuditDetailed, type AuditRequest, type RoleInspection } from '../../app/core/audit.ts';
 import type { InputFile } from '../../app/core/model/report.ts';
-import type { CancelSignal } from '../../app/core/cancel.ts';
 import { ProgressTracker, type AuditProgressEvent } from '../../app/core/progress.ts';
 import { drillCountSql, drillPageSql, parseDrillCount, type DrillSpec } from '../../app/core/scan/drill.ts';
 import type { RunQuery } from '../../app/core/table.ts';
 import type { CubeCell } from '../../app/core/cube/types.ts';
+import { projectionOf } from '../../app/engine/audit-hooks.ts';
 import { cubeToArrowIpc } from '../../app/engine/cube-arrow.ts';
 import { EngineError, type Engine } from '../../app/engine/types.ts';
 import type { WasmArrowTables } from '../../app/engine/wasm-browser.ts';
@@ -119,7 +119,7 @@ export function createEngineBackend(engine: Engine, options: EngineBackendOption
         onProgress({ stage: p.stage, ...(p.done ? { done: true } : {}), point: tracker.event(p, Date.now()) });
       };
       try {
-        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...(engine.project ? { project: (columns: readonly string[], abort?: CancelSignal) => engine.project!(source.relation, columns, abort ? { signal: abort } : {}) } : {}), onProgress: onAudit, signal });
+        const { report, cells, profile } = await runAuditDetailed(run, { ...request, ...(inspection ? { inspection } : {}), ...projectionOf(engine, source.relation), onProgress: onAudit, signal });
         const cube = await cubeSessionOf(tables, () => cubeToArrowIpc(cells), cells, report.roles.segments);
         return { report, workspace: { cells, profile, targets, ...cube } };
       } finally {

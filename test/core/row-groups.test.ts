@@ -13,7 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROW_GROUPS_MIN_ROWS_PER_PAIR, rowGroupsPay, runAudit } from '../../app/core/audit.ts';
 import type { Report } from '../../app/core/model/report.ts';
 import type { Profile } from '../../app/core/scan/profile.ts';
-import { projectionOf } from '../../app/cli/sources.ts';
+import { projectionOf } from '../../app/engine/audit-hooks.ts';
 import { quoteLiteral } from '../../app/engine/sql-source.ts';
 import { createNativeEngine } from '../../app/engine/native.ts';
 import { createWasmNodeEngine } from '../../app/engine/wasm-node.ts';
