@@ -101,6 +101,7 @@ export async function createWasmBrowserEngine(options: WasmBrowserEngineOptions 
     try {
       return await core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {
         append: (table, ipc, create) => core.exclusive(() => db.insertArrowFromIPCStream(id, ipc, { name: table, create })),
+        run: (sql) => core.exclusive(async () => { await db.runQuery(id, sql); }),
       }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning: false }).then((l) => { options.onParquetLoad?.(l.timings); return l.selectSql; }), 'parquet', scanSql, names);
     } catch (error) {
       const e = error instanceof EngineError ? error : toEngineError(error);

@@ -103,6 +103,7 @@ export async function createWasmNodeEngine(options: WasmNodeEngineOptions = {}):
     for (const file of files) parts.push({ name: file, blob: await openAsBlob(file) });
     return core.createLoadedView((tablePrefix) => loadParquet(parts, decoder, {
       append: (table, ipc, create) => core.exclusive(async () => { conn.insertArrowFromIPCStream(ipc, { name: table, create }); }),
+      run: (sql) => core.exclusive(async () => { conn.query(sql); }),
     }, { tablePrefix, budgetBytes: options.parquetBudgetBytes ?? DEFAULT_BUDGET_BYTES, hivePartitioning, ...(options.parquetPieceRows ? { pieceRows: options.parquetPieceRows } : {}) }).then((l) => { options.onParquetLoad?.(l.timings); return l.selectSql; }), 'parquet', scan.sql, files);
   }
 

@@ -146,12 +146,12 @@ describe('footer rules', () => {
     const real = parquetWasmDecoder(require('parquet-wasm') as ParquetWasmModule);
     const counting = (blob: Blob) => { decoded.push(blob.size); return real(blob); };
     const part = { name: 'zstd-V1.parquet', blob: await openAsBlob(join(dir, 'zstd-V1.parquet')) };
-    const error = await loadParquet([part], counting, { append: async (table) => { appended.push(table); } }, { tablePrefix: 't', budgetBytes: 100_000, hivePartitioning: false }).catch((e: unknown) => e);
+    const error = await loadParquet([part], counting, { append: async (table) => { appended.push(table); }, run: async () => undefined }, { tablePrefix: 't', budgetBytes: 100_000, hivePartitioning: false }).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(EngineError);
     expect(decoded).toEqual([]);
     expect(appended).toEqual([]);
     // the same file under a budget it fits is decoded and appended: the counters do count
-    await loadParquet([part], counting, { append: async (table) => { appended.push(table); } }, { tablePrefix: 't', budgetBytes: 1024 ** 3, hivePartitioning: false });
+    await loadParquet([part], counting, { append: async (table) => { appended.push(table); }, run: async () => undefined }, { tablePrefix: 't', budgetBytes: 1024 ** 3, hivePartitioning: false });
     expect(decoded.length).toBeGreaterThan(0);
     expect(appended.length).toBeGreaterThan(0);
   });

@@ -10,6 +10,7 @@ import { quoteIdentifier, quoteLiteral } from '../sql-source.ts';
 import { EngineError } from '../types.ts';
 import { DUCKDB_ROW_GROUP_ROWS, rowGroupAligner } from './align.ts';
 import type { RowGroupDecoder } from './decoder.ts';
+import { enumValues } from './dictionary.ts';
 import { readFooter } from './footer.ts';
 import { hiveValues, loadedBytes, topLevelColumns, unreadableColumn } from './schema.ts';
 import type { ParquetColumn } from './schema.ts';
@@ -24,6 +25,8 @@ export interface ParquetPart {
 export interface ArrowSink {
   /** Appends an Arrow IPC stream to `table` (a bare name), creating the table from the first one. */
   append(table: string, ipc: Uint8Array, create: boolean): Promise<void>;
+  /** Runs one statement that returns nothing (the ENUM columns' ALTER TABLE). */
+  run(sql: string): Promise<void>;
 }
 
 export interface LoadOptions {
@@ -36,16 +39,21 @@ export interface LoadOptions {
   readonly pieceRows?: number;
   /** Called after each row group, with rows loaded so far and in all. */
   readonly onRowGroup?: (loaded: number, total: number) => void;
+  /** Keep low-cardinality text columns as ENUMs (dictionary.ts); true when absent. */
+  readonly enumColumns?: boolean;
 }
 
 /**
  * Where a load's time went, in milliseconds (for bench/: decoding and appending overlap, so the parts add
  * up to more than the wall time): `decode` the decoder's answers (in the browser, the decode worker's work
  * plus the transfer), `align` re-cutting into DuckDB row groups, `append` DuckDB-Wasm's Arrow inserts,
- * `waitAppend` time the next decode was ready but the previous append was not done.
+ * `waitAppend` time the next decode was ready but the previous append was not done, `dictionary` reading the
+ * text columns' dictionary pages, `enum` making those columns ENUMs (or text again).
  */
 export interface LoadTimings {
   wall: number;
+  dictionary: number;
+  enum: number;
   decode: number;
   align: number;
   append: number;
@@ -123,6 +131,52 @@ function decoderMessage(error: unknown): string {
   return (error instanceof Error ? error.message : String(error)).split('\n')[0] ?? '';
 }
 
+/**
+ * A part's table with its low-cardinality text columns as ENUMs: made so after the first piece created the
+ * table, then each piece's text is cast to the ENUM as DuckDB appends it. Should a piece hold a value the
+ * dictionaries did not list, the append fails as a whole (DuckDB's statements are atomic), the columns go back
+ * to text and the piece is appended again: the result is the same table of text a plain load makes.
+ */
+class TextAsEnums {
+  private active = false;
+  private values: ReadonlyMap<string, readonly string[]> = new Map();
+  /** `values` is read while the first row groups decode; it is awaited when the first piece has made the table. */
+  constructor(private readonly table: string, private readonly sink: ArrowSink, private readonly pending: Promise<ReadonlyMap<string, readonly string[]>>) {
+    // Not awaited until apply(); a failure there must not go unobserved meanwhile.
+    pending.catch(() => undefined);
+  }
+
+  async apply(): Promise<void> {
+    this.values = await this.pending;
+    this.active = this.values.size > 0;
+    if (!this.active) return;
+    try {
+      for (const [column, values] of this.values) {
+        await this.sink.run(`ALTER TABLE ${this.table} ALTER ${quoteIdentifier(column)} SET DATA TYPE ENUM(${values.map(quoteLiteral).join(', ')})`);
+      }
+    } catch {
+      await this.revert();
+    }
+  }
+
+  async append(piece: Uint8Array): Promise<void> {
+    try {
+      await this.sink.append(this.table.slice(1, -1), piece, false);
+    } catch (error) {
+      if (!this.active) throw error;
+      await this.revert();
+      await this.sink.append(this.table.slice(1, -1), piece, false);
+    }
+  }
+
+  private async revert(): Promise<void> {
+    this.active = false;
+    for (const column of this.values.keys()) {
+      await this.sink.run(`ALTER TABLE ${this.table} ALTER ${quoteIdentifier(column)} SET DATA TYPE VARCHAR`);
+    }
+  }
+}
+
 export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGroupDecoder, sink: ArrowSink, options: LoadOptions): Promise<LoadedParquet> {
   if (parts.length === 0) throw new EngineError('io', 'No file was given for the log.');
   const footers: FileMetaData[] = [];
@@ -144,8 +198,8 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
   let loaded = 0;
   const selects: string[] = [];
   const started = performance.now();
-  const timings: LoadTimings = { wall: 0, decode: 0, align: 0, append: 0, waitAppend: 0, appends: 0 };
-  const timed = async <T>(key: 'decode' | 'append' | 'waitAppend', work: Promise<T>): Promise<T> => {
+  const timings: LoadTimings = { wall: 0, dictionary: 0, enum: 0, decode: 0, align: 0, append: 0, waitAppend: 0, appends: 0 };
+  const timed = async <T>(key: 'decode' | 'append' | 'waitAppend' | 'dictionary' | 'enum', work: Promise<T>): Promise<T> => {
     const t0 = performance.now();
     try {
       return await work;
@@ -166,6 +220,7 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
       // two threads); so at most two row groups' Arrow exist at once. The engine gets pieces of whole
       // DuckDB row groups (align.ts), the first of which creates the part's table.
       const aligner = rowGroupAligner(options.pieceRows ?? APPEND_ROWS);
+      const enums = new TextAsEnums(table, sink, options.enumColumns === false ? Promise.resolve(new Map()) : timed('dictionary', enumValues(part.blob, footer, partColumns)));
       let created = false;
       let appending: Promise<void> | null = null;
       const appendPieces = (pieces: readonly Uint8Array[], groupRows: number) => {
@@ -173,7 +228,12 @@ export async function loadParquet(parts: readonly ParquetPart[], decoder: RowGro
         appending = (async () => {
           if (after) await after;
           for (const piece of pieces) {
-            await timed('append', sink.append(table.slice(1, -1), piece, !created));
+            if (!created) {
+              await timed('append', sink.append(table.slice(1, -1), piece, true));
+              await timed('enum', enums.apply());
+            } else {
+              await timed('append', enums.append(piece));
+            }
             timings.appends++;
             created = true;
           }
